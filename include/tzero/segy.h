@@ -1,0 +1,180 @@
+/* segy.h -- SEG-Y rev 0/1/2 reader and rev 1/2 writer; samples always arrive as float. */
+#ifndef TZERO_SEGY_H
+#define TZERO_SEGY_H
+
+#include <stddef.h>
+#include <stdint.h>
+#include "tzero/error.h"
+
+#define SEGY_TEXT_BYTES 3200
+#define SEGY_BINARY_BYTES 400
+#define SEGY_TRACE_HEADER_BYTES 240
+#define SEGY_MAX_SAMPLES 1000000u     /* cap on samples per trace before any allocation */
+
+enum segy_byte_order { SEGY_ORDER_AUTO = 0, SEGY_ORDER_BIG, SEGY_ORDER_LITTLE, SEGY_ORDER_PAIRS };
+enum segy_text_encoding { SEGY_TEXT_EBCDIC = 0, SEGY_TEXT_ASCII };
+
+/* Trace identification codes (bytes 29-30) that matter to processing. */
+enum {
+  SEGY_KIND_UNKNOWN = 0, SEGY_KIND_SEISMIC = 1, SEGY_KIND_DEAD = 2, SEGY_KIND_DUMMY = 3
+};
+
+/* One decoded trace header, host order, scalars applied. Names are tzero's own;
+ * the SEG-Y byte positions are given beside each field (1-based, rev 1). */
+typedef struct segy_trace_header {
+  int32_t line_seq;          /* 1-4   trace sequence number within line */
+  int32_t file_seq;          /* 5-8   trace sequence number within file */
+  int32_t field_record;      /* 9-12  original field record number */
+  int32_t channel;           /* 13-16 trace number within the field record */
+  int32_t source_point;      /* 17-20 energy source point number */
+  int32_t cmp;               /* 21-24 ensemble (CMP) number */
+  int32_t cmp_trace;         /* 25-28 trace number within the ensemble */
+  int16_t kind;              /* 29-30 trace identification code */
+  int16_t vertical_sum;      /* 31-32 */
+  int16_t stacked_traces;    /* 33-34 number of horizontally stacked traces (fold) */
+  int16_t data_use;          /* 35-36 */
+  double offset;             /* 37-40 source-receiver distance, signed (not scaled) */
+  double receiver_elev;      /* 41-44 scaled by elev_scalar */
+  double source_elev;        /* 45-48 */
+  double source_depth;       /* 49-52 */
+  double receiver_datum;     /* 53-56 */
+  double source_datum;       /* 57-60 */
+  double source_water_depth; /* 61-64 */
+  double receiver_water_depth; /* 65-68 */
+  int16_t elev_scalar;       /* 69-70 as stored (0 means 1) */
+  int16_t coord_scalar;      /* 71-72 as stored (0 means 1) */
+  double source_x, source_y;     /* 73-80 scaled by coord_scalar */
+  double receiver_x, receiver_y; /* 81-88 scaled by coord_scalar */
+  int16_t coord_units;       /* 89-90 1 length, 2 arc-seconds, 3 degrees, 4 DMS */
+  int16_t delay_ms;          /* 109-110 delay recording time (scaled by 215-216 on read) */
+  int16_t mute_start_ms;     /* 111-112 */
+  int16_t mute_end_ms;       /* 113-114 */
+  uint32_t samples;          /* 115-116 (u16), or rev 2 extension 137-140 */
+  uint32_t interval_us;      /* 117-118 (u16) */
+  double cmp_x, cmp_y;       /* 181-188 scaled by coord_scalar */
+  int32_t inline_no;         /* 189-192 */
+  int32_t crossline_no;      /* 193-196 */
+  int32_t shotpoint;         /* 197-200 */
+  int16_t shotpoint_scalar;  /* 201-202 */
+  unsigned char raw[SEGY_TRACE_HEADER_BYTES]; /* the bytes as read, for pass-through */
+} segy_trace_header;
+
+/* What the file-level headers say, after detection and fallbacks. */
+typedef struct segy_info {
+  char text[SEGY_TEXT_BYTES + 1];  /* textual header decoded to printable ASCII */
+  int text_encoding;               /* enum segy_text_encoding */
+  int byte_order;                  /* enum segy_byte_order, as detected or forced */
+  int revision_major, revision_minor;
+  uint16_t revision_raw;           /* bytes 3501-3502 as a big-endian u16 */
+  int format_code;                 /* 3225-3226 (or the override) */
+  int bytes_per_sample;
+  uint32_t samples;                /* samples per trace in use (see fallbacks) */
+  uint32_t interval_us;            /* sample interval in use, microseconds */
+  uint32_t bin_samples;            /* 3221-3222 (or 3269-3272) as stored */
+  uint32_t bin_interval_us;        /* 3217-3218 (or 3273-3280) as stored */
+  int fixed_length;                /* 3503-3504, or 1 when the file walk found it so */
+  int extended_text_count;         /* 3200-byte records skipped after the binary header */
+  int trace_header_extensions;     /* rev 2: extra 240-byte blocks per trace */
+  int16_t sorting_code;            /* 3229-3230 */
+  int16_t ensemble_fold;           /* 3227-3228 */
+  int16_t measurement_system;      /* 3255-3256 */
+  int32_t job_id, line_no, reel_no;/* 3201-3212 */
+  int16_t traces_per_ensemble;     /* 3213-3214 */
+  int16_t aux_per_ensemble;        /* 3215-3216 */
+  int64_t first_trace_offset;      /* byte offset of the first trace header */
+  int64_t trace_count;
+  int64_t file_bytes;
+  int64_t trailing_bytes;          /* bytes after the last whole trace (ignored) */
+  unsigned char binary[SEGY_BINARY_BYTES]; /* binary header as read */
+  /* Anomalies found while opening (not fatal): one short sentence each. */
+  int nwarnings;
+  char warnings[8][160];
+} segy_info;
+
+/* A header map moves one decoded field to another byte position and width
+ * (for files that put geometry in non-standard places). Field names are the
+ * struct member names above ("source_x", "cmp", ...). */
+typedef struct segy_field_override {
+  char field[32];
+  int byte;                        /* 1-based position within the 240-byte header */
+  int width;                       /* 2 or 4 bytes */
+  int is_float;                    /* 4-byte IEEE float stored in an integer slot */
+} segy_field_override;
+
+typedef struct segy_header_map {
+  int n;
+  segy_field_override f[32];
+} segy_header_map;
+
+/* Parses a header map from JSON text, e.g.
+ * {"source_x": {"byte": 181, "width": 4}, "cmp": {"byte": 9, "width": 4}}. */
+int segy_header_map_parse(segy_header_map *map, const char *json, const char *name,
+                          tz_err *err);
+int segy_header_map_load(segy_header_map *map, const char *path, tz_err *err);
+
+typedef struct segy_open_opts {
+  int byte_order;                  /* SEGY_ORDER_AUTO (default) or forced */
+  int format_code;                 /* 0 = from the binary header, else forced */
+  const segy_header_map *map;      /* borrowed; NULL for the standard positions */
+} segy_open_opts;
+
+typedef struct segy_file segy_file;
+
+/* Opens and validates a file: headers decoded, byte order and text encoding
+ * detected, trace count found (from the file size for fixed-length files, by a
+ * header walk otherwise). opts may be NULL. On success *out owns the handle. */
+int segy_open(segy_file **out, const char *path, const segy_open_opts *opts, tz_err *err);
+void segy_close(segy_file *f);                         /* NULL is a no-op */
+const segy_info *segy_get_info(const segy_file *f);    /* borrowed, valid until close */
+int64_t segy_trace_count(const segy_file *f);
+
+/* Header of trace i (0-based) without reading its samples. */
+int segy_read_header(segy_file *f, int64_t i, segy_trace_header *h, tz_err *err);
+/* Header and samples of trace i. `cap` must be >= the trace's sample count;
+ * samples are converted to float. Non-finite values are replaced by 0 and
+ * counted (see segy_bad_samples). Sequential access does not seek. */
+int segy_read_trace(segy_file *f, int64_t i, segy_trace_header *h, float *samples,
+                    size_t cap, tz_err *err);
+int64_t segy_bad_samples(const segy_file *f);   /* NaN/Inf/out-of-range seen so far */
+
+/* ---- writer ---- */
+
+typedef struct segy_write_opts {
+  int revision;              /* 1 (default when 0) or 2 */
+  int format_code;           /* 5 (default when 0) or 1 */
+  uint32_t samples;          /* per trace, all traces the same */
+  uint32_t interval_us;
+  int16_t sorting_code;      /* 3229-3230: 1 as recorded, 2 CMP gather, 4 stacked ... */
+  int16_t ensemble_fold;     /* 3227-3228 */
+  int16_t traces_per_ensemble; /* 3213-3214 */
+  int16_t measurement_system;  /* 1 metres (default when 0), 2 feet */
+  int32_t line_no;             /* 3205-3208 */
+  const char *text;          /* card text, lines separated by '\n', at most 38 lines of
+                              * 76 characters; tzero adds "C nn " prefixes, the
+                              * revision card 39 and the end card 40. NULL = minimal. */
+} segy_write_opts;
+
+typedef struct segy_writer segy_writer;
+
+/* Creates `path` under a temporary name (see fileio.h); nothing appears at
+ * `path` until segy_writer_finish() succeeds. On success *out owns the writer. */
+int segy_writer_open(segy_writer **out, const char *path, const segy_write_opts *o,
+                     tz_err *err);
+/* Encodes the header fields from `h` (scalars chosen from h->coord_scalar and
+ * h->elev_scalar; 0 picks -100, i.e. centimetres), sets the sample count and
+ * interval from the writer, and writes `samples` (opts.samples values). */
+int segy_write_trace(segy_writer *w, const segy_trace_header *h, const float *samples,
+                     tz_err *err);
+/* Flushes and renames into place; takes the writer (always freed). */
+int segy_writer_finish(segy_writer *w, tz_err *err);
+void segy_writer_abort(segy_writer *w);               /* takes the writer; NULL ok */
+
+/* ---- sample conversion (exposed for tests and benchmarks) ---- */
+float segy_ibm_to_float(uint32_t ibm);              /* out of float range: +-FLT_MAX or 0 */
+uint32_t segy_float_to_ibm(float v);                /* round to nearest */
+int segy_format_bytes(int format_code);             /* 0 for undefined codes */
+
+/* Applies the SEG-Y scalar rule: positive multiplies, negative divides, 0 means 1. */
+double segy_apply_scalar(int32_t raw, int16_t scalar);
+
+#endif

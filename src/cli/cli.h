@@ -1,0 +1,39 @@
+/* cli.h -- what the front-end files share: the subcommand entry points and
+ * small printing helpers. Front-end only; the library never includes it. */
+#ifndef TZERO_CLI_H
+#define TZERO_CLI_H
+
+#include <stdio.h>
+#include "tzero/error.h"
+
+#define TZERO_VERSION "0.1.0"
+
+/* The caution every help text and the README carry. */
+#define CLI_CAUTION \
+  "A processed section is an interpretation aid: have it reviewed by a qualified\n" \
+  "geophysicist. Local regulations and licensed practice govern any site work.\n"
+
+/* Each subcommand: argv[0] is the subcommand name; returns a <sysexits.h> code. */
+int cmd_inspect(int argc, char **argv);
+int cmd_synth(int argc, char **argv);
+int cmd_geometry(int argc, char **argv);
+int cmd_velocity(int argc, char **argv);
+int cmd_nmo(int argc, char **argv);
+int cmd_stack(int argc, char **argv);
+int cmd_report(int argc, char **argv);
+int cmd_semblance(int argc, char **argv);
+int cmd_cvs(int argc, char **argv);
+int cmd_fit(int argc, char **argv);
+int cmd_compare(int argc, char **argv);
+
+/* Prints "tzero CMD: <formatted error>[: strerror]" to stderr and returns the
+ * exit status for the error's status. */
+int cli_report(const char *cmd, const tz_err *e);
+/* Prints "tzero CMD: MSG" and a hint to stderr; returns EX_USAGE. */
+int cli_usage_error(const char *cmd, const char *fmt, ...)
+    __attribute__((format(printf, 2, 3)));
+/* Checked option parsers: on failure print a usage error naming the option. */
+int cli_parse_i64(const char *cmd, const char *opt, const char *s, long long *out);
+int cli_parse_f64(const char *cmd, const char *opt, const char *s, double *out);
+
+#endif

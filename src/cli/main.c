@@ -1,0 +1,88 @@
+/* main.c -- the tzero front end: find the subcommand, run it, return its status.
+ *
+ * Each subcommand lives in its own file (src/cli/<name>.c), parses its own
+ * options, calls the library and prints. No processing happens here.
+ */
+#include <stdio.h>
+#include <string.h>
+#include <sysexits.h>
+
+#include "cli.h"
+
+struct subcmd {
+  const char *name;
+  int (*run)(int argc, char **argv);
+  const char *summary;
+};
+
+static const struct subcmd subcmds[] = {
+  { "inspect",   cmd_inspect,   "summarise SEG-Y files: headers, ranges, anomalies" },
+  { "synth",     cmd_synth,     "write a synthetic survey from a layered-earth model and a layout" },
+  { "geometry",  cmd_geometry,  "assign geometry, bin CMPs, report offsets and fold" },
+  { "velocity",  cmd_velocity,  "check velocity tables, interval velocities, functions at a CMP" },
+  { "nmo",       cmd_nmo,       "write NMO-corrected CMP gathers for checking velocities" },
+  { "semblance", cmd_semblance, "semblance velocity scans and automatic picks" },
+  { "cvs",       cmd_cvs,       "constant-velocity stack panels over a CMP range" },
+  { "fit",       cmd_fit,       "x^2-t^2 least-squares fit of reflection picks" },
+  { "stack",     cmd_stack,     "the whole flow from a job file: stacked section and QC report" },
+  { "report",    cmd_report,    "print a saved QC report, one CMP, or its fold table" },
+  { "compare",   cmd_compare,   "compare two stacks of the same line CMP by CMP" },
+};
+#define NSUB (sizeof subcmds / sizeof subcmds[0])
+
+static void usage(FILE *fp)
+{
+  fprintf(fp,
+          "usage: tzero SUBCOMMAND [OPTIONS]   (tzero help SUBCOMMAND for its options)\n"
+          "\n"
+          "tzero turns field shot records of a 2D reflection line into a stacked\n"
+          "section with exact hyperbolic NMO, stretch mutes, live-fold stacking and a\n"
+          "fold and mute QC report.\n\nsubcommands:\n");
+  for (size_t i = 0; i < NSUB; i++)
+    fprintf(fp, "  %-10s %s\n", subcmds[i].name, subcmds[i].summary);
+  fprintf(fp, "\noptions: --help, --version\n\n%s", CLI_CAUTION);
+}
+
+static const struct subcmd *find(const char *name)
+{
+  for (size_t i = 0; i < NSUB; i++)
+    if (!strcmp(subcmds[i].name, name))
+      return &subcmds[i];
+  return NULL;
+}
+
+int main(int argc, char **argv)
+{
+  if (argc < 2) {
+    usage(stderr);
+    return EX_USAGE;
+  }
+  const char *name = argv[1];
+  if (!strcmp(name, "--help") || !strcmp(name, "-h")) {
+    usage(stdout);
+    return EX_OK;
+  }
+  if (!strcmp(name, "--version") || !strcmp(name, "-V")) {
+    printf("tzero %s\n", TZERO_VERSION);
+    return EX_OK;
+  }
+  if (!strcmp(name, "help")) {
+    if (argc < 3) {
+      usage(stdout);
+      return EX_OK;
+    }
+    const struct subcmd *s = find(argv[2]);
+    if (!s) {
+      fprintf(stderr, "tzero: unknown subcommand '%s'\n", argv[2]);
+      return EX_USAGE;
+    }
+    char *hargv[] = { argv[2], "--help", NULL };
+    return s->run(2, hargv);
+  }
+  const struct subcmd *s = find(name);
+  if (!s) {
+    fprintf(stderr, "tzero: unknown subcommand '%s'\nTry 'tzero --help'.\n", name);
+    return EX_USAGE;
+  }
+  return s->run(argc - 1, argv + 1);
+}

@@ -1,0 +1,125 @@
+/* error.c -- the error record: first failure wins, context travels with it.
+ *
+ * The library never prints. Each failure site fills a tz_err with what went
+ * wrong and where (file, line, trace, byte offset); the front end formats it
+ * and maps the status to a <sysexits.h> exit code.
+ */
+#include "tzero/error.h"
+
+#include <stdio.h>
+#include <string.h>
+#include <sysexits.h>
+
+void tz_err_init(tz_err *e)
+{
+  memset(e, 0, sizeof *e);
+  e->line = e->trace = e->byte = -1;
+}
+
+static int vfail(tz_err *e, int status, int oserr, int64_t line, int64_t trace,
+                 int64_t byte, const char *fmt, va_list ap)
+{
+  if (!e || e->status != TZ_OK)
+    return e ? e->status : status;
+  e->status = status;
+  e->oserr = oserr;
+  e->line = line;
+  e->trace = trace;
+  e->byte = byte;
+  vsnprintf(e->msg, sizeof e->msg, fmt, ap);
+  return status;
+}
+
+int tz_fail(tz_err *e, int status, const char *fmt, ...)
+{
+  va_list ap;
+  va_start(ap, fmt);
+  int rc = vfail(e, status, 0, -1, -1, -1, fmt, ap);
+  va_end(ap);
+  return rc;
+}
+
+int tz_fail_at(tz_err *e, int status, int64_t trace, int64_t byte, const char *fmt, ...)
+{
+  va_list ap;
+  va_start(ap, fmt);
+  int rc = vfail(e, status, 0, -1, trace, byte, fmt, ap);
+  va_end(ap);
+  return rc;
+}
+
+int tz_fail_line(tz_err *e, int status, int64_t line, const char *fmt, ...)
+{
+  va_list ap;
+  va_start(ap, fmt);
+  int rc = vfail(e, status, 0, line, -1, -1, fmt, ap);
+  va_end(ap);
+  return rc;
+}
+
+int tz_fail_os(tz_err *e, int status, int oserr, const char *fmt, ...)
+{
+  va_list ap;
+  va_start(ap, fmt);
+  int rc = vfail(e, status, oserr, -1, -1, -1, fmt, ap);
+  va_end(ap);
+  return rc;
+}
+
+int tz_err_path(tz_err *e, const char *path)
+{
+  if (e && path && !e->path[0])
+    snprintf(e->path, sizeof e->path, "%s", path);
+  return e ? e->status : TZ_OK;
+}
+
+static const char *const names[TZ_E__COUNT] = {
+  [TZ_OK] = "success",
+  [TZ_E_NOMEM] = "out of memory",
+  [TZ_E_IO] = "I/O error",
+  [TZ_E_FORMAT] = "malformed input",
+  [TZ_E_ARG] = "invalid argument",
+  [TZ_E_JOB] = "invalid job",
+  [TZ_E_FFT] = "FFT planning failed",
+  [TZ_E_NOINPUT] = "cannot open input",
+  [TZ_E_CREATE] = "cannot create output",
+  [TZ_E_INTERNAL] = "internal error",
+};
+
+const char *tz_strstatus(int status)
+{
+  if (status < 0 || status >= TZ_E__COUNT || !names[status])
+    return "unknown status";
+  return names[status];
+}
+
+int tz_exit_status(int status)
+{
+  switch (status) {
+  case TZ_OK: return EX_OK;
+  case TZ_E_ARG: return EX_USAGE;
+  case TZ_E_FORMAT: return EX_DATAERR;
+  case TZ_E_JOB: return EX_DATAERR;
+  case TZ_E_NOINPUT: return EX_NOINPUT;
+  case TZ_E_CREATE: return EX_CANTCREAT;
+  case TZ_E_IO: return EX_IOERR;
+  case TZ_E_NOMEM: return EX_OSERR;
+  default: return EX_SOFTWARE;
+  }
+}
+
+void tz_err_format(const tz_err *e, char *buf, size_t cap)
+{
+  size_t n = 0;
+  if (!cap)
+    return;
+  buf[0] = '\0';
+#define PUT(...) do { int k_ = snprintf(buf + n, cap - n, __VA_ARGS__); \
+    if (k_ > 0) n = (size_t)k_ >= cap - n ? cap - 1 : n + (size_t)k_; } while (0)
+  if (e->path[0]) PUT("%s: ", e->path);
+  if (e->line >= 0) PUT("line %lld: ", (long long)e->line);
+  if (e->trace >= 0) PUT("trace %lld: ", (long long)e->trace + 1); /* 1-based, as SEG-Y counts */
+  if (e->byte >= 0) PUT("byte %lld: ", (long long)e->byte);
+  PUT("%s (%s)", e->msg, tz_strstatus(e->status));
+#undef PUT
+}

@@ -1,0 +1,236 @@
+/* table.c -- comma-separated tables: rows, fields, line numbers, checked numbers.
+ *
+ * Every text table tzero reads (velocity tables, geometry tables, picks) goes
+ * through here, so that blank lines, '#' comments, CRLF endings and number
+ * syntax are handled once and errors always carry the table's line number.
+ * No quoting: fields never contain commas in tzero's own formats.
+ */
+#include "tzero/table.h"
+
+#include <ctype.h>
+#include <errno.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+struct table_reader {
+  char *name;
+  char *text;        /* whole input, NUL-terminated; rows are cut in place */
+  size_t len, pos;
+  int64_t line;      /* line of the current row */
+  int64_t next_line; /* line number of text[pos] */
+  size_t nf;
+  const char *fields[TABLE_MAX_FIELDS];
+};
+
+static int make(table_reader **out, const char *name, char *text, size_t len, tz_err *err)
+{
+  table_reader *t = calloc(1, sizeof *t);
+  if (!t) {
+    free(text);
+    return tz_fail(err, TZ_E_NOMEM, "table reader");
+  }
+  t->name = strdup(name ? name : "");
+  if (!t->name) {
+    free(text);
+    free(t);
+    return tz_fail(err, TZ_E_NOMEM, "table reader");
+  }
+  t->text = text;
+  t->len = len;
+  t->next_line = 1;
+  *out = t;
+  return TZ_OK;
+}
+
+int table_open(table_reader **out, const char *path, tz_err *err)
+{
+  FILE *fp = fopen(path, "rb");
+  if (!fp) {
+    int e = errno;
+    tz_err_path(err, path);
+    return tz_fail_os(err, TZ_E_NOINPUT, e, "cannot open table");
+  }
+  size_t cap = 4096, len = 0;
+  char *buf = malloc(cap);
+  if (!buf) {
+    fclose(fp);
+    return tz_fail(err, TZ_E_NOMEM, "table buffer");
+  }
+  for (;;) {
+    if (cap - len < 4096) {
+      char *nb = realloc(buf, cap * 2);
+      if (!nb) {
+        free(buf);
+        fclose(fp);
+        return tz_fail(err, TZ_E_NOMEM, "table buffer");
+      }
+      buf = nb;
+      cap *= 2;
+    }
+    size_t got = fread(buf + len, 1, cap - len - 1, fp);
+    len += got;
+    if (got == 0)
+      break;
+  }
+  if (ferror(fp)) {
+    int e = errno;
+    free(buf);
+    fclose(fp);
+    tz_err_path(err, path);
+    return tz_fail_os(err, TZ_E_IO, e, "read failed");
+  }
+  fclose(fp);
+  buf[len] = '\0';
+  return make(out, path, buf, len, err);
+}
+
+int table_open_mem(table_reader **out, const char *name, const char *text, size_t len,
+                   tz_err *err)
+{
+  char *buf = malloc(len + 1);
+  if (!buf)
+    return tz_fail(err, TZ_E_NOMEM, "table buffer");
+  memcpy(buf, text, len);
+  buf[len] = '\0';
+  return make(out, name, buf, len, err);
+}
+
+void table_close(table_reader *t)
+{
+  if (!t)
+    return;
+  free(t->name);
+  free(t->text);
+  free(t);
+}
+
+static char *trim(char *s)
+{
+  while (*s == ' ' || *s == '\t')
+    s++;
+  char *e = s + strlen(s);
+  while (e > s && (e[-1] == ' ' || e[-1] == '\t' || e[-1] == '\r'))
+    *--e = '\0';
+  return s;
+}
+
+int table_next(table_reader *t, size_t *nfields, tz_err *err)
+{
+  *nfields = 0;
+  t->nf = 0;
+  while (t->pos < t->len) {
+    char *ln = t->text + t->pos;
+    char *nl = memchr(ln, '\n', t->len - t->pos);
+    size_t n = nl ? (size_t)(nl - ln) : t->len - t->pos;
+    t->line = t->next_line++;
+    t->pos += n + (nl ? 1 : 0);
+    if (n > TABLE_MAX_LINE) {
+      tz_err_path(err, t->name);
+      return tz_fail_line(err, TZ_E_FORMAT, t->line, "line longer than %d bytes",
+                          TABLE_MAX_LINE);
+    }
+    ln[n] = '\0';
+    if (memchr(ln, '\0', n)) {
+      tz_err_path(err, t->name);
+      return tz_fail_line(err, TZ_E_FORMAT, t->line, "NUL byte in text table");
+    }
+    char *s = trim(ln);
+    if (!*s || *s == '#')
+      continue;
+    for (;;) {
+      char *c = strchr(s, ',');
+      if (c)
+        *c = '\0';
+      if (t->nf == TABLE_MAX_FIELDS) {
+        tz_err_path(err, t->name);
+        return tz_fail_line(err, TZ_E_FORMAT, t->line, "more than %d fields",
+                            TABLE_MAX_FIELDS);
+      }
+      t->fields[t->nf++] = trim(s);
+      if (!c)
+        break;
+      s = c + 1;
+    }
+    *nfields = t->nf;
+    return TZ_OK;
+  }
+  return TZ_OK;
+}
+
+const char *table_field(const table_reader *t, size_t i)
+{
+  return i < t->nf ? t->fields[i] : "";
+}
+
+int64_t table_line(const table_reader *t) { return t->line; }
+const char *table_name(const table_reader *t) { return t->name; }
+
+int table_parse_i64(const char *s, int64_t *out)
+{
+  if (!s)
+    return -1;
+  while (isspace((unsigned char)*s))
+    s++;
+  if (!*s)
+    return -1;
+  errno = 0;
+  char *end;
+  long long v = strtoll(s, &end, 10);
+  if (errno || end == s)
+    return -1;
+  while (isspace((unsigned char)*end))
+    end++;
+  if (*end)
+    return -1;
+  *out = v;
+  return 0;
+}
+
+int table_parse_f64(const char *s, double *out)
+{
+  if (!s)
+    return -1;
+  while (isspace((unsigned char)*s))
+    s++;
+  if (!*s)
+    return -1;
+  errno = 0;
+  char *end;
+  double v = strtod(s, &end);
+  if (errno == ERANGE && fabs(v) > 1.0)
+    return -1;
+  if (end == s || !isfinite(v))
+    return -1;
+  while (isspace((unsigned char)*end))
+    end++;
+  if (*end)
+    return -1;
+  *out = v;
+  return 0;
+}
+
+int table_field_i64(const table_reader *t, size_t i, const char *column, int64_t *out,
+                    tz_err *err)
+{
+  const char *s = table_field(t, i);
+  if (table_parse_i64(s, out)) {
+    tz_err_path(err, t->name);
+    return tz_fail_line(err, TZ_E_FORMAT, t->line, "column %s: expected an integer, got '%s'",
+                        column, s);
+  }
+  return TZ_OK;
+}
+
+int table_field_f64(const table_reader *t, size_t i, const char *column, double *out,
+                    tz_err *err)
+{
+  const char *s = table_field(t, i);
+  if (table_parse_f64(s, out)) {
+    tz_err_path(err, t->name);
+    return tz_fail_line(err, TZ_E_FORMAT, t->line, "column %s: expected a number, got '%s'",
+                        column, s);
+  }
+  return TZ_OK;
+}

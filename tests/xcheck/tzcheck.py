@@ -1,0 +1,36 @@
+"""tzcheck -- helpers shared by the external cross-checks (TAP-style output).
+
+Each cross-check compares tzero with something outside the project: a
+published formula or worked example, or an independent library (segyio,
+NumPy, SciPy from Debian). The source is named beside each check.
+"""
+import os
+import subprocess
+import sys
+import tempfile
+
+TZERO = os.environ.get("TZERO", os.path.join(os.path.dirname(__file__), "..", "..", "build", "tzero"))
+WORK = tempfile.mkdtemp(dir=os.environ.get("WORK"))
+failures = 0
+
+
+def ok(cond, desc, detail=""):
+    global failures
+    if cond:
+        print(f"ok - {desc}")
+    else:
+        failures += 1
+        print(f"not ok - {desc}" + (f": {detail}" if detail else ""))
+    return cond
+
+
+def run(*args, check=True, **kw):
+    """Runs tzero with args; returns CompletedProcess (text mode)."""
+    p = subprocess.run([TZERO, *map(str, args)], capture_output=True, text=True, **kw)
+    if check and p.returncode != 0:
+        print(f"# tzero {' '.join(map(str, args))} -> {p.returncode}\n# {p.stderr.strip()}")
+    return p
+
+
+def done():
+    sys.exit(1 if failures else 0)
