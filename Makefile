@@ -111,7 +111,7 @@ bench-run: all $(BENCH_BIN)
 install: all
 	install -d $(DESTDIR)$(PREFIX)/bin $(DESTDIR)$(PREFIX)/share/man/man1
 	install -m 755 $(B)/tzero $(DESTDIR)$(PREFIX)/bin/tzero
-	install -m 644 docs/tzero.1 $(DESTDIR)$(PREFIX)/share/man/man1/tzero.1
+	install -m 644 docs/*.1 $(DESTDIR)$(PREFIX)/share/man/man1/
 
 clean:
 	rm -rf build
