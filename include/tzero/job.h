@@ -1,0 +1,128 @@
+/* job.h -- the job file: one line's processing described in JSON, checked and resolved.
+ *
+ * job_load() reads the JSON of DESIGN.md "Job file" (docs/job-file.md), rejects
+ * unknown keys (suggesting the nearest known one), checks every value (messages
+ * name the JSON path, e.g. "$.moveout.stretch_limit_pct: expected a number
+ * between 0 and 1000"), expands the shot patterns with glob(3) relative to the
+ * job file's folder and fills every default. The result is a plain value
+ * (job_spec); processing modules never see JSON. job_apply_overrides() applies
+ * command-line options on top, and job_to_json() gives the resolved job back
+ * as JSON text for the QC report.
+ *
+ * Paths inside a job_spec are already resolved: relative paths in the file are
+ * taken from the job file's folder; paths given as overrides are used as given.
+ */
+#ifndef TZERO_JOB_H
+#define TZERO_JOB_H
+
+#include <stddef.h>
+#include <stdint.h>
+#include "tzero/error.h"
+
+#define JOB_MAX_BYTES (16u << 20)    /* a job file larger than this is refused */
+#define JOB_MAX_SHOTS 1000000u       /* expanded shot files */
+#define JOB_MAX_MUTE_POINTS 1024u    /* top-mute polyline points */
+#define JOB_MAX_THREADS 256
+
+enum job_geometry_source { JOB_GEOMETRY_HEADERS = 0, JOB_GEOMETRY_LAYOUT, JOB_GEOMETRY_TABLE };
+enum job_interp { JOB_INTERP_LINEAR = 0, JOB_INTERP_SINC8 };
+enum job_sample_format { JOB_FORMAT_IEEE = 5, JOB_FORMAT_IBM = 1 };
+
+/* Processing line and bins ("bins" object). A field flagged has_* = 0 was not
+ * given: the line is then fitted through the midpoints and the bin size is
+ * half the receiver interval (DESIGN.md). */
+typedef struct job_bins {
+  int has_size;       double size_m;
+  int has_origin;     double origin_x_m, origin_y_m;
+  int has_azimuth;    double azimuth_deg;     /* clockwise from north (+y) */
+  int64_t first_cmp;                          /* CMP number of the origin's bin (default 1) */
+  double max_distance_m;  /* a midpoint farther than this from the line is off the line;
+                           * 0 = no limit (default) */
+} job_bins;
+
+typedef struct job_mute_point {
+  double offset_m;    /* absolute offset */
+  double time_ms;     /* recorded time before correction */
+} job_mute_point;
+
+typedef struct job_spec {
+  char *path;                 /* the job file as given ("" when built in memory) */
+  char *name;                 /* line name for headers and reports ("" = none) */
+
+  size_t nshots;              /* expanded, sorted shot files */
+  char **shots;
+  size_t npatterns;           /* the patterns as written (for the report) */
+  char **patterns;
+
+  int geometry;               /* enum job_geometry_source */
+  char *geometry_file;        /* layout or table path; NULL for headers */
+  char *header_map;           /* optional SEG-Y header map file (segy.h); NULL = standard */
+
+  job_bins bins;
+
+  char *velocity;             /* velocity table path */
+
+  /* "moveout" */
+  double stretch_limit_pct;   /* default 50 */
+  int interpolation;          /* enum job_interp, default linear */
+  int fourth_order;           /* 1 = use the table's eta column when present (default 1) */
+  double stretch_taper_ms;    /* default 0 = the nmo module's default taper */
+
+  /* "mute" */
+  size_t nmute;
+  job_mute_point *mute_top;   /* sorted by offset; NULL/0 = no top mute */
+  double mute_taper_ms;       /* default 0 = the nmo module's default taper */
+
+  /* "selection" */
+  int has_cmp_range;
+  int64_t cmp_first, cmp_last;
+  double offset_min_m;        /* absolute offset limits, default 0 and +inf */
+  double offset_max_m;
+
+  /* "output" */
+  char *section;              /* stacked SEG-Y path (required unless given as override) */
+  char *report;               /* QC report path; NULL = none */
+  int sample_format;          /* enum job_sample_format, default IEEE (5) */
+
+  int threads;                /* 0 = the machine's online cores */
+  int skip_bad_files;         /* 0 = a missing or corrupt shot file stops the run */
+} job_spec;
+
+/* Reads, checks and resolves `path`. On success *out owns a new job: release it
+ * with job_free(). Errors: TZ_E_NOINPUT (job file, velocity, geometry file or a
+ * shot pattern that matches nothing), TZ_E_FORMAT (not JSON: line and byte of
+ * the fault), TZ_E_JOB (valid JSON, invalid job: the message names the path). */
+int job_load(job_spec **out, const char *path, tz_err *err);
+/* As job_load from text in memory; relative paths are taken from `dir`
+ * (NULL = the current folder); `name` is used in messages. */
+int job_parse(job_spec **out, const char *text, size_t len, const char *name,
+              const char *dir, tz_err *err);
+void job_free(job_spec *j);                          /* NULL is a no-op */
+
+/* Command-line overrides; NULL / negative / NaN means "not given". */
+typedef struct job_overrides {
+  const char *velocity;
+  const char *section;
+  const char *report;
+  double stretch_limit_pct;   /* NaN = not given */
+  int interpolation;          /* -1 = not given */
+  int threads;                /* -1 = not given */
+  int skip_bad_files;         /* -1 = not given */
+  int has_cmp_range;          /* 0 = not given */
+  int64_t cmp_first, cmp_last;
+} job_overrides;
+
+void job_overrides_init(job_overrides *o);
+/* Applies and re-checks the overridden values (missing velocity file etc.). */
+int job_apply_overrides(job_spec *j, const job_overrides *o, tz_err *err);
+
+/* The resolved job as JSON text (same keys as the file, all defaults filled,
+ * shot list expanded). On success *out owns a NUL-terminated string (free()). */
+int job_to_json(const job_spec *j, char **out, tz_err *err);
+
+const char *job_interp_name(int interp);     /* "linear" / "sinc8" */
+
+/* Edit distance (Levenshtein) between two strings; exposed for tests. */
+size_t job_edit_distance(const char *a, const char *b);
+
+#endif

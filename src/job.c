@@ -1,0 +1,838 @@
+/* job.c -- the job file: JSON in, a checked and resolved job_spec out.
+ *
+ * This is the only processing-side file that touches cJSON for jobs: it walks
+ * the tree object by object, checks each object's keys against a fixed list
+ * (an unknown key is reported with the nearest known key by Levenshtein edit
+ * distance), converts every value with a message naming its JSON path, fills
+ * the defaults and frees the tree. Shot patterns are expanded with glob(3)
+ * (each pattern's matches sorted, patterns kept in the order written, a file
+ * named twice is kept once) relative to the job file's folder.
+ *
+ * Not here: what the values mean to geometry, NMO or stacking (stack.c), and
+ * reading the files they name (velocity.c, geometry.c, segy.c).
+ */
+#include "tzero/job.h"
+
+#include <cjson/cJSON.h>
+#include <errno.h>
+#include <glob.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+
+#include "tzero/fileio.h"
+
+#define PATHBUF 640
+
+/* ---------------------------------------------------------------- helpers */
+
+size_t job_edit_distance(const char *a, const char *b)
+{
+  size_t na = strlen(a), nb = strlen(b);
+  if (na > 256 || nb > 256)
+    return na > nb ? na : nb;
+  size_t row[257];
+  for (size_t j = 0; j <= nb; j++)
+    row[j] = j;
+  for (size_t i = 1; i <= na; i++) {
+    size_t diag = row[0];
+    row[0] = i;
+    for (size_t j = 1; j <= nb; j++) {
+      size_t up = row[j];
+      size_t best = diag + (a[i - 1] != b[j - 1]);
+      if (up + 1 < best)
+        best = up + 1;
+      if (row[j - 1] + 1 < best)
+        best = row[j - 1] + 1;
+      row[j] = best;
+      diag = up;
+    }
+  }
+  return row[nb];
+}
+
+const char *job_interp_name(int interp)
+{
+  return interp == JOB_INTERP_SINC8 ? "sinc8" : "linear";
+}
+
+/* Checks that every key of `obj` is in `known` (NULL-terminated). */
+static int check_keys(const cJSON *obj, const char *path, const char *const *known, tz_err *err)
+{
+  for (const cJSON *c = obj->child; c; c = c->next) {
+    const char *k = c->string ? c->string : "";
+    int found = 0;
+    const char *best = NULL;
+    size_t bestd = (size_t)-1;
+    for (size_t i = 0; known[i]; i++) {
+      if (!strcmp(k, known[i])) {
+        found = 1;
+        break;
+      }
+      size_t d = job_edit_distance(k, known[i]);
+      if (d < bestd) {
+        bestd = d;
+        best = known[i];
+      }
+    }
+    if (found)
+      continue;
+    /* a duplicate key is caught too: cJSON keeps both, the second is "unknown"
+     * only if misspelt, so check duplicates separately below */
+    if (best)
+      return tz_fail(err, TZ_E_JOB, "%s.%s: unknown key; did you mean \"%s\"?", path, k, best);
+    return tz_fail(err, TZ_E_JOB, "%s.%s: unknown key", path, k);
+  }
+  for (const cJSON *c = obj->child; c; c = c->next)
+    for (const cJSON *d = c->next; d; d = d->next)
+      if (c->string && d->string && !strcmp(c->string, d->string))
+        return tz_fail(err, TZ_E_JOB, "%s.%s: key given twice", path, c->string);
+  return TZ_OK;
+}
+
+static const char *kind_name(const cJSON *v)
+{
+  if (cJSON_IsString(v)) return "a string";
+  if (cJSON_IsNumber(v)) return "a number";
+  if (cJSON_IsBool(v)) return "a boolean";
+  if (cJSON_IsNull(v)) return "null";
+  if (cJSON_IsArray(v)) return "an array";
+  if (cJSON_IsObject(v)) return "an object";
+  return "something else";
+}
+
+static int get_number(const cJSON *v, const char *path, double lo, double hi, double *out,
+                      tz_err *err)
+{
+  if (!cJSON_IsNumber(v) || !isfinite(v->valuedouble) || v->valuedouble < lo ||
+      v->valuedouble > hi) {
+    char los[32], his[32];
+    snprintf(los, sizeof los, "%g", lo);
+    snprintf(his, sizeof his, "%g", hi);
+    if (cJSON_IsNumber(v))
+      return tz_fail(err, TZ_E_JOB, "%s: expected a number between %s and %s, got %g", path, los,
+                   his, v->valuedouble);
+    return tz_fail(err, TZ_E_JOB, "%s: expected a number between %s and %s, got %s", path, los,
+                 his, kind_name(v));
+  }
+  *out = v->valuedouble;
+  return TZ_OK;
+}
+
+static int get_int(const cJSON *v, const char *path, int64_t lo, int64_t hi, int64_t *out,
+                   tz_err *err)
+{
+  if (!cJSON_IsNumber(v) || v->valuedouble != floor(v->valuedouble) ||
+      v->valuedouble < (double)lo || v->valuedouble > (double)hi) {
+    if (cJSON_IsNumber(v))
+      return tz_fail(err, TZ_E_JOB, "%s: expected an integer between %lld and %lld, got %g", path,
+                   (long long)lo, (long long)hi, v->valuedouble);
+    return tz_fail(err, TZ_E_JOB, "%s: expected an integer between %lld and %lld, got %s", path,
+                 (long long)lo, (long long)hi, kind_name(v));
+  }
+  *out = (int64_t)v->valuedouble;
+  return TZ_OK;
+}
+
+static int get_bool(const cJSON *v, const char *path, int *out, tz_err *err)
+{
+  if (!cJSON_IsBool(v))
+    return tz_fail(err, TZ_E_JOB, "%s: expected true or false, got %s", path, kind_name(v));
+  *out = cJSON_IsTrue(v) ? 1 : 0;
+  return TZ_OK;
+}
+
+static int get_string(const cJSON *v, const char *path, const char **out, tz_err *err)
+{
+  if (!cJSON_IsString(v) || !v->valuestring)
+    return tz_fail(err, TZ_E_JOB, "%s: expected a string, got %s", path, kind_name(v));
+  if (!v->valuestring[0])
+    return tz_fail(err, TZ_E_JOB, "%s: expected a non-empty string", path);
+  *out = v->valuestring;
+  return TZ_OK;
+}
+
+static int get_choice(const cJSON *v, const char *path, const char *const *names,
+                      const int *values, int *out, tz_err *err)
+{
+  const char *s;
+  int rc = get_string(v, path, &s, err);
+  if (rc)
+    return rc;
+  char list[200] = "";
+  for (size_t i = 0; names[i]; i++) {
+    if (!strcmp(s, names[i])) {
+      *out = values[i];
+      return TZ_OK;
+    }
+    size_t n = strlen(list);
+    snprintf(list + n, sizeof list - n, "%s\"%s\"", i ? " or " : "", names[i]);
+  }
+  return tz_fail(err, TZ_E_JOB, "%s: expected %s, got \"%s\"", path, list, s);
+}
+
+static char *dupstr(const char *s)
+{
+  return s ? strdup(s) : NULL;
+}
+
+/* dir + "/" + rel, unless rel is absolute or dir is empty. */
+static char *resolve(const char *dir, const char *rel)
+{
+  if (rel[0] == '/' || !dir || !dir[0] || !strcmp(dir, "."))
+    return strdup(rel);
+  size_t n = strlen(dir) + strlen(rel) + 2;
+  char *p = malloc(n);
+  if (p)
+    snprintf(p, n, "%s/%s", dir, rel);
+  return p;
+}
+
+static int need_file(const char *path, const char *jpath, tz_err *err)
+{
+  struct stat st;
+  if (stat(path, &st) != 0) {
+    int e = errno;
+    tz_fail_os(err, TZ_E_NOINPUT, e, "%s: cannot open '%s'", jpath, path);
+    return TZ_E_NOINPUT;
+  }
+  if (S_ISDIR(st.st_mode))
+    return tz_fail(err, TZ_E_NOINPUT, "%s: '%s' is a folder, expected a file", jpath, path);
+  return TZ_OK;
+}
+
+/* A string member resolved against dir, checked to exist when `must_exist`. */
+static int get_path(const cJSON *v, const char *jpath, const char *dir, int must_exist,
+                    char **out, tz_err *err)
+{
+  const char *s;
+  int rc = get_string(v, jpath, &s, err);
+  if (rc)
+    return rc;
+  char *p = resolve(dir, s);
+  if (!p)
+    return tz_fail(err, TZ_E_NOMEM, "job path");
+  if (must_exist && (rc = need_file(p, jpath, err))) {
+    free(p);
+    return rc;
+  }
+  free(*out);
+  *out = p;
+  return TZ_OK;
+}
+
+/* ---------------------------------------------------------------- sections */
+
+static int add_shot(job_spec *j, const char *path, size_t *cap, tz_err *err)
+{
+  for (size_t i = 0; i < j->nshots; i++)
+    if (!strcmp(j->shots[i], path))
+      return TZ_OK;
+  if (j->nshots >= JOB_MAX_SHOTS)
+    return tz_fail(err, TZ_E_JOB, "$.shots: more than %u files", JOB_MAX_SHOTS);
+  if (j->nshots == *cap) {
+    size_t nc = *cap ? *cap * 2 : 64;
+    char **ns = realloc(j->shots, nc * sizeof *ns);
+    if (!ns)
+      return tz_fail(err, TZ_E_NOMEM, "shot list");
+    j->shots = ns;
+    *cap = nc;
+  }
+  if (!(j->shots[j->nshots] = strdup(path)))
+    return tz_fail(err, TZ_E_NOMEM, "shot list");
+  j->nshots++;
+  return TZ_OK;
+}
+
+static int parse_shots(job_spec *j, const cJSON *v, const char *dir, tz_err *err)
+{
+  if (cJSON_IsString(v)) {
+    /* a single pattern is accepted as a one-element list */
+  } else if (!cJSON_IsArray(v)) {
+    return tz_fail(err, TZ_E_JOB, "$.shots: expected an array of file patterns, got %s",
+                 kind_name(v));
+  }
+  size_t n = cJSON_IsArray(v) ? (size_t)cJSON_GetArraySize(v) : 1;
+  if (n == 0)
+    return tz_fail(err, TZ_E_JOB, "$.shots: expected at least one file pattern");
+  j->patterns = calloc(n, sizeof *j->patterns);
+  if (!j->patterns)
+    return tz_fail(err, TZ_E_NOMEM, "shot patterns");
+  size_t cap = 0;
+  /* A single-shot cap to avoid quadratic duplicate checks: dedupe is linear per add,
+   * acceptable up to tens of thousands of files. */
+  for (size_t i = 0; i < n; i++) {
+    const cJSON *e = cJSON_IsArray(v) ? cJSON_GetArrayItem(v, (int)i) : v;
+    char jp[64];
+    snprintf(jp, sizeof jp, "$.shots[%zu]", i);
+    const char *pat;
+    int rc = get_string(e, jp, &pat, err);
+    if (rc)
+      return rc;
+    if (!(j->patterns[i] = strdup(pat)))
+      return tz_fail(err, TZ_E_NOMEM, "shot patterns");
+    j->npatterns = i + 1;
+    char *full = resolve(dir, pat);
+    if (!full)
+      return tz_fail(err, TZ_E_NOMEM, "shot pattern");
+    glob_t g;
+    memset(&g, 0, sizeof g);
+    int grc = glob(full, 0, NULL, &g);   /* glob sorts its matches */
+    if (grc == GLOB_NOMATCH) {
+      globfree(&g);
+      rc = tz_fail(err, TZ_E_NOINPUT, "%s: pattern '%s' matches no file", jp, full);
+      free(full);
+      return rc;
+    }
+    if (grc != 0) {
+      globfree(&g);
+      rc = tz_fail(err, grc == GLOB_NOSPACE ? TZ_E_NOMEM : TZ_E_NOINPUT,
+                 "%s: cannot expand pattern '%s'", jp, full);
+      free(full);
+      return rc;
+    }
+    free(full);
+    size_t added = 0;
+    for (size_t k = 0; k < g.gl_pathc && !rc; k++) {
+      struct stat st;
+      if (stat(g.gl_pathv[k], &st) == 0 && S_ISDIR(st.st_mode))
+        continue;
+      rc = add_shot(j, g.gl_pathv[k], &cap, err);
+      added++;
+    }
+    globfree(&g);
+    if (rc)
+      return rc;
+    if (!added)
+      return tz_fail(err, TZ_E_NOINPUT, "%s: pattern '%s' matches only folders", jp, pat);
+  }
+  return TZ_OK;
+}
+
+static int parse_geometry(job_spec *j, const cJSON *v, const char *dir, tz_err *err)
+{
+  if (cJSON_IsString(v)) {
+    if (strcmp(v->valuestring, "headers"))
+      return tz_fail(err, TZ_E_JOB,
+                   "$.geometry: expected \"headers\", {\"layout\": FILE} or {\"table\": FILE}, "
+                   "got \"%s\"", v->valuestring);
+    j->geometry = JOB_GEOMETRY_HEADERS;
+    return TZ_OK;
+  }
+  if (!cJSON_IsObject(v))
+    return tz_fail(err, TZ_E_JOB,
+                 "$.geometry: expected \"headers\", {\"layout\": FILE} or {\"table\": FILE}, "
+                 "got %s", kind_name(v));
+  static const char *const keys[] = { "layout", "table", NULL };
+  int rc = check_keys(v, "$.geometry", keys, err);
+  if (rc)
+    return rc;
+  const cJSON *lay = cJSON_GetObjectItemCaseSensitive(v, "layout");
+  const cJSON *tab = cJSON_GetObjectItemCaseSensitive(v, "table");
+  if ((lay && tab) || (!lay && !tab))
+    return tz_fail(err, TZ_E_JOB, "$.geometry: expected exactly one of \"layout\" or \"table\"");
+  j->geometry = lay ? JOB_GEOMETRY_LAYOUT : JOB_GEOMETRY_TABLE;
+  return get_path(lay ? lay : tab, lay ? "$.geometry.layout" : "$.geometry.table", dir, 1,
+                  &j->geometry_file, err);
+}
+
+static int want_object(const cJSON *v, const char *path, tz_err *err)
+{
+  if (!cJSON_IsObject(v))
+    return tz_fail(err, TZ_E_JOB, "%s: expected an object, got %s", path, kind_name(v));
+  return TZ_OK;
+}
+
+#define ITEM(obj, key) cJSON_GetObjectItemCaseSensitive((obj), (key))
+
+static int parse_bins(job_spec *j, const cJSON *v, tz_err *err)
+{
+  static const char *const keys[] = { "size_m", "origin_x_m", "origin_y_m", "azimuth_deg",
+                                      "first_cmp", "max_distance_m", NULL };
+  int rc = want_object(v, "$.bins", err);
+  if (!rc)
+    rc = check_keys(v, "$.bins", keys, err);
+  if (rc)
+    return rc;
+  job_bins *b = &j->bins;
+  const cJSON *e;
+  if ((e = ITEM(v, "size_m"))) {
+    if ((rc = get_number(e, "$.bins.size_m", 1e-3, 1e5, &b->size_m, err)))
+      return rc;
+    b->has_size = 1;
+  }
+  const cJSON *ox = ITEM(v, "origin_x_m"), *oy = ITEM(v, "origin_y_m");
+  if (ox || oy) {
+    if (!ox || !oy)
+      return tz_fail(err, TZ_E_JOB, "$.bins: origin_x_m and origin_y_m go together");
+    if ((rc = get_number(ox, "$.bins.origin_x_m", -1e12, 1e12, &b->origin_x_m, err)) ||
+        (rc = get_number(oy, "$.bins.origin_y_m", -1e12, 1e12, &b->origin_y_m, err)))
+      return rc;
+    b->has_origin = 1;
+  }
+  if ((e = ITEM(v, "azimuth_deg"))) {
+    if ((rc = get_number(e, "$.bins.azimuth_deg", -360, 360, &b->azimuth_deg, err)))
+      return rc;
+    b->has_azimuth = 1;
+  }
+  if (b->has_origin != b->has_azimuth)
+    return tz_fail(err, TZ_E_JOB,
+                 "$.bins: origin_x_m, origin_y_m and azimuth_deg define the line together; "
+                 "give all three or none");
+  if ((e = ITEM(v, "first_cmp")) &&
+      (rc = get_int(e, "$.bins.first_cmp", -1000000000, 1000000000, &b->first_cmp, err)))
+    return rc;
+  if ((e = ITEM(v, "max_distance_m")) &&
+      (rc = get_number(e, "$.bins.max_distance_m", 0, 1e9, &b->max_distance_m, err)))
+    return rc;
+  return TZ_OK;
+}
+
+static int parse_moveout(job_spec *j, const cJSON *v, tz_err *err)
+{
+  static const char *const keys[] = { "stretch_limit_pct", "interpolation", "fourth_order",
+                                      "stretch_taper_ms", NULL };
+  static const char *const inames[] = { "linear", "sinc8", NULL };
+  static const int ivals[] = { JOB_INTERP_LINEAR, JOB_INTERP_SINC8 };
+  int rc = want_object(v, "$.moveout", err);
+  if (!rc)
+    rc = check_keys(v, "$.moveout", keys, err);
+  if (rc)
+    return rc;
+  const cJSON *e;
+  if ((e = ITEM(v, "stretch_limit_pct")) &&
+      (rc = get_number(e, "$.moveout.stretch_limit_pct", 0, 1000, &j->stretch_limit_pct, err)))
+    return rc;
+  if ((e = ITEM(v, "interpolation")) &&
+      (rc = get_choice(e, "$.moveout.interpolation", inames, ivals, &j->interpolation, err)))
+    return rc;
+  if ((e = ITEM(v, "fourth_order")) &&
+      (rc = get_bool(e, "$.moveout.fourth_order", &j->fourth_order, err)))
+    return rc;
+  if ((e = ITEM(v, "stretch_taper_ms")) &&
+      (rc = get_number(e, "$.moveout.stretch_taper_ms", 0, 1000, &j->stretch_taper_ms, err)))
+    return rc;
+  return TZ_OK;
+}
+
+static int cmp_mute(const void *a, const void *b)
+{
+  double x = ((const job_mute_point *)a)->offset_m, y = ((const job_mute_point *)b)->offset_m;
+  return (x > y) - (x < y);
+}
+
+static int parse_mute(job_spec *j, const cJSON *v, tz_err *err)
+{
+  static const char *const keys[] = { "top", "taper_ms", NULL };
+  int rc = want_object(v, "$.mute", err);
+  if (!rc)
+    rc = check_keys(v, "$.mute", keys, err);
+  if (rc)
+    return rc;
+  const cJSON *e;
+  if ((e = ITEM(v, "taper_ms")) &&
+      (rc = get_number(e, "$.mute.taper_ms", 0, 1000, &j->mute_taper_ms, err)))
+    return rc;
+  const cJSON *top = ITEM(v, "top");
+  if (!top)
+    return TZ_OK;
+  if (!cJSON_IsArray(top))
+    return tz_fail(err, TZ_E_JOB, "$.mute.top: expected an array of [offset_m, time_ms] pairs, "
+                 "got %s", kind_name(top));
+  size_t n = (size_t)cJSON_GetArraySize(top);
+  if (n == 0)
+    return TZ_OK;
+  if (n > JOB_MAX_MUTE_POINTS)
+    return tz_fail(err, TZ_E_JOB, "$.mute.top: more than %u points", JOB_MAX_MUTE_POINTS);
+  j->mute_top = calloc(n, sizeof *j->mute_top);
+  if (!j->mute_top)
+    return tz_fail(err, TZ_E_NOMEM, "mute points");
+  size_t i = 0;
+  for (const cJSON *p = top->child; p; p = p->next, i++) {
+    char jp[64];
+    snprintf(jp, sizeof jp, "$.mute.top[%zu]", i);
+    if (!cJSON_IsArray(p) || cJSON_GetArraySize(p) != 2)
+      return tz_fail(err, TZ_E_JOB, "%s: expected a pair [offset_m, time_ms], got %s", jp,
+                   kind_name(p));
+    char jp0[80], jp1[80];
+    snprintf(jp0, sizeof jp0, "%s[0]", jp);
+    snprintf(jp1, sizeof jp1, "%s[1]", jp);
+    if ((rc = get_number(p->child, jp0, 0, 1e6, &j->mute_top[i].offset_m, err)) ||
+        (rc = get_number(p->child->next, jp1, -1e5, 1e6, &j->mute_top[i].time_ms, err)))
+      return rc;
+  }
+  j->nmute = n;
+  qsort(j->mute_top, n, sizeof *j->mute_top, cmp_mute);
+  for (i = 1; i < n; i++)
+    if (j->mute_top[i].offset_m == j->mute_top[i - 1].offset_m)
+      return tz_fail(err, TZ_E_JOB, "$.mute.top: offset %g m given twice", j->mute_top[i].offset_m);
+  return TZ_OK;
+}
+
+static int parse_selection(job_spec *j, const cJSON *v, tz_err *err)
+{
+  static const char *const keys[] = { "cmp_first", "cmp_last", "offset_min_m", "offset_max_m",
+                                      NULL };
+  int rc = want_object(v, "$.selection", err);
+  if (!rc)
+    rc = check_keys(v, "$.selection", keys, err);
+  if (rc)
+    return rc;
+  const cJSON *a = ITEM(v, "cmp_first"), *b = ITEM(v, "cmp_last"), *e;
+  if (a || b) {
+    if (!a || !b)
+      return tz_fail(err, TZ_E_JOB, "$.selection: cmp_first and cmp_last go together");
+    if ((rc = get_int(a, "$.selection.cmp_first", -1000000000, 1000000000, &j->cmp_first, err)) ||
+        (rc = get_int(b, "$.selection.cmp_last", -1000000000, 1000000000, &j->cmp_last, err)))
+      return rc;
+    if (j->cmp_last < j->cmp_first)
+      return tz_fail(err, TZ_E_JOB, "$.selection.cmp_last: %lld is before cmp_first %lld",
+                   (long long)j->cmp_last, (long long)j->cmp_first);
+    j->has_cmp_range = 1;
+  }
+  if ((e = ITEM(v, "offset_min_m")) &&
+      (rc = get_number(e, "$.selection.offset_min_m", 0, 1e7, &j->offset_min_m, err)))
+    return rc;
+  if ((e = ITEM(v, "offset_max_m")) &&
+      (rc = get_number(e, "$.selection.offset_max_m", 0, 1e7, &j->offset_max_m, err)))
+    return rc;
+  if (j->offset_max_m < j->offset_min_m)
+    return tz_fail(err, TZ_E_JOB, "$.selection.offset_max_m: %g is below offset_min_m %g",
+                 j->offset_max_m, j->offset_min_m);
+  return TZ_OK;
+}
+
+static int parse_output(job_spec *j, const cJSON *v, const char *dir, tz_err *err)
+{
+  static const char *const keys[] = { "section", "report", "sample_format", NULL };
+  static const char *const fnames[] = { "ieee", "ibm", NULL };
+  static const int fvals[] = { JOB_FORMAT_IEEE, JOB_FORMAT_IBM };
+  int rc = want_object(v, "$.output", err);
+  if (!rc)
+    rc = check_keys(v, "$.output", keys, err);
+  if (rc)
+    return rc;
+  const cJSON *e;
+  if ((e = ITEM(v, "section")) && (rc = get_path(e, "$.output.section", dir, 0, &j->section, err)))
+    return rc;
+  if ((e = ITEM(v, "report")) && (rc = get_path(e, "$.output.report", dir, 0, &j->report, err)))
+    return rc;
+  if ((e = ITEM(v, "sample_format")) &&
+      (rc = get_choice(e, "$.output.sample_format", fnames, fvals, &j->sample_format, err)))
+    return rc;
+  return TZ_OK;
+}
+
+static void set_defaults(job_spec *j)
+{
+  j->geometry = JOB_GEOMETRY_HEADERS;
+  j->bins.first_cmp = 1;
+  j->stretch_limit_pct = 50;           /* within the 50-100 % of Sheriff's dictionary */
+  j->interpolation = JOB_INTERP_LINEAR;
+  j->fourth_order = 1;
+  j->offset_min_m = 0;
+  j->offset_max_m = INFINITY;
+  j->sample_format = JOB_FORMAT_IEEE;
+}
+
+static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *err)
+{
+  static const char *const keys[] = { "name", "shots", "geometry", "header_map", "bins",
+                                      "velocity", "moveout", "mute", "selection", "output",
+                                      "threads", "skip_bad_files", NULL };
+  int rc;
+  if (!cJSON_IsObject(root))
+    return tz_fail(err, TZ_E_JOB, "$: expected an object, got %s", kind_name(root));
+  if ((rc = check_keys(root, "$", keys, err)))
+    return rc;
+  const cJSON *e;
+  if ((e = ITEM(root, "name"))) {
+    const char *s;
+    if ((rc = get_string(e, "$.name", &s, err)))
+      return rc;
+    free(j->name);
+    if (!(j->name = strdup(s)))
+      return tz_fail(err, TZ_E_NOMEM, "job name");
+  }
+  if (!(e = ITEM(root, "shots")))
+    return tz_fail(err, TZ_E_JOB, "$.shots: required key missing (file patterns of the shot "
+                 "records)");
+  if ((rc = parse_shots(j, e, dir, err)))
+    return rc;
+  if ((e = ITEM(root, "geometry")) && (rc = parse_geometry(j, e, dir, err)))
+    return rc;
+  if ((e = ITEM(root, "header_map")) && (rc = get_path(e, "$.header_map", dir, 1,
+                                                       &j->header_map, err)))
+    return rc;
+  if ((e = ITEM(root, "bins")) && (rc = parse_bins(j, e, err)))
+    return rc;
+  if ((e = ITEM(root, "velocity")) && (rc = get_path(e, "$.velocity", dir, 1, &j->velocity, err)))
+    return rc;
+  if ((e = ITEM(root, "moveout")) && (rc = parse_moveout(j, e, err)))
+    return rc;
+  if ((e = ITEM(root, "mute")) && (rc = parse_mute(j, e, err)))
+    return rc;
+  if ((e = ITEM(root, "selection")) && (rc = parse_selection(j, e, err)))
+    return rc;
+  if ((e = ITEM(root, "output")) && (rc = parse_output(j, e, dir, err)))
+    return rc;
+  if ((e = ITEM(root, "threads"))) {
+    int64_t t;
+    if ((rc = get_int(e, "$.threads", 0, JOB_MAX_THREADS, &t, err)))
+      return rc;
+    j->threads = (int)t;
+  }
+  if ((e = ITEM(root, "skip_bad_files")) &&
+      (rc = get_bool(e, "$.skip_bad_files", &j->skip_bad_files, err)))
+    return rc;
+  return TZ_OK;
+}
+
+/* Line (1-based) and byte offset of position `at` in text. */
+static void locate(const char *text, size_t at, int64_t *line)
+{
+  int64_t ln = 1;
+  for (size_t i = 0; i < at; i++)
+    if (text[i] == '\n')
+      ln++;
+  *line = ln;
+}
+
+int job_parse(job_spec **out, const char *text, size_t len, const char *name, const char *dir,
+              tz_err *err)
+{
+  job_spec *j = calloc(1, sizeof *j);
+  if (!j)
+    return tz_fail(err, TZ_E_NOMEM, "job");
+  set_defaults(j);
+  if (!(j->path = strdup(name ? name : "")) || !(j->name = strdup(""))) {
+    job_free(j);
+    return tz_fail(err, TZ_E_NOMEM, "job");
+  }
+  if (memchr(text, '\0', len)) {
+    job_free(j);
+    tz_err_path(err, name);
+    return tz_fail_at(err, TZ_E_FORMAT, -1, (int64_t)((const char *)memchr(text, '\0', len) - text),
+                      "NUL byte in job file");
+  }
+  const char *end = NULL;
+  cJSON *root = cJSON_ParseWithOpts(text, &end, 1);
+  if (!root) {
+    size_t at = end && end >= text && end <= text + len ? (size_t)(end - text) : 0;
+    int64_t line;
+    locate(text, at, &line);
+    job_free(j);
+    tz_err_path(err, name);
+    tz_fail_at(err, TZ_E_FORMAT, -1, (int64_t)at, "not valid JSON (line %lld)", (long long)line);
+    err->line = line;
+    return TZ_E_FORMAT;
+  }
+  int rc = parse_tree(j, root, dir, err);
+  cJSON_Delete(root);
+  if (rc) {
+    tz_err_path(err, name);
+    job_free(j);
+    return rc;
+  }
+  *out = j;
+  return TZ_OK;
+}
+
+int job_load(job_spec **out, const char *path, tz_err *err)
+{
+  char *text = NULL;
+  size_t len = 0;
+  int rc = fileio_read_all(path, JOB_MAX_BYTES, &text, &len, err);
+  if (rc) {
+    tz_err_path(err, path);
+    return rc;
+  }
+  char dir[PATHBUF];
+  const char *slash = strrchr(path, '/');
+  if (slash) {
+    size_t n = (size_t)(slash - path);
+    if (n >= sizeof dir)
+      n = sizeof dir - 1;
+    memcpy(dir, path, n ? n : 1);   /* "/job.json" keeps the root "/" */
+    dir[n ? n : 1] = '\0';
+  } else {
+    dir[0] = '\0';
+  }
+  rc = job_parse(out, text, len, path, dir, err);
+  free(text);
+  return rc;
+}
+
+void job_free(job_spec *j)
+{
+  if (!j)
+    return;
+  for (size_t i = 0; i < j->nshots; i++)
+    free(j->shots[i]);
+  for (size_t i = 0; i < j->npatterns; i++)
+    free(j->patterns[i]);
+  free(j->shots);
+  free(j->patterns);
+  free(j->path);
+  free(j->name);
+  free(j->geometry_file);
+  free(j->header_map);
+  free(j->velocity);
+  free(j->mute_top);
+  free(j->section);
+  free(j->report);
+  free(j);
+}
+
+/* ---------------------------------------------------------------- overrides */
+
+void job_overrides_init(job_overrides *o)
+{
+  memset(o, 0, sizeof *o);
+  o->stretch_limit_pct = NAN;
+  o->interpolation = -1;
+  o->threads = -1;
+  o->skip_bad_files = -1;
+}
+
+static int replace(char **slot, const char *s, tz_err *err)
+{
+  char *p = dupstr(s);
+  if (!p)
+    return tz_fail(err, TZ_E_NOMEM, "job override");
+  free(*slot);
+  *slot = p;
+  return TZ_OK;
+}
+
+int job_apply_overrides(job_spec *j, const job_overrides *o, tz_err *err)
+{
+  int rc;
+  if (o->velocity) {
+    if ((rc = need_file(o->velocity, "--velocity", err)) || (rc = replace(&j->velocity, o->velocity, err)))
+      return rc;
+  }
+  if (o->section && (rc = replace(&j->section, o->section, err)))
+    return rc;
+  if (o->report && (rc = replace(&j->report, o->report, err)))
+    return rc;
+  if (!isnan(o->stretch_limit_pct)) {
+    if (!(o->stretch_limit_pct >= 0 && o->stretch_limit_pct <= 1000))
+      return tz_fail(err, TZ_E_ARG, "--stretch-limit: expected a number between 0 and 1000 "
+                     "(percent), got %g", o->stretch_limit_pct);
+    j->stretch_limit_pct = o->stretch_limit_pct;
+  }
+  if (o->interpolation >= 0)
+    j->interpolation = o->interpolation == JOB_INTERP_SINC8 ? JOB_INTERP_SINC8 : JOB_INTERP_LINEAR;
+  if (o->threads >= 0) {
+    if (o->threads > JOB_MAX_THREADS)
+      return tz_fail(err, TZ_E_ARG, "--threads: expected 0 to %d, got %d", JOB_MAX_THREADS,
+                     o->threads);
+    j->threads = o->threads;
+  }
+  if (o->skip_bad_files >= 0)
+    j->skip_bad_files = o->skip_bad_files ? 1 : 0;
+  if (o->has_cmp_range) {
+    if (o->cmp_last < o->cmp_first)
+      return tz_fail(err, TZ_E_ARG, "CMP range: last %lld is before first %lld",
+                     (long long)o->cmp_last, (long long)o->cmp_first);
+    j->has_cmp_range = 1;
+    j->cmp_first = o->cmp_first;
+    j->cmp_last = o->cmp_last;
+  }
+  return TZ_OK;
+}
+
+/* ---------------------------------------------------------------- resolved JSON */
+
+static int add_str(cJSON *o, const char *k, const char *v)
+{
+  return cJSON_AddItemToObject(o, k, v ? cJSON_CreateString(v) : cJSON_CreateNull()) ? 0 : -1;
+}
+
+int job_to_json(const job_spec *j, char **out, tz_err *err)
+{
+  cJSON *r = cJSON_CreateObject(), *o;
+  int bad = !r;
+  if (!bad) {
+    bad |= add_str(r, "name", j->name);
+    bad |= add_str(r, "job_file", j->path);
+    o = cJSON_AddArrayToObject(r, "shots");
+    for (size_t i = 0; o && i < j->npatterns; i++)
+      bad |= !cJSON_AddItemToArray(o, cJSON_CreateString(j->patterns[i]));
+    o = cJSON_AddArrayToObject(r, "shot_files");
+    for (size_t i = 0; o && i < j->nshots; i++)
+      bad |= !cJSON_AddItemToArray(o, cJSON_CreateString(j->shots[i]));
+    if (j->geometry == JOB_GEOMETRY_HEADERS) {
+      bad |= add_str(r, "geometry", "headers");
+    } else {
+      o = cJSON_AddObjectToObject(r, "geometry");
+      bad |= !o || add_str(o, j->geometry == JOB_GEOMETRY_LAYOUT ? "layout" : "table",
+                           j->geometry_file);
+    }
+    bad |= add_str(r, "header_map", j->header_map);
+    o = cJSON_AddObjectToObject(r, "bins");
+    if (o) {
+      /* null = "fitted / derived at run time"; the report's geometry block has the values */
+      if (j->bins.has_size) cJSON_AddNumberToObject(o, "size_m", j->bins.size_m);
+      else cJSON_AddNullToObject(o, "size_m");
+      if (j->bins.has_origin) {
+        cJSON_AddNumberToObject(o, "origin_x_m", j->bins.origin_x_m);
+        cJSON_AddNumberToObject(o, "origin_y_m", j->bins.origin_y_m);
+        cJSON_AddNumberToObject(o, "azimuth_deg", j->bins.azimuth_deg);
+      } else {
+        cJSON_AddNullToObject(o, "origin_x_m");
+        cJSON_AddNullToObject(o, "origin_y_m");
+        cJSON_AddNullToObject(o, "azimuth_deg");
+      }
+      cJSON_AddNumberToObject(o, "first_cmp", (double)j->bins.first_cmp);
+      cJSON_AddNumberToObject(o, "max_distance_m", j->bins.max_distance_m);
+    }
+    bad |= add_str(r, "velocity", j->velocity);
+    o = cJSON_AddObjectToObject(r, "moveout");
+    if (o) {
+      cJSON_AddNumberToObject(o, "stretch_limit_pct", j->stretch_limit_pct);
+      add_str(o, "interpolation", job_interp_name(j->interpolation));
+      cJSON_AddBoolToObject(o, "fourth_order", j->fourth_order);
+      cJSON_AddNumberToObject(o, "stretch_taper_ms", j->stretch_taper_ms);
+    }
+    o = cJSON_AddObjectToObject(r, "mute");
+    if (o) {
+      cJSON *t = cJSON_AddArrayToObject(o, "top");
+      for (size_t i = 0; t && i < j->nmute; i++) {
+        double pair[2] = { j->mute_top[i].offset_m, j->mute_top[i].time_ms };
+        cJSON_AddItemToArray(t, cJSON_CreateDoubleArray(pair, 2));
+      }
+      cJSON_AddNumberToObject(o, "taper_ms", j->mute_taper_ms);
+    }
+    o = cJSON_AddObjectToObject(r, "selection");
+    if (o) {
+      if (j->has_cmp_range) {
+        cJSON_AddNumberToObject(o, "cmp_first", (double)j->cmp_first);
+        cJSON_AddNumberToObject(o, "cmp_last", (double)j->cmp_last);
+      } else {
+        cJSON_AddNullToObject(o, "cmp_first");
+        cJSON_AddNullToObject(o, "cmp_last");
+      }
+      cJSON_AddNumberToObject(o, "offset_min_m", j->offset_min_m);
+      if (isfinite(j->offset_max_m)) cJSON_AddNumberToObject(o, "offset_max_m", j->offset_max_m);
+      else cJSON_AddNullToObject(o, "offset_max_m");
+    }
+    o = cJSON_AddObjectToObject(r, "output");
+    if (o) {
+      add_str(o, "section", j->section);
+      add_str(o, "report", j->report);
+      add_str(o, "sample_format", j->sample_format == JOB_FORMAT_IBM ? "ibm" : "ieee");
+    }
+    cJSON_AddNumberToObject(r, "threads", j->threads);
+    cJSON_AddBoolToObject(r, "skip_bad_files", j->skip_bad_files);
+  }
+  char *s = bad ? NULL : cJSON_PrintUnformatted(r);
+  cJSON_Delete(r);
+  if (!s)
+    return tz_fail(err, TZ_E_NOMEM, "resolved job JSON");
+  *out = s;
+  return TZ_OK;
+}
