@@ -1,0 +1,226 @@
+/* stack.h -- from a resolved job to CMP gathers and a live-fold stacked section.
+ *
+ * Three steps, each usable on its own:
+ *   stack_plan_build()  the header pass: seek-only over every shot file (trace
+ *                       headers, never samples): geometry, processing line, CMP of
+ *                       every trace, skip reasons, fold and offsets per CMP, the
+ *                       sample axis. Cheap, and the same for every rerun of a line.
+ *   stack_run()         the data pass: one streaming read of the traces in input
+ *                       order, NMO with the CMP's own velocity function (sampled
+ *                       once per CMP), top and stretch mutes, live-weighted sum per
+ *                       CMP, division by the live weight. Memory is about the size
+ *                       of the output section, whatever the number of shots.
+ *   stack_collect()     the traces of chosen CMPs (semblance, `tzero nmo`): one
+ *                       header scan per shot file, then only those traces are read.
+ *
+ * Threads: stack_run() partitions CMPs among threads (CMP index modulo the thread
+ * count); every CMP is summed by one thread, in input order, with the same float
+ * operations, so the section is bitwise identical for any thread count.
+ *
+ * A plan is read-only after it is built and may be shared by threads (each
+ * stack_run / stack_collect call owns its own file handles and buffers).
+ */
+#ifndef TZERO_STACK_H
+#define TZERO_STACK_H
+
+#include <stddef.h>
+#include <stdint.h>
+#include "tzero/error.h"
+#include "tzero/job.h"
+#include "tzero/nmo.h"
+#include "tzero/segy.h"
+#include "tzero/velocity.h"
+
+#define STACK_MAX_CMPS 2000000          /* CMPs one section may span */
+#define STACK_MAX_GATHER_TRACES 1000000 /* traces stack_collect may return */
+
+/* Why a trace did not go into the stack. Counted, never silent. */
+enum stack_skip {
+  STACK_SKIP_DEAD = 0,       /* trace kind 2 (dead) or 3 (dummy) */
+  STACK_SKIP_AUXILIARY,      /* trace kinds that are not seismic data (time break,
+                              * uphole, sweep, timing, water break, gun signature,
+                              * vibrator signals, other) */
+  STACK_SKIP_OFF_LINE,       /* midpoint farther off the processing line than allowed */
+  STACK_SKIP_CMP_RANGE,      /* CMP outside the selected range */
+  STACK_SKIP_OFFSET,         /* |offset| outside the offset limits */
+  STACK_SKIP_SAMPLE_AXIS,    /* sample interval, count or delay differs from the section */
+  STACK_SKIP_UNREADABLE,     /* header or geometry could not be read for this trace */
+  STACK_SKIP_BAD_FILE,       /* in a shot file skipped as missing or corrupt */
+  STACK_SKIP__COUNT
+};
+const char *stack_skip_name(int reason);   /* "dead", "auxiliary", ... (snake_case) */
+
+/* Progress callback: called from the calling thread between batches. */
+typedef void (*stack_progress_fn)(void *ctx, int64_t traces_done, int64_t traces_total);
+
+/* ---- the plan (header pass) ---- */
+
+typedef struct stack_plan stack_plan;
+
+/* One input file as the header pass saw it. */
+typedef struct stack_input {
+  const char *path;          /* borrowed from the job */
+  int64_t bytes;             /* file size (-1 when missing) */
+  int64_t traces;            /* traces in the file (0 when unreadable) */
+  int bad;                   /* 1 = skipped as missing or corrupt (skip_bad_files) */
+  char error[600];           /* why, when bad (formatted tz_err) */
+} stack_input;
+
+/* What the plan resolved about the processing line. */
+typedef struct stack_line_info {
+  double origin_x_m, origin_y_m, azimuth_deg, size_m;
+  int32_t first_cmp;               /* CMP numbering (bin centred on the origin) */
+  int fitted;                      /* 1 = fitted through the midpoints */
+  int from_layout;                 /* 1 = from the layout (tzero synth numbering) */
+  double fit_rms_off_line_m;       /* when fitted */
+  double max_off_line_m;           /* 0 = no limit */
+} stack_line_info;
+
+/* Builds the plan from a resolved job: opens the geometry source (headers, layout
+ * or table), finds or fits the processing line, and scans every shot file's trace
+ * headers. A missing or corrupt shot file is an error naming it (and the byte
+ * offset) unless job->skip_bad_files, then it is listed as bad. The job is
+ * borrowed and must outlive the plan. progress may be NULL. On success *out owns
+ * the plan: stack_plan_free(). */
+int stack_plan_build(stack_plan **out, const job_spec *job, stack_progress_fn progress,
+                     void *ctx, tz_err *err);
+void stack_plan_free(stack_plan *p);       /* NULL is a no-op */
+
+const job_spec *stack_plan_job(const stack_plan *p);
+/* The section's sample axis (from the first readable shot file). */
+nmo_axis stack_plan_axis(const stack_plan *p);
+uint32_t stack_plan_interval_us(const stack_plan *p);
+/* CMP range of the section: the job's selection if given, else the CMPs with
+ * fold > 0. */
+int32_t stack_plan_first_cmp(const stack_plan *p);
+int32_t stack_plan_last_cmp(const stack_plan *p);
+size_t stack_plan_ncmps(const stack_plan *p);
+/* Fold and offsets of one CMP from the header pass (before mutes). */
+typedef struct stack_cmp_plan {
+  int32_t cmp;
+  double x_m, y_m;           /* bin centre */
+  int64_t fold;              /* traces that will be stacked */
+  double offset_min_m, offset_max_m;   /* |offset| range; 0 when fold is 0 */
+} stack_cmp_plan;
+void stack_plan_cmp(const stack_plan *p, int32_t cmp, stack_cmp_plan *out);
+/* Nominal fold N dg / (2 ds) (REFERENCE.md §3.9): from the layout, else estimated
+ * from the headers (median channels per shot, receiver and shot spacing). */
+double stack_plan_nominal_fold(const stack_plan *p);
+stack_line_info stack_plan_line(const stack_plan *p);
+size_t stack_plan_ninputs(const stack_plan *p);
+const stack_input *stack_plan_input(const stack_plan *p, size_t i);
+int64_t stack_plan_traces(const stack_plan *p);            /* all traces read */
+int64_t stack_plan_stackable(const stack_plan *p);         /* traces that will be stacked */
+int64_t stack_plan_skipped(const stack_plan *p, int reason);
+/* The job's NMO parameters and top mute in nmo.h form. */
+int stack_plan_nmo(const stack_plan *p, nmo_params *np, nmo_top_mute *mute, tz_err *err);
+/* Locates one trace (header as read) the way the plan does: returns 1 and fills
+ * *cmp and *offset_abs_m when it would be stacked, 0 and *reason when skipped. */
+int stack_plan_classify(const stack_plan *p, const segy_trace_header *h, int64_t trace,
+                        int32_t *cmp, double *offset_abs_m, double *offset_signed_m,
+                        int *reason);
+
+/* ---- the data pass ---- */
+
+typedef struct stack_run_opts {
+  const velocity_table *velocity;  /* borrowed, required */
+  nmo_params nmo;                  /* stack_run_opts_init() takes them from the job */
+  nmo_top_mute mute;
+  int threads;                     /* 0 = the machine's online cores */
+  int32_t first_cmp, last_cmp;     /* sub-range of the plan's range (init: the whole) */
+  double offset_class_m;           /* width of the mute-statistics offset classes
+                                    * (init: section's max offset / 8, >= 1 m) */
+  stack_progress_fn progress;      /* may be NULL */
+  void *progress_ctx;
+} stack_run_opts;
+
+int stack_run_opts_init(stack_run_opts *o, const stack_plan *p, const velocity_table *v,
+                        tz_err *err);
+
+#define STACK_MUTE_CLASSES 16
+
+/* Per-CMP results. */
+typedef struct stack_cmp_result {
+  int32_t cmp;
+  double x_m, y_m;
+  int32_t fold;                  /* traces stacked */
+  double offset_min_m, offset_max_m;
+  double live_fraction;          /* live samples / (fold * ns); 0 when fold is 0 */
+  double full_fold_ms;           /* earliest time from which every trace of the CMP is
+                                  * live (mutes no longer reduce the fold); NAN when
+                                  * the fold is never reached or is 0 */
+} stack_cmp_result;
+
+typedef struct stack_mute_class {
+  double offset_from_m, offset_to_m;
+  int64_t traces;
+  int64_t samples;               /* traces * ns */
+  int64_t muted_stretch, muted_top, muted_end;
+} stack_mute_class;
+
+typedef struct stack_section {
+  nmo_axis axis;
+  uint32_t interval_us;
+  int32_t first_cmp;
+  size_t ncmps;
+  float *samples;                /* ncmps * axis.ns, CMP-major; owned */
+  stack_cmp_result *cmps;        /* ncmps; owned */
+  int64_t traces_read;           /* every trace of every readable input */
+  int64_t traces_stacked;
+  int64_t skipped[STACK_SKIP__COUNT];
+  int64_t bytes_read;            /* input bytes of the files read */
+  /* mute statistics over all stacked traces */
+  int64_t samples_total, muted_stretch, muted_top, muted_end;
+  size_t nclasses;
+  stack_mute_class classes[STACK_MUTE_CLASSES];
+  double offset_class_m;
+  int threads;                   /* threads used */
+  double elapsed_s;              /* wall time of the data pass */
+} stack_section;
+
+/* Stacks the plan's traces (or the CMP sub-range of opts). On success *out owns
+ * the section: stack_section_free(). Reading errors stop the run naming the file,
+ * trace and byte offset. */
+int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out, tz_err *err);
+void stack_section_free(stack_section *s);   /* NULL is a no-op */
+
+/* Writes the section as SEG-Y rev 1 (docs/tzero-stack.1): one trace per CMP in
+ * CMP order; CMP number (21-24), CMP X/Y (181-188) with coordinate scalar
+ * (71-72), fold (33-34), trace kind 1 (2 for zero fold), offset 0; binary
+ * header sorting code 4, ensemble fold = nominal fold. format_code 5 or 1.
+ * Written under a temporary name, renamed on success. */
+int stack_section_write(const stack_section *s, const stack_plan *p, const char *path,
+                        int format_code, tz_err *err);
+
+/* ---- gathers of chosen CMPs ---- */
+
+typedef struct stack_gather {
+  int32_t cmp;
+  double x_m, y_m;               /* bin centre */
+  size_t ntraces;                /* sorted by |offset|, then input order */
+  double *offset_m;              /* |offset| per trace */
+  double *offset_signed_m;       /* SEG-Y signed offset per trace */
+  segy_trace_header *headers;    /* as read, per trace */
+  float *samples;                /* ntraces * axis.ns */
+} stack_gather;
+
+typedef struct stack_gathers {
+  nmo_axis axis;
+  uint32_t interval_us;
+  size_t n;                      /* as requested (sorted, duplicates removed) */
+  stack_gather *g;
+} stack_gathers;
+
+/* Collects the traces of `cmps` (any order; duplicates ignored). CMPs without
+ * traces give empty gathers. On success *out owns the gathers:
+ * stack_gathers_free(). */
+int stack_collect(const stack_plan *p, const int32_t *cmps, size_t ncmps, stack_gathers **out,
+                  tz_err *err);
+void stack_gathers_free(stack_gathers *g);   /* NULL is a no-op */
+
+/* Parses a CMP list: "250", "200,250,300", "200-300", "200-900:50" and commas
+ * between any of these. On success *out owns a sorted array without duplicates
+ * (free()). TZ_E_ARG with the offending item named. At most STACK_MAX_CMPS. */
+int stack_parse_cmp_list(const char *s, int32_t **out, size_t *n, tz_err *err);
+
+#endif
