@@ -49,13 +49,15 @@ typedef struct segy_trace_header {
   int16_t delay_ms;          /* 109-110 delay recording time (scaled by 215-216 on read) */
   int16_t mute_start_ms;     /* 111-112 */
   int16_t mute_end_ms;       /* 113-114 */
-  uint32_t samples;          /* 115-116 (u16), or rev 2 extension 137-140 */
-  uint32_t interval_us;      /* 117-118 (u16) */
+  uint32_t samples;          /* 115-116 (u16), or rev 2 extension 137-140; on read, the
+                              * count actually delivered (0 in the file: the file's) */
+  uint32_t interval_us;      /* 117-118 (u16); on read 0 is replaced by the file's */
   double cmp_x, cmp_y;       /* 181-188 scaled by coord_scalar */
   int32_t inline_no;         /* 189-192 */
   int32_t crossline_no;      /* 193-196 */
   int32_t shotpoint;         /* 197-200 */
   int16_t shotpoint_scalar;  /* 201-202 */
+  int16_t time_scalar;       /* 215-216 scalar for the times 95-114, as stored (0 means 1) */
   unsigned char raw[SEGY_TRACE_HEADER_BYTES]; /* the bytes as read, for pass-through */
 } segy_trace_header;
 
@@ -116,6 +118,8 @@ typedef struct segy_open_opts {
   int byte_order;                  /* SEGY_ORDER_AUTO (default) or forced */
   int format_code;                 /* 0 = from the binary header, else forced */
   const segy_header_map *map;      /* borrowed; NULL for the standard positions */
+  int allow_partial;               /* 1: a truncated last trace is ignored with a warning
+                                    * instead of being an error */
 } segy_open_opts;
 
 typedef struct segy_file segy_file;

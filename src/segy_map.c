@@ -1,0 +1,309 @@
+/* segy_map.c -- the trace header field table: decode, encode, header maps.
+ *
+ * One const table lists every decoded field with its standard byte position,
+ * width and how it is scaled (REFERENCE.md §1.5, after SEG-Y rev 1 [R1]).
+ * Decoding, encoding and the JSON header map all walk that table, so a field
+ * is described once. A header map overrides the position and width of named
+ * fields (and may mark a slot as holding an IEEE float, REFERENCE.md §5.12).
+ *
+ * Not here: the file structure (segy_read.c), sample conversion (segy_conv.c).
+ */
+#include <cJSON.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "segy_priv.h"
+#include "tzero/fileio.h"
+
+#define F(name, byte, width, kind) \
+  { #name, byte, width, kind, offsetof(segy_trace_header, name) }
+
+/* Scalars come first: decoding the others needs them. */
+const segy_field segy_fields[] = {
+  F(elev_scalar, 69, 2, SEGY_K_I16),
+  F(coord_scalar, 71, 2, SEGY_K_I16),
+  F(time_scalar, 215, 2, SEGY_K_I16),
+  F(line_seq, 1, 4, SEGY_K_I32),
+  F(file_seq, 5, 4, SEGY_K_I32),
+  F(field_record, 9, 4, SEGY_K_I32),
+  F(channel, 13, 4, SEGY_K_I32),
+  F(source_point, 17, 4, SEGY_K_I32),
+  F(cmp, 21, 4, SEGY_K_I32),
+  F(cmp_trace, 25, 4, SEGY_K_I32),
+  F(kind, 29, 2, SEGY_K_I16),
+  F(vertical_sum, 31, 2, SEGY_K_I16),
+  F(stacked_traces, 33, 2, SEGY_K_I16),
+  F(data_use, 35, 2, SEGY_K_I16),
+  F(offset, 37, 4, SEGY_K_RAW),
+  F(receiver_elev, 41, 4, SEGY_K_ELEV),
+  F(source_elev, 45, 4, SEGY_K_ELEV),
+  F(source_depth, 49, 4, SEGY_K_ELEV),
+  F(receiver_datum, 53, 4, SEGY_K_ELEV),
+  F(source_datum, 57, 4, SEGY_K_ELEV),
+  F(source_water_depth, 61, 4, SEGY_K_ELEV),
+  F(receiver_water_depth, 65, 4, SEGY_K_ELEV),
+  F(source_x, 73, 4, SEGY_K_COORD),
+  F(source_y, 77, 4, SEGY_K_COORD),
+  F(receiver_x, 81, 4, SEGY_K_COORD),
+  F(receiver_y, 85, 4, SEGY_K_COORD),
+  F(coord_units, 89, 2, SEGY_K_I16),
+  F(delay_ms, 109, 2, SEGY_K_TIME),
+  F(mute_start_ms, 111, 2, SEGY_K_TIME),
+  F(mute_end_ms, 113, 2, SEGY_K_TIME),
+  F(samples, 115, 2, SEGY_K_U16),
+  F(interval_us, 117, 2, SEGY_K_U16),
+  F(cmp_x, 181, 4, SEGY_K_COORD),
+  F(cmp_y, 185, 4, SEGY_K_COORD),
+  F(inline_no, 189, 4, SEGY_K_I32),
+  F(crossline_no, 193, 4, SEGY_K_I32),
+  F(shotpoint, 197, 4, SEGY_K_I32),
+  F(shotpoint_scalar, 201, 2, SEGY_K_I16),
+};
+#undef F
+const size_t segy_nfields = sizeof segy_fields / sizeof segy_fields[0];
+
+const segy_field *segy_field_find(const char *name)
+{
+  for (size_t i = 0; i < segy_nfields; i++)
+    if (!strcmp(segy_fields[i].name, name))
+      return &segy_fields[i];
+  return NULL;
+}
+
+static double scaled(double v, int16_t scalar)
+{
+  if (scalar > 0)
+    return v * scalar;
+  if (scalar < 0)
+    return v / -(double)scalar;
+  return v;
+}
+
+static int16_t clamp16(double v)
+{
+  v = nearbyint(v);
+  return (int16_t)(v > INT16_MAX ? INT16_MAX : v < INT16_MIN ? INT16_MIN : v);
+}
+
+static int32_t clamp32(double v)
+{
+  v = nearbyint(v);
+  return (int32_t)(v > INT32_MAX ? INT32_MAX : v < INT32_MIN ? INT32_MIN : v);
+}
+
+static void set_field(segy_trace_header *h, const segy_field *fd, double v, int is_float)
+{
+  char *m = (char *)h + fd->off;
+  switch (fd->kind) {
+  case SEGY_K_I32: {
+    int32_t x = clamp32(v);
+    memcpy(m, &x, sizeof x);
+    break;
+  }
+  case SEGY_K_I16: {
+    int16_t x = clamp16(v);
+    memcpy(m, &x, sizeof x);
+    break;
+  }
+  case SEGY_K_TIME: {
+    int16_t x = clamp16(scaled(v, h->time_scalar));
+    memcpy(m, &x, sizeof x);
+    break;
+  }
+  case SEGY_K_U16: {
+    uint32_t x = v < 0 ? 0 : v > UINT32_MAX ? UINT32_MAX : (uint32_t)v;
+    memcpy(m, &x, sizeof x);
+    break;
+  }
+  case SEGY_K_RAW:
+    memcpy(m, &v, sizeof v);
+    break;
+  case SEGY_K_ELEV:
+  case SEGY_K_COORD: {
+    double x = is_float ? v : scaled(v, fd->kind == SEGY_K_ELEV ? h->elev_scalar
+                                                                : h->coord_scalar);
+    memcpy(m, &x, sizeof x);
+    break;
+  }
+  }
+}
+
+void segy_header_decode(const unsigned char *raw, int order, const segy_header_map *map,
+                        segy_trace_header *h)
+{
+  memset(h, 0, sizeof *h);
+  memcpy(h->raw, raw, SEGY_TRACE_HEADER_BYTES);
+  for (size_t i = 0; i < segy_nfields; i++) {
+    const segy_field *fd = &segy_fields[i];
+    int byte = fd->byte, width = fd->width, is_float = 0;
+    for (int k = 0; map && k < map->n; k++)
+      if (!strcmp(map->f[k].field, fd->name)) {
+        byte = map->f[k].byte;
+        width = map->f[k].width;
+        is_float = map->f[k].is_float;
+      }
+    const unsigned char *p = raw + byte - 1;
+    double v;
+    if (is_float)
+      v = bits_f32(segy_ld32(order, p));
+    else if (width == 4)
+      v = fd->kind == SEGY_K_U16 ? (double)segy_ld32(order, p)
+                                 : (double)u32_to_i32(segy_ld32(order, p));
+    else
+      v = fd->kind == SEGY_K_U16 ? (double)segy_ld16(order, p)
+                                 : (double)u16_to_i16(segy_ld16(order, p));
+    if (is_float && !isfinite(v))
+      v = 0;
+    set_field(h, fd, v, is_float);
+  }
+}
+
+/* Stored integer for a scaled value: the inverse of the scalar rule. */
+static int unscale(double v, int16_t scalar, double *out)
+{
+  double s = scalar > 0 ? v / scalar : scalar < 0 ? v * -(double)scalar : v;
+  s = nearbyint(s);
+  *out = s;
+  return isfinite(s) && s >= INT32_MIN && s <= INT32_MAX;
+}
+
+int segy_header_encode(const segy_trace_header *h, uint32_t samples, uint32_t interval_us,
+                       unsigned char *out, tz_err *err)
+{
+  memcpy(out, h->raw, SEGY_TRACE_HEADER_BYTES);
+  int16_t es = h->elev_scalar ? h->elev_scalar : -100;
+  int16_t cs = h->coord_scalar ? h->coord_scalar : -100;
+  for (size_t i = 0; i < segy_nfields; i++) {
+    const segy_field *fd = &segy_fields[i];
+    const char *m = (const char *)h + fd->off;
+    double v = 0;
+    int16_t i16;
+    int32_t i32;
+    switch (fd->kind) {
+    case SEGY_K_I32:
+      memcpy(&i32, m, sizeof i32);
+      v = i32;
+      break;
+    case SEGY_K_I16:
+      memcpy(&i16, m, sizeof i16);
+      v = !strcmp(fd->name, "elev_scalar") ? es : !strcmp(fd->name, "coord_scalar") ? cs : i16;
+      break;
+    case SEGY_K_TIME:
+      memcpy(&i16, m, sizeof i16);
+      unscale(i16, h->time_scalar, &v);
+      break;
+    case SEGY_K_U16:
+      v = !strcmp(fd->name, "samples") ? samples : interval_us;
+      break;
+    case SEGY_K_RAW:
+    case SEGY_K_ELEV:
+    case SEGY_K_COORD: {
+      double d;
+      memcpy(&d, m, sizeof d);
+      if (!unscale(d, fd->kind == SEGY_K_RAW ? 1 : fd->kind == SEGY_K_ELEV ? es : cs, &v))
+        return tz_fail(err, TZ_E_ARG,
+                       "%s = %g does not fit trace header bytes %d-%d with scalar %d",
+                       fd->name, d, fd->byte, fd->byte + 3,
+                       fd->kind == SEGY_K_RAW ? 1 : fd->kind == SEGY_K_ELEV ? es : cs);
+      break;
+    }
+    }
+    unsigned char *p = out + fd->byte - 1;
+    if (fd->width == 4)
+      be32_store(p, (uint32_t)(int32_t)v);
+    else if (fd->kind == SEGY_K_U16)
+      be16_store(p, (uint16_t)v);
+    else
+      be16_store(p, (uint16_t)clamp16(v));
+  }
+  return TZ_OK;
+}
+
+/* ---- header map (JSON) ---- */
+
+int segy_header_map_parse(segy_header_map *map, const char *json, const char *name,
+                          tz_err *err)
+{
+  const char *end = NULL;
+  memset(map, 0, sizeof *map);
+  cJSON *root = cJSON_ParseWithOpts(json, &end, 1);
+  int rc = TZ_OK;
+  if (!root) {
+    tz_err_path(err, name);
+    return tz_fail_at(err, TZ_E_FORMAT, -1, end ? (int64_t)(end - json) : -1,
+                      "header map is not valid JSON");
+  }
+  if (!cJSON_IsObject(root)) {
+    rc = tz_fail(err, TZ_E_FORMAT, "header map: expected a JSON object of fields");
+    goto done;
+  }
+  for (const cJSON *it = root->child; it; it = it->next) {
+    const segy_field *fd = segy_field_find(it->string);
+    if (!fd) {
+      rc = tz_fail(err, TZ_E_FORMAT, "header map: $.%s: unknown trace header field",
+                   it->string);
+      goto done;
+    }
+    if (!cJSON_IsObject(it)) {
+      rc = tz_fail(err, TZ_E_FORMAT, "header map: $.%s: expected an object with byte and width",
+                   it->string);
+      goto done;
+    }
+    if (map->n >= (int)(sizeof map->f / sizeof map->f[0])) {
+      rc = tz_fail(err, TZ_E_FORMAT, "header map: too many fields");
+      goto done;
+    }
+    segy_field_override *o = &map->f[map->n];
+    snprintf(o->field, sizeof o->field, "%s", fd->name);
+    o->byte = 0;
+    o->width = fd->width;
+    for (const cJSON *k = it->child; k; k = k->next) {
+      if (!strcmp(k->string, "byte") && cJSON_IsNumber(k) && k->valuedouble == floor(k->valuedouble))
+        o->byte = (int)k->valuedouble;
+      else if (!strcmp(k->string, "width") && cJSON_IsNumber(k))
+        o->width = (int)k->valuedouble;
+      else if (!strcmp(k->string, "float") && cJSON_IsBool(k))
+        o->is_float = cJSON_IsTrue(k);
+      else {
+        rc = tz_fail(err, TZ_E_FORMAT,
+                     "header map: $.%s.%s: unknown key or wrong type (byte: integer, "
+                     "width: 2 or 4, float: true/false)", it->string, k->string);
+        goto done;
+      }
+    }
+    if (o->width != 2 && o->width != 4) {
+      rc = tz_fail(err, TZ_E_FORMAT, "header map: $.%s.width: must be 2 or 4", it->string);
+      goto done;
+    }
+    if (o->is_float && o->width != 4) {
+      rc = tz_fail(err, TZ_E_FORMAT, "header map: $.%s: a float slot is 4 bytes wide",
+                   it->string);
+      goto done;
+    }
+    if (o->byte < 1 || o->byte + o->width - 1 > SEGY_TRACE_HEADER_BYTES) {
+      rc = tz_fail(err, TZ_E_FORMAT, "header map: $.%s.byte: must be 1..%d for width %d",
+                   it->string, SEGY_TRACE_HEADER_BYTES - o->width + 1, o->width);
+      goto done;
+    }
+    map->n++;
+  }
+done:
+  if (rc)
+    tz_err_path(err, name);
+  cJSON_Delete(root);
+  return rc;
+}
+
+int segy_header_map_load(segy_header_map *map, const char *path, tz_err *err)
+{
+  char *text = NULL;
+  size_t len = 0;
+  int rc = fileio_read_all(path, 1u << 20, &text, &len, err);
+  if (rc)
+    return rc;
+  rc = segy_header_map_parse(map, text, path, err);
+  free(text);
+  return rc;
+}

@@ -1,0 +1,641 @@
+/* segy_read.c -- opening SEG-Y rev 0/1/2 files and reading their traces.
+ *
+ * segy_open() reads the 3600 bytes of file headers, detects the textual
+ * header's character set and the byte order, parses the revision leniently,
+ * skips extended textual headers, then settles the sample count and interval
+ * (binary header first, the first trace header as fallback, REFERENCE.md
+ * §5.1) and the trace count: by arithmetic for fixed-length files, by a walk
+ * over the trace headers (lengths from bytes 115-116) otherwise.
+ *
+ * Traces are read through a per-handle window (allocated once at open) with
+ * pread(): a sequential pass makes one large read per window and no seeks,
+ * and each trace is converted straight out of the window. Header-only access
+ * reads just the header bytes, skipping the samples.
+ *
+ * Thread rule: one handle per thread; handles share nothing.
+ * Not here: sample conversion (segy_conv.c), header fields (segy_map.c),
+ * the writer (segy_write.c).
+ */
+#include <errno.h>
+#include <fcntl.h>
+#include <math.h>
+#include <stdarg.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include "segy_priv.h"
+
+#define WINDOW_BYTES (1u << 20)
+#define MAX_EXTENDED_TEXT 100000   /* 3200-byte records: over 300 MB of text is absurd */
+#define MAX_HEADER_EXTENSIONS 1000
+
+struct segy_file {
+  int fd;
+  int order;
+  segy_info info;
+  segy_header_map map;
+  int has_map;
+  int ext;                  /* trace header extension blocks per trace */
+  size_t hdr_bytes;         /* 240 * (1 + ext) */
+  int64_t trace_bytes;      /* fixed-length: header + samples */
+  int64_t data_end;         /* end of the trace data (before rev 2 trailers) */
+  int64_t *toff;            /* variable-length: offset of each trace, else NULL */
+  uint32_t *tns;            /* variable-length: samples of each trace */
+  int check_ns;             /* a different 115-116 in a fixed-length file is an error */
+  char *path;
+  unsigned char *scratch;   /* little-endian / pair-swapped files: bytes reordered here */
+  unsigned char *win;       /* read window */
+  size_t wincap;
+  int64_t winoff;           /* file offset of win[0] */
+  size_t winlen;            /* valid bytes in the window */
+  int64_t bad;
+};
+
+static void warn(segy_info *in, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
+static void warn(segy_info *in, const char *fmt, ...)
+{
+  int n = (int)(sizeof in->warnings / sizeof in->warnings[0]);
+  if (in->nwarnings >= n)
+    return;
+  va_list ap;
+  va_start(ap, fmt);
+  vsnprintf(in->warnings[in->nwarnings++], sizeof in->warnings[0], fmt, ap);
+  va_end(ap);
+}
+
+/* Reads exactly n bytes at off; a short read is a malformed (truncated) file. */
+static int read_at(segy_file *f, int64_t off, void *buf, size_t n, int64_t trace, tz_err *err)
+{
+  size_t got = 0;
+  while (got < n) {
+    ssize_t k = pread(f->fd, (char *)buf + got, n - got, (off_t)(off + (int64_t)got));
+    if (k < 0) {
+      if (errno == EINTR)
+        continue;
+      return tz_fail_os(err, TZ_E_IO, errno, "read failed at byte %lld",
+                        (long long)(off + (int64_t)got));
+    }
+    if (k == 0)
+      return tz_fail_at(err, TZ_E_FORMAT, trace, off + (int64_t)got,
+                        "file ends %zu bytes early (truncated)", n - got);
+    got += (size_t)k;
+  }
+  return TZ_OK;
+}
+
+/* Returns a pointer to bytes [off, off+n) through the window, refilling it
+ * with one large read when needed. n must be <= f->wincap. */
+static const unsigned char *window(segy_file *f, int64_t off, size_t n, int64_t trace,
+                                   tz_err *err)
+{
+  if (off >= f->winoff && off + (int64_t)n <= f->winoff + (int64_t)f->winlen)
+    return f->win + (off - f->winoff);
+  size_t want = f->wincap;
+  if ((int64_t)want > f->info.file_bytes - off)
+    want = (size_t)(f->info.file_bytes - off);
+  if (want < n)
+    want = n;
+  f->winlen = 0;
+  if (read_at(f, off, f->win, want, trace, err))
+    return NULL;
+  f->winoff = off;
+  f->winlen = want;
+  return f->win;
+}
+
+static int detect_order(const unsigned char *bin)
+{
+  uint32_t c = be32_load(bin + 96);                 /* 3297-3300 */
+  if (c == 0x01020304u)
+    return SEGY_ORDER_BIG;
+  if (c == 0x04030201u)
+    return SEGY_ORDER_LITTLE;
+  if (c == 0x02010403u)
+    return SEGY_ORDER_PAIRS;
+  /* No constant: the format code (3225-3226) read both ways (REFERENCE.md §5.4). */
+  int be = u16_to_i16(be16_load(bin + 24)), le = u16_to_i16(le16_load(bin + 24));
+  if (segy_format_bytes(be) || be == 4)
+    return SEGY_ORDER_BIG;
+  if (segy_format_bytes(le) || le == 4)
+    return SEGY_ORDER_LITTLE;
+  return SEGY_ORDER_BIG;
+}
+
+/* Revision 3501-3502: rev 2 major/minor bytes, rev 1 0x0100, and the odd
+ * encodings seen in the wild (1, 100), REFERENCE.md §5.10. Never fatal. */
+static void parse_revision(segy_info *in, int order)
+{
+  const unsigned char *p = in->binary + 300;
+  in->revision_raw = be16_load(p);
+  uint16_t file = segy_ld16(order, p);
+  if (p[0] == 1 || p[0] == 2) {
+    in->revision_major = p[0];
+    in->revision_minor = p[1];
+  } else if (file == 0x0100 || file == 0x0200) {
+    in->revision_major = file >> 8;
+  } else if (file == 1 || file == 100) {
+    in->revision_major = 1;
+  } else {
+    if (in->revision_raw)
+      warn(in, "revision field (bytes 3501-3502) holds 0x%04x; read as rev 0",
+           in->revision_raw);
+    in->revision_major = 0;
+  }
+}
+
+static int16_t bin16(const segy_file *f, int pos) { return u16_to_i16(segy_ld16(f->order, f->info.binary + pos - 3201)); }
+static uint16_t binu16(const segy_file *f, int pos) { return segy_ld16(f->order, f->info.binary + pos - 3201); }
+static int32_t bin32(const segy_file *f, int pos) { return u32_to_i32(segy_ld32(f->order, f->info.binary + pos - 3201)); }
+static uint64_t bin64(const segy_file *f, int pos) { return segy_ld64(f->order, f->info.binary + pos - 3201); }
+
+/* Extended textual headers: returns the count, or -1 after filling err. */
+static int extended_text(segy_file *f, tz_err *err)
+{
+  segy_info *in = &f->info;
+  if (in->revision_major < 1)
+    return 0;
+  int n = bin16(f, 3505);
+  if (n == 0)
+    return 0;
+  if (n > 0) {
+    if (3600 + 3200 * (int64_t)n > in->file_bytes) {
+      tz_fail_at(err, TZ_E_FORMAT, -1, 3504,
+                 "%d extended textual header records (bytes 3505-3506) do not fit in a "
+                 "%lld-byte file", n, (long long)in->file_bytes);
+      return -1;
+    }
+    return n;
+  }
+  if (n != -1) {
+    tz_fail_at(err, TZ_E_FORMAT, -1, 3504,
+               "extended textual header count %d (bytes 3505-3506) is not -1, 0 or positive", n);
+    return -1;
+  }
+  /* -1: records up to and including the one with ((SEG: EndText)). */
+  unsigned char rec[SEGY_TEXT_BYTES];
+  char txt[SEGY_TEXT_BYTES + 1];
+  for (int k = 0; k < MAX_EXTENDED_TEXT; k++) {
+    int64_t off = 3600 + 3200 * (int64_t)k;
+    if (off + 3200 > in->file_bytes)
+      break;
+    if (read_at(f, off, rec, sizeof rec, -1, err))
+      return -1;
+    segy_text_decode(rec, sizeof rec, segy_text_detect(rec, sizeof rec), txt);
+    if (strstr(txt, "((SEG: EndText))") || strstr(txt, "((SEG:EndText))"))
+      return k + 1;
+  }
+  tz_fail_at(err, TZ_E_FORMAT, -1, 3600,
+             "variable extended textual header (bytes 3505-3506 = -1) has no "
+             "((SEG: EndText)) record");
+  return -1;
+}
+
+static int check_samples(const segy_file *f, uint32_t ns, int64_t trace, int64_t byte,
+                         tz_err *err)
+{
+  if (ns > SEGY_MAX_SAMPLES)
+    return tz_fail_at(err, TZ_E_FORMAT, trace, byte,
+                      "%u samples per trace is beyond the limit of %u", ns, SEGY_MAX_SAMPLES);
+  (void)f;
+  return TZ_OK;
+}
+
+/* Sample count of the trace whose header bytes are at h (rev 2 extension
+ * 137-140 first when present), 0 if unset. */
+static uint32_t header_samples(const segy_file *f, const unsigned char *h)
+{
+  if (f->ext > 0) {
+    uint32_t x = segy_ld32(f->order, h + 240 + 136);
+    if (x)
+      return x;
+  }
+  return segy_ld16(f->order, h + 114);
+}
+
+/* Walks the traces of a variable-length file. */
+static int walk(segy_file *f, tz_err *err)
+{
+  segy_info *in = &f->info;
+  size_t cap = 0;
+  int64_t n = 0, off = in->first_trace_offset;
+  unsigned char *h = malloc(f->hdr_bytes);
+  if (!h)
+    return tz_fail(err, TZ_E_NOMEM, "trace header buffer");
+  int rc = TZ_OK;
+  int same = 1;
+  uint32_t maxns = 0;
+  while (off < f->data_end) {
+    if (f->data_end - off < (int64_t)f->hdr_bytes) {
+      rc = tz_fail_at(err, TZ_E_FORMAT, n, off,
+                      "truncated trace header: %lld bytes left, a header is %zu",
+                      (long long)(f->data_end - off), f->hdr_bytes);
+      break;
+    }
+    if ((rc = read_at(f, off, h, f->hdr_bytes, n, err)))
+      break;
+    uint32_t ns = header_samples(f, h);
+    if (!ns)
+      ns = in->samples;
+    if (!ns) {
+      rc = tz_fail_at(err, TZ_E_FORMAT, n, off + 114,
+                      "trace has 0 samples (bytes 115-116) and the binary header gives none");
+      break;
+    }
+    if ((rc = check_samples(f, ns, n, off + 114, err)))
+      break;
+    int64_t len = (int64_t)f->hdr_bytes + (int64_t)ns * in->bytes_per_sample;
+    if (off + len > f->data_end) {
+      rc = tz_fail_at(err, TZ_E_FORMAT, n, off,
+                      "truncated last trace: %lld of %lld bytes present",
+                      (long long)(f->data_end - off), (long long)len);
+      break;
+    }
+    if ((size_t)n == cap) {
+      cap = cap ? cap * 2 : 1024;
+      int64_t *a = realloc(f->toff, cap * sizeof *a);
+      if (a)
+        f->toff = a;
+      uint32_t *b = a ? realloc(f->tns, cap * sizeof *b) : NULL;
+      if (!b) {
+        rc = tz_fail(err, TZ_E_NOMEM, "trace index for %lld traces", (long long)n);
+        break;
+      }
+      f->tns = b;
+    }
+    f->toff[n] = off;
+    f->tns[n] = ns;
+    if (ns != f->tns[0])
+      same = 0;
+    if (ns > maxns)
+      maxns = ns;
+    n++;
+    off += len;
+  }
+  free(h);
+  if (rc)
+    return rc;
+  in->trace_count = n;
+  if (n && f->tns[0] != in->samples && in->samples)
+    warn(in, "binary header says %u samples per trace, the first trace %u",
+         in->samples, f->tns[0]);
+  if (n)
+    in->samples = same ? f->tns[0] : maxns;
+  if (same) {
+    in->fixed_length = 1;
+    f->trace_bytes = (int64_t)f->hdr_bytes + (int64_t)in->samples * in->bytes_per_sample;
+    free(f->toff);
+    free(f->tns);
+    f->toff = NULL;
+    f->tns = NULL;
+  } else {
+    in->fixed_length = 0;
+    warn(in, "trace lengths vary (up to %u samples)", maxns);
+  }
+  return TZ_OK;
+}
+
+/* Fixed-length trace count from the file size; picks between the binary and
+ * the first trace header's sample count when only one divides evenly. */
+static int fixed_count(segy_file *f, uint32_t alt_ns, int allow_partial, tz_err *err)
+{
+  segy_info *in = &f->info;
+  int64_t body = f->data_end - in->first_trace_offset;
+  int64_t tb = (int64_t)f->hdr_bytes + (int64_t)in->samples * in->bytes_per_sample;
+  if (body % tb && alt_ns && alt_ns != in->samples) {
+    int64_t tb2 = (int64_t)f->hdr_bytes + (int64_t)alt_ns * in->bytes_per_sample;
+    if (body % tb2 == 0) {
+      warn(in, "using the trace headers' %u samples per trace: the binary header's %u "
+               "does not match the file size", alt_ns, in->samples);
+      in->samples = alt_ns;
+      tb = tb2;
+      f->check_ns = 1;
+    }
+  }
+  f->trace_bytes = tb;
+  in->trace_count = body / tb;
+  in->trailing_bytes = body % tb;
+  if (in->trailing_bytes) {
+    int64_t at = in->first_trace_offset + in->trace_count * tb;
+    if (!allow_partial)
+      return tz_fail_at(err, TZ_E_FORMAT, in->trace_count, at,
+                        "truncated last trace: %lld of %lld bytes present",
+                        (long long)in->trailing_bytes, (long long)tb);
+    warn(in, "last trace truncated: %lld of %lld bytes ignored",
+         (long long)in->trailing_bytes, (long long)tb);
+  }
+  return TZ_OK;
+}
+
+static int settle(segy_file *f, const segy_open_opts *o, tz_err *err)
+{
+  segy_info *in = &f->info;
+  int rev2 = in->revision_major >= 2;
+
+  /* sample format */
+  int code = o && o->format_code ? o->format_code : bin16(f, 3225);
+  in->format_code = code;
+  in->bytes_per_sample = segy_format_bytes(code);
+  if (!in->bytes_per_sample || code == 4)
+    return tz_fail_at(err, TZ_E_FORMAT, -1, 3224,
+                      "unknown sample format code %d (bytes 3225-3226)%s", code,
+                      code == 4 ? ": fixed point with gain is obsolete and not read" : "");
+
+  /* header blocks */
+  in->sorting_code = bin16(f, 3229);
+  in->ensemble_fold = bin16(f, 3227);
+  in->measurement_system = bin16(f, 3255);
+  in->job_id = bin32(f, 3201);
+  in->line_no = bin32(f, 3205);
+  in->reel_no = bin32(f, 3209);
+  in->traces_per_ensemble = bin16(f, 3213);
+  in->aux_per_ensemble = bin16(f, 3215);
+  if (rev2) {
+    int32_t k = bin32(f, 3507);
+    if (k < 0 || k > MAX_HEADER_EXTENSIONS)
+      return tz_fail_at(err, TZ_E_FORMAT, -1, 3506,
+                        "%d trace header extensions (bytes 3507-3510) is out of range", k);
+    f->ext = k;
+    if (bin32(f, 3293))
+      in->ensemble_fold = (int16_t)bin32(f, 3293);
+  }
+  in->trace_header_extensions = f->ext;
+  f->hdr_bytes = SEGY_TRACE_HEADER_BYTES * (size_t)(1 + f->ext);
+
+  /* where the traces start and end */
+  int next = extended_text(f, err);
+  if (next < 0)
+    return err->status;
+  in->extended_text_count = next;
+  in->first_trace_offset = 3600 + 3200 * (int64_t)next;
+  f->data_end = in->file_bytes;
+  if (rev2) {
+    uint64_t first = bin64(f, 3521);
+    if (first) {
+      if (first < 3600 || first > (uint64_t)in->file_bytes)
+        return tz_fail_at(err, TZ_E_FORMAT, -1, 3520,
+                          "first trace offset %llu (bytes 3521-3528) is outside the file",
+                          (unsigned long long)first);
+      in->first_trace_offset = (int64_t)first;
+    }
+    int32_t m = bin32(f, 3529);
+    if (m > 0) {
+      if (in->first_trace_offset + 3200 * (int64_t)m > in->file_bytes)
+        return tz_fail_at(err, TZ_E_FORMAT, -1, 3528,
+                          "%d data trailer records (bytes 3529-3532) do not fit in the file", m);
+      f->data_end = in->file_bytes - 3200 * (int64_t)m;
+    } else if (m < 0) {
+      warn(in, "data trailer count unknown (bytes 3529-3532 = %d); none assumed", m);
+    }
+  }
+
+  /* samples and interval: binary header, rev 2 extended fields, first trace */
+  in->bin_samples = binu16(f, 3221);
+  in->bin_interval_us = binu16(f, 3217);
+  if (rev2 && bin32(f, 3269) > 0)
+    in->bin_samples = (uint32_t)bin32(f, 3269);
+  if (rev2) {
+    double dt = bits_f64(bin64(f, 3273));
+    if (isfinite(dt) && dt > 0 && dt < 4e9)
+      in->bin_interval_us = (uint32_t)nearbyint(dt);
+  }
+  uint32_t tr_ns = 0, tr_dt = 0;
+  unsigned char h0[SEGY_TRACE_HEADER_BYTES * 2];
+  int have_first = in->first_trace_offset + (int64_t)f->hdr_bytes <= f->data_end;
+  if (have_first) {
+    size_t nb = f->hdr_bytes < sizeof h0 ? f->hdr_bytes : sizeof h0;
+    if (read_at(f, in->first_trace_offset, h0, nb, 0, err))
+      return err->status;
+    int keep = f->ext;
+    if (f->hdr_bytes > sizeof h0)
+      f->ext = 1;
+    tr_ns = header_samples(f, h0);
+    f->ext = keep;
+    tr_dt = segy_ld16(f->order, h0 + 116);
+  }
+  in->samples = in->bin_samples ? in->bin_samples : tr_ns;
+  in->interval_us = in->bin_interval_us ? in->bin_interval_us : tr_dt;
+  if (!in->samples)
+    return tz_fail_at(err, TZ_E_FORMAT, have_first ? 0 : -1,
+                      have_first ? in->first_trace_offset + 114 : 3220,
+                      "samples per trace is 0 in the binary header (bytes 3221-3222)%s",
+                      have_first ? " and in the first trace header (bytes 115-116)" :
+                                   " and there is no trace to fall back on");
+  if (!in->interval_us)
+    return tz_fail_at(err, TZ_E_FORMAT, have_first ? 0 : -1,
+                      have_first ? in->first_trace_offset + 116 : 3216,
+                      "sample interval is 0 in the binary header (bytes 3217-3218)%s",
+                      have_first ? " and in the first trace header (bytes 117-118)" :
+                                   " and there is no trace to fall back on");
+  if (check_samples(f, in->samples, -1, 3220, err))
+    return err->status;
+  if (!in->bin_samples)
+    warn(in, "binary header samples per trace is 0; using the first trace's %u", tr_ns);
+  if (!in->bin_interval_us)
+    warn(in, "binary header sample interval is 0; using the first trace's %u us", tr_dt);
+  if (in->bin_interval_us && tr_dt && tr_dt != in->bin_interval_us)
+    warn(in, "binary header says %u us sample interval, the first trace %u us",
+         in->bin_interval_us, tr_dt);
+  if (in->interval_us < 10)
+    warn(in, "sample interval %u us is implausibly small (milliseconds written as "
+             "microseconds?)", in->interval_us);
+  f->check_ns = !(in->bin_samples && tr_ns && tr_ns != in->bin_samples);
+
+  /* trace count */
+  int fixed = in->revision_major >= 1 && bin16(f, 3503) == 1;
+  int allow_partial = o && o->allow_partial;
+  if (fixed) {
+    in->fixed_length = 1;
+    if (in->bin_samples && tr_ns && tr_ns != in->bin_samples &&
+        (f->data_end - in->first_trace_offset) %
+            ((int64_t)f->hdr_bytes + (int64_t)in->samples * in->bytes_per_sample) == 0)
+      warn(in, "binary header says %u samples per trace, the first trace %u",
+           in->bin_samples, tr_ns);
+    return fixed_count(f, tr_ns, allow_partial, err);
+  }
+  tz_err werr;
+  tz_err_init(&werr);
+  if (walk(f, &werr) == TZ_OK)
+    return TZ_OK;
+  /* Rev 0 trace headers are often unreliable: fall back on the binary header
+   * when it accounts for the file size exactly. */
+  int64_t tb = (int64_t)f->hdr_bytes + (int64_t)in->samples * in->bytes_per_sample;
+  if (werr.status == TZ_E_FORMAT && (f->data_end - in->first_trace_offset) % tb == 0) {
+    free(f->toff);
+    free(f->tns);
+    f->toff = NULL;
+    f->tns = NULL;
+    f->check_ns = 0;
+    warn(in, "trace header sample counts are inconsistent; using %u samples per trace "
+             "from the binary header", in->samples);
+    in->fixed_length = 1;
+    return fixed_count(f, 0, allow_partial, err);
+  }
+  *err = werr;
+  return err->status;
+}
+
+int segy_open(segy_file **out, const char *path, const segy_open_opts *o, tz_err *err)
+{
+  segy_file *f = calloc(1, sizeof *f);
+  if (!f)
+    return tz_fail(err, TZ_E_NOMEM, "file handle");
+  f->fd = -1;
+  int rc = TZ_OK;
+  f->fd = open(path, O_RDONLY | O_CLOEXEC);
+  if (f->fd < 0) {
+    rc = tz_fail_os(err, TZ_E_NOINPUT, errno, "cannot open");
+    goto fail;
+  }
+  struct stat st;
+  if (fstat(f->fd, &st) != 0 || !S_ISREG(st.st_mode)) {
+    rc = tz_fail(err, TZ_E_NOINPUT, "not a regular file");
+    goto fail;
+  }
+  segy_info *in = &f->info;
+  in->file_bytes = (int64_t)st.st_size;
+  if (in->file_bytes < 3600) {
+    rc = tz_fail_at(err, TZ_E_FORMAT, -1, in->file_bytes,
+                    "file is %lld bytes, shorter than the 3600 bytes of SEG-Y file headers",
+                    (long long)in->file_bytes);
+    goto fail;
+  }
+  unsigned char head[3600];
+  if ((rc = read_at(f, 0, head, sizeof head, -1, err)))
+    goto fail;
+  memcpy(in->binary, head + 3200, SEGY_BINARY_BYTES);
+  in->text_encoding = segy_text_detect(head, SEGY_TEXT_BYTES);
+  segy_text_decode(head, SEGY_TEXT_BYTES, in->text_encoding, in->text);
+  f->order = o && o->byte_order ? o->byte_order : detect_order(in->binary);
+  in->byte_order = f->order;
+  parse_revision(in, f->order);
+  if (o && o->map) {
+    f->map = *o->map;
+    f->has_map = 1;
+  }
+  if ((rc = settle(f, o, err)))
+    goto fail;
+  size_t need = f->hdr_bytes + (size_t)in->samples * (size_t)in->bytes_per_sample;
+  f->wincap = need > WINDOW_BYTES ? need : WINDOW_BYTES;
+  f->win = malloc(f->wincap);
+  if (!f->win) {
+    rc = tz_fail(err, TZ_E_NOMEM, "read buffer of %zu bytes", f->wincap);
+    goto fail;
+  }
+  f->winoff = -1;
+  if (f->order == SEGY_ORDER_LITTLE || f->order == SEGY_ORDER_PAIRS) {
+    if (!(f->scratch = malloc(need))) {
+      rc = tz_fail(err, TZ_E_NOMEM, "read buffer of %zu bytes", need);
+      goto fail;
+    }
+  }
+  if (!(f->path = strdup(path))) {
+    rc = tz_fail(err, TZ_E_NOMEM, "file handle");
+    goto fail;
+  }
+  *out = f;
+  return TZ_OK;
+fail:
+  tz_err_path(err, path);
+  segy_close(f);
+  return rc;
+}
+
+void segy_close(segy_file *f)
+{
+  if (!f)
+    return;
+  if (f->fd >= 0)
+    close(f->fd);
+  free(f->toff);
+  free(f->tns);
+  free(f->win);
+  free(f->scratch);
+  free(f->path);
+  free(f);
+}
+
+const segy_info *segy_get_info(const segy_file *f) { return &f->info; }
+int64_t segy_trace_count(const segy_file *f) { return f->info.trace_count; }
+int64_t segy_bad_samples(const segy_file *f) { return f->bad; }
+
+static int64_t trace_offset(const segy_file *f, int64_t i)
+{
+  return f->toff ? f->toff[i] : f->info.first_trace_offset + i * f->trace_bytes;
+}
+
+static uint32_t trace_samples(const segy_file *f, int64_t i)
+{
+  return f->tns ? f->tns[i] : f->info.samples;
+}
+
+/* Decodes the header bytes at p for trace i at offset off and applies the
+ * file-level fallbacks and the fixed-length check. */
+static int finish_header(segy_file *f, int64_t i, int64_t off, const unsigned char *p,
+                         segy_trace_header *h, tz_err *err)
+{
+  segy_header_decode(p, f->order, f->has_map ? &f->map : NULL, h);
+  uint32_t ns = trace_samples(f, i);
+  uint32_t stored = header_samples(f, p);
+  if (f->check_ns && !f->tns && stored && stored != ns && !f->has_map) {
+    tz_err_path(err, f->path);
+    return tz_fail_at(err, TZ_E_FORMAT, i, off + 114,
+                      "trace length changes mid-file: %u samples (bytes 115-116) in a "
+                      "fixed-length file of %u", stored, ns);
+  }
+  h->samples = ns;
+  if (!h->interval_us)
+    h->interval_us = f->info.interval_us;
+  return TZ_OK;
+}
+
+static int check_index(const segy_file *f, int64_t i, tz_err *err)
+{
+  if (i < 0 || i >= f->info.trace_count)
+    return tz_fail_at(err, TZ_E_ARG, i, -1, "no such trace (the file has %lld)",
+                      (long long)f->info.trace_count);
+  return TZ_OK;
+}
+
+int segy_read_header(segy_file *f, int64_t i, segy_trace_header *h, tz_err *err)
+{
+  if (check_index(f, i, err))
+    return tz_err_path(err, f->path);
+  int64_t off = trace_offset(f, i);
+  const unsigned char *p;
+  unsigned char tmp[SEGY_TRACE_HEADER_BYTES * 2];
+  if (off >= f->winoff && off + (int64_t)f->hdr_bytes <= f->winoff + (int64_t)f->winlen)
+    p = f->win + (off - f->winoff);
+  else if (f->hdr_bytes <= sizeof tmp) {
+    if (read_at(f, off, tmp, f->hdr_bytes, i, err))
+      return tz_err_path(err, f->path);
+    p = tmp;
+  } else if (!(p = window(f, off, f->hdr_bytes, i, err)))
+    return tz_err_path(err, f->path);
+  return finish_header(f, i, off, p, h, err);
+}
+
+int segy_read_trace(segy_file *f, int64_t i, segy_trace_header *h, float *samples,
+                    size_t cap, tz_err *err)
+{
+  if (check_index(f, i, err))
+    return tz_err_path(err, f->path);
+  uint32_t ns = trace_samples(f, i);
+  if (cap < ns)
+    return tz_fail_at(err, TZ_E_ARG, i, -1, "sample buffer of %zu is too small for %u samples",
+                      cap, ns);
+  int64_t off = trace_offset(f, i);
+  size_t nbytes = (size_t)ns * (size_t)f->info.bytes_per_sample;
+  const unsigned char *p = window(f, off, f->hdr_bytes + nbytes, i, err);
+  if (!p || finish_header(f, i, off, p, h, err))
+    return tz_err_path(err, f->path);
+  unsigned char *s = (unsigned char *)p + f->hdr_bytes;  /* big-endian: left untouched */
+  if (f->scratch) {
+    memcpy(f->scratch, s, nbytes);
+    s = f->scratch;
+  }
+  f->bad += segy_decode_samples(f->info.format_code, f->order, s, ns, samples);
+  return TZ_OK;
+}
