@@ -80,7 +80,8 @@ typedef struct geometry_layout {
 
 /* Sets the defaults (every field zero except the documented defaults). */
 void geometry_layout_init(geometry_layout *l);
-/* Parses layout JSON; `name` appears in messages. Unknown keys are TZ_E_FORMAT
+/* Parses layout JSON (NUL-terminated text; len is its length for messages);
+ * `name` appears in messages. Unknown keys are TZ_E_FORMAT
  * naming the key (and the nearest known key). On success *l owns its arrays;
  * on failure *l holds nothing that needs freeing. */
 int geometry_layout_parse(geometry_layout *l, const char *json, size_t len, const char *name,
@@ -137,6 +138,9 @@ double geometry_layout_elevation(const geometry_layout *l, double along_m);
  * dir_az_deg is the shooting direction for the offset sign; NaN means unknown,
  * in which case the sign of `hint_offset` is used (positive when it is 0). */
 void geometry_derive(geometry_trace *g, double dir_az_deg, double hint_offset);
+
+/* sin and cos of an angle in degrees, exact at multiples of 90 degrees. */
+void geometry_sincos_deg(double deg, double *s, double *c);
 
 /* ---- geometry table (CSV; docs/geometry-table.md) ----
  * Header row of column names, any order: field_record, channel, source_x_m,
