@@ -16,7 +16,7 @@
 
 typedef enum {
   NMO_INTERP_LINEAR = 0,       /* 2-point linear */
-  NMO_INTERP_SINC8 = 1         /* 8-point Lanczos-windowed sinc, unit DC gain */
+  NMO_INTERP_SINC8 = 1         /* 8-point Kaiser-windowed (beta 5) sinc, unit DC gain */
 } nmo_interp;
 
 #define NMO_MAX_SAMPLES 1000000   /* largest trace a workspace accepts */

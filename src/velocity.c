@@ -1,0 +1,625 @@
+/* velocity.c -- stacking-velocity tables: parse, validate, write, sample, Dix.
+ *
+ * Design: a table is two flat arrays, one entry per control CMP (its number and
+ * the range of its knots) and one per knot (time, velocity, eta, file line), in
+ * file order. Sampling a CMP finds its two bracketing control CMPs once (binary
+ * search over a sorted index), then walks each one's knots along the regular
+ * time axis in a single pass, so sampling a whole trace costs O(knots + ns).
+ * Interpolation rules (DESIGN.md): linear in time between knots, constant
+ * outside; linear in CMP number between control CMPs at equal time, constant
+ * outside. Dix conversion follows Dix (1955), REFERENCE.md §3.6.
+ *
+ * Not here: NMO itself (nmo.c), velocity analysis (semblance.c).
+ */
+#include "tzero/velocity.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "tzero/fileio.h"
+#include "tzero/table.h"
+
+struct vt_cmp {
+  int64_t cmp;
+  size_t first, n;        /* knots [first, first + n) */
+};
+
+struct velocity_table {
+  char *source;
+  int with_eta;
+  size_t ncmp, cap_cmp;
+  struct vt_cmp *cmps;
+  size_t *order;          /* indexes of cmps[], sorted by CMP number (kept on insert) */
+  size_t nk, cap_k;
+  double *time_s, *vel, *eta;
+  int64_t *line;
+};
+
+static int vt_alloc(velocity_table **out, int with_eta, const char *source, tz_err *err)
+{
+  velocity_table *t = calloc(1, sizeof *t);
+  if (!t || !(t->source = strdup(source ? source : ""))) {
+    free(t);
+    return tz_fail(err, TZ_E_NOMEM, "velocity table");
+  }
+  t->with_eta = with_eta != 0;
+  *out = t;
+  return TZ_OK;
+}
+
+void velocity_table_free(velocity_table *t)
+{
+  if (!t)
+    return;
+  free(t->source);
+  free(t->cmps);
+  free(t->order);
+  free(t->time_s);
+  free(t->vel);
+  free(t->eta);
+  free(t->line);
+  free(t);
+}
+
+int velocity_table_new(velocity_table **out, int with_eta, tz_err *err)
+{
+  return vt_alloc(out, with_eta, "", err);
+}
+
+static int grow_knots(velocity_table *t, tz_err *err)
+{
+  if (t->nk < t->cap_k)
+    return TZ_OK;
+  if (t->nk >= VELOCITY_MAX_KNOTS)
+    return tz_fail(err, TZ_E_FORMAT, "more than %d knots in one velocity table",
+                   VELOCITY_MAX_KNOTS);
+  size_t cap = t->cap_k ? t->cap_k * 2 : 64;
+  if (cap > VELOCITY_MAX_KNOTS)
+    cap = VELOCITY_MAX_KNOTS;
+  double *a = realloc(t->time_s, cap * sizeof *a);
+  if (a)
+    t->time_s = a;
+  double *b = a ? realloc(t->vel, cap * sizeof *b) : NULL;
+  if (b)
+    t->vel = b;
+  double *c = b ? realloc(t->eta, cap * sizeof *c) : NULL;
+  if (c)
+    t->eta = c;
+  int64_t *d = c ? realloc(t->line, cap * sizeof *d) : NULL;
+  if (d)
+    t->line = d;
+  if (!d)
+    return tz_fail(err, TZ_E_NOMEM, "velocity table knots");
+  t->cap_k = cap;
+  return TZ_OK;
+}
+
+static int grow_cmps(velocity_table *t, tz_err *err)
+{
+  if (t->ncmp < t->cap_cmp)
+    return TZ_OK;
+  size_t cap = t->cap_cmp ? t->cap_cmp * 2 : 16;
+  struct vt_cmp *c = realloc(t->cmps, cap * sizeof *c);
+  if (c)
+    t->cmps = c;
+  size_t *o = c ? realloc(t->order, cap * sizeof *o) : NULL;
+  if (!o)
+    return tz_fail(err, TZ_E_NOMEM, "velocity table CMPs");
+  t->order = o;
+  t->cap_cmp = cap;
+  return TZ_OK;
+}
+
+/* Adds a knot with the table rules. `line` > 0 reports failures as TZ_E_FORMAT at
+ * that line of the file; 0 (built in code) reports TZ_E_ARG. */
+static int add_knot(velocity_table *t, int64_t cmp, double time_s, double v, double eta,
+                    int64_t line, tz_err *err)
+{
+  int st = line > 0 ? TZ_E_FORMAT : TZ_E_ARG;
+  int64_t ln = line > 0 ? line : -1;
+  if (!isfinite(time_s) || time_s < 0)
+    return tz_fail_line(err, st, ln, "cmp %lld: time %.10g ms must be finite and >= 0",
+                        (long long)cmp, time_s * 1e3);
+  if (!isfinite(v) || v <= 0)
+    return tz_fail_line(err, st, ln,
+                        "cmp %lld: velocity %.10g m/s at %.10g ms must be positive",
+                        (long long)cmp, v, time_s * 1e3);
+  if (t->with_eta && (!isfinite(eta) || eta <= -0.5 || eta > VELOCITY_MAX_ETA))
+    return tz_fail_line(err, st, ln,
+                        "cmp %lld: eta %.10g at %.10g ms outside (-0.5, %g]",
+                        (long long)cmp, eta, time_s * 1e3, VELOCITY_MAX_ETA);
+  struct vt_cmp *last = t->ncmp ? &t->cmps[t->ncmp - 1] : NULL;
+  if (last && last->cmp == cmp) {
+    size_t k = last->first + last->n - 1;
+    if (time_s == t->time_s[k])
+      return tz_fail_line(err, st, ln,
+                          "cmp %lld: duplicate row at %.10g ms (first given on line %lld)",
+                          (long long)cmp, time_s * 1e3, (long long)t->line[k]);
+    if (time_s < t->time_s[k])
+      return tz_fail_line(err, st, ln,
+                          "cmp %lld: time %.10g ms is not after the previous %.10g ms "
+                          "(times must strictly increase within a CMP)",
+                          (long long)cmp, time_s * 1e3, t->time_s[k] * 1e3);
+  } else {
+    for (size_t i = 0; i < t->ncmp; i++)
+      if (t->cmps[i].cmp == cmp)
+        return tz_fail_line(err, st, ln,
+                            "cmp %lld reappears after other CMPs (its group started on "
+                            "line %lld; rows must be grouped by cmp)",
+                            (long long)cmp, (long long)t->line[t->cmps[i].first]);
+    int rc = grow_cmps(t, err);
+    if (rc)
+      return rc;
+    t->cmps[t->ncmp].cmp = cmp;
+    t->cmps[t->ncmp].first = t->nk;
+    t->cmps[t->ncmp].n = 0;
+    /* Insertion into the sorted index (tables have few control CMPs). */
+    size_t j = t->ncmp;
+    while (j > 0 && t->cmps[t->order[j - 1]].cmp > cmp) {
+      t->order[j] = t->order[j - 1];
+      j--;
+    }
+    t->order[j] = t->ncmp;
+    t->ncmp++;
+    last = &t->cmps[t->ncmp - 1];
+  }
+  int rc = grow_knots(t, err);
+  if (rc)
+    return rc;
+  t->time_s[t->nk] = time_s;
+  t->vel[t->nk] = v;
+  t->eta[t->nk] = t->with_eta ? eta : 0.0;
+  t->line[t->nk] = line > 0 ? line : 0;
+  t->nk++;
+  last->n++;
+  return TZ_OK;
+}
+
+int velocity_table_add(velocity_table *t, int64_t cmp, double time_s, double velocity_mps,
+                       double eta, tz_err *err)
+{
+  return add_knot(t, cmp, time_s, velocity_mps, eta, 0, err);
+}
+
+enum { COL_CMP, COL_TIME, COL_VEL, COL_ETA, NCOL };
+static const char *const colname[NCOL] = { "cmp", "time_ms", "velocity_mps", "eta" };
+
+static int parse_reader(velocity_table **out, table_reader *r, tz_err *err)
+{
+  size_t nf;
+  int rc = table_next(r, &nf, err);
+  if (rc)
+    return rc;
+  tz_err_path(err, table_name(r));
+  if (nf == 0)
+    return tz_fail_line(err, TZ_E_FORMAT, -1,
+                        "empty velocity table: expected the header line "
+                        "cmp,time_ms,velocity_mps");
+  int64_t hline = table_line(r);
+  if (nf < 3 || nf > 4)
+    return tz_fail_line(err, TZ_E_FORMAT, hline,
+                        "header has %zu columns; expected cmp,time_ms,velocity_mps "
+                        "and optionally eta", nf);
+  int numeric_first = table_parse_f64(table_field(r, 0), &(double){ 0 }) == 0;
+  if (numeric_first)
+    return tz_fail_line(err, TZ_E_FORMAT, hline,
+                        "missing header line: expected cmp,time_ms,velocity_mps "
+                        "before the first row");
+  for (size_t i = 0; i < nf; i++)
+    if (strcmp(table_field(r, i), colname[i]))
+      return tz_fail_line(err, TZ_E_FORMAT, hline,
+                          "unknown column '%s' in position %zu; expected '%s' "
+                          "(header: cmp,time_ms,velocity_mps[,eta])",
+                          table_field(r, i), i + 1, colname[i]);
+  velocity_table *t;
+  rc = vt_alloc(&t, nf == 4, table_name(r), err);
+  if (rc)
+    return rc;
+  for (;;) {
+    rc = table_next(r, &nf, err);
+    if (rc || nf == 0)
+      break;
+    int64_t ln = table_line(r);
+    size_t want = t->with_eta ? 4 : 3;
+    if (nf != want) {
+      rc = tz_fail_line(err, TZ_E_FORMAT, ln, "%zu fields; the header has %zu", nf, want);
+      break;
+    }
+    int64_t cmp;
+    double tms, v, eta = 0;
+    if ((rc = table_field_i64(r, COL_CMP, "cmp", &cmp, err)) ||
+        (rc = table_field_f64(r, COL_TIME, "time_ms", &tms, err)) ||
+        (rc = table_field_f64(r, COL_VEL, "velocity_mps", &v, err)) ||
+        (t->with_eta && (rc = table_field_f64(r, COL_ETA, "eta", &eta, err))))
+      break;
+    if ((rc = add_knot(t, cmp, tms * 1e-3, v, eta, ln, err)))
+      break;
+  }
+  if (!rc && t->nk == 0)
+    rc = tz_fail_line(err, TZ_E_FORMAT, hline, "velocity table has a header but no rows");
+  if (rc) {
+    velocity_table_free(t);
+    return rc;
+  }
+  *out = t;
+  return TZ_OK;
+}
+
+int velocity_table_load(velocity_table **out, const char *path, tz_err *err)
+{
+  table_reader *r;
+  int rc = table_open(&r, path, err);
+  if (rc)
+    return rc;
+  rc = parse_reader(out, r, err);
+  table_close(r);
+  return rc;
+}
+
+int velocity_table_parse(velocity_table **out, const char *name, const char *text,
+                         size_t len, tz_err *err)
+{
+  table_reader *r;
+  int rc = table_open_mem(&r, name, text, len, err);
+  if (rc)
+    return rc;
+  rc = parse_reader(out, r, err);
+  table_close(r);
+  return rc;
+}
+
+int velocity_table_constant(velocity_table **out, double v_mps, tz_err *err)
+{
+  if (!isfinite(v_mps) || v_mps <= 0)
+    return tz_fail(err, TZ_E_ARG, "constant velocity %.10g m/s must be positive", v_mps);
+  velocity_table *t;
+  int rc = vt_alloc(&t, 0, "", err);
+  if (!rc)
+    rc = add_knot(t, 0, 0.0, v_mps, 0.0, 0, err);
+  if (rc) {
+    velocity_table_free(t);
+    return rc;
+  }
+  *out = t;
+  return TZ_OK;
+}
+
+int velocity_table_write_stream(const velocity_table *t, FILE *fp, const char *name,
+                                tz_err *err)
+{
+  fprintf(fp, "cmp,time_ms,velocity_mps%s\n", t->with_eta ? ",eta" : "");
+  for (size_t i = 0; i < t->ncmp; i++)
+    for (size_t k = t->cmps[i].first; k < t->cmps[i].first + t->cmps[i].n; k++) {
+      fprintf(fp, "%lld,%.10g,%.10g", (long long)t->cmps[i].cmp, t->time_s[k] * 1e3,
+              t->vel[k]);
+      if (t->with_eta)
+        fprintf(fp, ",%.10g", t->eta[k]);
+      fputc('\n', fp);
+    }
+  if (ferror(fp)) {
+    tz_err_path(err, name);
+    return tz_fail(err, TZ_E_IO, "write failed");
+  }
+  return TZ_OK;
+}
+
+int velocity_table_write(const velocity_table *t, const char *path, tz_err *err)
+{
+  fileio_out *o;
+  int rc = fileio_create(&o, path, err);
+  if (rc)
+    return rc;
+  rc = velocity_table_write_stream(t, fileio_stream(o), path, err);
+  if (rc) {
+    fileio_abort(o);
+    return rc;
+  }
+  return fileio_commit(o, err);
+}
+
+size_t velocity_table_ncmps(const velocity_table *t) { return t->ncmp; }
+int64_t velocity_table_cmp(const velocity_table *t, size_t i) { return t->cmps[i].cmp; }
+size_t velocity_table_nknots(const velocity_table *t, size_t i) { return t->cmps[i].n; }
+int velocity_table_has_eta(const velocity_table *t) { return t->with_eta; }
+const char *velocity_table_source(const velocity_table *t) { return t->source; }
+
+void velocity_table_knot(const velocity_table *t, size_t i, size_t k, double *time_s,
+                         double *velocity_mps, double *eta)
+{
+  size_t j = t->cmps[i].first + k;
+  if (time_s)
+    *time_s = t->time_s[j];
+  if (velocity_mps)
+    *velocity_mps = t->vel[j];
+  if (eta)
+    *eta = t->eta[j];
+}
+
+int64_t velocity_table_knot_line(const velocity_table *t, size_t i, size_t k)
+{
+  return t->line[t->cmps[i].first + k];
+}
+
+/* ---- sampling ---- */
+
+/* The (at most two) control CMPs bracketing `cmp` and the weight of the second:
+ * value = (1 - w) f_a + w f_b. Outside the control range, a = b = the end one. */
+static void bracket(const velocity_table *t, int64_t cmp, const struct vt_cmp **a,
+                    const struct vt_cmp **b, double *w)
+{
+  const size_t *o = t->order;
+  size_t n = t->ncmp;
+  const struct vt_cmp *c = t->cmps;
+  if (n == 1 || cmp <= c[o[0]].cmp) {
+    *a = *b = &c[o[0]];
+    *w = 0;
+    return;
+  }
+  if (cmp >= c[o[n - 1]].cmp) {
+    *a = *b = &c[o[n - 1]];
+    *w = 0;
+    return;
+  }
+  size_t lo = 0, hi = n - 1;   /* c[o[lo]].cmp < cmp < c[o[hi]].cmp, or equal at lo */
+  while (hi - lo > 1) {
+    size_t mid = lo + (hi - lo) / 2;
+    if (c[o[mid]].cmp <= cmp)
+      lo = mid;
+    else
+      hi = mid;
+  }
+  *a = &c[o[lo]];
+  *b = &c[o[hi]];
+  *w = (double)(cmp - (*a)->cmp) / (double)((*b)->cmp - (*a)->cmp);
+}
+
+/* Walks the knots of one control CMP along t_i = t0 + i dt, adding wgt * value
+ * into acc (and eacc). One pass: the knot pointer only moves forward. */
+static void walk(const velocity_table *t, const struct vt_cmp *c, double wgt, double t0,
+                 double dt, size_t ns, double *acc, double *eacc, size_t i0, size_t n)
+{
+  const double *kt = t->time_s + c->first, *kv = t->vel + c->first;
+  const double *ke = t->eta + c->first;
+  size_t nk = c->n, k = 0;   /* invariant: kt[k] <= time < kt[k+1] inside the knots */
+  (void)ns;
+  for (size_t i = i0; i < i0 + n; i++) {
+    double tm = t0 + (double)i * dt;
+    double v, e;
+    if (tm <= kt[0] || nk == 1) {
+      v = kv[0];
+      e = ke[0];
+    } else if (tm >= kt[nk - 1]) {
+      v = kv[nk - 1];
+      e = ke[nk - 1];
+    } else {
+      while (kt[k + 1] <= tm)
+        k++;
+      double f = (tm - kt[k]) / (kt[k + 1] - kt[k]);
+      v = kv[k] + f * (kv[k + 1] - kv[k]);
+      e = ke[k] + f * (ke[k + 1] - ke[k]);
+    }
+    acc[i - i0] += wgt * v;
+    if (eacc)
+      eacc[i - i0] += wgt * e;
+  }
+}
+
+void velocity_sample(const velocity_table *t, int64_t cmp, double t_first_s, double dt_s,
+                     size_t ns, float *vel_mps, float *eta)
+{
+  const struct vt_cmp *a, *b;
+  double w;
+  if (t->ncmp == 0) {   /* an empty table built in code: nothing to sample */
+    memset(vel_mps, 0, ns * sizeof *vel_mps);
+    if (eta)
+      memset(eta, 0, ns * sizeof *eta);
+    return;
+  }
+  bracket(t, cmp, &a, &b, &w);
+  /* Accumulate in double over blocks of a small stack buffer (no allocation). */
+  enum { BLK = 256 };
+  double acc[BLK], eacc[BLK];
+  for (size_t i0 = 0; i0 < ns; i0 += BLK) {
+    size_t n = ns - i0 < BLK ? ns - i0 : BLK;
+    memset(acc, 0, n * sizeof *acc);
+    memset(eacc, 0, n * sizeof *eacc);
+    walk(t, a, 1.0 - w, t_first_s, dt_s, ns, acc, eta ? eacc : NULL, i0, n);
+    if (w > 0)
+      walk(t, b, w, t_first_s, dt_s, ns, acc, eta ? eacc : NULL, i0, n);
+    for (size_t j = 0; j < n; j++)
+      vel_mps[i0 + j] = (float)acc[j];
+    if (eta)
+      for (size_t j = 0; j < n; j++)
+        eta[i0 + j] = (float)eacc[j];
+  }
+}
+
+double velocity_at(const velocity_table *t, int64_t cmp, double time_s, double *eta)
+{
+  const struct vt_cmp *a, *b;
+  double w, v = 0, e = 0;
+  if (t->ncmp == 0)
+    return 0;
+  bracket(t, cmp, &a, &b, &w);
+  walk(t, a, 1.0 - w, time_s, 1.0, 1, &v, &e, 0, 1);
+  if (w > 0)
+    walk(t, b, w, time_s, 1.0, 1, &v, &e, 0, 1);
+  if (eta)
+    *eta = e;
+  return v;
+}
+
+/* ---- Dix ---- */
+
+int velocity_dix(const double *t_s, const double *v_rms_mps, size_t n,
+                 velocity_interval *out, tz_err *err)
+{
+  double z = 0, tprev = 0, vprev = 0;
+  for (size_t k = 0; k < n; k++) {
+    double tk = t_s[k], vk = v_rms_mps[k];
+    if (!isfinite(tk) || tk < 0 || (k > 0 && tk <= tprev))
+      return tz_fail(err, TZ_E_ARG, "Dix: knot %zu time %.10g s is not after %.10g s", k,
+                     tk, tprev);
+    if (!isfinite(vk) || vk <= 0)
+      return tz_fail(err, TZ_E_ARG, "Dix: knot %zu velocity %.10g m/s is not positive", k,
+                     vk);
+    velocity_interval *iv = &out[k];
+    iv->t_top_s = k ? tprev : 0.0;
+    iv->t_base_s = tk;
+    iv->v_rms_top_mps = k ? vprev : 0.0;
+    iv->v_rms_base_mps = vk;
+    if (k == 0 || tk == 0) {
+      /* Surface layer: V_int = V_rms (Dix with t_{-1} = 0). */
+      iv->v_int_sq = vk * vk;
+    } else {
+      /* Dix 1955: V_int^2 = (V_n^2 t_n - V_{n-1}^2 t_{n-1}) / (t_n - t_{n-1}). */
+      iv->v_int_sq = (vk * vk * tk - vprev * vprev * tprev) / (tk - tprev);
+    }
+    iv->imaginary = !(iv->v_int_sq > 0);
+    iv->v_int_mps = iv->imaginary ? NAN : sqrt(iv->v_int_sq);
+    iv->z_top_m = z;
+    z = iv->imaginary || isnan(z) ? NAN : z + iv->v_int_mps * (tk - iv->t_top_s) / 2;
+    iv->z_base_m = z;
+    tprev = tk;
+    vprev = vk;
+  }
+  return TZ_OK;
+}
+
+int velocity_rms_from_interval(const double *t_s, const double *v_int_mps, size_t n,
+                               double *v_rms_mps, tz_err *err)
+{
+  double sum = 0, tprev = 0;
+  for (size_t k = 0; k < n; k++) {
+    double tk = t_s[k], vk = v_int_mps[k];
+    if (!isfinite(tk) || tk < 0 || (k > 0 && tk <= tprev))
+      return tz_fail(err, TZ_E_ARG, "interval %zu: time %.10g s is not after %.10g s", k,
+                     tk, tprev);
+    if (!isfinite(vk) || vk <= 0)
+      return tz_fail(err, TZ_E_ARG, "interval %zu: velocity %.10g m/s is not positive", k,
+                     vk);
+    sum += vk * vk * (tk - tprev);
+    v_rms_mps[k] = tk > 0 ? sqrt(sum / tk) : vk;
+    tprev = tk;
+  }
+  return TZ_OK;
+}
+
+double velocity_depth(const velocity_interval *iv, size_t n, double t_s)
+{
+  if (n == 0 || !(t_s >= 0))
+    return NAN;
+  size_t k = 0;
+  while (k + 1 < n && iv[k].t_base_s < t_s)
+    k++;
+  if (iv[k].imaginary || isnan(iv[k].z_top_m))
+    return NAN;
+  return iv[k].z_top_m + iv[k].v_int_mps * (t_s - iv[k].t_top_s) / 2;
+}
+
+/* ---- checks ---- */
+
+const char *velocity_warning_name(int kind)
+{
+  switch (kind) {
+  case VELOCITY_WARN_IMAGINARY: return "imaginary";
+  case VELOCITY_WARN_LOW: return "low";
+  case VELOCITY_WARN_HIGH: return "high";
+  case VELOCITY_WARN_INVERSION: return "inversion";
+  default: return "unknown";
+  }
+}
+
+struct wlist {
+  velocity_warning *w;
+  size_t n, cap;
+};
+
+static int push(struct wlist *l, int kind, int64_t cmp, int64_t line,
+                const velocity_interval *iv, double value, tz_err *err)
+{
+  if (l->n == l->cap) {
+    size_t cap = l->cap ? l->cap * 2 : 16;
+    velocity_warning *w = realloc(l->w, cap * sizeof *w);
+    if (!w)
+      return tz_fail(err, TZ_E_NOMEM, "velocity warnings");
+    l->w = w;
+    l->cap = cap;
+  }
+  velocity_warning *w = &l->w[l->n++];
+  memset(w, 0, sizeof *w);
+  w->kind = kind;
+  w->cmp = cmp;
+  w->line = line;
+  w->t_top_s = iv->t_top_s;
+  w->t_base_s = iv->t_base_s;
+  w->value = value;
+  double a = iv->t_top_s * 1e3, b = iv->t_base_s * 1e3;
+  switch (kind) {
+  case VELOCITY_WARN_IMAGINARY:
+    snprintf(w->msg, sizeof w->msg,
+             "cmp %lld, %.6g-%.6g ms: Dix interval velocity is imaginary "
+             "(V_int^2 = %.6g m^2/s^2: V_rms^2 t decreases)", (long long)cmp, a, b, value);
+    break;
+  case VELOCITY_WARN_LOW:
+  case VELOCITY_WARN_HIGH:
+    snprintf(w->msg, sizeof w->msg,
+             "cmp %lld, %.6g-%.6g ms: implausible interval velocity %.6g m/s", (long long)cmp,
+             a, b, value);
+    break;
+  default:
+    snprintf(w->msg, sizeof w->msg,
+             "cmp %lld, %.6g-%.6g ms: RMS velocity inverts (falls by %.6g m/s)",
+             (long long)cmp, a, b, value);
+    break;
+  }
+  return TZ_OK;
+}
+
+int velocity_check(const velocity_table *t, double min_mps, double max_mps,
+                   velocity_warning **out, size_t *n, tz_err *err)
+{
+  if (min_mps <= 0)
+    min_mps = VELOCITY_PLAUSIBLE_MIN_MPS;
+  if (max_mps <= 0)
+    max_mps = VELOCITY_PLAUSIBLE_MAX_MPS;
+  struct wlist l = { 0 };
+  velocity_interval *iv = NULL;
+  size_t cap = 0;
+  int rc = TZ_OK;
+  for (size_t i = 0; i < t->ncmp && !rc; i++) {
+    const struct vt_cmp *c = &t->cmps[i];
+    if (c->n > cap) {
+      free(iv);
+      cap = c->n;
+      if (!(iv = malloc(cap * sizeof *iv))) {
+        rc = tz_fail(err, TZ_E_NOMEM, "velocity intervals");
+        break;
+      }
+    }
+    rc = velocity_dix(t->time_s + c->first, t->vel + c->first, c->n, iv, err);
+    for (size_t k = 0; k < c->n && !rc; k++) {
+      int64_t line = t->line[c->first + k];
+      if (k > 0 && iv[k].v_rms_base_mps < iv[k].v_rms_top_mps)
+        rc = push(&l, VELOCITY_WARN_INVERSION, c->cmp, line, &iv[k],
+                  iv[k].v_rms_top_mps - iv[k].v_rms_base_mps, err);
+      if (rc)
+        break;
+      if (iv[k].imaginary)
+        rc = push(&l, VELOCITY_WARN_IMAGINARY, c->cmp, line, &iv[k], iv[k].v_int_sq, err);
+      else if (iv[k].v_int_mps < min_mps)
+        rc = push(&l, VELOCITY_WARN_LOW, c->cmp, line, &iv[k], iv[k].v_int_mps, err);
+      else if (iv[k].v_int_mps > max_mps)
+        rc = push(&l, VELOCITY_WARN_HIGH, c->cmp, line, &iv[k], iv[k].v_int_mps, err);
+    }
+  }
+  free(iv);
+  if (rc) {
+    free(l.w);
+    return rc;
+  }
+  *out = l.w;
+  *n = l.n;
+  return TZ_OK;
+}
