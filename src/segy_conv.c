@@ -229,6 +229,7 @@ void segy_text_decode(const unsigned char *in, size_t n, int encoding, char *out
     for (int a = 0x20; a < 0x7F; a++)
       inv[ebcdic_of_ascii[a - 0x20]] = (unsigned char)a;
     inv[0x00] = ' ';
+    inv[0x6A] = '|';        /* broken bar: some writers use it for '|' */
   } else {
     for (int b = 0; b < 256; b++)
       inv[b] = b >= 0x20 && b < 0x7F ? (unsigned char)b : '.';
@@ -256,4 +257,38 @@ int segy_text_detect(const unsigned char *in, size_t n)
       a++;
   }
   return a > e ? SEGY_TEXT_ASCII : SEGY_TEXT_EBCDIC;
+}
+
+const char *segy_format_name(int code)
+{
+  switch (code) {
+  case 1: return "IBM hexadecimal float";
+  case 2: return "32-bit signed integer";
+  case 3: return "16-bit signed integer";
+  case 4: return "fixed point with gain (obsolete)";
+  case 5: return "IEEE 754 single float";
+  case 6: return "IEEE 754 double float";
+  case 7: return "24-bit signed integer";
+  case 8: return "8-bit signed integer";
+  case 9: return "64-bit signed integer";
+  case 10: return "32-bit unsigned integer";
+  case 11: return "16-bit unsigned integer";
+  case 12: return "64-bit unsigned integer";
+  case 15: return "24-bit unsigned integer";
+  case 16: return "8-bit unsigned integer";
+  default: return "undefined";
+  }
+}
+
+int64_t segy_binary_value(const segy_info *in, int pos, int width)
+{
+  if (pos < 3201 || pos + width - 1 > 3600)
+    return 0;
+  const unsigned char *p = in->binary + pos - 3201;
+  switch (width) {
+  case 2: return u16_to_i16(segy_ld16(in->byte_order, p));
+  case 4: return u32_to_i32(segy_ld32(in->byte_order, p));
+  case 8: return (int64_t)segy_ld64(in->byte_order, p);
+  default: return 0;
+  }
 }

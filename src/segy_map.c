@@ -20,11 +20,8 @@
 #define F(name, byte, width, kind) \
   { #name, byte, width, kind, offsetof(segy_trace_header, name) }
 
-/* Scalars come first: decoding the others needs them. */
+/* In byte order. Decoding takes two passes: the scaled kinds need the scalars. */
 const segy_field segy_fields[] = {
-  F(elev_scalar, 69, 2, SEGY_K_I16),
-  F(coord_scalar, 71, 2, SEGY_K_I16),
-  F(time_scalar, 215, 2, SEGY_K_I16),
   F(line_seq, 1, 4, SEGY_K_I32),
   F(file_seq, 5, 4, SEGY_K_I32),
   F(field_record, 9, 4, SEGY_K_I32),
@@ -44,6 +41,8 @@ const segy_field segy_fields[] = {
   F(source_datum, 57, 4, SEGY_K_ELEV),
   F(source_water_depth, 61, 4, SEGY_K_ELEV),
   F(receiver_water_depth, 65, 4, SEGY_K_ELEV),
+  F(elev_scalar, 69, 2, SEGY_K_I16),
+  F(coord_scalar, 71, 2, SEGY_K_I16),
   F(source_x, 73, 4, SEGY_K_COORD),
   F(source_y, 77, 4, SEGY_K_COORD),
   F(receiver_x, 81, 4, SEGY_K_COORD),
@@ -60,6 +59,7 @@ const segy_field segy_fields[] = {
   F(crossline_no, 193, 4, SEGY_K_I32),
   F(shotpoint, 197, 4, SEGY_K_I32),
   F(shotpoint_scalar, 201, 2, SEGY_K_I16),
+  F(time_scalar, 215, 2, SEGY_K_I16),
 };
 #undef F
 const size_t segy_nfields = sizeof segy_fields / sizeof segy_fields[0];
@@ -135,8 +135,12 @@ void segy_header_decode(const unsigned char *raw, int order, const segy_header_m
 {
   memset(h, 0, sizeof *h);
   memcpy(h->raw, raw, SEGY_TRACE_HEADER_BYTES);
-  for (size_t i = 0; i < segy_nfields; i++) {
-    const segy_field *fd = &segy_fields[i];
+  for (size_t j = 0; j < 2 * segy_nfields; j++) {
+    const segy_field *fd = &segy_fields[j % segy_nfields];
+    int scaled_kind = fd->kind == SEGY_K_ELEV || fd->kind == SEGY_K_COORD ||
+                      fd->kind == SEGY_K_TIME;
+    if (scaled_kind != (j >= segy_nfields))
+      continue;
     int byte = fd->byte, width = fd->width, is_float = 0;
     for (int k = 0; map && k < map->n; k++)
       if (!strcmp(map->f[k].field, fd->name)) {
@@ -306,4 +310,29 @@ int segy_header_map_load(segy_header_map *map, const char *path, tz_err *err)
   rc = segy_header_map_parse(map, text, path, err);
   free(text);
   return rc;
+}
+
+/* ---- fields by index ---- */
+
+size_t segy_field_count(void) { return segy_nfields; }
+const char *segy_field_name(size_t i) { return i < segy_nfields ? segy_fields[i].name : ""; }
+int segy_field_byte(size_t i) { return i < segy_nfields ? segy_fields[i].byte : 0; }
+int segy_field_width(size_t i) { return i < segy_nfields ? segy_fields[i].width : 0; }
+
+double segy_field_value(const segy_trace_header *h, size_t i)
+{
+  if (i >= segy_nfields)
+    return 0;
+  const char *m = (const char *)h + segy_fields[i].off;
+  int16_t a;
+  int32_t b;
+  uint32_t c;
+  double d;
+  switch (segy_fields[i].kind) {
+  case SEGY_K_I32: memcpy(&b, m, sizeof b); return b;
+  case SEGY_K_I16:
+  case SEGY_K_TIME: memcpy(&a, m, sizeof a); return a;
+  case SEGY_K_U16: memcpy(&c, m, sizeof c); return c;
+  default: memcpy(&d, m, sizeof d); return d;
+  }
 }

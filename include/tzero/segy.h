@@ -177,8 +177,56 @@ void segy_writer_abort(segy_writer *w);               /* takes the writer; NULL 
 float segy_ibm_to_float(uint32_t ibm);              /* out of float range: +-FLT_MAX or 0 */
 uint32_t segy_float_to_ibm(float v);                /* round to nearest */
 int segy_format_bytes(int format_code);             /* 0 for undefined codes */
+const char *segy_format_name(int format_code);      /* e.g. "IBM hexadecimal float" */
+
+/* A binary header value at 1-based byte `pos` (3201-3600) of `width` 2, 4 or 8
+ * bytes, in the file's byte order; 2 and 4 are signed, 8 unsigned. */
+int64_t segy_binary_value(const segy_info *in, int pos, int width);
 
 /* Applies the SEG-Y scalar rule: positive multiplies, negative divides, 0 means 1. */
 double segy_apply_scalar(int32_t raw, int16_t scalar);
+
+/* ---- trace header fields by index (for tables and statistics) ---- */
+size_t segy_field_count(void);
+const char *segy_field_name(size_t i);        /* struct member name, e.g. "source_x" */
+int segy_field_byte(size_t i);                /* standard 1-based position (rev 1) */
+int segy_field_width(size_t i);               /* 2 or 4 bytes */
+double segy_field_value(const segy_trace_header *h, size_t i);  /* decoded, scaled */
+
+/* ---- whole-file statistics (what `tzero inspect` prints) ---- */
+
+#define SEGY_MAX_FIELDS 48
+#define SEGY_MAX_ANOMALIES 16
+
+typedef struct segy_stats {
+  int64_t traces;                  /* traces scanned */
+  int64_t dead;                    /* trace identification code 2 */
+  int64_t dummy;                   /* code 3 */
+  int64_t auxiliary;               /* codes 4-10 (time break, uphole, sweep, ...) */
+  int64_t all_zero;                /* traces whose samples are all zero (with samples) */
+  int64_t field_records;           /* distinct field record numbers (bytes 9-12) */
+  int64_t channels;                /* distinct channel numbers (bytes 13-16) */
+  int64_t traces_per_record_min, traces_per_record_max;
+  int with_samples;                /* 1 when amplitudes were read */
+  double amp_min, amp_max, amp_rms;/* over all samples read */
+  int64_t bad_samples;             /* NaN/Inf/out-of-range, replaced by 0 */
+  double field_min[SEGY_MAX_FIELDS], field_max[SEGY_MAX_FIELDS]; /* by field index */
+  int64_t samples_differ;          /* traces whose 115-116 is set and differs from the file's */
+  int64_t interval_differ;         /* traces whose 117-118 is set and differs */
+  int64_t coord_scalar_zero;       /* traces with coordinates but 71-72 = 0 */
+  int64_t elev_scalar_zero;        /* traces with elevations but 69-70 = 0 */
+  int64_t scalar_irregular;        /* 69-70 or 71-72 not 0, +-1, +-10, ... +-10000 */
+  int64_t coords_zero;             /* traces with source and receiver x/y all 0 */
+  int64_t offset_inconsistent;     /* offset 0 while source and receiver differ */
+  int64_t angular_units;           /* coordinate units 2, 3 or 4 (not length) */
+  /* Anomalies found (one short sentence each), most important first. */
+  int nanomalies;
+  char anomalies[SEGY_MAX_ANOMALIES][200];
+} segy_stats;
+
+/* Reads every trace header (and, with with_samples, every sample) once, in
+ * order, and fills st. Memory: 8 bytes per trace for the record/channel
+ * counts plus one trace of samples. */
+int segy_scan(segy_file *f, int with_samples, segy_stats *st, tz_err *err);
 
 #endif
