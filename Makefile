@@ -35,6 +35,8 @@ BENCH_SRC = $(wildcard bench/*.c)
 LIB_OBJ  = $(LIB_SRC:src/%.c=$(B)/obj/%.o)
 CLI_OBJ  = $(CLI_SRC:src/cli/%.c=$(B)/obj/cli/%.o)
 UNIT_BIN = $(UNIT_SRC:tests/unit/%.c=$(B)/tests/%)
+# Small drivers the cross-checks run (tests/unit/*_driver.c; not Check suites).
+DRIVER_BIN = $(patsubst tests/unit/%.c,$(B)/tests/%,$(wildcard tests/unit/*_driver.c))
 BENCH_BIN = $(BENCH_SRC:bench/%.c=$(B)/bench/%)
 
 # Every exported symbol of the library carries one of the module prefixes.
@@ -76,7 +78,7 @@ $(B)/bench/%: bench/%.c $(B)/libtzero.a
 check: deps
 	@$(MAKE) --no-print-directory check-run
 
-check-run: all $(UNIT_BIN) check-symbols
+check-run: all $(UNIT_BIN) $(DRIVER_BIN) check-symbols
 	@B=$(B) PYTHON=$(PYTHON) tests/run.sh
 
 check-symbols: $(B)/libtzero.a
@@ -89,7 +91,7 @@ unit: all $(UNIT_BIN)
 e2e: all
 	@B=$(B) PYTHON=$(PYTHON) tests/run.sh e2e
 
-xcheck: all
+xcheck: all $(DRIVER_BIN)
 	@B=$(B) PYTHON=$(PYTHON) tests/run.sh xcheck
 
 # ASan + UBSan build running the whole suite.

@@ -142,25 +142,29 @@ static int add_knot(velocity_table *t, int64_t cmp, double time_s, double v, dou
                           "(times must strictly increase within a CMP)",
                           (long long)cmp, time_s * 1e3, t->time_s[k] * 1e3);
   } else {
-    for (size_t i = 0; i < t->ncmp; i++)
-      if (t->cmps[i].cmp == cmp)
-        return tz_fail_line(err, st, ln,
-                            "cmp %lld reappears after other CMPs (its group started on "
-                            "line %lld; rows must be grouped by cmp)",
-                            (long long)cmp, (long long)t->line[t->cmps[i].first]);
+    /* Binary search of the sorted index: has this CMP had a group already? */
+    size_t lo = 0, hi = t->ncmp;
+    while (lo < hi) {
+      size_t mid = lo + (hi - lo) / 2;
+      if (t->cmps[t->order[mid]].cmp < cmp)
+        lo = mid + 1;
+      else
+        hi = mid;
+    }
+    if (lo < t->ncmp && t->cmps[t->order[lo]].cmp == cmp)
+      return tz_fail_line(err, st, ln,
+                          "cmp %lld reappears after other CMPs (its group started on "
+                          "line %lld; rows must be grouped by cmp)",
+                          (long long)cmp, (long long)t->line[t->cmps[t->order[lo]].first]);
     int rc = grow_cmps(t, err);
     if (rc)
       return rc;
     t->cmps[t->ncmp].cmp = cmp;
     t->cmps[t->ncmp].first = t->nk;
     t->cmps[t->ncmp].n = 0;
-    /* Insertion into the sorted index (tables have few control CMPs). */
-    size_t j = t->ncmp;
-    while (j > 0 && t->cmps[t->order[j - 1]].cmp > cmp) {
-      t->order[j] = t->order[j - 1];
-      j--;
-    }
-    t->order[j] = t->ncmp;
+    /* Insertion into the sorted index at the position found above. */
+    memmove(t->order + lo + 1, t->order + lo, (t->ncmp - lo) * sizeof *t->order);
+    t->order[lo] = t->ncmp;
     t->ncmp++;
     last = &t->cmps[t->ncmp - 1];
   }
