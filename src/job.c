@@ -532,6 +532,8 @@ static void set_defaults(job_spec *j)
   j->stretch_limit_pct = 50;           /* within the 50-100 % of Sheriff's dictionary */
   j->interpolation = JOB_INTERP_LINEAR;
   j->fourth_order = 1;
+  j->stretch_taper_ms = 10;
+  j->mute_taper_ms = 10;
   j->offset_min_m = 0;
   j->offset_max_m = INFINITY;
   j->sample_format = JOB_FORMAT_IEEE;

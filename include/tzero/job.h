@@ -21,7 +21,7 @@
 
 #define JOB_MAX_BYTES (16u << 20)    /* a job file larger than this is refused */
 #define JOB_MAX_SHOTS 1000000u       /* expanded shot files */
-#define JOB_MAX_MUTE_POINTS 1024u    /* top-mute polyline points */
+#define JOB_MAX_MUTE_POINTS 256u     /* top-mute polyline points (NMO_MUTE_MAX_POINTS) */
 #define JOB_MAX_THREADS 256
 
 enum job_geometry_source { JOB_GEOMETRY_HEADERS = 0, JOB_GEOMETRY_LAYOUT, JOB_GEOMETRY_TABLE };
@@ -66,12 +66,12 @@ typedef struct job_spec {
   double stretch_limit_pct;   /* default 50 */
   int interpolation;          /* enum job_interp, default linear */
   int fourth_order;           /* 1 = use the table's eta column when present (default 1) */
-  double stretch_taper_ms;    /* default 0 = the nmo module's default taper */
+  double stretch_taper_ms;    /* taper after the stretch-mute edge, default 10; 0 = hard edge */
 
   /* "mute" */
   size_t nmute;
   job_mute_point *mute_top;   /* sorted by offset; NULL/0 = no top mute */
-  double mute_taper_ms;       /* default 0 = the nmo module's default taper */
+  double mute_taper_ms;       /* taper after the top-mute time, default 10; 0 = hard edge */
 
   /* "selection" */
   int has_cmp_range;

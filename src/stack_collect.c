@@ -1,0 +1,372 @@
+/* stack_collect.c -- traces of chosen CMPs, CMP lists, and writing the section.
+ *
+ * stack_collect() scans each shot file's headers once (seek-only), notes the
+ * traces whose CMP is wanted, then reads only those traces' samples. The
+ * classification is the plan's own (stack_plan_classify), so a gather holds
+ * exactly the traces the stack would use. Gathers are sorted by |offset|
+ * (stable: equal offsets keep input order).
+ *
+ * stack_section_write() puts a stacked section on disk as SEG-Y rev 1 with the
+ * header fields of REFERENCE.md §3.10 (common practice).
+ */
+#include "stack_int.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "tzero/table.h"
+
+/* ---------------------------------------------------------------- CMP lists */
+
+static int cmp_i32(const void *a, const void *b)
+{
+  int32_t x = *(const int32_t *)a, y = *(const int32_t *)b;
+  return (x > y) - (x < y);
+}
+
+static int parse_int(const char *s, size_t n, int64_t *v)
+{
+  char buf[32];
+  if (n == 0 || n >= sizeof buf)
+    return -1;
+  memcpy(buf, s, n);
+  buf[n] = '\0';
+  return table_parse_i64(buf, v);
+}
+
+int stack_parse_cmp_list(const char *s, int32_t **out, size_t *n, tz_err *err)
+{
+  size_t cap = 64, cnt = 0;
+  int32_t *v = malloc(cap * sizeof *v);
+  if (!v)
+    return tz_fail(err, TZ_E_NOMEM, "CMP list");
+  const char *p = s;
+  if (!*s) {
+    free(v);
+    return tz_fail(err, TZ_E_ARG, "empty CMP list (expected e.g. 250, 200,250,300, 200-300 or "
+                   "200-900:50)");
+  }
+  for (;;) {
+    const char *e = strchr(p, ',');
+    size_t len = e ? (size_t)(e - p) : strlen(p);
+    /* item: A | A-B | A-B:S (A may be negative: a '-' after the first char splits) */
+    int64_t a, b, step = 1;
+    const char *dash = NULL, *colon = memchr(p, ':', len);
+    size_t lim = colon ? (size_t)(colon - p) : len;
+    for (size_t i = 1; i < lim; i++)
+      if (p[i] == '-') {
+        dash = p + i;
+        break;
+      }
+    size_t alen = dash ? (size_t)(dash - p) : (colon ? (size_t)(colon - p) : len);
+    int bad = parse_int(p, alen, &a);
+    b = a;
+    if (!bad && dash) {
+      size_t blen = (colon ? (size_t)(colon - dash) : (size_t)(p + len - dash)) - 1;
+      bad = parse_int(dash + 1, blen, &b);
+    }
+    if (!bad && colon) {
+      bad = !dash || parse_int(colon + 1, (size_t)(p + len - colon) - 1, &step) || step <= 0;
+    }
+    if (!bad && (b < a || a < INT32_MIN || b > INT32_MAX))
+      bad = 1;
+    if (bad) {
+      free(v);
+      return tz_fail(err, TZ_E_ARG, "CMP list item '%.*s': expected N, FIRST-LAST or "
+                     "FIRST-LAST:STEP with FIRST <= LAST and STEP > 0", (int)len, p);
+    }
+    for (int64_t c = a; c <= b; c += step) {
+      if (cnt >= STACK_MAX_CMPS) {
+        free(v);
+        return tz_fail(err, TZ_E_ARG, "CMP list: more than %d CMPs", STACK_MAX_CMPS);
+      }
+      if (cnt == cap) {
+        int32_t *nv = realloc(v, cap * 2 * sizeof *v);
+        if (!nv) {
+          free(v);
+          return tz_fail(err, TZ_E_NOMEM, "CMP list");
+        }
+        v = nv;
+        cap *= 2;
+      }
+      v[cnt++] = (int32_t)c;
+    }
+    if (!e)
+      break;
+    p = e + 1;
+  }
+  qsort(v, cnt, sizeof *v, cmp_i32);
+  size_t k = 0;
+  for (size_t i = 0; i < cnt; i++)
+    if (!k || v[i] != v[k - 1])
+      v[k++] = v[i];
+  *out = v;
+  *n = k;
+  return TZ_OK;
+}
+
+/* ---------------------------------------------------------------- collect */
+
+void stack_gathers_free(stack_gathers *g)
+{
+  if (!g)
+    return;
+  for (size_t i = 0; i < g->n; i++) {
+    free(g->g[i].offset_m);
+    free(g->g[i].offset_signed_m);
+    free(g->g[i].headers);
+    free(g->g[i].samples);
+  }
+  free(g->g);
+  free(g);
+}
+
+static int grow(stack_gather *g, size_t *cap, size_t ns, tz_err *err)
+{
+  if (g->ntraces < *cap)
+    return TZ_OK;
+  size_t nc = *cap ? *cap * 2 : 16;
+  double *o = realloc(g->offset_m, nc * sizeof *o);
+  if (o)
+    g->offset_m = o;
+  double *os = realloc(g->offset_signed_m, nc * sizeof *os);
+  if (os)
+    g->offset_signed_m = os;
+  segy_trace_header *h = realloc(g->headers, nc * sizeof *h);
+  if (h)
+    g->headers = h;
+  float *s = realloc(g->samples, nc * ns * sizeof *s);
+  if (s)
+    g->samples = s;
+  if (!o || !os || !h || !s)
+    return tz_fail(err, TZ_E_NOMEM, "gather of CMP %d", (int)g->cmp);
+  *cap = nc;
+  return TZ_OK;
+}
+
+typedef struct okey {
+  double off;
+  size_t idx;
+} okey;
+
+static int cmp_okey(const void *a, const void *b)
+{
+  const okey *x = a, *y = b;
+  if (x->off != y->off)
+    return x->off < y->off ? -1 : 1;
+  return (x->idx > y->idx) - (x->idx < y->idx);
+}
+
+static int sort_gather(stack_gather *g, size_t ns, tz_err *err)
+{
+  size_t n = g->ntraces;
+  if (n < 2)
+    return TZ_OK;
+  okey *k = malloc(n * sizeof *k);
+  double *o = malloc(n * sizeof *o), *os = malloc(n * sizeof *os);
+  segy_trace_header *h = malloc(n * sizeof *h);
+  float *s = malloc(n * ns * sizeof *s);
+  if (!k || !o || !os || !h || !s) {
+    free(k); free(o); free(os); free(h); free(s);
+    return tz_fail(err, TZ_E_NOMEM, "sorting gather of CMP %d", (int)g->cmp);
+  }
+  for (size_t i = 0; i < n; i++) {
+    k[i].off = g->offset_m[i];
+    k[i].idx = i;
+  }
+  qsort(k, n, sizeof *k, cmp_okey);
+  for (size_t i = 0; i < n; i++) {
+    size_t j = k[i].idx;
+    o[i] = g->offset_m[j];
+    os[i] = g->offset_signed_m[j];
+    h[i] = g->headers[j];
+    memcpy(s + i * ns, g->samples + j * ns, ns * sizeof *s);
+  }
+  free(k);
+  free(g->offset_m);
+  free(g->offset_signed_m);
+  free(g->headers);
+  free(g->samples);
+  g->offset_m = o;
+  g->offset_signed_m = os;
+  g->headers = h;
+  g->samples = s;
+  return TZ_OK;
+}
+
+int stack_collect(const stack_plan *p, const int32_t *cmps, size_t ncmps, stack_gathers **out,
+                  tz_err *err)
+{
+  stack_gathers *G = calloc(1, sizeof *G);
+  int32_t *want = ncmps ? malloc(ncmps * sizeof *want) : NULL;
+  size_t *cap = ncmps ? calloc(ncmps, sizeof *cap) : NULL;
+  int64_t *hit = NULL;
+  size_t *hitg = NULL;
+  int rc = TZ_OK;
+  if (!G || (ncmps && (!want || !cap))) {
+    rc = tz_fail(err, TZ_E_NOMEM, "gathers");
+    goto done;
+  }
+  memcpy(want, cmps, ncmps * sizeof *want);
+  qsort(want, ncmps, sizeof *want, cmp_i32);
+  size_t n = 0;
+  for (size_t i = 0; i < ncmps; i++)
+    if (!n || want[i] != want[n - 1])
+      want[n++] = want[i];
+  G->axis = p->axis;
+  G->interval_us = p->interval_us;
+  G->n = n;
+  if (n && !(G->g = calloc(n, sizeof *G->g))) {
+    rc = tz_fail(err, TZ_E_NOMEM, "gathers");
+    goto done;
+  }
+  for (size_t i = 0; i < n; i++) {
+    stack_cmp_plan cp;
+    stack_plan_cmp(p, want[i], &cp);
+    G->g[i].cmp = want[i];
+    G->g[i].x_m = cp.x_m;
+    G->g[i].y_m = cp.y_m;
+  }
+  size_t ns = p->axis.ns, total = 0;
+  for (size_t fi = 0; fi < p->ninputs && n && !rc; fi++) {
+    if (p->inputs[fi].bad)
+      continue;
+    segy_file *f = NULL;
+    if ((rc = stack_open_input(p, fi, &f, err)))
+      break;
+    if (!stack_file_axis_ok(p, segy_get_info(f))) {
+      segy_close(f);
+      continue;
+    }
+    int64_t nt = segy_trace_count(f);
+    free(hit);
+    free(hitg);
+    hit = malloc((size_t)(nt ? nt : 1) * sizeof *hit);
+    hitg = malloc((size_t)(nt ? nt : 1) * sizeof *hitg);
+    if (!hit || !hitg) {
+      segy_close(f);
+      rc = tz_fail(err, TZ_E_NOMEM, "gather scan");
+      break;
+    }
+    size_t nh = 0;
+    for (int64_t t = 0; t < nt && !rc; t++) {
+      segy_trace_header h;
+      if ((rc = segy_read_header(f, t, &h, err))) {
+        tz_err_path(err, p->inputs[fi].path);
+        break;
+      }
+      int32_t cmp;
+      double off, offs;
+      int reason;
+      if (!stack_plan_classify(p, &h, t, &cmp, &off, &offs, &reason))
+        continue;
+      int32_t *at = bsearch(&cmp, want, n, sizeof *want, cmp_i32);
+      if (!at)
+        continue;
+      hit[nh] = t;
+      hitg[nh++] = (size_t)(at - want);
+    }
+    for (size_t k = 0; k < nh && !rc; k++) {
+      stack_gather *g = &G->g[hitg[k]];
+      if (++total > STACK_MAX_GATHER_TRACES) {
+        rc = tz_fail(err, TZ_E_ARG, "more than %d traces in the requested gathers",
+                     STACK_MAX_GATHER_TRACES);
+        break;
+      }
+      if ((rc = grow(g, &cap[hitg[k]], ns, err)))
+        break;
+      size_t j = g->ntraces;
+      segy_trace_header *h = &g->headers[j];
+      if ((rc = segy_read_trace(f, hit[k], h, g->samples + j * ns, ns, err))) {
+        tz_err_path(err, p->inputs[fi].path);
+        break;
+      }
+      int32_t cmp;
+      int reason;
+      stack_plan_classify(p, h, hit[k], &cmp, &g->offset_m[j], &g->offset_signed_m[j], &reason);
+      g->ntraces++;
+    }
+    segy_close(f);
+  }
+  for (size_t i = 0; i < n && !rc; i++)
+    rc = sort_gather(&G->g[i], ns, err);
+done:
+  free(want);
+  free(cap);
+  free(hit);
+  free(hitg);
+  if (rc) {
+    stack_gathers_free(G);
+    return rc;
+  }
+  *out = G;
+  return TZ_OK;
+}
+
+/* ---------------------------------------------------------------- writing */
+
+int stack_section_write(const stack_section *s, const stack_plan *p, const char *path,
+                        int format_code, tz_err *err)
+{
+  const job_spec *j = p->job;
+  char text[38 * 80];
+  stack_line_info li = p->line_info;
+  snprintf(text, sizeof text,
+           "tzero stacked section (CMP stack, NMO corrected, live-fold normalised)\n"
+           "line: %s\n"
+           "CMPs %d to %d, bin %.3f m, line origin %.2f %.2f, azimuth %.3f deg\n"
+           "velocity: %.60s\n"
+           "stretch limit %.1f %%, interpolation %s\n"
+           "coordinates: CMP X/Y in bytes 181-188, scalar in 71-72\n"
+           "fold in bytes 33-34; trace kind 2 marks zero-fold CMPs",
+           j->name && j->name[0] ? j->name : "(unnamed)", (int)s->first_cmp,
+           (int)(s->first_cmp + (int32_t)s->ncmps - 1), li.size_m, li.origin_x_m, li.origin_y_m,
+           li.azimuth_deg, j->velocity ? j->velocity : "(given in code)", j->stretch_limit_pct,
+           job_interp_name(j->interpolation));
+  segy_write_opts o;
+  memset(&o, 0, sizeof o);
+  o.revision = 1;
+  o.format_code = format_code == 1 ? 1 : 5;
+  o.samples = (uint32_t)s->axis.ns;
+  o.interval_us = s->interval_us;
+  o.sorting_code = 4;                      /* horizontally stacked (SEG-Y rev 1) */
+  double nom = round(p->nominal_fold);
+  o.ensemble_fold = (int16_t)(nom > 32767 ? 32767 : nom < 0 ? 0 : nom);
+  o.traces_per_ensemble = 1;
+  o.measurement_system = 1;
+  o.text = text;
+  segy_writer *w = NULL;
+  int rc = segy_writer_open(&w, path, &o, err);
+  if (rc)
+    return rc;
+  for (size_t c = 0; c < s->ncmps; c++) {
+    const stack_cmp_result *r = &s->cmps[c];
+    segy_trace_header h;
+    memset(&h, 0, sizeof h);
+    h.line_seq = (int32_t)c + 1;
+    h.file_seq = (int32_t)c + 1;
+    h.cmp = r->cmp;
+    h.cmp_trace = 1;
+    h.kind = r->fold > 0 ? SEGY_KIND_SEISMIC : SEGY_KIND_DEAD;
+    h.vertical_sum = 1;
+    h.stacked_traces = (int16_t)(r->fold > 32767 ? 32767 : r->fold);
+    h.data_use = 1;
+    h.offset = 0;
+    h.coord_scalar = -100;
+    h.elev_scalar = -100;
+    h.source_x = h.receiver_x = h.cmp_x = r->x_m;
+    h.source_y = h.receiver_y = h.cmp_y = r->y_m;
+    h.coord_units = 1;
+    h.delay_ms = p->delay_ms;
+    h.samples = (uint32_t)s->axis.ns;
+    h.interval_us = s->interval_us;
+    h.shotpoint = r->cmp;
+    if ((rc = segy_write_trace(w, &h, s->samples + c * s->axis.ns, err))) {
+      segy_writer_abort(w);
+      return rc;
+    }
+  }
+  return segy_writer_finish(w, err);
+}

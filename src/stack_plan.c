@@ -1,0 +1,662 @@
+/* stack_plan.c -- the header pass: which trace goes to which CMP, and why not.
+ *
+ * Reads only trace headers (segy_read_header seeks past the samples), so it
+ * costs a few hundred bytes per trace and is repeated cheaply on every rerun.
+ * Steps: open the geometry source the job names; when the job gives no line
+ * (and no layout defines one), a first header scan fits a straight line through
+ * the live midpoints (bins.h) and estimates receiver and shot spacing; a second
+ * scan classifies every trace (trace kind, geometry, off the line, offset
+ * limits, CMP range) and accumulates fold and offsets per CMP (bins_fold).
+ *
+ * The per-trace classification is stack_plan_classify(), which the data pass
+ * and stack_collect() call again on the headers they read, so all three agree
+ * by construction. Nothing per trace is kept: memory ~ the number of CMPs.
+ *
+ * Not here: samples (stack_run.c), gathers (stack_collect.c).
+ */
+#include "stack_int.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+
+static const char *const skip_names[STACK_SKIP__COUNT] = {
+  [STACK_SKIP_DEAD] = "dead",
+  [STACK_SKIP_AUXILIARY] = "auxiliary",
+  [STACK_SKIP_OFF_LINE] = "off_line",
+  [STACK_SKIP_CMP_RANGE] = "outside_cmp_range",
+  [STACK_SKIP_OFFSET] = "outside_offset_limits",
+  [STACK_SKIP_SAMPLE_AXIS] = "sample_axis_mismatch",
+  [STACK_SKIP_UNREADABLE] = "unreadable",
+  [STACK_SKIP_BAD_FILE] = "bad_file",
+};
+
+const char *stack_skip_name(int reason)
+{
+  if (reason < 0 || reason >= STACK_SKIP__COUNT)
+    return "unknown";
+  return skip_names[reason];
+}
+
+/* Trace identification codes (SEG-Y rev 1, bytes 29-30; REFERENCE.md §1.5):
+ * 0 unknown and 1 seismic are data (common practice: unknown is live); 11-17
+ * are sensor data (pressure, multicomponent, rotated); 2 dead and 3 dummy are
+ * dead; everything else (time break, uphole, sweep, timing, water break, gun
+ * signatures, vibrator signals, -1 other, optional codes) is auxiliary. */
+int stack_kind_reason(int kind)
+{
+  if (kind == 0 || kind == 1 || (kind >= 11 && kind <= 17))
+    return -1;
+  if (kind == SEGY_KIND_DEAD || kind == SEGY_KIND_DUMMY)
+    return STACK_SKIP_DEAD;
+  return STACK_SKIP_AUXILIARY;
+}
+
+int stack_open_input(const stack_plan *p, size_t i, segy_file **f, tz_err *err)
+{
+  segy_open_opts o;
+  memset(&o, 0, sizeof o);
+  o.map = p->has_map ? &p->map : NULL;
+  int rc = segy_open(f, p->inputs[i].path, &o, err);
+  if (rc)
+    tz_err_path(err, p->inputs[i].path);
+  return rc;
+}
+
+int stack_file_axis_ok(const stack_plan *p, const segy_info *info)
+{
+  return info->samples == p->axis.ns && info->interval_us == p->interval_us;
+}
+
+/* ---------------------------------------------------------------- accessors */
+
+const job_spec *stack_plan_job(const stack_plan *p) { return p->job; }
+nmo_axis stack_plan_axis(const stack_plan *p) { return p->axis; }
+uint32_t stack_plan_interval_us(const stack_plan *p) { return p->interval_us; }
+int32_t stack_plan_first_cmp(const stack_plan *p) { return p->first_cmp; }
+int32_t stack_plan_last_cmp(const stack_plan *p) { return p->last_cmp; }
+size_t stack_plan_ncmps(const stack_plan *p) { return p->ncmps; }
+double stack_plan_nominal_fold(const stack_plan *p) { return p->nominal_fold; }
+stack_line_info stack_plan_line(const stack_plan *p) { return p->line_info; }
+size_t stack_plan_ninputs(const stack_plan *p) { return p->ninputs; }
+const stack_input *stack_plan_input(const stack_plan *p, size_t i)
+{
+  return i < p->ninputs ? &p->inputs[i] : NULL;
+}
+int64_t stack_plan_traces(const stack_plan *p) { return p->traces; }
+int64_t stack_plan_stackable(const stack_plan *p) { return p->stackable; }
+int64_t stack_plan_skipped(const stack_plan *p, int reason)
+{
+  return reason >= 0 && reason < STACK_SKIP__COUNT ? p->skipped[reason] : 0;
+}
+
+void stack_plan_cmp(const stack_plan *p, int32_t cmp, stack_cmp_plan *out)
+{
+  if (cmp >= p->first_cmp && cmp <= p->last_cmp && p->cmps) {
+    *out = p->cmps[cmp - p->first_cmp];
+    return;
+  }
+  memset(out, 0, sizeof *out);
+  out->cmp = cmp;
+  bins_cmp_centre(p->line, cmp, &out->x_m, &out->y_m);
+}
+
+int stack_plan_nmo(const stack_plan *p, nmo_params *np, nmo_top_mute *mute, tz_err *err)
+{
+  const job_spec *j = p->job;
+  nmo_params_default(np);
+  np->stretch_limit_pct = j->stretch_limit_pct;
+  np->stretch_taper_ms = j->stretch_taper_ms;
+  np->interp = j->interpolation == JOB_INTERP_SINC8 ? NMO_INTERP_SINC8 : NMO_INTERP_LINEAR;
+  np->use_eta = j->fourth_order;
+  double off[NMO_MUTE_MAX_POINTS], t[NMO_MUTE_MAX_POINTS];
+  size_t n = j->nmute < NMO_MUTE_MAX_POINTS ? j->nmute : NMO_MUTE_MAX_POINTS;
+  for (size_t i = 0; i < n; i++) {
+    off[i] = j->mute_top[i].offset_m;
+    t[i] = j->mute_top[i].time_ms;
+  }
+  memset(mute, 0, sizeof *mute);
+  if (n == 0)
+    return TZ_OK;
+  int rc = nmo_top_mute_set(mute, off, t, n, j->mute_taper_ms, err);
+  if (rc)
+    tz_err_path(err, j->path);
+  return rc;
+}
+
+/* ---------------------------------------------------------------- classify */
+
+int stack_plan_classify(const stack_plan *p, const segy_trace_header *h, int64_t trace,
+                        int32_t *cmp, double *offset_abs_m, double *offset_signed_m,
+                        int *reason)
+{
+  int r = stack_kind_reason(h->kind);
+  if (r >= 0) {
+    *reason = r;
+    return 0;
+  }
+  if ((h->samples && h->samples != p->axis.ns) || (h->interval_us && h->interval_us != p->interval_us) ||
+      h->delay_ms != p->delay_ms) {
+    *reason = STACK_SKIP_SAMPLE_AXIS;
+    return 0;
+  }
+  geometry_trace g;
+  tz_err e;
+  tz_err_init(&e);
+  if (geometry_source_trace(p->geo, h, trace, &g, &e)) {
+    *reason = STACK_SKIP_UNREADABLE;
+    return 0;
+  }
+  bins_loc loc;
+  if (bins_locate(p->line, g.midpoint_x, g.midpoint_y, &loc) != BINS_IN) {
+    *reason = STACK_SKIP_OFF_LINE;
+    return 0;
+  }
+  if (g.offset_abs < p->job->offset_min_m || g.offset_abs > p->job->offset_max_m) {
+    *reason = STACK_SKIP_OFFSET;
+    return 0;
+  }
+  if (p->has_range && (loc.cmp < p->first_cmp || loc.cmp > p->last_cmp)) {
+    *reason = STACK_SKIP_CMP_RANGE;
+    return 0;
+  }
+  *cmp = loc.cmp;
+  *offset_abs_m = g.offset_abs;
+  if (offset_signed_m)
+    *offset_signed_m = g.offset;
+  return 1;
+}
+
+/* ---------------------------------------------------------------- build */
+
+static int cmp_dbl(const void *a, const void *b)
+{
+  double x = *(const double *)a, y = *(const double *)b;
+  return (x > y) - (x < y);
+}
+
+static double median(double *v, size_t n)
+{
+  if (!n)
+    return NAN;
+  qsort(v, n, sizeof *v, cmp_dbl);
+  return n % 2 ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
+}
+
+/* Spacing statistics from the first scan (headers and tables only). */
+typedef struct spacing {
+  double *rx;        /* per-file median receiver spacing */
+  double *sx, *sy;   /* per-file source position (first live trace) */
+  double *ch;        /* per-file live channels */
+  size_t n;
+} spacing;
+
+static void spacing_free(spacing *s)
+{
+  free(s->rx);
+  free(s->sx);
+  free(s->sy);
+  free(s->ch);
+}
+
+/* Opens input i; on failure either fails the build or marks the file bad. */
+static int open_or_skip(stack_plan *p, size_t i, segy_file **f, tz_err *err)
+{
+  stack_input *in = &p->inputs[i];
+  if (in->bad)
+    return 1;
+  tz_err e;
+  tz_err_init(&e);
+  int rc = stack_open_input(p, i, f, &e);
+  if (!rc) {
+    in->traces = segy_trace_count(*f);
+    return 0;
+  }
+  if (!p->job->skip_bad_files) {
+    *err = e;
+    return -1;
+  }
+  in->bad = 1;
+  tz_err_format(&e, in->error, sizeof in->error);
+  return 1;
+}
+
+/* Records a read failure inside a file: fatal, or the file becomes bad. */
+static int bad_inside(stack_plan *p, size_t i, tz_err *e, tz_err *err)
+{
+  tz_err_path(e, p->inputs[i].path);
+  if (!p->job->skip_bad_files) {
+    *err = *e;
+    return -1;
+  }
+  p->inputs[i].bad = 1;
+  tz_err_format(e, p->inputs[i].error, sizeof p->inputs[i].error);
+  return 1;
+}
+
+static int set_axis(stack_plan *p, segy_file *f, tz_err *err)
+{
+  if (p->have_axis)
+    return TZ_OK;
+  const segy_info *info = segy_get_info(f);
+  segy_trace_header h;
+  if (info->trace_count > 0) {
+    int rc = segy_read_header(f, 0, &h, err);
+    if (rc)
+      return rc;
+    p->delay_ms = h.delay_ms;
+  }
+  if (info->samples == 0 || info->interval_us == 0)
+    return tz_fail(err, TZ_E_FORMAT, "no sample count or interval in the file headers");
+  p->interval_us = info->interval_us;
+  p->axis.ns = info->samples;
+  p->axis.dt_s = info->interval_us * 1e-6;
+  p->axis.t_first_s = p->delay_ms * 1e-3;
+  p->have_axis = 1;
+  return TZ_OK;
+}
+
+/* First scan: line fit and spacing estimates (geometry from headers or table). */
+static int scan_fit(stack_plan *p, bins_fitter *fit, spacing *sp, stack_progress_fn progress,
+                    void *ctx, tz_err *err)
+{
+  size_t cap = p->ninputs ? p->ninputs : 1;
+  sp->rx = malloc(cap * sizeof *sp->rx);
+  sp->sx = malloc(cap * sizeof *sp->sx);
+  sp->sy = malloc(cap * sizeof *sp->sy);
+  sp->ch = malloc(cap * sizeof *sp->ch);
+  double *d = NULL;
+  size_t dcap = 0;
+  if (!sp->rx || !sp->sx || !sp->sy || !sp->ch)
+    return tz_fail(err, TZ_E_NOMEM, "spacing statistics");
+  int rc = TZ_OK;
+  int64_t done = 0;
+  for (size_t i = 0; i < p->ninputs && !rc; i++) {
+    segy_file *f = NULL;
+    int o = open_or_skip(p, i, &f, err);
+    if (o < 0) {
+      rc = err->status;
+      break;
+    }
+    if (o > 0)
+      continue;
+    if ((rc = set_axis(p, f, err))) {
+      tz_err_path(err, p->inputs[i].path);
+      segy_close(f);
+      break;
+    }
+    int64_t n = segy_trace_count(f);
+    if ((size_t)n > dcap) {
+      free(d);
+      dcap = (size_t)n;
+      if (!(d = malloc(dcap * sizeof *d))) {
+        segy_close(f);
+        rc = tz_fail(err, TZ_E_NOMEM, "spacing statistics");
+        break;
+      }
+    }
+    size_t nd = 0, live = 0;
+    double prx = 0, pry = 0;
+    for (int64_t t = 0; t < n; t++) {
+      segy_trace_header h;
+      geometry_trace g;
+      tz_err e;
+      tz_err_init(&e);
+      if (segy_read_header(f, t, &h, &e)) {
+        int b = bad_inside(p, i, &e, err);
+        if (b < 0)
+          rc = err->status;
+        break;
+      }
+      if (stack_kind_reason(h.kind) >= 0 || geometry_source_trace(p->geo, &h, t, &g, &e))
+        continue;
+      if ((rc = bins_fitter_add(fit, g.midpoint_x, g.midpoint_y, err)))
+        break;
+      if (live == 0) {
+        sp->sx[sp->n] = g.source_x;
+        sp->sy[sp->n] = g.source_y;
+      } else {
+        double dd = hypot(g.receiver_x - prx, g.receiver_y - pry);
+        if (dd > 1e-6)
+          d[nd++] = dd;
+      }
+      prx = g.receiver_x;
+      pry = g.receiver_y;
+      live++;
+    }
+    segy_close(f);
+    if (!p->inputs[i].bad && live) {
+      sp->rx[sp->n] = nd ? median(d, nd) : NAN;
+      sp->ch[sp->n] = (double)live;
+      sp->n++;
+    }
+    done += p->inputs[i].traces;
+    if (progress)
+      progress(ctx, done, -1);
+  }
+  free(d);
+  return rc;
+}
+
+static double spacing_receiver(spacing *sp)
+{
+  size_t k = 0;
+  for (size_t i = 0; i < sp->n; i++)
+    if (isfinite(sp->rx[i]))
+      sp->rx[k++] = sp->rx[i];
+  return median(sp->rx, k);
+}
+
+/* Nominal fold N dg / (2 ds) (REFERENCE.md §3.9) from header statistics. */
+static double spacing_nominal(spacing *sp, double dg)
+{
+  if (sp->n == 0)
+    return 0;
+  double *ds = malloc(sp->n * sizeof *ds);
+  if (!ds)
+    return 0;
+  size_t k = 0;
+  for (size_t i = 1; i < sp->n; i++) {
+    double d = hypot(sp->sx[i] - sp->sx[i - 1], sp->sy[i] - sp->sy[i - 1]);
+    if (d > 1e-6)
+      ds[k++] = d;
+  }
+  double shot = median(ds, k);
+  double ch = median(sp->ch, sp->n);
+  free(ds);
+  if (!(shot > 0) || !(dg > 0))
+    return ch;   /* fixed shot position: every trace of a shot is its own CMP */
+  double f = ch * dg / (2 * shot);
+  return f < ch ? f : ch;
+}
+
+static int make_line(stack_plan *p, tz_err *err)
+{
+  const job_spec *j = p->job;
+  const geometry_layout *lay = geometry_source_get_layout(p->geo);
+  bins_params bp;
+  memset(&bp, 0, sizeof bp);
+  spacing sp;
+  memset(&sp, 0, sizeof sp);
+  int rc = TZ_OK;
+  double size = j->bins.has_size ? j->bins.size_m : 0;
+  int32_t first = (int32_t)j->bins.first_cmp;
+  if (lay) {
+    p->nominal_fold = geometry_layout_nominal_fold(lay);
+    if (!size)
+      size = geometry_layout_default_bin(lay);
+    if (j->bins.has_origin) {
+      bp.origin_x = j->bins.origin_x_m;
+      bp.origin_y = j->bins.origin_y_m;
+      bp.azimuth_deg = j->bins.azimuth_deg;
+    } else {
+      if ((rc = bins_params_from_layout(lay, size, first, &bp, err)))
+        return rc;
+      p->line_info.from_layout = 1;
+    }
+  } else {
+    bins_fitter *fit = NULL;
+    if ((rc = bins_fitter_new(&fit, err)))
+      return rc;
+    rc = scan_fit(p, fit, &sp, NULL, NULL, err);
+    if (!rc && !size) {
+      double dg = spacing_receiver(&sp);
+      if (!(dg > 0))
+        rc = tz_fail(err, TZ_E_FORMAT, "cannot derive a bin size: no receiver spacing in "
+                     "the headers; give bins.size_m in the job");
+      size = 0.5 * dg;   /* default bin: half the receiver interval (common practice) */
+    }
+    if (!rc && j->bins.has_origin) {
+      bp.origin_x = j->bins.origin_x_m;
+      bp.origin_y = j->bins.origin_y_m;
+      bp.azimuth_deg = j->bins.azimuth_deg;
+    } else if (!rc) {
+      bins_fit_report rep;
+      rc = bins_fitter_solve(fit, size, first, j->bins.max_distance_m, &bp, &rep, err);
+      if (rc)
+        tz_err_path(err, j->path);
+      p->line_info.fitted = 1;
+      p->line_info.fit_rms_off_line_m = rep.rms_off_line_m;
+    }
+    bins_fitter_free(fit);
+    if (!rc) {
+      /* nominal from the same statistics; dg as measured */
+      double dg = 2 * size;
+      double meas = spacing_receiver(&sp);
+      if (meas > 0)
+        dg = meas;
+      p->nominal_fold = spacing_nominal(&sp, dg);
+    }
+    spacing_free(&sp);
+    if (rc)
+      return rc;
+  }
+  bp.size_m = size;
+  bp.first_cmp = first;
+  bp.max_off_line_m = j->bins.max_distance_m;
+  if ((rc = bins_line_straight(&p->line, &bp, err)))
+    return rc;
+  if (!lay)
+    geometry_source_set_direction(p->geo, bp.azimuth_deg);
+  p->line_info.origin_x_m = bp.origin_x;
+  p->line_info.origin_y_m = bp.origin_y;
+  p->line_info.azimuth_deg = bp.azimuth_deg;
+  p->line_info.size_m = bp.size_m;
+  p->line_info.first_cmp = bp.first_cmp;
+  p->line_info.max_off_line_m = bp.max_off_line_m;
+  return TZ_OK;
+}
+
+static int open_geometry(stack_plan *p, tz_err *err)
+{
+  const job_spec *j = p->job;
+  int rc;
+  if (j->geometry == JOB_GEOMETRY_LAYOUT) {
+    geometry_layout l;
+    geometry_layout_init(&l);
+    if ((rc = geometry_layout_load(&l, j->geometry_file, err)))
+      return tz_err_path(err, j->geometry_file);
+    rc = geometry_layout_check(&l, err);
+    if (!rc)
+      rc = geometry_source_layout(&p->geo, &l, err);
+    geometry_layout_free(&l);
+    if (rc)
+      tz_err_path(err, j->geometry_file);
+    return rc;
+  }
+  if (j->geometry == JOB_GEOMETRY_TABLE) {
+    geometry_table *t = NULL;
+    if ((rc = geometry_table_load(&t, j->geometry_file, err)))
+      return tz_err_path(err, j->geometry_file);
+    return geometry_source_table(&p->geo, t, err);
+  }
+  return geometry_source_headers(&p->geo, err);
+}
+
+/* Second scan: classify every trace, accumulate fold. */
+static int scan_bins(stack_plan *p, bins_fold *fold, stack_progress_fn progress, void *ctx,
+                     tz_err *err)
+{
+  int rc = TZ_OK;
+  int64_t done = 0;
+  for (size_t i = 0; i < p->ninputs && !rc; i++) {
+    segy_file *f = NULL;
+    int o = open_or_skip(p, i, &f, err);
+    if (o < 0)
+      return err->status;
+    if (o > 0)
+      continue;
+    if ((rc = set_axis(p, f, err))) {
+      tz_err_path(err, p->inputs[i].path);
+      segy_close(f);
+      return rc;
+    }
+    int64_t n = segy_trace_count(f);
+    int axis_ok = stack_file_axis_ok(p, segy_get_info(f));
+    int64_t counts[STACK_SKIP__COUNT] = { 0 }, stack_n = 0;
+    int badf = 0;
+    for (int64_t t = 0; t < n && axis_ok; t++) {
+      segy_trace_header h;
+      tz_err e;
+      tz_err_init(&e);
+      if (segy_read_header(f, t, &h, &e)) {
+        badf = bad_inside(p, i, &e, err);
+        break;
+      }
+      int32_t cmp;
+      double off;
+      int reason;
+      if (!stack_plan_classify(p, &h, t, &cmp, &off, NULL, &reason)) {
+        counts[reason]++;
+        continue;
+      }
+      if (!p->has_range && (cmp < -STACK_MAX_CMPS * 100 || cmp > STACK_MAX_CMPS * 100)) {
+        segy_close(f);
+        tz_err_path(err, p->inputs[i].path);
+        return tz_fail_at(err, TZ_E_FORMAT, t, -1, "CMP %d is implausibly far along the line",
+                          (int)cmp);
+      }
+      if ((rc = bins_fold_add(fold, cmp, off, err))) {
+        segy_close(f);
+        return tz_err_path(err, p->inputs[i].path);
+      }
+      stack_n++;
+    }
+    segy_close(f);
+    if (badf < 0)
+      return err->status;
+    if (!axis_ok)
+      counts[STACK_SKIP_SAMPLE_AXIS] = n;
+    if (badf > 0)
+      return -2;   /* the caller rebuilds the fold without this file */
+    p->traces += n;
+    for (int r = 0; r < STACK_SKIP__COUNT; r++)
+      p->skipped[r] += counts[r];
+    p->stackable += stack_n;
+    done += n;
+    if (progress)
+      progress(ctx, done, -1);
+  }
+  return rc;
+}
+
+void stack_plan_free(stack_plan *p)
+{
+  if (!p)
+    return;
+  geometry_source_free(p->geo);
+  bins_line_free(p->line);
+  free(p->cmps);
+  free(p->inputs);
+  free(p);
+}
+
+int stack_plan_build(stack_plan **out, const job_spec *job, stack_progress_fn progress, void *ctx,
+                     tz_err *err)
+{
+  stack_plan *p = calloc(1, sizeof *p);
+  if (!p)
+    return tz_fail(err, TZ_E_NOMEM, "stack plan");
+  p->job = job;
+  int rc = TZ_OK;
+  bins_fold *fold = NULL;
+  if (!job->nshots) {
+    rc = tz_fail(err, TZ_E_JOB, "$.shots: no shot files");
+    goto fail;
+  }
+  p->ninputs = job->nshots;
+  if (!(p->inputs = calloc(p->ninputs, sizeof *p->inputs))) {
+    rc = tz_fail(err, TZ_E_NOMEM, "stack inputs");
+    goto fail;
+  }
+  for (size_t i = 0; i < p->ninputs; i++) {
+    struct stat st;
+    p->inputs[i].path = job->shots[i];
+    p->inputs[i].bytes = stat(job->shots[i], &st) == 0 ? (int64_t)st.st_size : -1;
+  }
+  if (job->header_map) {
+    if ((rc = segy_header_map_load(&p->map, job->header_map, err))) {
+      tz_err_path(err, job->header_map);
+      goto fail;
+    }
+    p->has_map = 1;
+  }
+  if ((rc = open_geometry(p, err)) || (rc = make_line(p, err)))
+    goto fail;
+  if (job->has_cmp_range) {
+    p->has_range = 1;
+    p->first_cmp = (int32_t)job->cmp_first;
+    p->last_cmp = (int32_t)job->cmp_last;
+  }
+  for (;;) {
+    bins_fold_free(fold);
+    fold = NULL;
+    if ((rc = bins_fold_new(&fold, p->line, 1.0, err)))
+      goto fail;
+    p->traces = p->stackable = 0;
+    memset(p->skipped, 0, sizeof p->skipped);
+    rc = scan_bins(p, fold, progress, ctx, err);
+    if (rc != -2)
+      break;
+    /* a file turned bad part-way (skip_bad_files): rescan without it, so that
+     * its traces count neither in the fold nor in the totals */
+  }
+  if (rc)
+    goto fail;
+  for (size_t i = 0; i < p->ninputs; i++)
+    if (p->inputs[i].bad) {
+      p->traces += p->inputs[i].traces;
+      p->skipped[STACK_SKIP_BAD_FILE] += p->inputs[i].traces;
+    }
+  if (!p->have_axis) {
+    rc = tz_fail(err, TZ_E_NOINPUT, "none of the %zu shot files could be read", p->ninputs);
+    goto fail;
+  }
+  if (p->stackable == 0) {
+    char why[400] = "";
+    size_t n = 0;
+    for (int r = 0; r < STACK_SKIP__COUNT; r++)
+      if (p->skipped[r] && n < sizeof why)
+        n += (size_t)snprintf(why + n, sizeof why - n, "%s%s %lld", n ? ", " : "",
+                              stack_skip_name(r), (long long)p->skipped[r]);
+    rc = tz_fail(err, TZ_E_FORMAT, "no trace to stack among %lld traces read (skipped: %s)",
+                 (long long)p->traces, n ? why : "none");
+    goto fail;
+  }
+  if (!p->has_range) {
+    bins_fold_summary s;
+    bins_fold_summarise(fold, &s);
+    p->first_cmp = s.first_cmp;
+    p->last_cmp = s.last_cmp;
+  }
+  if ((int64_t)p->last_cmp - p->first_cmp + 1 > STACK_MAX_CMPS) {
+    rc = tz_fail(err, TZ_E_FORMAT, "CMPs %d to %d: more than %d CMPs in one section",
+                 (int)p->first_cmp, (int)p->last_cmp, STACK_MAX_CMPS);
+    goto fail;
+  }
+  p->ncmps = (size_t)((int64_t)p->last_cmp - p->first_cmp + 1);
+  if (!(p->cmps = calloc(p->ncmps, sizeof *p->cmps))) {
+    rc = tz_fail(err, TZ_E_NOMEM, "%zu CMPs", p->ncmps);
+    goto fail;
+  }
+  for (size_t c = 0; c < p->ncmps; c++) {
+    bins_cmp_stats st;
+    int32_t cmp = p->first_cmp + (int32_t)c;
+    bins_fold_get(fold, cmp, &st);
+    stack_cmp_plan *cp = &p->cmps[c];
+    cp->cmp = cmp;
+    bins_cmp_centre(p->line, cmp, &cp->x_m, &cp->y_m);
+    cp->fold = st.fold;
+    cp->offset_min_m = st.fold ? st.offset_min_m : 0;
+    cp->offset_max_m = st.fold ? st.offset_max_m : 0;
+  }
+  bins_fold_free(fold);
+  *out = p;
+  return TZ_OK;
+fail:
+  bins_fold_free(fold);
+  stack_plan_free(p);
+  return rc;
+}
