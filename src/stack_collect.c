@@ -52,7 +52,7 @@ int stack_parse_cmp_list(const char *s, int32_t **out, size_t *n, tz_err *err)
     const char *e = strchr(p, ',');
     size_t len = e ? (size_t)(e - p) : strlen(p);
     /* item: A | A-B | A-B:S (A may be negative: a '-' after the first char splits) */
-    int64_t a, b, step = 1;
+    int64_t a = 0, b = 0, step = 1;
     const char *dash = NULL, *colon = memchr(p, ':', len);
     size_t lim = colon ? (size_t)(colon - p) : len;
     for (size_t i = 1; i < lim; i++)
