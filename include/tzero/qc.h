@@ -1,0 +1,55 @@
+/* qc.h -- the QC report of a stack run ("format": "tzero-qc/1"): build, save, read, summarise.
+ *
+ * The report is JSON (docs/qc-report.md lists every key): inputs, the resolved
+ * job, trace counts with skip reasons, one entry per CMP, fold, mute and
+ * velocity statistics, timing and throughput. qc_report_build() makes it from a
+ * finished run; qc_report_load() reads a saved one back, and the summary, CMP
+ * detail and fold table are produced from the JSON alone, so `tzero report`
+ * and `tzero stack` print the same text. The library never prints: text comes
+ * back as strings the caller owns.
+ */
+#ifndef TZERO_QC_H
+#define TZERO_QC_H
+
+#include <stddef.h>
+#include "tzero/error.h"
+#include "tzero/job.h"
+#include "tzero/stack.h"
+#include "tzero/velocity.h"
+
+#define QC_FORMAT "tzero-qc/1"
+#define QC_MAX_BYTES (512u << 20)   /* a report larger than this is refused */
+
+typedef struct qc_build_args {
+  const job_spec *job;              /* resolved job (parameters) */
+  const stack_plan *plan;
+  const stack_section *section;
+  const velocity_table *velocity;   /* for control CMPs and Dix warnings; may be NULL */
+  const char *section_path;         /* where the section was written; may be NULL */
+  const char *tool_version;         /* e.g. "0.1.0"; may be NULL */
+  double header_pass_s, data_pass_s, write_s, total_s;
+} qc_build_args;
+
+/* Builds the report. On success *json owns NUL-terminated JSON text (free()). */
+int qc_report_build(const qc_build_args *a, char **json, tz_err *err);
+/* Writes text to path through a temporary file renamed on success. */
+int qc_write_text(const char *path, const char *text, tz_err *err);
+
+typedef struct qc_report qc_report;
+
+/* Parses a report; TZ_E_FORMAT (naming the key) when it is not tzero-qc/1.
+ * On success *out owns the report: qc_report_free(). */
+int qc_report_parse(qc_report **out, const char *text, size_t len, const char *name,
+                    tz_err *err);
+int qc_report_load(qc_report **out, const char *path, tz_err *err);
+void qc_report_free(qc_report *r);          /* NULL is a no-op */
+
+/* The human summary (several lines, '\n'-terminated). *text owns a string. */
+int qc_report_summary(const qc_report *r, char **text, tz_err *err);
+/* One CMP in detail; TZ_E_ARG when the report has no such CMP. */
+int qc_report_cmp_detail(const qc_report *r, long cmp, char **text, tz_err *err);
+/* The per-CMP table as CSV: cmp,x_m,y_m,fold,offset_min_m,offset_max_m,
+ * live_fraction,full_fold_ms (empty when undefined). */
+int qc_report_fold_csv(const qc_report *r, char **text, tz_err *err);
+
+#endif

@@ -1,0 +1,541 @@
+/* qc.c -- the tzero-qc/1 report: built with cJSON from a finished run, read back for text.
+ *
+ * Building: every number comes from the plan (header pass), the section (data
+ * pass) or the velocity table; nothing is recomputed here except the fold
+ * statistics over the section's CMPs (zero-fold CMPs included, so gaps show).
+ * Reading: the summary, CMP detail and fold table use only the JSON, so a saved
+ * report prints exactly what the run printed. Missing keys in a report read
+ * back are TZ_E_FORMAT naming the key.
+ *
+ * Not here: printing (the front end), the stacking itself (stack_*.c).
+ */
+#include "tzero/qc.h"
+
+#include <cjson/cJSON.h>
+#include <math.h>
+#include <stdarg.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+
+#include "tzero/fileio.h"
+
+struct qc_report {
+  cJSON *root;
+  char *name;
+};
+
+/* ---------------------------------------------------------------- build */
+
+static cJSON *num_or_null(double v)
+{
+  return isfinite(v) ? cJSON_CreateNumber(v) : cJSON_CreateNull();
+}
+
+static double round_to(double v, double q)
+{
+  return isfinite(v) ? round(v / q) * q : v;
+}
+
+static double frac(int64_t a, int64_t b)
+{
+  return b > 0 ? (double)a / (double)b : 0;
+}
+
+static void add_inputs(cJSON *r, const stack_plan *p)
+{
+  cJSON *in = cJSON_AddArrayToObject(r, "inputs");
+  cJSON *bad = cJSON_AddArrayToObject(r, "bad_files");
+  for (size_t i = 0; i < stack_plan_ninputs(p); i++) {
+    const stack_input *s = stack_plan_input(p, i);
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddStringToObject(o, "path", s->path);
+    cJSON_AddNumberToObject(o, "bytes", (double)s->bytes);
+    cJSON_AddNumberToObject(o, "traces", (double)s->traces);
+    cJSON_AddBoolToObject(o, "bad", s->bad);
+    if (s->bad) {
+      cJSON_AddStringToObject(o, "error", s->error);
+      cJSON *b = cJSON_CreateObject();
+      cJSON_AddStringToObject(b, "path", s->path);
+      cJSON_AddStringToObject(b, "error", s->error);
+      cJSON_AddItemToArray(bad, b);
+    }
+    cJSON_AddItemToArray(in, o);
+  }
+}
+
+static void add_mute_counts(cJSON *o, int64_t samples, int64_t stretch, int64_t top, int64_t end)
+{
+  cJSON_AddNumberToObject(o, "muted_fraction", round_to(frac(stretch + top, samples), 1e-6));
+  cJSON_AddNumberToObject(o, "stretch_muted_fraction", round_to(frac(stretch, samples), 1e-6));
+  cJSON_AddNumberToObject(o, "top_muted_fraction", round_to(frac(top, samples), 1e-6));
+  cJSON_AddNumberToObject(o, "beyond_trace_end_fraction", round_to(frac(end, samples), 1e-6));
+}
+
+static int add_velocity(cJSON *r, const qc_build_args *a, tz_err *err)
+{
+  cJSON *v = cJSON_AddObjectToObject(r, "velocity");
+  cJSON_AddItemToObject(v, "file", a->job && a->job->velocity ? cJSON_CreateString(a->job->velocity)
+                                                               : cJSON_CreateNull());
+  cJSON *w = cJSON_AddArrayToObject(v, "warnings");
+  if (!a->velocity) {
+    cJSON_AddNumberToObject(v, "control_cmps", 0);
+    return TZ_OK;
+  }
+  size_t nc = velocity_table_ncmps(a->velocity);
+  cJSON_AddNumberToObject(v, "control_cmps", (double)nc);
+  cJSON *list = cJSON_AddArrayToObject(v, "control_cmp_numbers");
+  for (size_t i = 0; i < nc; i++)
+    cJSON_AddItemToArray(list, cJSON_CreateNumber((double)velocity_table_cmp(a->velocity, i)));
+  velocity_warning *vw = NULL;
+  size_t nw = 0;
+  int rc = velocity_check(a->velocity, 0, 0, &vw, &nw, err);
+  if (rc)
+    return rc;
+  for (size_t i = 0; i < nw; i++) {
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddStringToObject(o, "kind", velocity_warning_name(vw[i].kind));
+    cJSON_AddNumberToObject(o, "cmp", (double)vw[i].cmp);
+    cJSON_AddNumberToObject(o, "line", (double)vw[i].line);
+    cJSON_AddNumberToObject(o, "t_top_ms", round_to(vw[i].t_top_s * 1e3, 1e-3));
+    cJSON_AddNumberToObject(o, "t_base_ms", round_to(vw[i].t_base_s * 1e3, 1e-3));
+    cJSON_AddItemToObject(o, "value", num_or_null(vw[i].value));
+    cJSON_AddStringToObject(o, "message", vw[i].msg);
+    cJSON_AddItemToArray(w, o);
+  }
+  free(vw);
+  return TZ_OK;
+}
+
+int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
+{
+  const stack_plan *p = a->plan;
+  const stack_section *s = a->section;
+  const job_spec *j = a->job;
+  cJSON *r = cJSON_CreateObject();
+  if (!r)
+    return tz_fail(err, TZ_E_NOMEM, "QC report");
+  int rc = TZ_OK;
+  cJSON_AddStringToObject(r, "format", QC_FORMAT);
+  cJSON *tool = cJSON_AddObjectToObject(r, "tool");
+  cJSON_AddStringToObject(tool, "name", "tzero");
+  cJSON_AddStringToObject(tool, "version", a->tool_version ? a->tool_version : "");
+  char when[32];
+  time_t now = time(NULL);
+  struct tm tmv;
+  gmtime_r(&now, &tmv);
+  strftime(when, sizeof when, "%Y-%m-%dT%H:%M:%SZ", &tmv);
+  cJSON_AddStringToObject(r, "created_utc", when);
+  cJSON_AddStringToObject(r, "line", j && j->name ? j->name : "");
+  add_inputs(r, p);
+
+  char *pj = NULL;
+  if (j) {
+    if ((rc = job_to_json(j, &pj, err)))
+      goto fail;
+    cJSON *pt = cJSON_Parse(pj);
+    free(pj);
+    if (!pt) {
+      rc = tz_fail(err, TZ_E_INTERNAL, "resolved job is not JSON");
+      goto fail;
+    }
+    cJSON_AddItemToObject(r, "parameters", pt);
+  }
+
+  stack_line_info li = stack_plan_line(p);
+  cJSON *g = cJSON_AddObjectToObject(r, "geometry");
+  cJSON_AddStringToObject(g, "source", !j || j->geometry == JOB_GEOMETRY_HEADERS ? "headers"
+                                       : j->geometry == JOB_GEOMETRY_LAYOUT ? "layout" : "table");
+  cJSON *ln = cJSON_AddObjectToObject(g, "line");
+  cJSON_AddNumberToObject(ln, "origin_x_m", round_to(li.origin_x_m, 1e-4));
+  cJSON_AddNumberToObject(ln, "origin_y_m", round_to(li.origin_y_m, 1e-4));
+  cJSON_AddNumberToObject(ln, "azimuth_deg", round_to(li.azimuth_deg, 1e-6));
+  cJSON_AddNumberToObject(ln, "bin_size_m", li.size_m);
+  cJSON_AddNumberToObject(ln, "first_cmp", li.first_cmp);
+  cJSON_AddStringToObject(ln, "origin", li.fitted ? "fitted" : li.from_layout ? "layout" : "job");
+  if (li.fitted)
+    cJSON_AddNumberToObject(ln, "fit_rms_off_line_m", round_to(li.fit_rms_off_line_m, 1e-4));
+  cJSON_AddNumberToObject(ln, "max_off_line_m", li.max_off_line_m);
+  cJSON_AddNumberToObject(g, "nominal_fold", round_to(stack_plan_nominal_fold(p), 1e-3));
+
+  cJSON *sec = cJSON_AddObjectToObject(r, "section");
+  cJSON_AddItemToObject(sec, "path", a->section_path ? cJSON_CreateString(a->section_path)
+                                                     : cJSON_CreateNull());
+  cJSON_AddNumberToObject(sec, "cmp_first", s->first_cmp);
+  cJSON_AddNumberToObject(sec, "cmp_last", (double)s->first_cmp + (double)s->ncmps - 1);
+  cJSON_AddNumberToObject(sec, "cmps", (double)s->ncmps);
+  cJSON_AddNumberToObject(sec, "samples", (double)s->axis.ns);
+  cJSON_AddNumberToObject(sec, "interval_us", s->interval_us);
+  cJSON_AddNumberToObject(sec, "start_time_ms", round_to(s->axis.t_first_s * 1e3, 1e-6));
+  cJSON_AddNumberToObject(sec, "bytes_estimate",
+                          3600.0 + (double)s->ncmps * (240.0 + 4.0 * (double)s->axis.ns));
+
+  cJSON *tr = cJSON_AddObjectToObject(r, "traces");
+  cJSON_AddNumberToObject(tr, "read", (double)s->traces_read);
+  cJSON_AddNumberToObject(tr, "stacked", (double)s->traces_stacked);
+  cJSON *sk = cJSON_AddObjectToObject(tr, "skipped");
+  int64_t skipped = 0;
+  for (int k = 0; k < STACK_SKIP__COUNT; k++) {
+    cJSON_AddNumberToObject(sk, stack_skip_name(k), (double)s->skipped[k]);
+    skipped += s->skipped[k];
+  }
+  cJSON_AddNumberToObject(tr, "skipped_total", (double)skipped);
+
+  cJSON *cm = cJSON_AddArrayToObject(r, "cmps");
+  int64_t fmin = INT64_MAX, fmax = 0, fsum = 0, zero = 0;
+  for (size_t c = 0; c < s->ncmps; c++) {
+    const stack_cmp_result *x = &s->cmps[c];
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddNumberToObject(o, "cmp", x->cmp);
+    cJSON_AddNumberToObject(o, "x_m", round_to(x->x_m, 1e-3));
+    cJSON_AddNumberToObject(o, "y_m", round_to(x->y_m, 1e-3));
+    cJSON_AddNumberToObject(o, "fold", x->fold);
+    cJSON_AddNumberToObject(o, "offset_min_m", round_to(x->offset_min_m, 1e-3));
+    cJSON_AddNumberToObject(o, "offset_max_m", round_to(x->offset_max_m, 1e-3));
+    cJSON_AddNumberToObject(o, "live_fraction", round_to(x->live_fraction, 1e-6));
+    cJSON_AddItemToObject(o, "full_fold_ms", num_or_null(round_to(x->full_fold_ms, 1e-3)));
+    cJSON_AddItemToArray(cm, o);
+    if (x->fold < fmin)
+      fmin = x->fold;
+    if (x->fold > fmax)
+      fmax = x->fold;
+    fsum += x->fold;
+    zero += x->fold == 0;
+  }
+  cJSON *fo = cJSON_AddObjectToObject(r, "fold");
+  cJSON_AddNumberToObject(fo, "nominal", round_to(stack_plan_nominal_fold(p), 1e-3));
+  cJSON_AddNumberToObject(fo, "min", s->ncmps ? (double)fmin : 0);
+  cJSON_AddNumberToObject(fo, "max", (double)fmax);
+  cJSON_AddNumberToObject(fo, "mean", round_to(s->ncmps ? (double)fsum / (double)s->ncmps : 0, 1e-4));
+  cJSON_AddNumberToObject(fo, "zero_fold_cmps", (double)zero);
+
+  cJSON *mu = cJSON_AddObjectToObject(r, "mute");
+  cJSON_AddNumberToObject(mu, "stretch_limit_pct", j ? j->stretch_limit_pct : 0);
+  cJSON_AddNumberToObject(mu, "top_mute_points", j ? (double)j->nmute : 0);
+  add_mute_counts(mu, s->samples_total, s->muted_stretch, s->muted_top, s->muted_end);
+  cJSON_AddNumberToObject(mu, "offset_class_m", s->offset_class_m);
+  cJSON *bo = cJSON_AddArrayToObject(mu, "by_offset");
+  for (size_t k = 0; k < s->nclasses; k++) {
+    const stack_mute_class *c = &s->classes[k];
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddNumberToObject(o, "offset_from_m", c->offset_from_m);
+    cJSON_AddItemToObject(o, "offset_to_m", num_or_null(c->offset_to_m));
+    cJSON_AddNumberToObject(o, "traces", (double)c->traces);
+    add_mute_counts(o, c->samples, c->muted_stretch, c->muted_top, c->muted_end);
+    cJSON_AddItemToArray(bo, o);
+  }
+
+  if ((rc = add_velocity(r, a, err)))
+    goto fail;
+
+  cJSON *ti = cJSON_AddObjectToObject(r, "timing_s");
+  cJSON_AddNumberToObject(ti, "header_pass", round_to(a->header_pass_s, 1e-4));
+  cJSON_AddNumberToObject(ti, "data_pass", round_to(a->data_pass_s, 1e-4));
+  cJSON_AddNumberToObject(ti, "write", round_to(a->write_s, 1e-4));
+  cJSON_AddNumberToObject(ti, "total", round_to(a->total_s, 1e-4));
+  cJSON *th = cJSON_AddObjectToObject(r, "throughput");
+  double dp = a->data_pass_s > 0 ? a->data_pass_s : s->elapsed_s;
+  cJSON_AddNumberToObject(th, "threads", s->threads);
+  cJSON_AddNumberToObject(th, "traces_per_s", dp > 0 ? round((double)s->traces_read / dp) : 0);
+  cJSON_AddNumberToObject(th, "input_mb_per_s",
+                          dp > 0 ? round_to((double)s->bytes_read / 1e6 / dp, 0.01) : 0);
+  cJSON_AddNumberToObject(th, "input_bytes", (double)s->bytes_read);
+
+  char *out = cJSON_Print(r);
+  cJSON_Delete(r);
+  if (!out)
+    return tz_fail(err, TZ_E_NOMEM, "QC report text");
+  *json = out;
+  return TZ_OK;
+fail:
+  cJSON_Delete(r);
+  return rc;
+}
+
+int qc_write_text(const char *path, const char *text, tz_err *err)
+{
+  fileio_out *o = NULL;
+  int rc = fileio_create(&o, path, err);
+  if (rc)
+    return rc;
+  size_t n = strlen(text);
+  if (fwrite(text, 1, n, fileio_stream(o)) != n || fputc('\n', fileio_stream(o)) == EOF) {
+    fileio_abort(o);
+    tz_err_path(err, path);
+    return tz_fail(err, TZ_E_IO, "write failed");
+  }
+  return fileio_commit(o, err);
+}
+
+/* ---------------------------------------------------------------- read back */
+
+void qc_report_free(qc_report *r)
+{
+  if (!r)
+    return;
+  cJSON_Delete(r->root);
+  free(r->name);
+  free(r);
+}
+
+static const char *const required[] = { "inputs", "parameters", "traces", "cmps", "fold", "mute",
+                                        "velocity", "timing_s", "section", NULL };
+
+int qc_report_parse(qc_report **out, const char *text, size_t len, const char *name, tz_err *err)
+{
+  const char *end = NULL;
+  (void)len;
+  cJSON *root = cJSON_ParseWithOpts(text, &end, 1);
+  if (!root) {
+    tz_err_path(err, name);
+    return tz_fail_at(err, TZ_E_FORMAT, -1, end ? (int64_t)(end - text) : -1,
+                      "not valid JSON");
+  }
+  const cJSON *f = cJSON_GetObjectItemCaseSensitive(root, "format");
+  int rc = TZ_OK;
+  if (!cJSON_IsString(f) || strcmp(f->valuestring, QC_FORMAT))
+    rc = tz_fail(err, TZ_E_FORMAT, "$.format: expected \"%s\"", QC_FORMAT);
+  for (size_t i = 0; !rc && required[i]; i++)
+    if (!cJSON_GetObjectItemCaseSensitive(root, required[i]))
+      rc = tz_fail(err, TZ_E_FORMAT, "$.%s: required key missing", required[i]);
+  if (!rc && !cJSON_IsArray(cJSON_GetObjectItemCaseSensitive(root, "cmps")))
+    rc = tz_fail(err, TZ_E_FORMAT, "$.cmps: expected an array");
+  qc_report *r = rc ? NULL : calloc(1, sizeof *r);
+  if (!rc && (!r || !(r->name = strdup(name ? name : ""))))
+    rc = tz_fail(err, TZ_E_NOMEM, "QC report");
+  if (rc) {
+    free(r);
+    cJSON_Delete(root);
+    tz_err_path(err, name);
+    return rc;
+  }
+  r->root = root;
+  *out = r;
+  return TZ_OK;
+}
+
+int qc_report_load(qc_report **out, const char *path, tz_err *err)
+{
+  char *text = NULL;
+  size_t len = 0;
+  int rc = fileio_read_all(path, QC_MAX_BYTES, &text, &len, err);
+  if (rc)
+    return rc;
+  rc = qc_report_parse(out, text, len, path, err);
+  free(text);
+  return rc;
+}
+
+/* Path lookup "a.b.c"; NULL when absent. */
+static const cJSON *at(const cJSON *o, const char *path)
+{
+  char key[64];
+  while (o && *path) {
+    const char *dot = strchr(path, '.');
+    size_t n = dot ? (size_t)(dot - path) : strlen(path);
+    if (n >= sizeof key)
+      return NULL;
+    memcpy(key, path, n);
+    key[n] = '\0';
+    o = cJSON_GetObjectItemCaseSensitive(o, key);
+    path += n + (dot ? 1 : 0);
+  }
+  return o;
+}
+
+static double numv(const cJSON *o, const char *path)
+{
+  const cJSON *v = at(o, path);
+  return cJSON_IsNumber(v) ? v->valuedouble : NAN;
+}
+
+static const char *strv(const cJSON *o, const char *path, const char *dflt)
+{
+  const cJSON *v = at(o, path);
+  return cJSON_IsString(v) ? v->valuestring : dflt;
+}
+
+/* A growable text buffer. */
+typedef struct sbuf {
+  char *s;
+  size_t n, cap;
+  int bad;
+} sbuf;
+
+static void put(sbuf *b, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
+static void put(sbuf *b, const char *fmt, ...)
+{
+  if (b->bad)
+    return;
+  for (;;) {
+    va_list ap;
+    va_start(ap, fmt);
+    int k = vsnprintf(b->s ? b->s + b->n : NULL, b->s ? b->cap - b->n : 0, fmt, ap);
+    va_end(ap);
+    if (k < 0) {
+      b->bad = 1;
+      return;
+    }
+    if (b->s && (size_t)k < b->cap - b->n) {
+      b->n += (size_t)k;
+      return;
+    }
+    size_t nc = (b->cap ? b->cap * 2 : 1024) + (size_t)k;
+    char *ns = realloc(b->s, nc);
+    if (!ns) {
+      b->bad = 1;
+      return;
+    }
+    b->s = ns;
+    b->cap = nc;
+  }
+}
+
+static int finish(sbuf *b, char **text, tz_err *err)
+{
+  if (b->bad || !b->s) {
+    free(b->s);
+    return tz_fail(err, TZ_E_NOMEM, "report text");
+  }
+  *text = b->s;
+  return TZ_OK;
+}
+
+static void fmt_bytes(double b, char *buf, size_t cap)
+{
+  if (b >= 1e9)
+    snprintf(buf, cap, "%.2f GB", b / 1e9);
+  else if (b >= 1e6)
+    snprintf(buf, cap, "%.1f MB", b / 1e6);
+  else
+    snprintf(buf, cap, "%.1f kB", b / 1e3);
+}
+
+int qc_report_summary(const qc_report *r, char **text, tz_err *err)
+{
+  const cJSON *R = r->root;
+  sbuf b = { 0 };
+  const char *line = strv(R, "line", "");
+  put(&b, "line        %s\n", line[0] ? line : "(unnamed)");
+  const cJSON *in = at(R, "inputs");
+  double bytes = 0, traces = 0;
+  int nin = cJSON_GetArraySize(in), nbad = 0;
+  for (const cJSON *c = in ? in->child : NULL; c; c = c->next) {
+    bytes += fmax(0, numv(c, "bytes"));
+    traces += fmax(0, numv(c, "traces"));
+    nbad += cJSON_IsTrue(at(c, "bad"));
+  }
+  char bs[32];
+  fmt_bytes(bytes, bs, sizeof bs);
+  put(&b, "inputs      %d shot files, %s, %.0f traces%s\n", nin, bs, traces,
+      nbad ? "" : " (no bad files)");
+  if (nbad) {
+    put(&b, "bad files   %d skipped:\n", nbad);
+    for (const cJSON *c = in ? in->child : NULL; c; c = c->next)
+      if (cJSON_IsTrue(at(c, "bad")))
+        put(&b, "              %s\n", strv(c, "error", strv(c, "path", "?")));
+  }
+  put(&b, "traces      %.0f read, %.0f stacked", numv(R, "traces.read"), numv(R, "traces.stacked"));
+  const cJSON *sk = at(R, "traces.skipped");
+  int any = 0;
+  for (const cJSON *c = sk ? sk->child : NULL; c; c = c->next)
+    if (cJSON_IsNumber(c) && c->valuedouble > 0) {
+      put(&b, "%s %s %.0f", any ? "," : "; skipped:", c->string, c->valuedouble);
+      any = 1;
+    }
+  put(&b, "%s\n", any ? "" : "; none skipped");
+  put(&b, "section     %s: CMPs %.0f-%.0f (%.0f CMPs), %.0f samples at %.0f us from %.1f ms\n",
+      strv(R, "section.path", "(not written)"), numv(R, "section.cmp_first"),
+      numv(R, "section.cmp_last"), numv(R, "section.cmps"), numv(R, "section.samples"),
+      numv(R, "section.interval_us"), numv(R, "section.start_time_ms"));
+  put(&b, "line geom   origin (%.2f, %.2f) m, azimuth %.3f deg, bin %.3f m, first CMP %.0f (%s",
+      numv(R, "geometry.line.origin_x_m"), numv(R, "geometry.line.origin_y_m"),
+      numv(R, "geometry.line.azimuth_deg"), numv(R, "geometry.line.bin_size_m"),
+      numv(R, "geometry.line.first_cmp"), strv(R, "geometry.line.origin", "?"));
+  if (isfinite(numv(R, "geometry.line.fit_rms_off_line_m")))
+    put(&b, ", RMS off line %.2f m", numv(R, "geometry.line.fit_rms_off_line_m"));
+  put(&b, ")\n");
+  put(&b, "fold        nominal %.1f; min %.0f, max %.0f, mean %.2f; %.0f zero-fold CMPs\n",
+      numv(R, "fold.nominal"), numv(R, "fold.min"), numv(R, "fold.max"), numv(R, "fold.mean"),
+      numv(R, "fold.zero_fold_cmps"));
+  put(&b, "mute        stretch limit %.1f %%: %.2f %% of stacked samples muted (stretch %.2f %%, "
+      "top %.2f %%)\n", numv(R, "mute.stretch_limit_pct"), 100 * numv(R, "mute.muted_fraction"),
+      100 * numv(R, "mute.stretch_muted_fraction"), 100 * numv(R, "mute.top_muted_fraction"));
+  const cJSON *bo = at(R, "mute.by_offset");
+  for (const cJSON *c = bo ? bo->child : NULL; c; c = c->next) {
+    double to = numv(c, "offset_to_m");
+    if (isfinite(to))
+      put(&b, "              offsets %6.0f-%-6.0f m: %6.0f traces, %6.2f %% muted\n",
+          numv(c, "offset_from_m"), to, numv(c, "traces"), 100 * numv(c, "muted_fraction"));
+    else
+      put(&b, "              offsets %6.0f m and up: %6.0f traces, %6.2f %% muted\n",
+          numv(c, "offset_from_m"), numv(c, "traces"), 100 * numv(c, "muted_fraction"));
+  }
+  const cJSON *w = at(R, "velocity.warnings");
+  int nw = cJSON_GetArraySize(w);
+  put(&b, "velocity    %s: %.0f control CMPs, %d warning%s\n", strv(R, "velocity.file", "(none)"),
+      numv(R, "velocity.control_cmps"), nw, nw == 1 ? "" : "s");
+  int shown = 0;
+  for (const cJSON *c = w ? w->child : NULL; c && shown < 10; c = c->next, shown++)
+    put(&b, "              %s\n", strv(c, "message", "?"));
+  if (nw > shown)
+    put(&b, "              ... %d more in the report\n", nw - shown);
+  put(&b, "timing      header pass %.2f s, data pass %.2f s, write %.2f s, total %.2f s\n",
+      numv(R, "timing_s.header_pass"), numv(R, "timing_s.data_pass"), numv(R, "timing_s.write"),
+      numv(R, "timing_s.total"));
+  put(&b, "throughput  %.0f traces/s, %.1f MB/s of input, %.0f thread%s\n",
+      numv(R, "throughput.traces_per_s"), numv(R, "throughput.input_mb_per_s"),
+      numv(R, "throughput.threads"), numv(R, "throughput.threads") == 1 ? "" : "s");
+  return finish(&b, text, err);
+}
+
+static const cJSON *find_cmp(const qc_report *r, long cmp)
+{
+  const cJSON *cm = at(r->root, "cmps");
+  for (const cJSON *c = cm ? cm->child : NULL; c; c = c->next)
+    if (numv(c, "cmp") == (double)cmp)
+      return c;
+  return NULL;
+}
+
+int qc_report_cmp_detail(const qc_report *r, long cmp, char **text, tz_err *err)
+{
+  const cJSON *c = find_cmp(r, cmp);
+  if (!c) {
+    tz_err_path(err, r->name);
+    return tz_fail(err, TZ_E_ARG, "CMP %ld is not in this report (CMPs %.0f-%.0f)", cmp,
+                   numv(r->root, "section.cmp_first"), numv(r->root, "section.cmp_last"));
+  }
+  sbuf b = { 0 };
+  put(&b, "cmp             %ld\n", cmp);
+  put(&b, "position        x %.3f m, y %.3f m (bin centre)\n", numv(c, "x_m"), numv(c, "y_m"));
+  put(&b, "fold            %.0f (nominal %.1f)\n", numv(c, "fold"), numv(r->root, "fold.nominal"));
+  if (numv(c, "fold") > 0) {
+    put(&b, "offsets         %.1f to %.1f m\n", numv(c, "offset_min_m"), numv(c, "offset_max_m"));
+    put(&b, "live fraction   %.4f of the samples of its traces\n", numv(c, "live_fraction"));
+    double ff = numv(c, "full_fold_ms");
+    if (isfinite(ff))
+      put(&b, "full fold from  %.1f ms (mutes reduce the fold before this time)\n", ff);
+    else
+      put(&b, "full fold       never reached (mutes reduce the fold at every time)\n");
+  }
+  return finish(&b, text, err);
+}
+
+int qc_report_fold_csv(const qc_report *r, char **text, tz_err *err)
+{
+  sbuf b = { 0 };
+  put(&b, "cmp,x_m,y_m,fold,offset_min_m,offset_max_m,live_fraction,full_fold_ms\n");
+  const cJSON *cm = at(r->root, "cmps");
+  for (const cJSON *c = cm ? cm->child : NULL; c; c = c->next) {
+    double ff = numv(c, "full_fold_ms");
+    put(&b, "%.0f,%.3f,%.3f,%.0f,%.3f,%.3f,%.6f,", numv(c, "cmp"), numv(c, "x_m"), numv(c, "y_m"),
+        numv(c, "fold"), numv(c, "offset_min_m"), numv(c, "offset_max_m"),
+        numv(c, "live_fraction"));
+    if (isfinite(ff))
+      put(&b, "%.3f", ff);
+    put(&b, "\n");
+  }
+  return finish(&b, text, err);
+}
