@@ -627,7 +627,7 @@ int job_parse(job_spec **out, const char *text, size_t len, const char *name, co
     locate(text, at, &line);
     job_free(j);
     tz_err_path(err, name);
-    tz_fail_at(err, TZ_E_FORMAT, -1, (int64_t)at, "not valid JSON (line %lld)", (long long)line);
+    tz_fail_at(err, TZ_E_FORMAT, -1, (int64_t)at, "not valid JSON");
     err->line = line;
     return TZ_E_FORMAT;
   }

@@ -176,7 +176,7 @@ static const struct {
     "$.skip_bad_files: expected true or false, got a number" },
   { "{\"shots\": [\"shots/*.sgy\"], \"threads\": 1, \"threads\": 2}", TZ_E_JOB, "given twice" },
   { "[1, 2]", TZ_E_JOB, "$: expected an object, got an array" },
-  { "{\"shots\": [\"shots/*.sgy\"],\n \"velocity\": }", TZ_E_FORMAT, "not valid JSON (line 2)" },
+  { "{\"shots\": [\"shots/*.sgy\"],\n \"velocity\": }", TZ_E_FORMAT, "not valid JSON" },
   { "{\"shots\": [\"shots/*.sgy\"]} trailing", TZ_E_FORMAT, "not valid JSON" },
 };
 
