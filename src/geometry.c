@@ -18,6 +18,7 @@
 #include <string.h>
 
 #include "tzero/fileio.h"
+#include "tzero/job.h"
 #include "tzero/table.h"
 
 #define LAYOUT_MAX_BYTES (16u << 20)
@@ -131,35 +132,12 @@ static const char *const layout_keys[] = {
 };
 #define NLAYOUT_KEYS (sizeof layout_keys / sizeof layout_keys[0])
 
-static size_t edit_distance(const char *a, const char *b)
-{
-  size_t la = strlen(a), lb = strlen(b);
-  if (la > 63 || lb > 63)
-    return 99;
-  size_t row[64];
-  for (size_t j = 0; j <= lb; j++)
-    row[j] = j;
-  for (size_t i = 1; i <= la; i++) {
-    size_t diag = row[0];
-    row[0] = i;
-    for (size_t j = 1; j <= lb; j++) {
-      size_t up = row[j];
-      size_t best = diag + (a[i - 1] != b[j - 1]);
-      if (row[j - 1] + 1 < best) best = row[j - 1] + 1;
-      if (up + 1 < best) best = up + 1;
-      row[j] = best;
-      diag = up;
-    }
-  }
-  return row[lb];
-}
-
-static const char *nearest_key(const char *k, const char *const *keys, size_t n)
+const char *geometry_nearest_key(const char *k, const char *const *keys, size_t n)
 {
   const char *best = keys[0];
   size_t bd = (size_t)-1;
   for (size_t i = 0; i < n; i++) {
-    size_t d = edit_distance(k, keys[i]);
+    size_t d = job_edit_distance(k, keys[i]);
     if (d < bd) {
       bd = d;
       best = keys[i];
@@ -280,7 +258,7 @@ static int layout_key(geometry_layout *l, const cJSON *it, tz_err *err)
     return TZ_OK;
   }
   return tz_fail(err, TZ_E_FORMAT, "unknown key \"%s\" (did you mean \"%s\"?)", k,
-                 nearest_key(k, layout_keys, NLAYOUT_KEYS));
+                 geometry_nearest_key(k, layout_keys, NLAYOUT_KEYS));
 }
 
 int geometry_layout_parse(geometry_layout *l, const char *json, size_t len, const char *name,
@@ -554,7 +532,7 @@ static int table_read(geometry_table *gt, table_reader *tr, tz_err *err)
     if (found < 0)
       return tz_fail_line(err, TZ_E_FORMAT, hline,
                           "unknown column \"%s\" (did you mean \"%s\"?)", h,
-                          nearest_key(h, col_names, NCOLS));
+                          geometry_nearest_key(h, col_names, NCOLS));
     if (col[found] >= 0)
       return tz_fail_line(err, TZ_E_FORMAT, hline, "column \"%s\" appears twice", h);
     col[found] = (int)f;

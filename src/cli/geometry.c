@@ -1,13 +1,752 @@
-/* geometry.c -- the `tzero geometry` subcommand (placeholder until its issue lands). */
+/* geometry.c -- `tzero geometry`: assign geometry, bin CMPs, report offsets and fold.
+ *
+ * Two header passes over the shot files (never the samples, except for
+ * --write): the first finds the midpoints for a fitted line, the receiver and
+ * source intervals and the shooting direction; the second bins every trace and
+ * counts fold. Memory grows with the CMP count and the shot count (the per-shot
+ * summary), never with the trace count.
+ */
+#include <cjson/cJSON.h>
+#include <errno.h>
+#include <getopt.h>
+#include <math.h>
 #include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
 #include <sysexits.h>
 
 #include "cli.h"
+#include "tzero/bins.h"
+#include "tzero/fileio.h"
+#include "tzero/geometry.h"
+#include "tzero/job.h"
+#include "tzero/segy.h"
+#include "tzero/table.h"
+
+static void help(void)
+{
+  printf("usage: tzero geometry [OPTIONS] SHOT.sgy...\n"
+         "       tzero geometry --job JOB.json [OPTIONS]\n"
+         "\n"
+         "Assigns source and receiver positions to every trace (from the trace\n"
+         "headers, a layout or a geometry table), computes midpoints and signed\n"
+         "offsets, bins the midpoints into CMPs along a processing line, and prints\n"
+         "the line, bin size, CMP range, fold statistics and a per-shot summary.\n"
+         "\n"
+         "options:\n"
+         "  --job FILE          take shots, geometry and bins from a job file\n"
+         "  --layout FILE       geometry from a layout (docs/layout.md)\n"
+         "  --table FILE        geometry from a geometry table (docs/geometry-table.md)\n"
+         "                      (neither: from the trace headers)\n"
+         "  --header-map FILE   SEG-Y header map for non-standard header positions\n"
+         "  --bin-size M        CMP bin size, metres (default half the receiver\n"
+         "                      interval)\n"
+         "  --origin-x M, --origin-y M, --azimuth DEG\n"
+         "                      processing line origin (metres) and azimuth (degrees\n"
+         "                      clockwise from north); without them the line comes\n"
+         "                      from the layout, or is fitted through the midpoints\n"
+         "  --crooked FILE      crooked line: CSV with columns x_m,y_m (nodes in order)\n"
+         "  --first-cmp N       CMP number of the origin's bin (default 1)\n"
+         "  --max-off-line M    skip traces whose midpoint lies farther from the line,\n"
+         "                      metres (default 0 = no limit)\n"
+         "  --offset-class M    width of the offset distribution classes, metres\n"
+         "                      (default 8 receiver intervals)\n"
+         "  --fold-table FILE   write the fold per CMP as CSV\n"
+         "  --write DIR         write copies of the shot files with the geometry in the\n"
+         "                      standard header positions (and CMP numbers)\n"
+         "  --json              print the summary as JSON (cmps, fold, line, shots)\n"
+         "  --quiet             print nothing but errors\n"
+         "  -h, --help          this text\n"
+         "\n%s", CLI_CAUTION);
+}
+
+#define SPACING_SAMPLES 65536   /* spacings kept to estimate the intervals */
+
+typedef struct shot_sum {
+  int file;
+  int32_t field_record;
+  int64_t traces, live;
+  double sx, sy;
+  double omin, omax;
+  int32_t cmin, cmax;
+} shot_sum;
+
+typedef struct run {
+  const char *cmd;
+  char **files;
+  size_t nfiles;
+  geometry_source *src;
+  segy_open_opts oo;
+  segy_header_map map;
+  /* pass 1 */
+  bins_fitter *fit;
+  double *dgs, *dss;             /* samples of receiver / source spacings (for medians) */
+  size_t ndg, nds;
+  int have_first_src;
+  double src0x, src0y, src1x, src1y; /* first and last source */
+  int64_t max_live_per_shot;
+  /* pass 2 */
+  bins_line *line;
+  bins_fold *fold;
+  shot_sum *shots;
+  size_t nshots, capshots;
+  int64_t read, binned, dead, off_line;
+  const char *write_dir;
+} run;
+
+static int add_shot(run *r, int file, const geometry_trace *g, tz_err *err)
+{
+  if (r->nshots == r->capshots) {
+    size_t nc = r->capshots ? r->capshots * 2 : 64;
+    shot_sum *n = realloc(r->shots, nc * sizeof *n);
+    if (!n)
+      return tz_fail(err, TZ_E_NOMEM, "shot summary");
+    r->shots = n;
+    r->capshots = nc;
+  }
+  shot_sum *s = &r->shots[r->nshots++];
+  memset(s, 0, sizeof *s);
+  s->file = file;
+  s->field_record = g->field_record;
+  s->sx = g->source_x;
+  s->sy = g->source_y;
+  s->omin = INFINITY;
+  s->omax = -INFINITY;
+  s->cmin = INT32_MAX;
+  s->cmax = INT32_MIN;
+  return TZ_OK;
+}
+
+/* Converts the decoded textual header into card text for the writer. */
+static void cards(const segy_info *in, char *out, size_t cap)
+{
+  size_t n = 0;
+  for (int line = 0; line < 38 && n + 80 < cap; line++) {
+    const char *c = in->text + line * 80;
+    if ((size_t)(line * 80 + 80) > strlen(in->text))
+      break;
+    int a = 4, b = 80;
+    while (b > a && (c[b - 1] == ' ' || c[b - 1] == '\0'))
+      b--;
+    for (int i = a; i < b && i < a + 76; i++)
+      out[n++] = (c[i] >= 32 && c[i] < 127) ? c[i] : ' ';
+    out[n++] = '\n';
+  }
+  out[n] = '\0';
+}
+
+static int pass(run *r, int which, tz_err *err)
+{
+  float *buf = NULL;
+  size_t bufcap = 0;
+  int rc = TZ_OK;
+  for (size_t f = 0; f < r->nfiles; f++) {
+    segy_file *sf = NULL;
+    segy_writer *w = NULL;
+    if ((rc = segy_open(&sf, r->files[f], &r->oo, err)))
+      return rc;
+    const segy_info *info = segy_get_info(sf);
+    int64_t n = segy_trace_count(sf);
+    int writing = which == 2 && r->write_dir;
+    if (writing) {
+      char path[4200], text[38 * 78 + 1];
+      const char *base = strrchr(r->files[f], '/');
+      base = base ? base + 1 : r->files[f];
+      snprintf(path, sizeof path, "%s/%s", r->write_dir, base);
+      cards(info, text, sizeof text);
+      segy_write_opts wo = { .revision = 1,
+                             .format_code = info->format_code == 1 ? 1 : 5,
+                             .samples = info->samples, .interval_us = info->interval_us,
+                             .sorting_code = info->sorting_code ? info->sorting_code : 1,
+                             .ensemble_fold = info->ensemble_fold,
+                             .traces_per_ensemble = info->traces_per_ensemble,
+                             .measurement_system = 1, .line_no = info->line_no,
+                             .text = text };
+      if (info->samples > bufcap) {
+        free(buf);
+        bufcap = info->samples;
+        buf = malloc(bufcap * sizeof *buf);
+        if (!buf) {
+          segy_close(sf);
+          return tz_fail(err, TZ_E_NOMEM, "trace buffer");
+        }
+      }
+      if ((rc = segy_writer_open(&w, path, &wo, err)))
+        goto file_done;
+    }
+    int32_t last_ffid = 0;
+    int have_last = 0;
+    double lrx = 0, lry = 0;
+    int64_t live_this = 0;
+    for (int64_t t = 0; t < n; t++) {
+      segy_trace_header h;
+      geometry_trace g;
+      rc = writing ? segy_read_trace(sf, t, &h, buf, bufcap, err)
+                   : segy_read_header(sf, t, &h, err);
+      if (rc)
+        goto file_done;
+      if ((rc = geometry_source_trace(r->src, &h, t, &g, err))) {
+        tz_err_path(err, r->files[f]);
+        goto file_done;
+      }
+      int new_shot = !have_last || g.field_record != last_ffid;
+      if (which == 1) {
+        if (new_shot) {
+          if (have_last && live_this > r->max_live_per_shot)
+            r->max_live_per_shot = live_this;
+          live_this = 0;
+          if (r->have_first_src) {
+            double d = hypot(g.source_x - r->src1x, g.source_y - r->src1y);
+            if (d > 0.005 && r->nds < SPACING_SAMPLES)
+              r->dss[r->nds++] = d;
+          } else {
+            r->src0x = g.source_x;
+            r->src0y = g.source_y;
+            r->have_first_src = 1;
+          }
+          r->src1x = g.source_x;
+          r->src1y = g.source_y;
+        } else {
+          double d = hypot(g.receiver_x - lrx, g.receiver_y - lry);
+          if (d > 0.005 && r->ndg < SPACING_SAMPLES)
+            r->dgs[r->ndg++] = d;
+        }
+        lrx = g.receiver_x;
+        lry = g.receiver_y;
+        if (g.live) {
+          live_this++;
+          if (r->fit && (rc = bins_fitter_add(r->fit, g.midpoint_x, g.midpoint_y, err)))
+            goto file_done;
+        }
+      } else {
+        if (new_shot && (rc = add_shot(r, (int)f, &g, err)))
+          goto file_done;
+        shot_sum *s = &r->shots[r->nshots - 1];
+        r->read++;
+        s->traces++;
+        bins_loc loc;
+        int st = bins_locate(r->line, g.midpoint_x, g.midpoint_y, &loc);
+        if (!g.live) {
+          r->dead++;
+        } else if (st != BINS_IN) {
+          r->off_line++;
+        } else {
+          if ((rc = bins_fold_add(r->fold, loc.cmp, g.offset, err)))
+            goto file_done;
+          r->binned++;
+          s->live++;
+          if (g.offset_abs < s->omin) s->omin = g.offset_abs;
+          if (g.offset_abs > s->omax) s->omax = g.offset_abs;
+          if (loc.cmp < s->cmin) s->cmin = loc.cmp;
+          if (loc.cmp > s->cmax) s->cmax = loc.cmp;
+        }
+        if (writing) {
+          geometry_to_header(&g, &h);
+          if (st == BINS_IN) {
+            h.cmp = loc.cmp;
+            h.cmp_x = loc.centre_x;
+            h.cmp_y = loc.centre_y;
+          }
+          if ((rc = segy_write_trace(w, &h, buf, err)))
+            goto file_done;
+        }
+      }
+      last_ffid = g.field_record;
+      have_last = 1;
+    }
+    if (which == 1 && live_this > r->max_live_per_shot)
+      r->max_live_per_shot = live_this;
+  file_done:
+    if (w) {
+      if (rc)
+        segy_writer_abort(w);
+      else
+        rc = segy_writer_finish(w, err);
+    }
+    segy_close(sf);
+    if (rc)
+      break;
+  }
+  free(buf);
+  return rc;
+}
+
+static int cmp_double(const void *a, const void *b)
+{
+  double x = *(const double *)a, y = *(const double *)b;
+  return (x > y) - (x < y);
+}
+
+/* Median spacing, rounded to the centimetre when above 10 cm (header
+ * coordinates carry centimetres at best; common practice for station intervals). */
+static double median_spacing(double *v, size_t n)
+{
+  if (!n)
+    return 0;
+  qsort(v, n, sizeof *v, cmp_double);
+  double m = v[n / 2];
+  return m > 0.1 ? round(m * 100.0) / 100.0 : m;
+}
+
+static int load_crooked(const char *path, double **x, double **y, size_t *n, tz_err *err)
+{
+  table_reader *t;
+  if (table_open(&t, path, err))
+    return err->status;
+  size_t nf, cap = 0;
+  int rc = table_next(t, &nf, err);
+  *x = *y = NULL;
+  *n = 0;
+  if (!rc && (nf < 2 || strcmp(table_field(t, 0), "x_m") || strcmp(table_field(t, 1), "y_m"))) {
+    tz_err_path(err, path);
+    rc = tz_fail_line(err, TZ_E_FORMAT, table_line(t), "expected the header row x_m,y_m");
+  }
+  while (!rc) {
+    if ((rc = table_next(t, &nf, err)) || nf == 0)
+      break;
+    if (*n == cap) {
+      cap = cap ? cap * 2 : 64;
+      if (cap > BINS_MAX_NODES * 2u) {
+        tz_err_path(err, path);
+        rc = tz_fail_line(err, TZ_E_FORMAT, table_line(t), "more than %d nodes", BINS_MAX_NODES);
+        break;
+      }
+      double *nx = realloc(*x, cap * sizeof *nx), *ny = nx ? realloc(*y, cap * sizeof *ny) : NULL;
+      if (nx) *x = nx;
+      if (ny) *y = ny;
+      if (!nx || !ny) {
+        rc = tz_fail(err, TZ_E_NOMEM, "crooked-line nodes");
+        break;
+      }
+    }
+    if ((rc = table_field_f64(t, 0, "x_m", &(*x)[*n], err)) ||
+        (rc = table_field_f64(t, 1, "y_m", &(*y)[*n], err)))
+      break;
+    (*n)++;
+  }
+  table_close(t);
+  if (!rc && *n < 2) {
+    tz_err_path(err, path);
+    rc = tz_fail(err, TZ_E_FORMAT, "a crooked line needs at least 2 nodes");
+  }
+  return rc;
+}
+
+static int write_fold_table(const run *r, const bins_fold *pred, const char *path, tz_err *err)
+{
+  fileio_out *o;
+  if (fileio_create(&o, path, err))
+    return err->status;
+  FILE *fp = fileio_stream(o);
+  bins_fold_summary s;
+  bins_fold_summarise(r->fold, &s);
+  fprintf(fp, "cmp,x_m,y_m,fold,offset_min_m,offset_max_m,offset_mean_m%s\n",
+          pred ? ",predicted_fold" : "");
+  for (int64_t c = s.first_cmp; c <= s.last_cmp; c++) {
+    bins_cmp_stats st;
+    bins_fold_get(r->fold, (int32_t)c, &st);
+    fprintf(fp, "%d,%.2f,%.2f,%lld,%.2f,%.2f,%.2f", (int)c, st.x, st.y, (long long)st.fold,
+            st.offset_min_m, st.offset_max_m, st.offset_mean_m);
+    if (pred) {
+      bins_cmp_stats ps;
+      bins_fold_get(pred, (int32_t)c, &ps);
+      fprintf(fp, ",%lld", (long long)ps.fold);
+    }
+    fputc('\n', fp);
+  }
+  return fileio_commit(o, err);
+}
+
+static cJSON *json_summary(const run *r, const bins_fold *pred, const char *kind,
+                           const char *gfile, int fitted, const bins_fit_report *fr,
+                           double nominal, double dg, double ds, double dir)
+{
+  cJSON *o = cJSON_CreateObject();
+  if (!o)
+    return NULL;
+  cJSON_AddStringToObject(o, "format", "tzero-geometry/1");
+  cJSON_AddStringToObject(o, "geometry", kind);
+  if (gfile)
+    cJSON_AddStringToObject(o, "geometry_file", gfile);
+  bins_params p = bins_line_get_params(r->line);
+  cJSON *ln = cJSON_AddObjectToObject(o, "line");
+  cJSON_AddStringToObject(ln, "kind", bins_line_is_crooked(r->line) ? "crooked" : "straight");
+  cJSON_AddBoolToObject(ln, "fitted", fitted);
+  cJSON_AddNumberToObject(ln, "origin_x_m", p.origin_x);
+  cJSON_AddNumberToObject(ln, "origin_y_m", p.origin_y);
+  cJSON_AddNumberToObject(ln, "azimuth_deg", p.azimuth_deg);
+  cJSON_AddNumberToObject(ln, "bin_size_m", p.size_m);
+  cJSON_AddNumberToObject(ln, "first_cmp", p.first_cmp);
+  cJSON_AddNumberToObject(ln, "max_off_line_m", p.max_off_line_m);
+  if (fitted) {
+    cJSON_AddNumberToObject(ln, "fit_rms_off_line_m", fr->rms_off_line_m);
+    cJSON_AddNumberToObject(ln, "fit_max_off_line_m", fr->max_off_line_m);
+    cJSON_AddNumberToObject(ln, "fit_length_m", fr->length_m);
+  }
+  cJSON_AddNumberToObject(o, "receiver_interval_m", dg);
+  cJSON_AddNumberToObject(o, "source_interval_m", ds);
+  if (isfinite(dir))
+    cJSON_AddNumberToObject(o, "shooting_azimuth_deg", dir);
+  cJSON *tr = cJSON_AddObjectToObject(o, "traces");
+  cJSON_AddNumberToObject(tr, "read", (double)r->read);
+  cJSON_AddNumberToObject(tr, "binned", (double)r->binned);
+  cJSON *sk = cJSON_AddObjectToObject(tr, "skipped");
+  cJSON_AddNumberToObject(sk, "dead", (double)r->dead);
+  cJSON_AddNumberToObject(sk, "off_line", (double)r->off_line);
+  bins_fold_summary s;
+  bins_fold_summarise(r->fold, &s);
+  cJSON *cr = cJSON_AddObjectToObject(o, "cmp_range");
+  cJSON_AddNumberToObject(cr, "first", s.first_cmp);
+  cJSON_AddNumberToObject(cr, "last", s.last_cmp);
+  cJSON *fo = cJSON_AddObjectToObject(o, "fold");
+  cJSON_AddNumberToObject(fo, "nominal", nominal);
+  cJSON_AddNumberToObject(fo, "min", (double)s.min);
+  cJSON_AddNumberToObject(fo, "max", (double)s.max);
+  cJSON_AddNumberToObject(fo, "mean", s.mean);
+  cJSON_AddNumberToObject(fo, "cmps_live", (double)s.cmps_live);
+  if (pred) {
+    bins_fold_summary ps;
+    bins_fold_summarise(pred, &ps);
+    cJSON *pf = cJSON_AddObjectToObject(fo, "predicted");
+    cJSON_AddNumberToObject(pf, "first_cmp", ps.first_cmp);
+    cJSON_AddNumberToObject(pf, "last_cmp", ps.last_cmp);
+    cJSON_AddNumberToObject(pf, "min", (double)ps.min);
+    cJSON_AddNumberToObject(pf, "max", (double)ps.max);
+    cJSON_AddNumberToObject(pf, "mean", ps.mean);
+  }
+  cJSON *cm = cJSON_AddArrayToObject(o, "cmps");
+  for (int64_t c = s.first_cmp; cm && c <= s.last_cmp; c++) {
+    bins_cmp_stats st;
+    bins_fold_get(r->fold, (int32_t)c, &st);
+    cJSON *e = cJSON_CreateObject();
+    if (!e)
+      break;
+    cJSON_AddNumberToObject(e, "cmp", (double)c);
+    cJSON_AddNumberToObject(e, "x_m", st.x);
+    cJSON_AddNumberToObject(e, "y_m", st.y);
+    cJSON_AddNumberToObject(e, "fold", (double)st.fold);
+    cJSON_AddNumberToObject(e, "offset_min_m", st.offset_min_m);
+    cJSON_AddNumberToObject(e, "offset_max_m", st.offset_max_m);
+    cJSON_AddNumberToObject(e, "offset_mean_m", st.offset_mean_m);
+    if (pred) {
+      bins_cmp_stats ps;
+      bins_fold_get(pred, (int32_t)c, &ps);
+      cJSON_AddNumberToObject(e, "predicted_fold", (double)ps.fold);
+    }
+    cJSON *hist = cJSON_AddArrayToObject(e, "offset_distribution");
+    for (int k = 0; hist && k < BINS_OFFSET_CLASSES; k++)
+      cJSON_AddItemToArray(hist, cJSON_CreateNumber(st.offset_hist[k]));
+    cJSON_AddItemToArray(cm, e);
+  }
+  cJSON_AddNumberToObject(o, "offset_class_m", bins_fold_offset_class(r->fold));
+  cJSON *sh = cJSON_AddArrayToObject(o, "shots");
+  for (size_t i = 0; sh && i < r->nshots; i++) {
+    const shot_sum *q = &r->shots[i];
+    cJSON *e = cJSON_CreateObject();
+    if (!e)
+      break;
+    cJSON_AddStringToObject(e, "path", r->files[q->file]);
+    cJSON_AddNumberToObject(e, "field_record", q->field_record);
+    cJSON_AddNumberToObject(e, "traces", (double)q->traces);
+    cJSON_AddNumberToObject(e, "binned", (double)q->live);
+    cJSON_AddNumberToObject(e, "source_x_m", q->sx);
+    cJSON_AddNumberToObject(e, "source_y_m", q->sy);
+    if (q->live) {
+      cJSON_AddNumberToObject(e, "offset_min_m", q->omin);
+      cJSON_AddNumberToObject(e, "offset_max_m", q->omax);
+      cJSON_AddNumberToObject(e, "cmp_first", q->cmin);
+      cJSON_AddNumberToObject(e, "cmp_last", q->cmax);
+    }
+    cJSON_AddItemToArray(sh, e);
+  }
+  return o;
+}
+
+static void print_text(const run *r, const bins_fold *pred, const char *kind, int fitted,
+                       const bins_fit_report *fr, double nominal, double dg, double ds)
+{
+  bins_params p = bins_line_get_params(r->line);
+  bins_fold_summary s;
+  bins_fold_summarise(r->fold, &s);
+  printf("geometry from %s; %zu files, %lld traces (%lld binned, %lld dead, %lld off the line)\n",
+         kind, r->nfiles, (long long)r->read, (long long)r->binned, (long long)r->dead,
+         (long long)r->off_line);
+  printf("processing line: %s%s, origin %.2f %.2f m, azimuth %.4f deg\n",
+         bins_line_is_crooked(r->line) ? "crooked" : "straight", fitted ? " (fitted)" : "",
+         p.origin_x, p.origin_y, p.azimuth_deg);
+  if (fitted)
+    printf("  fit: RMS distance off the line %.3f m, largest %.3f m, length %.2f m\n",
+           fr->rms_off_line_m, fr->max_off_line_m, fr->length_m);
+  printf("bin size %.3f m; receiver interval %.3f m; source interval %.3f m\n", p.size_m, dg,
+         ds);
+  printf("CMPs %d to %d (%lld with traces)\n", (int)s.first_cmp, (int)s.last_cmp,
+         (long long)s.cmps_live);
+  printf("fold: nominal %.2f, min %lld, max %lld, mean %.2f\n", nominal, (long long)s.min,
+         (long long)s.max, s.mean);
+  if (pred) {
+    bins_fold_summary ps;
+    bins_fold_summarise(pred, &ps);
+    printf("predicted from the layout: CMPs %d to %d, fold min %lld, max %lld, mean %.2f\n",
+           (int)ps.first_cmp, (int)ps.last_cmp, (long long)ps.min, (long long)ps.max, ps.mean);
+  }
+  printf("\n%-8s %8s %8s %14s %14s %10s %10s %8s %8s  %s\n", "record", "traces", "binned",
+         "source_x_m", "source_y_m", "off_min_m", "off_max_m", "cmp_from", "cmp_to", "file");
+  for (size_t i = 0; i < r->nshots; i++) {
+    const shot_sum *q = &r->shots[i];
+    printf("%-8d %8lld %8lld %14.2f %14.2f", (int)q->field_record, (long long)q->traces,
+           (long long)q->live, q->sx, q->sy);
+    if (q->live)
+      printf(" %10.2f %10.2f %8d %8d", q->omin, q->omax, (int)q->cmin, (int)q->cmax);
+    else
+      printf(" %10s %10s %8s %8s", "-", "-", "-", "-");
+    printf("  %s\n", r->files[q->file]);
+  }
+}
+
+enum { O_JOB = 256, O_LAYOUT, O_TABLE, O_MAP, O_BIN, O_OX, O_OY, O_AZ, O_CROOKED, O_FIRST,
+       O_MAXOFF, O_OCLASS, O_FOLD, O_WRITE, O_JSON, O_QUIET };
 
 int cmd_geometry(int argc, char **argv)
 {
-  (void)argc;
-  (void)argv;
-  fprintf(stderr, "tzero geometry: not built yet\n");
-  return EX_SOFTWARE;
+  static const struct option opts[] = {
+    { "job", required_argument, NULL, O_JOB },
+    { "layout", required_argument, NULL, O_LAYOUT },
+    { "table", required_argument, NULL, O_TABLE },
+    { "header-map", required_argument, NULL, O_MAP },
+    { "bin-size", required_argument, NULL, O_BIN },
+    { "origin-x", required_argument, NULL, O_OX },
+    { "origin-y", required_argument, NULL, O_OY },
+    { "azimuth", required_argument, NULL, O_AZ },
+    { "crooked", required_argument, NULL, O_CROOKED },
+    { "first-cmp", required_argument, NULL, O_FIRST },
+    { "max-off-line", required_argument, NULL, O_MAXOFF },
+    { "offset-class", required_argument, NULL, O_OCLASS },
+    { "fold-table", required_argument, NULL, O_FOLD },
+    { "write", required_argument, NULL, O_WRITE },
+    { "json", no_argument, NULL, O_JSON },
+    { "quiet", no_argument, NULL, O_QUIET },
+    { "help", no_argument, NULL, 'h' },
+    { NULL, 0, NULL, 0 },
+  };
+  const char *cmd = "geometry";
+  const char *job_path = NULL, *layout_path = NULL, *table_path = NULL, *map_path = NULL;
+  const char *crooked = NULL, *fold_path = NULL, *write_dir = NULL;
+  double bin = 0, ox = NAN, oy = NAN, az = NAN, maxoff = 0, oclass = 0;
+  long long first = 1;
+  int has_first = 0, json = 0, quiet = 0, c;
+  optind = 1;
+  while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
+    switch (c) {
+    case O_JOB: job_path = optarg; break;
+    case O_LAYOUT: layout_path = optarg; break;
+    case O_TABLE: table_path = optarg; break;
+    case O_MAP: map_path = optarg; break;
+    case O_BIN:
+      if (cli_parse_f64(cmd, "--bin-size", optarg, &bin)) return EX_USAGE;
+      if (!(bin > 0)) return cli_usage_error(cmd, "--bin-size: must be > 0 m");
+      break;
+    case O_OX: if (cli_parse_f64(cmd, "--origin-x", optarg, &ox)) return EX_USAGE; break;
+    case O_OY: if (cli_parse_f64(cmd, "--origin-y", optarg, &oy)) return EX_USAGE; break;
+    case O_AZ: if (cli_parse_f64(cmd, "--azimuth", optarg, &az)) return EX_USAGE; break;
+    case O_CROOKED: crooked = optarg; break;
+    case O_FIRST:
+      if (cli_parse_i64(cmd, "--first-cmp", optarg, &first)) return EX_USAGE;
+      if (first < -1000000000LL || first > 1000000000LL)
+        return cli_usage_error(cmd, "--first-cmp: out of range");
+      has_first = 1;
+      break;
+    case O_MAXOFF:
+      if (cli_parse_f64(cmd, "--max-off-line", optarg, &maxoff)) return EX_USAGE;
+      if (!(maxoff >= 0)) return cli_usage_error(cmd, "--max-off-line: must be >= 0 m");
+      break;
+    case O_OCLASS:
+      if (cli_parse_f64(cmd, "--offset-class", optarg, &oclass)) return EX_USAGE;
+      if (!(oclass > 0)) return cli_usage_error(cmd, "--offset-class: must be > 0 m");
+      break;
+    case O_FOLD: fold_path = optarg; break;
+    case O_WRITE: write_dir = optarg; break;
+    case O_JSON: json = 1; break;
+    case O_QUIET: quiet = 1; break;
+    case 'h': help(); return EX_OK;
+    default: return cli_usage_error(cmd, "unknown option");
+    }
+  }
+  if (layout_path && table_path)
+    return cli_usage_error(cmd, "give --layout or --table, not both");
+  if ((isnan(ox) + isnan(oy) + isnan(az)) % 3 != 0)
+    return cli_usage_error(cmd, "--origin-x, --origin-y and --azimuth go together");
+  if (crooked && !isnan(az))
+    return cli_usage_error(cmd, "--crooked replaces --origin-x/--origin-y/--azimuth");
+  if (job_path && optind < argc)
+    return cli_usage_error(cmd, "with --job the shot files come from the job");
+  if (!job_path && optind >= argc)
+    return cli_usage_error(cmd, "no shot files given");
+
+  tz_err err;
+  tz_err_init(&err);
+  run r;
+  memset(&r, 0, sizeof r);
+  r.cmd = cmd;
+  r.write_dir = write_dir;
+  job_spec *job = NULL;
+  geometry_layout lay;
+  geometry_layout_init(&lay);
+  int have_layout = 0, rc = TZ_OK, fitted = 0;
+  double *nx = NULL, *ny = NULL;
+  size_t nn = 0;
+  bins_fit_report fr = { 0 };
+  bins_fold *pred = NULL;
+  const char *kind = "headers", *gfile = NULL;
+  cJSON *out = NULL;
+
+  if (job_path) {
+    if ((rc = job_load(&job, job_path, &err)))
+      goto done;
+    r.files = job->shots;
+    r.nfiles = job->nshots;
+    if (job->geometry == JOB_GEOMETRY_LAYOUT && !layout_path && !table_path)
+      layout_path = job->geometry_file;
+    if (job->geometry == JOB_GEOMETRY_TABLE && !layout_path && !table_path)
+      table_path = job->geometry_file;
+    if (!map_path)
+      map_path = job->header_map;
+    if (bin <= 0 && job->bins.has_size)
+      bin = job->bins.size_m;
+    if (isnan(az) && job->bins.has_azimuth && job->bins.has_origin) {
+      ox = job->bins.origin_x_m;
+      oy = job->bins.origin_y_m;
+      az = job->bins.azimuth_deg;
+    }
+    if (!has_first)
+      first = job->bins.first_cmp;
+    if (maxoff == 0)
+      maxoff = job->bins.max_distance_m;
+  } else {
+    r.files = argv + optind;
+    r.nfiles = (size_t)(argc - optind);
+  }
+  if (map_path) {
+    if ((rc = segy_header_map_load(&r.map, map_path, &err)))
+      goto done;
+    r.oo.map = &r.map;
+  }
+  if (layout_path) {
+    kind = "layout";
+    gfile = layout_path;
+    if ((rc = geometry_layout_load(&lay, layout_path, &err)) ||
+        (rc = geometry_source_layout(&r.src, &lay, &err)))
+      goto done;
+    have_layout = 1;
+  } else if (table_path) {
+    kind = "table";
+    gfile = table_path;
+    geometry_table *t;
+    if ((rc = geometry_table_load(&t, table_path, &err)) ||
+        (rc = geometry_source_table(&r.src, t, &err)))
+      goto done;
+  } else if ((rc = geometry_source_headers(&r.src, &err))) {
+    goto done;
+  }
+  r.dgs = malloc(SPACING_SAMPLES * sizeof *r.dgs);
+  r.dss = malloc(SPACING_SAMPLES * sizeof *r.dss);
+  if (!r.dgs || !r.dss) {
+    rc = tz_fail(&err, TZ_E_NOMEM, "spacing samples");
+    goto done;
+  }
+  int need_fit = !crooked && isnan(az) && !have_layout;
+  if (need_fit && (rc = bins_fitter_new(&r.fit, &err)))
+    goto done;
+  if ((rc = pass(&r, 1, &err)))
+    goto done;
+  double dg = have_layout ? lay.receiver_interval_m : median_spacing(r.dgs, r.ndg);
+  double ds = have_layout ? lay.source_interval_m : median_spacing(r.dss, r.nds);
+  if (bin <= 0) {
+    if (!(dg > 0)) {
+      rc = tz_fail(&err, TZ_E_FORMAT, "cannot find the receiver interval from the headers: "
+                   "give --bin-size");
+      goto done;
+    }
+    bin = dg / 2.0;
+  }
+  if (crooked) {
+    if ((rc = load_crooked(crooked, &nx, &ny, &nn, &err)) ||
+        (rc = bins_line_crooked(&r.line, nx, ny, nn, bin, (int32_t)first, maxoff, &err)))
+      goto done;
+  } else {
+    bins_params p;
+    if (!isnan(az)) {
+      p = (bins_params){ ox, oy, az, bin, (int32_t)first, maxoff };
+    } else if (have_layout) {
+      if ((rc = bins_params_from_layout(&lay, bin, (int32_t)first, &p, &err)))
+        goto done;
+      p.max_off_line_m = maxoff;
+    } else {
+      if ((rc = bins_fitter_solve(r.fit, bin, (int32_t)first, maxoff, &p, &fr, &err)))
+        goto done;
+      fitted = 1;
+    }
+    if ((rc = bins_line_straight(&r.line, &p, &err)))
+      goto done;
+  }
+  /* Shooting direction for the offset sign: along the line, the way the sources move. */
+  if (!have_layout) {
+    bins_params p = bins_line_get_params(r.line);
+    double su, cu, dir = p.azimuth_deg;
+    geometry_sincos_deg(dir, &su, &cu);
+    if ((r.src1x - r.src0x) * su + (r.src1y - r.src0y) * cu < 0)
+      dir = fmod(dir + 180.0, 360.0);
+    geometry_source_set_direction(r.src, dir);
+  }
+  if (oclass <= 0)
+    oclass = 8 * (dg > 0 ? dg : 2 * bin);
+  if ((rc = bins_fold_new(&r.fold, r.line, oclass, &err)))
+    goto done;
+  if (write_dir && mkdir(write_dir, 0777) != 0 && errno != EEXIST) {
+    int e = errno;
+    tz_err_path(&err, write_dir);
+    rc = tz_fail_os(&err, TZ_E_CREATE, e, "cannot create the output folder");
+    goto done;
+  }
+  if ((rc = pass(&r, 2, &err)))
+    goto done;
+  double nominal;
+  if (have_layout) {
+    nominal = geometry_layout_nominal_fold(&lay);
+    if ((rc = bins_fold_new(&pred, r.line, oclass, &err)) ||
+        (rc = bins_fold_predict(pred, r.line, &lay, NULL, &err)))
+      goto done;
+  } else {
+    nominal = ds > 0 && dg > 0 ? (double)r.max_live_per_shot * dg / (2.0 * ds) : 0;
+  }
+  if (fold_path && (rc = write_fold_table(&r, pred, fold_path, &err)))
+    goto done;
+  if (json) {
+    char *txt = NULL;
+    out = json_summary(&r, pred, kind, gfile, fitted, &fr, nominal, dg, ds,
+                       geometry_source_direction(r.src));
+    if (!out || !(txt = cJSON_Print(out))) {
+      rc = tz_fail(&err, TZ_E_NOMEM, "JSON summary");
+      goto done;
+    }
+    printf("%s\n", txt);
+    free(txt);
+  } else if (!quiet) {
+    print_text(&r, pred, kind, fitted, &fr, nominal, dg, ds);
+  }
+done:
+  cJSON_Delete(out);
+  free(nx);
+  free(ny);
+  free(r.shots);
+  free(r.dgs);
+  free(r.dss);
+  bins_fold_free(pred);
+  bins_fold_free(r.fold);
+  bins_line_free(r.line);
+  bins_fitter_free(r.fit);
+  geometry_source_free(r.src);
+  geometry_layout_free(&lay);
+  job_free(job);
+  return rc ? cli_report(cmd, &err) : EX_OK;
 }

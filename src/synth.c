@@ -1,0 +1,685 @@
+/* synth.c -- synthetic shot records: exact layered-earth traveltimes, Ricker wavelets.
+ *
+ * Kinematics: flat-layer reflections by solving x(p) = offset for the ray
+ * parameter (REFERENCE.md §3.13) with a safeguarded Newton iteration; a dipping
+ * plane in a homogeneous overburden by the image source (the source mirrored in
+ * the plane, t = |R - S'| / v); the direct wave |x| / v1; the head wave of the
+ * first interface beyond the critical distance.
+ * Amplitudes: normal-incidence reflection coefficients, spherical spreading
+ * 1 / (t V_rms^2 / v1) (Newman 1973), scaled by SYNTH_REF_DISTANCE_M.
+ * Rendering: each event adds the analytic Ricker wavelet (§3.12) over its
+ * support only (|tau| < 5 / (pi fp), where it has fallen below 1e-9), so the
+ * cost per trace is events x support, never a full-trace convolution.
+ * Noise: Gaussian from a per-trace xoshiro256** generator seeded from
+ * (seed, field record, channel); no global state.
+ *
+ * Not here: SEG-Y encoding (segy_write.c), layout enumeration (geometry.c),
+ * CMP numbering (bins.c).
+ */
+#include "tzero/synth.h"
+
+#include <cjson/cJSON.h>
+#include <dirent.h>
+#include <errno.h>
+#include <float.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include "tzero/bins.h"
+#include "tzero/fileio.h"
+#include "tzero/segy.h"
+
+#define MODEL_MAX_BYTES (4u << 20)
+
+/* ---- model JSON ---- */
+
+static const char *const model_keys[] = { "layers", "dipping_interface", "description" };
+static const char *const layer_keys[] = { "thickness_m", "velocity_mps", "density_kgm3" };
+static const char *const dip_keys[] = {
+  "depth_m", "along_m", "dip_deg", "velocity_above_mps", "density_above_kgm3",
+  "velocity_below_mps", "density_below_kgm3",
+};
+#define NKEYS(a) (sizeof a / sizeof a[0])
+
+static int num(const cJSON *it, const char *path, double lo, double hi, double *out,
+               tz_err *err)
+{
+  if (!cJSON_IsNumber(it) || !isfinite(it->valuedouble))
+    return tz_fail(err, TZ_E_FORMAT, "%s: expected a number", path);
+  if (!(it->valuedouble >= lo && it->valuedouble <= hi))
+    return tz_fail(err, TZ_E_FORMAT, "%s: %g is outside %g..%g", path, it->valuedouble, lo, hi);
+  *out = it->valuedouble;
+  return TZ_OK;
+}
+
+static int known(const cJSON *obj, const char *path, const char *const *keys, size_t n,
+                 tz_err *err)
+{
+  const cJSON *it;
+  cJSON_ArrayForEach(it, obj) {
+    size_t i = 0;
+    while (i < n && strcmp(it->string, keys[i]))
+      i++;
+    if (i == n)
+      return tz_fail(err, TZ_E_FORMAT, "%s: unknown key \"%s\" (did you mean \"%s\"?)", path,
+                     it->string, geometry_nearest_key(it->string, keys, n));
+  }
+  return TZ_OK;
+}
+
+static int model_from_json(synth_model *m, const cJSON *root, tz_err *err)
+{
+  if (!cJSON_IsObject(root))
+    return tz_fail(err, TZ_E_FORMAT, "model: expected a JSON object");
+  if (known(root, "model", model_keys, NKEYS(model_keys), err))
+    return err->status;
+  const cJSON *layers = cJSON_GetObjectItemCaseSensitive(root, "layers");
+  if (!cJSON_IsArray(layers) || cJSON_GetArraySize(layers) < 1)
+    return tz_fail(err, TZ_E_FORMAT, "layers: expected an array of at least one layer");
+  int n = cJSON_GetArraySize(layers);
+  if (n > SYNTH_MAX_LAYERS)
+    return tz_fail(err, TZ_E_FORMAT, "layers: more than %d layers", SYNTH_MAX_LAYERS);
+  int i = 0;
+  const cJSON *ly;
+  cJSON_ArrayForEach(ly, layers) {
+    char path[64];
+    snprintf(path, sizeof path, "layers[%d]", i);
+    if (!cJSON_IsObject(ly))
+      return tz_fail(err, TZ_E_FORMAT, "%s: expected an object", path);
+    if (known(ly, path, layer_keys, NKEYS(layer_keys), err))
+      return err->status;
+    synth_layer *L = &m->layer[i];
+    const cJSON *h = cJSON_GetObjectItemCaseSensitive(ly, "thickness_m");
+    const cJSON *v = cJSON_GetObjectItemCaseSensitive(ly, "velocity_mps");
+    const cJSON *d = cJSON_GetObjectItemCaseSensitive(ly, "density_kgm3");
+    char sub[96];
+    if (i < n - 1) {
+      snprintf(sub, sizeof sub, "%s.thickness_m", path);
+      if (!h)
+        return tz_fail(err, TZ_E_FORMAT, "%s: missing (only the last layer, a half-space, "
+                       "has no thickness)", sub);
+      if (num(h, sub, 1e-3, 1e6, &L->thickness_m, err))
+        return err->status;
+    } else if (h) {
+      return tz_fail(err, TZ_E_FORMAT, "%s.thickness_m: the last layer is a half-space and "
+                     "has no thickness", path);
+    }
+    snprintf(sub, sizeof sub, "%s.velocity_mps", path);
+    if (!v)
+      return tz_fail(err, TZ_E_FORMAT, "%s: missing", sub);
+    if (num(v, sub, 10, 20000, &L->velocity_mps, err))
+      return err->status;
+    L->density_kgm3 = SYNTH_DEFAULT_DENSITY;
+    snprintf(sub, sizeof sub, "%s.density_kgm3", path);
+    if (d && num(d, sub, 1, 30000, &L->density_kgm3, err))
+      return err->status;
+    i++;
+  }
+  m->nlayers = (size_t)n;
+  const cJSON *dp = cJSON_GetObjectItemCaseSensitive(root, "dipping_interface");
+  if (dp) {
+    if (!cJSON_IsObject(dp))
+      return tz_fail(err, TZ_E_FORMAT, "dipping_interface: expected an object");
+    if (known(dp, "dipping_interface", dip_keys, NKEYS(dip_keys), err))
+      return err->status;
+    synth_dip *D = &m->dip;
+    D->present = 1;
+    D->velocity_above_mps = m->layer[0].velocity_mps;
+    D->density_above_kgm3 = m->layer[0].density_kgm3;
+    D->density_below_kgm3 = SYNTH_DEFAULT_DENSITY;
+    static const struct { const char *k; size_t off; double lo, hi; int req; } f[] = {
+      { "depth_m", offsetof(synth_dip, depth_m), 1e-3, 1e6, 1 },
+      { "along_m", offsetof(synth_dip, along_m), -1e8, 1e8, 0 },
+      { "dip_deg", offsetof(synth_dip, dip_deg), -80, 80, 1 },
+      { "velocity_above_mps", offsetof(synth_dip, velocity_above_mps), 10, 20000, 0 },
+      { "density_above_kgm3", offsetof(synth_dip, density_above_kgm3), 1, 30000, 0 },
+      { "velocity_below_mps", offsetof(synth_dip, velocity_below_mps), 10, 20000, 1 },
+      { "density_below_kgm3", offsetof(synth_dip, density_below_kgm3), 1, 30000, 0 },
+    };
+    for (size_t k = 0; k < NKEYS(f); k++) {
+      const cJSON *it = cJSON_GetObjectItemCaseSensitive(dp, f[k].k);
+      char sub[96];
+      snprintf(sub, sizeof sub, "dipping_interface.%s", f[k].k);
+      if (!it) {
+        if (f[k].req)
+          return tz_fail(err, TZ_E_FORMAT, "%s: missing", sub);
+        continue;
+      }
+      if (num(it, sub, f[k].lo, f[k].hi, (double *)((char *)D + f[k].off), err))
+        return err->status;
+    }
+  }
+  return TZ_OK;
+}
+
+int synth_model_parse(synth_model *m, const char *json, size_t len, const char *name,
+                      tz_err *err)
+{
+  memset(m, 0, sizeof *m);
+  const char *end = NULL;
+  cJSON *root = cJSON_ParseWithOpts(json, &end, 1);
+  if (!root) {
+    tz_err_path(err, name);
+    size_t off = end ? (size_t)(end - json) : 0;
+    int64_t line = 1;
+    for (size_t i = 0; i < off && i < len; i++)
+      line += json[i] == '\n';
+    return tz_fail_at(err, TZ_E_FORMAT, -1, (int64_t)off, "model: invalid JSON (line %lld)",
+                      (long long)line);
+  }
+  int rc = model_from_json(m, root, err);
+  cJSON_Delete(root);
+  if (rc)
+    tz_err_path(err, name);
+  return rc;
+}
+
+int synth_model_load(synth_model *m, const char *path, tz_err *err)
+{
+  char *text;
+  size_t len;
+  memset(m, 0, sizeof *m);
+  if (fileio_read_all(path, MODEL_MAX_BYTES, &text, &len, err))
+    return err->status;
+  int rc = synth_model_parse(m, text, len, path, err);
+  free(text);
+  return rc;
+}
+
+/* ---- kinematics ---- */
+
+int synth_ray(const double *h, const double *v, size_t n, double p, double *x, double *t)
+{
+  double sx = 0, st = 0;
+  for (size_t k = 0; k < n; k++) {
+    double q = 1.0 - p * p * v[k] * v[k];
+    if (!(q > 0) || p < 0)
+      return TZ_E_ARG;
+    double c = sqrt(q);
+    sx += 2.0 * h[k] * p * v[k] / c;
+    st += 2.0 * h[k] / (v[k] * c);
+  }
+  *x = sx;
+  *t = st;
+  return TZ_OK;
+}
+
+int synth_flat_time(const synth_model *m, size_t k, double offset_m, double *t, double *p_out)
+{
+  if (k + 1 >= m->nlayers)
+    return TZ_E_ARG;
+  size_t n = k + 1;
+  double vmax = 0;
+  for (size_t i = 0; i < n; i++)
+    if (m->layer[i].velocity_mps > vmax)
+      vmax = m->layer[i].velocity_mps;
+  double X = fabs(offset_m);
+  double lo = 0, hi = 1.0 / vmax, p = 0;
+  /* Start from the straight-ray guess with the RMS velocity, kept in the bracket. */
+  double vr = synth_vrms(m, k), t0 = synth_t0(m, k);
+  p = X / (vr * vr * sqrt(t0 * t0 + X * X / (vr * vr)));
+  if (!(p < hi))
+    p = 0.5 * hi;
+  for (int it = 0; it < 200; it++) {
+    double x = 0, tt = 0, dx = 0;
+    for (size_t i = 0; i < n; i++) {
+      double vi = m->layer[i].velocity_mps, hh = m->layer[i].thickness_m;
+      double q = 1.0 - p * p * vi * vi, c = sqrt(q);
+      x += 2.0 * hh * p * vi / c;
+      tt += 2.0 * hh / (vi * c);
+      dx += 2.0 * hh * vi / (q * c);
+    }
+    double f = x - X;
+    if (fabs(f) < 1e-9) {
+      *t = tt;
+      if (p_out)
+        *p_out = p;
+      return TZ_OK;
+    }
+    if (f > 0)
+      hi = p;
+    else
+      lo = p;
+    double np = p - f / dx;
+    p = (np > lo && np < hi) ? np : 0.5 * (lo + hi);
+    if (hi - lo < 1e-18 * (1.0 / vmax)) {
+      *t = tt;
+      if (p_out)
+        *p_out = p;
+      return TZ_OK;
+    }
+  }
+  return TZ_E_INTERNAL;             /* not reached: bisection converges within 200 steps */
+}
+
+double synth_t0(const synth_model *m, size_t k)
+{
+  double t = 0;
+  for (size_t i = 0; i <= k && i < m->nlayers; i++)
+    t += 2.0 * m->layer[i].thickness_m / m->layer[i].velocity_mps;
+  return t;
+}
+
+double synth_vrms(const synth_model *m, size_t k)
+{
+  double s = 0, t = 0;
+  for (size_t i = 0; i <= k && i < m->nlayers; i++) {
+    double dt = 2.0 * m->layer[i].thickness_m / m->layer[i].velocity_mps;
+    s += m->layer[i].velocity_mps * m->layer[i].velocity_mps * dt;
+    t += dt;
+  }
+  return t > 0 ? sqrt(s / t) : m->layer[0].velocity_mps;
+}
+
+static double rc(double v1, double d1, double v2, double d2)
+{
+  double z1 = v1 * d1, z2 = v2 * d2;
+  return (z2 - z1) / (z2 + z1);
+}
+
+double synth_reflection(const synth_model *m, size_t k)
+{
+  if (k + 1 >= m->nlayers)
+    return 0;
+  return rc(m->layer[k].velocity_mps, m->layer[k].density_kgm3, m->layer[k + 1].velocity_mps,
+            m->layer[k + 1].density_kgm3);
+}
+
+double synth_dip_time(const synth_model *m, double sa, double sr, double ra, double rr)
+{
+  const synth_dip *d = &m->dip;
+  double phi = d->dip_deg * M_PI / 180.0;
+  double nx = -sin(phi), nz = cos(phi);  /* unit normal (along, depth), pointing down */
+  /* Signed distance from the source (depth 0) to the plane, positive above it. */
+  double h = nx * (d->along_m - sa) + nz * d->depth_m;
+  if (h <= 0)
+    return -1.0;
+  double ia = sa + 2.0 * h * nx, iz = 2.0 * h * nz;   /* image source */
+  double da = ra - ia, dr = rr - sr, dz = iz;
+  return sqrt(da * da + dr * dr + dz * dz) / d->velocity_above_mps;
+}
+
+int synth_head_time(const synth_model *m, double offset_m, double *t)
+{
+  if (m->nlayers < 2)
+    return 0;
+  double v1 = m->layer[0].velocity_mps, v2 = m->layer[1].velocity_mps;
+  double h = m->layer[0].thickness_m;
+  if (!(v2 > v1))
+    return 0;
+  double s = v1 / v2, c = sqrt(1.0 - s * s);
+  double xc = 2.0 * h * s / c;
+  double x = fabs(offset_m);
+  if (x < xc)
+    return 0;
+  *t = x / v2 + 2.0 * h * c / v1;
+  return 1;
+}
+
+double synth_ricker(double fp, double t)
+{
+  double a = M_PI * fp * t;
+  a *= a;
+  return (1.0 - 2.0 * a) * exp(-a);
+}
+
+/* ---- random numbers ---- */
+
+static uint64_t splitmix(uint64_t *x)
+{
+  uint64_t z = (*x += 0x9E3779B97F4A7C15ull);
+  z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ull;
+  z = (z ^ (z >> 27)) * 0x94D049BB133111EBull;
+  return z ^ (z >> 31);
+}
+
+void synth_rng_seed(synth_rng *r, uint64_t seed)
+{
+  for (int i = 0; i < 4; i++)
+    r->s[i] = splitmix(&seed);
+}
+
+static uint64_t rotl(uint64_t x, int k) { return (x << k) | (x >> (64 - k)); }
+
+uint64_t synth_rng_next(synth_rng *r)
+{
+  uint64_t *s = r->s;
+  uint64_t out = rotl(s[1] * 5, 7) * 9, t = s[1] << 17;
+  s[2] ^= s[0];
+  s[3] ^= s[1];
+  s[1] ^= s[2];
+  s[0] ^= s[3];
+  s[2] ^= t;
+  s[3] = rotl(s[3], 45);
+  return out;
+}
+
+double synth_rng_gauss(synth_rng *r)
+{
+  for (;;) {
+    double u = (double)(synth_rng_next(r) >> 11) * 0x1p-52 - 1.0;
+    double v = (double)(synth_rng_next(r) >> 11) * 0x1p-52 - 1.0;
+    double s = u * u + v * v;
+    if (s > 0 && s < 1)
+      return u * sqrt(-2.0 * log(s) / s);
+  }
+}
+
+/* ---- rendering ---- */
+
+void synth_params_init(synth_params *p)
+{
+  memset(p, 0, sizeof *p);
+  p->peak_hz = 30;
+  p->samples = 1001;
+  p->interval_us = 1000;
+  p->format_code = 1;
+  p->reflections = p->dipping = p->direct = p->head = 1;
+  p->direct_scale = 0.2;
+  p->head_scale = 0.05;
+  p->seed = 1;
+  p->train_velocity_mps = 300;
+  p->train_peak_hz = 8;
+  p->first_cmp = 1;
+}
+
+/* Adds amp * ricker(t - te) over the wavelet's support. */
+static void add_wavelet(float *out, size_t ns, double dt, double fp, double te, double amp)
+{
+  double half = 5.0 / (M_PI * fp);
+  double a = (te - half) / dt, b = (te + half) / dt;
+  if (b < 0 || a > (double)(ns - 1) || !isfinite(te))
+    return;
+  size_t i0 = a < 0 ? 0 : (size_t)ceil(a);
+  size_t i1 = b > (double)(ns - 1) ? ns - 1 : (size_t)floor(b);
+  double k = M_PI * fp;
+  for (size_t i = i0; i <= i1; i++) {
+    double u = k * ((double)i * dt - te);
+    u *= u;
+    out[i] += (float)(amp * (1.0 - 2.0 * u) * exp(-u));
+  }
+}
+
+void synth_render(const synth_model *m, const synth_params *p, const synth_frame *f,
+                  const geometry_trace *g, float *out)
+{
+  size_t ns = p->samples;
+  double dt = p->interval_us * 1e-6, fp = p->peak_hz;
+  memset(out, 0, ns * sizeof *out);
+  double x = g->offset_abs, v1 = m->layer[0].velocity_mps;
+  if (p->reflections)
+    for (size_t k = 0; k + 1 < m->nlayers; k++) {
+      double t;
+      if (synth_flat_time(m, k, x, &t, NULL))
+        continue;
+      double vr = synth_vrms(m, k);
+      double dist = t * vr * vr / v1;                 /* Newman (1973) divergence */
+      add_wavelet(out, ns, dt, fp, t, synth_reflection(m, k) * SYNTH_REF_DISTANCE_M / dist);
+    }
+  if (p->dipping && m->dip.present) {
+    double su, cu;
+    geometry_sincos_deg(f->azimuth_deg, &su, &cu);
+    double sdx = g->source_x - f->x0, sdy = g->source_y - f->y0;
+    double rdx = g->receiver_x - f->x0, rdy = g->receiver_y - f->y0;
+    double t = synth_dip_time(m, sdx * su + sdy * cu, sdx * cu - sdy * su, rdx * su + rdy * cu,
+                              rdx * cu - rdy * su);
+    const synth_dip *d = &m->dip;
+    if (t > 0)
+      add_wavelet(out, ns, dt, fp, t,
+                  rc(d->velocity_above_mps, d->density_above_kgm3, d->velocity_below_mps,
+                     d->density_below_kgm3) * SYNTH_REF_DISTANCE_M / (t * d->velocity_above_mps));
+  }
+  if (p->direct && x > 0)
+    add_wavelet(out, ns, dt, fp, x / v1, p->direct_scale * SYNTH_REF_DISTANCE_M / x);
+  double th;
+  if (p->head && synth_head_time(m, x, &th))
+    add_wavelet(out, ns, dt, fp, th, p->head_scale * SYNTH_REF_DISTANCE_M / (v1 * th));
+  if (p->train_amplitude != 0 && p->train_velocity_mps > 0)
+    add_wavelet(out, ns, dt, p->train_peak_hz, x / p->train_velocity_mps, p->train_amplitude);
+  if (p->noise_rms > 0) {
+    synth_rng r;
+    uint64_t key = p->seed ^ ((uint64_t)(uint32_t)g->field_record << 32 | (uint32_t)g->channel);
+    synth_rng_seed(&r, key * 0x9E3779B97F4A7C15ull + p->seed);
+    for (size_t i = 0; i < ns; i++)
+      out[i] += (float)(p->noise_rms * synth_rng_gauss(&r));
+  }
+}
+
+/* ---- surveys ---- */
+
+static int remove_tree(const char *dir)
+{
+  DIR *d = opendir(dir);
+  if (!d)
+    return -1;
+  struct dirent *e;
+  char path[4096];
+  while ((e = readdir(d))) {
+    if (!strcmp(e->d_name, ".") || !strcmp(e->d_name, ".."))
+      continue;
+    int n = snprintf(path, sizeof path, "%s/%s", dir, e->d_name);
+    if (n > 0 && (size_t)n < sizeof path)
+      unlink(path);
+  }
+  closedir(d);
+  return rmdir(dir);
+}
+
+/* Moves every file of tmp into dir (dir exists) and removes tmp. */
+static int move_files(const char *tmp, const char *dir, tz_err *err)
+{
+  DIR *d = opendir(tmp);
+  if (!d) {
+    int e = errno;
+    tz_err_path(err, tmp);
+    return tz_fail_os(err, TZ_E_IO, e, "cannot read temporary folder");
+  }
+  struct dirent *e;
+  char from[4096], to[4096];
+  int rcode = TZ_OK;
+  while ((e = readdir(d))) {
+    if (!strcmp(e->d_name, ".") || !strcmp(e->d_name, ".."))
+      continue;
+    int n1 = snprintf(from, sizeof from, "%s/%s", tmp, e->d_name);
+    int n2 = snprintf(to, sizeof to, "%s/%s", dir, e->d_name);
+    if (n1 < 0 || n2 < 0 || (size_t)n1 >= sizeof from || (size_t)n2 >= sizeof to ||
+        rename(from, to) != 0) {
+      int os = errno;
+      tz_err_path(err, to);
+      rcode = tz_fail_os(err, TZ_E_CREATE, os, "cannot move output into place");
+      break;
+    }
+  }
+  closedir(d);
+  remove_tree(tmp);
+  return rcode;
+}
+
+static void card_text(char *buf, size_t cap, const synth_model *m, const geometry_layout *l,
+                      const synth_params *p, const geometry_shot *sh)
+{
+  int n = snprintf(buf, cap,
+                   "SYNTHETIC SHOT RECORD WRITTEN BY TZERO SYNTH\n"
+                   "LINE %s\n"
+                   "FIELD RECORD %d SHOT POINT %d\n"
+                   "CHANNELS %d RECEIVER INTERVAL %.3f M SOURCE INTERVAL %.3f M\n"
+                   "RICKER PEAK %.2f HZ SAMPLE INTERVAL %u US SAMPLES %u\n"
+                   "LAYERED EARTH: %zu LAYERS, EXACT RAY TRACING\n",
+                   p->line_name && *p->line_name ? p->line_name : "UNNAMED",
+                   (int)sh->field_record, (int)sh->shot_point, (int)l->channels,
+                   l->receiver_interval_m, l->source_interval_m, p->peak_hz,
+                   (unsigned)p->interval_us, (unsigned)p->samples, m->nlayers);
+  if (n < 0 || (size_t)n >= cap)
+    buf[cap - 1] = '\0';
+}
+
+int synth_survey(const synth_model *m, const geometry_layout *l, const synth_params *p,
+                 const char *dir, synth_summary *sum, tz_err *err)
+{
+  if (geometry_layout_check(l, err))
+    return err->status;
+  if (!(p->peak_hz > 0) || p->samples < 1 || p->samples > 65535 || p->interval_us < 1 ||
+      p->interval_us > 65535)
+    return tz_fail(err, TZ_E_ARG, "samples must be 1..65535, interval 1..65535 us, peak > 0");
+  if (p->format_code != 1 && p->format_code != 5)
+    return tz_fail(err, TZ_E_ARG, "sample format must be 1 (IBM) or 5 (IEEE)");
+  bins_params bp;
+  bins_line *line = NULL;
+  if (bins_params_from_layout(l, p->bin_size_m, p->first_cmp, &bp, err) ||
+      bins_line_straight(&line, &bp, err))
+    return err->status;
+  synth_frame fr = { l->first_station_x_m, l->first_station_y_m, l->azimuth_deg };
+
+  /* Temporary folder beside dir. */
+  size_t dl = strlen(dir);
+  while (dl > 1 && dir[dl - 1] == '/')
+    dl--;
+  char target[4096], tmp[4096];
+  if (dl + 40 >= sizeof target) {
+    bins_line_free(line);
+    return tz_fail(err, TZ_E_ARG, "output folder name too long");
+  }
+  memcpy(target, dir, dl);
+  target[dl] = '\0';
+  const char *slash = strrchr(target, '/');
+  size_t pl = slash ? (size_t)(slash - target) + 1 : 0;
+  int tn = snprintf(tmp, sizeof tmp, "%.*s.%s.tmp-XXXXXX", (int)pl, target, target + pl);
+  if (tn < 0 || (size_t)tn >= sizeof tmp || !mkdtemp(tmp)) {
+    int e = errno;
+    bins_line_free(line);
+    tz_err_path(err, target);
+    return tz_fail_os(err, TZ_E_CREATE, e, "cannot create a temporary folder beside it");
+  }
+  size_t nsh = geometry_layout_shots(l), nch = geometry_layout_channels(l);
+  float *buf = malloc(p->samples * sizeof *buf);
+  int rcode = TZ_OK;
+  synth_summary s = { 0 };
+  s.first_cmp = 0;
+  s.last_cmp = -1;
+  int64_t seq = 0;
+  char text[1024];
+  if (!buf) {
+    rcode = tz_fail(err, TZ_E_NOMEM, "trace buffer");
+    goto fail;
+  }
+  for (size_t k = 0; k < nsh; k++) {
+    geometry_shot sh;
+    if ((rcode = geometry_layout_shot(l, k, &sh, err)))
+      goto fail;
+    char path[4200];
+    int pn = snprintf(path, sizeof path, "%s/shot_%06lld.sgy", tmp, (long long)sh.field_record);
+    if (pn < 0 || (size_t)pn >= sizeof path) {
+      rcode = tz_fail(err, TZ_E_ARG, "output folder name too long");
+      goto fail;
+    }
+    card_text(text, sizeof text, m, l, p, &sh);
+    segy_write_opts wo = { .revision = 1, .format_code = p->format_code,
+                           .samples = p->samples, .interval_us = p->interval_us,
+                           .sorting_code = 1, .traces_per_ensemble = (int16_t)(nch > 32767 ? 32767 : nch),
+                           .ensemble_fold = (int16_t)fmin(32767, floor(geometry_layout_nominal_fold(l) + 0.5)),
+                           .measurement_system = 1, .text = text };
+    segy_writer *w = NULL;
+    if ((rcode = segy_writer_open(&w, path, &wo, err)))
+      goto fail;
+    for (size_t c = 0; c < nch; c++) {
+      geometry_trace g;
+      if ((rcode = geometry_layout_trace(l, k, c, &g, err))) {
+        segy_writer_abort(w);
+        goto fail;
+      }
+      synth_render(m, p, &fr, &g, buf);
+      segy_trace_header h;
+      memset(&h, 0, sizeof h);
+      h.line_seq = (int32_t)++seq;
+      h.file_seq = (int32_t)(c + 1);
+      h.field_record = g.field_record;
+      h.channel = g.channel;
+      h.kind = SEGY_KIND_SEISMIC;
+      h.vertical_sum = 1;
+      h.stacked_traces = 1;
+      h.data_use = 1;
+      h.samples = p->samples;
+      h.interval_us = p->interval_us;
+      h.coord_scalar = -100;
+      h.elev_scalar = -100;
+      if (!p->bare_headers) {
+        geometry_to_header(&g, &h);
+        h.source_point = sh.shot_point;
+        bins_loc loc;
+        bins_locate(line, g.midpoint_x, g.midpoint_y, &loc);
+        h.cmp = loc.cmp;
+        h.cmp_x = loc.centre_x;
+        h.cmp_y = loc.centre_y;
+        if (s.last_cmp < s.first_cmp) {
+          s.first_cmp = s.last_cmp = loc.cmp;
+        } else {
+          if (loc.cmp < s.first_cmp) s.first_cmp = loc.cmp;
+          if (loc.cmp > s.last_cmp) s.last_cmp = loc.cmp;
+        }
+      }
+      if ((rcode = segy_write_trace(w, &h, buf, err))) {
+        segy_writer_abort(w);
+        goto fail;
+      }
+    }
+    if ((rcode = segy_writer_finish(w, err)))
+      goto fail;
+    if (k == 0)
+      s.first_field_record = sh.field_record;
+    s.last_field_record = sh.field_record;
+    s.files++;
+    s.traces += (int64_t)nch;
+    s.bytes += 3600 + (int64_t)nch * (240 + 4 * (int64_t)p->samples);
+  }
+  free(buf);
+  buf = NULL;
+  bins_line_free(line);
+  line = NULL;
+  struct stat st;
+  if (stat(target, &st) != 0) {
+    if (rename(tmp, target) != 0) {
+      int e = errno;
+      tz_err_path(err, target);
+      rcode = tz_fail_os(err, TZ_E_CREATE, e, "cannot move the survey into place");
+      goto fail;
+    }
+  } else if (!S_ISDIR(st.st_mode)) {
+    tz_err_path(err, target);
+    rcode = tz_fail(err, TZ_E_CREATE, "exists and is not a folder");
+    goto fail;
+  } else if ((rcode = move_files(tmp, target, err))) {
+    return rcode;
+  }
+  if (sum)
+    *sum = s;
+  return TZ_OK;
+fail:
+  free(buf);
+  bins_line_free(line);
+  remove_tree(tmp);
+  return rcode;
+}
+
+int synth_write_rms_table(const synth_model *m, int32_t first_cmp, int32_t last_cmp,
+                          const char *path, tz_err *err)
+{
+  fileio_out *o;
+  if (fileio_create(&o, path, err))
+    return err->status;
+  FILE *fp = fileio_stream(o);
+  fprintf(fp, "# exact RMS velocities of the flat layers (Taner and Koehler 1969):\n"
+              "# V_rms^2 = sum v_k^2 dtau_k / t0, written by tzero synth\n"
+              "cmp,time_ms,velocity_mps\n");
+  int32_t cmps[2] = { first_cmp, last_cmp };
+  int n = first_cmp == last_cmp ? 1 : 2;
+  for (int c = 0; c < n; c++) {
+    fprintf(fp, "%d,0,%.3f\n", (int)cmps[c], m->layer[0].velocity_mps);
+    for (size_t k = 0; k + 1 < m->nlayers; k++)
+      fprintf(fp, "%d,%.6f,%.6f\n", (int)cmps[c], synth_t0(m, k) * 1000.0, synth_vrms(m, k));
+  }
+  return fileio_commit(o, err);
+}
