@@ -5,7 +5,8 @@
  * each, stretch limit 50 %, top mute. Reports output samples per second on one
  * core for linear and sinc8, the share of time spent sampling the velocity
  * function (once per CMP, as the stacker does), and the cost of sampling it for
- * every trace instead (what happens without a per-CMP cache).
+ * every trace instead (what happens without a per-CMP cache). Times are medians over
+ * the repeats, so other load on the machine disturbs them less.
  * Usage: nmo_bench [repeats]
  */
 #include <stdio.h>
@@ -26,6 +27,19 @@ static double now(void)
   struct timespec ts;
   clock_gettime(CLOCK_MONOTONIC, &ts);
   return ts.tv_sec + ts.tv_nsec * 1e-9;
+}
+
+static int cmp_dbl(const void *a, const void *b)
+{
+  double x = *(const double *)a, y = *(const double *)b;
+  return (x > y) - (x < y);
+}
+
+/* Median of n times (sorts in place): robust against other load on the machine. */
+static double median(double *v, size_t n)
+{
+  qsort(v, n, sizeof *v, cmp_dbl);
+  return n % 2 ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
 }
 
 static int die(const tz_err *e)
@@ -76,6 +90,9 @@ int main(int argc, char **argv)
     return die(&e);
   nmo_axis ax = { 0.0, DT, NS };
   double sink = 0, t_lin_trace = 0;
+  double *tv = malloc(sizeof(double) * (size_t)reps), *tn = malloc(sizeof(double) * (size_t)reps);
+  if (!tv || !tn)
+    return 1;
   for (int interp = NMO_INTERP_LINEAR; interp <= NMO_INTERP_SINC8; interp++) {
     p.interp = interp;
     double t_vel = 0, t_nmo = 0;
@@ -93,9 +110,11 @@ int main(int argc, char **argv)
         sink += out[NS / 2];
       }
       double t2 = now();
-      t_vel += t1 - t0;
-      t_nmo += t2 - t1;
+      tv[r] = t1 - t0;
+      tn[r] = t2 - t1;
     }
+    t_vel = median(tv, (size_t)reps) * (double)reps;   /* median gather, scaled */
+    t_nmo = median(tn, (size_t)reps) * (double)reps;
     double nsamp = (double)reps * NTR * NS;
     if (interp == NMO_INTERP_LINEAR)
       t_lin_trace = t_nmo / ((double)reps * NTR);
@@ -122,5 +141,7 @@ int main(int argc, char **argv)
   free(out);
   free(w);
   free(vel);
+  free(tv);
+  free(tn);
   return sink == 12345.678 ? 3 : 0;
 }

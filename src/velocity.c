@@ -378,35 +378,40 @@ static void bracket(const velocity_table *t, int64_t cmp, const struct vt_cmp **
   *w = (double)(cmp - (*a)->cmp) / (double)((*b)->cmp - (*a)->cmp);
 }
 
-/* Walks the knots of one control CMP along t_i = t0 + i dt, adding wgt * value
- * into acc (and eacc). One pass: the knot pointer only moves forward. */
+/* Walks the knots of one control CMP along t_i = t0 + (i0 + i) dt, i < n, adding
+ * wgt * value into acc[i] (and eacc[i] when not NULL). One pass, segment by
+ * segment: the knot index only moves forward and each sample costs one compare. */
 static void walk(const velocity_table *t, const struct vt_cmp *c, double wgt, double t0,
-                 double dt, size_t ns, double *acc, double *eacc, size_t i0, size_t n)
+                 double dt, size_t i0, size_t n, double *acc, double *eacc)
 {
   const double *kt = t->time_s + c->first, *kv = t->vel + c->first;
   const double *ke = t->eta + c->first;
-  size_t nk = c->n, k = 0;   /* invariant: kt[k] <= time < kt[k+1] inside the knots */
-  (void)ns;
-  for (size_t i = i0; i < i0 + n; i++) {
-    double tm = t0 + (double)i * dt;
-    double v, e;
-    if (tm <= kt[0] || nk == 1) {
-      v = kv[0];
-      e = ke[0];
-    } else if (tm >= kt[nk - 1]) {
-      v = kv[nk - 1];
-      e = ke[nk - 1];
-    } else {
-      while (kt[k + 1] <= tm)
-        k++;
-      double f = (tm - kt[k]) / (kt[k + 1] - kt[k]);
-      v = kv[k] + f * (kv[k + 1] - kv[k]);
-      e = ke[k] + f * (ke[k + 1] - ke[k]);
-    }
-    acc[i - i0] += wgt * v;
+  size_t nk = c->n, i = 0;
+#define TIME(j) (t0 + (double)(i0 + (j)) * dt)
+  for (; i < n && TIME(i) <= kt[0]; i++) {   /* held before the first knot */
+    acc[i] += wgt * kv[0];
     if (eacc)
-      eacc[i - i0] += wgt * e;
+      eacc[i] += wgt * ke[0];
   }
+  for (size_t k = 0; k + 1 < nk && i < n; k++) {
+    double ta = kt[k], tb = kt[k + 1];
+    double sv = (kv[k + 1] - kv[k]) / (tb - ta), se = (ke[k + 1] - ke[k]) / (tb - ta);
+    double tm;
+    if (eacc)
+      for (; i < n && (tm = TIME(i)) < tb; i++) {
+        acc[i] += wgt * (kv[k] + sv * (tm - ta));
+        eacc[i] += wgt * (ke[k] + se * (tm - ta));
+      }
+    else
+      for (; i < n && (tm = TIME(i)) < tb; i++)
+        acc[i] += wgt * (kv[k] + sv * (tm - ta));
+  }
+  for (; i < n; i++) {   /* held after the last knot */
+    acc[i] += wgt * kv[nk - 1];
+    if (eacc)
+      eacc[i] += wgt * ke[nk - 1];
+  }
+#undef TIME
 }
 
 void velocity_sample(const velocity_table *t, int64_t cmp, double t_first_s, double dt_s,
@@ -427,10 +432,11 @@ void velocity_sample(const velocity_table *t, int64_t cmp, double t_first_s, dou
   for (size_t i0 = 0; i0 < ns; i0 += BLK) {
     size_t n = ns - i0 < BLK ? ns - i0 : BLK;
     memset(acc, 0, n * sizeof *acc);
-    memset(eacc, 0, n * sizeof *eacc);
-    walk(t, a, 1.0 - w, t_first_s, dt_s, ns, acc, eta ? eacc : NULL, i0, n);
+    if (eta)
+      memset(eacc, 0, n * sizeof *eacc);
+    walk(t, a, 1.0 - w, t_first_s, dt_s, i0, n, acc, eta ? eacc : NULL);
     if (w > 0)
-      walk(t, b, w, t_first_s, dt_s, ns, acc, eta ? eacc : NULL, i0, n);
+      walk(t, b, w, t_first_s, dt_s, i0, n, acc, eta ? eacc : NULL);
     for (size_t j = 0; j < n; j++)
       vel_mps[i0 + j] = (float)acc[j];
     if (eta)
@@ -446,9 +452,9 @@ double velocity_at(const velocity_table *t, int64_t cmp, double time_s, double *
   if (t->ncmp == 0)
     return 0;
   bracket(t, cmp, &a, &b, &w);
-  walk(t, a, 1.0 - w, time_s, 1.0, 1, &v, &e, 0, 1);
+  walk(t, a, 1.0 - w, time_s, 1.0, 0, 1, &v, &e);
   if (w > 0)
-    walk(t, b, w, time_s, 1.0, 1, &v, &e, 0, 1);
+    walk(t, b, w, time_s, 1.0, 0, 1, &v, &e);
   if (eta)
     *eta = e;
   return v;
