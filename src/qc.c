@@ -260,7 +260,8 @@ int qc_write_text(const char *path, const char *text, tz_err *err)
   if (rc)
     return rc;
   size_t n = strlen(text);
-  if (fwrite(text, 1, n, fileio_stream(o)) != n || fputc('\n', fileio_stream(o)) == EOF) {
+  int nl = n == 0 || text[n - 1] != '\n';
+  if (fwrite(text, 1, n, fileio_stream(o)) != n || (nl && fputc('\n', fileio_stream(o)) == EOF)) {
     fileio_abort(o);
     tz_err_path(err, path);
     return tz_fail(err, TZ_E_IO, "write failed");

@@ -370,3 +370,88 @@ int stack_section_write(const stack_section *s, const stack_plan *p, const char 
   }
   return segy_writer_finish(w, err);
 }
+
+int stack_write_nmo_gathers(const stack_plan *p, const stack_gathers *G, const stack_run_opts *o,
+                            const char *path, int format_code, int64_t *ntraces, tz_err *err)
+{
+  size_t ns = G->axis.ns, maxfold = 0, total = 0;
+  for (size_t i = 0; i < G->n; i++) {
+    total += G->g[i].ntraces;
+    if (G->g[i].ntraces > maxfold)
+      maxfold = G->g[i].ntraces;
+  }
+  if (!total)
+    return tz_fail(err, TZ_E_ARG, "none of the %zu requested CMPs has traces to write "
+                   "(CMPs with traces: %d-%d)", G->n, (int)p->first_cmp, (int)p->last_cmp);
+  const job_spec *j = p->job;
+  char text[38 * 80];
+  snprintf(text, sizeof text,
+           "tzero NMO-corrected CMP gathers (traces by absolute offset)\n"
+           "line: %s\n"
+           "velocity: %.60s\n"
+           "stretch limit %.1f %%, interpolation %s\n"
+           "CMP number in bytes 21-24, trace within CMP 25-28, offset 37-40",
+           j->name && j->name[0] ? j->name : "(unnamed)",
+           j->velocity ? j->velocity : "(given in code)", o->nmo.stretch_limit_pct,
+           nmo_interp_name(o->nmo.interp));
+  segy_write_opts wo;
+  memset(&wo, 0, sizeof wo);
+  wo.revision = 1;
+  wo.format_code = format_code == 1 ? 1 : 5;
+  wo.samples = (uint32_t)ns;
+  wo.interval_us = G->interval_us;
+  wo.sorting_code = 2;                     /* CDP (CMP) ensemble, SEG-Y rev 1 */
+  double nom = round(p->nominal_fold);
+  wo.ensemble_fold = (int16_t)(nom > 32767 ? 32767 : nom < 0 ? 0 : nom);
+  wo.traces_per_ensemble = (int16_t)(maxfold > 32767 ? 32767 : maxfold);
+  wo.measurement_system = 1;
+  wo.text = text;
+  float *vel = malloc(ns * sizeof *vel), *eta = NULL, *out = malloc(ns * sizeof *out);
+  int use_eta = o->nmo.use_eta && velocity_table_has_eta(o->velocity);
+  if (use_eta)
+    eta = malloc(ns * sizeof *eta);
+  nmo_workspace *ws = NULL;
+  segy_writer *w = NULL;
+  int rc = TZ_OK;
+  if (!vel || !out || (use_eta && !eta)) {
+    rc = tz_fail(err, TZ_E_NOMEM, "gather buffers");
+    goto done;
+  }
+  if ((rc = nmo_workspace_new(&ws, ns, err)) || (rc = segy_writer_open(&w, path, &wo, err)))
+    goto done;
+  int64_t seq = 0;
+  for (size_t i = 0; i < G->n && !rc; i++) {
+    const stack_gather *g = &G->g[i];
+    if (!g->ntraces)
+      continue;
+    velocity_sample(o->velocity, g->cmp, G->axis.t_first_s, G->axis.dt_s, ns, vel, eta);
+    for (size_t k = 0; k < g->ntraces && !rc; k++) {
+      rc = nmo_apply(ws, &o->nmo, o->mute.n ? &o->mute : NULL, &G->axis, g->offset_m[k],
+                     g->samples + k * ns, vel, use_eta ? eta : NULL, out, NULL, NULL, err);
+      if (rc)
+        break;
+      segy_trace_header h = g->headers[k];
+      h.line_seq = (int32_t)++seq;
+      h.file_seq = (int32_t)seq;
+      h.cmp = g->cmp;
+      h.cmp_trace = (int32_t)k + 1;
+      h.offset = g->offset_signed_m[k];
+      h.cmp_x = g->x_m;
+      h.cmp_y = g->y_m;
+      rc = segy_write_trace(w, &h, out, err);
+    }
+  }
+  if (!rc) {
+    rc = segy_writer_finish(w, err);
+    w = NULL;
+  }
+  if (!rc && ntraces)
+    *ntraces = seq;
+done:
+  segy_writer_abort(w);
+  nmo_workspace_free(ws);
+  free(vel);
+  free(eta);
+  free(out);
+  return rc;
+}

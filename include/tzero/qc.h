@@ -32,7 +32,8 @@ typedef struct qc_build_args {
 
 /* Builds the report. On success *json owns NUL-terminated JSON text (free()). */
 int qc_report_build(const qc_build_args *a, char **json, tz_err *err);
-/* Writes text to path through a temporary file renamed on success. */
+/* Writes text to path (adding a final newline if missing) through a temporary
+ * file renamed on success. */
 int qc_write_text(const char *path, const char *text, tz_err *err);
 
 typedef struct qc_report qc_report;

@@ -120,6 +120,24 @@ int stack_plan_classify(const stack_plan *p, const segy_trace_header *h, int64_t
                         int32_t *cmp, double *offset_abs_m, double *offset_signed_m,
                         int *reason);
 
+/* ---- everything a command needs from a job file, in one call ---- */
+
+/* A job resolved into what processing needs: the job (overrides applied), its
+ * velocity table and the plan. All three are owned: stack_setup_free(). */
+typedef struct stack_setup {
+  job_spec *job;
+  velocity_table *velocity;        /* NULL when the job names none and it is optional */
+  stack_plan *plan;
+  double header_pass_s;            /* wall time of the plan build */
+} stack_setup;
+
+/* Loads the job file, applies `ov` (may be NULL), loads the velocity table
+ * (required when need_velocity; a job without one is then TZ_E_JOB naming
+ * $.velocity) and builds the plan. On failure nothing is left to free. */
+int stack_setup_load(stack_setup *s, const char *job_path, const job_overrides *ov,
+                     int need_velocity, stack_progress_fn progress, void *ctx, tz_err *err);
+void stack_setup_free(stack_setup *s);     /* frees the members; NULL members are fine */
+
 /* ---- the data pass ---- */
 
 typedef struct stack_run_opts {
@@ -217,6 +235,17 @@ typedef struct stack_gathers {
 int stack_collect(const stack_plan *p, const int32_t *cmps, size_t ncmps, stack_gathers **out,
                   tz_err *err);
 void stack_gathers_free(stack_gathers *g);   /* NULL is a no-op */
+
+/* Writes the gathers NMO-corrected (velocities, NMO parameters and mutes from o;
+ * o's CMP range, threads and progress are not used) as SEG-Y rev 1 CMP gathers:
+ * CMPs in order, traces by |offset|, each trace's own header kept, with CMP
+ * number (21-24), trace number within the CMP (25-28), signed offset (37-40)
+ * and CMP X/Y (181-188) set; binary header sorting code 2 (CMP ensemble),
+ * ensemble fold = nominal fold. Empty gathers are left out; when every gather
+ * is empty nothing is written (TZ_E_ARG). *ntraces (may be NULL) gets the
+ * traces written. Written under a temporary name, renamed on success. */
+int stack_write_nmo_gathers(const stack_plan *p, const stack_gathers *g, const stack_run_opts *o,
+                            const char *path, int format_code, int64_t *ntraces, tz_err *err);
 
 /* Parses a CMP list: "250", "200,250,300", "200-300", "200-900:50" and commas
  * between any of these. On success *out owns a sorted array without duplicates

@@ -1,0 +1,85 @@
+/* jobopts.c -- job overrides from the command line and the progress line. */
+#include "jobopts.h"
+
+#include <stdio.h>
+#include <string.h>
+#include <time.h>
+#include <unistd.h>
+
+#include "cli.h"
+
+int cli_job_option(const char *cmd, int c, const char *arg, job_overrides *ov)
+{
+  long long n;
+  switch (c) {
+  case JOBOPT_VELOCITY:
+    ov->velocity = arg;
+    return 1;
+  case JOBOPT_STRETCH:
+    return cli_parse_f64(cmd, "--stretch-limit", arg, &ov->stretch_limit_pct) ? -1 : 1;
+  case JOBOPT_INTERP:
+    if (!strcmp(arg, "linear"))
+      ov->interpolation = JOB_INTERP_LINEAR;
+    else if (!strcmp(arg, "sinc8"))
+      ov->interpolation = JOB_INTERP_SINC8;
+    else {
+      cli_usage_error(cmd, "--interpolation: expected linear or sinc8, got '%s'", arg);
+      return -1;
+    }
+    return 1;
+  case JOBOPT_THREADS:
+    if (cli_parse_i64(cmd, "--threads", arg, &n))
+      return -1;
+    if (n < 0 || n > JOB_MAX_THREADS) {
+      cli_usage_error(cmd, "--threads: expected 0 to %d, got %lld", JOB_MAX_THREADS, n);
+      return -1;
+    }
+    ov->threads = (int)n;
+    return 1;
+  case JOBOPT_SKIP_BAD:
+    ov->skip_bad_files = 1;
+    return 1;
+  default:
+    return 0;
+  }
+}
+
+double cli_now_s(void)
+{
+  struct timespec ts;
+  clock_gettime(CLOCK_MONOTONIC, &ts);
+  return (double)ts.tv_sec + ts.tv_nsec * 1e-9;
+}
+
+void cli_progress_init(cli_progress *p, const char *what, int quiet)
+{
+  p->on = !quiet && isatty(2);
+  p->what = what;
+  p->start = cli_now_s();
+  p->last = 0;
+}
+
+void cli_progress_show(void *ctx, int64_t done, int64_t total)
+{
+  cli_progress *p = ctx;
+  if (!p->on)
+    return;
+  double t = cli_now_s();
+  if (t - p->last < 0.2 && (total < 0 || done < total))
+    return;
+  p->last = t;
+  double el = t - p->start, rate = el > 0 ? (double)done / el : 0;
+  if (total > 0 && rate > 0)
+    fprintf(stderr, "\r%s: %lld/%lld traces, %.0f traces/s, %.0f s left   ", p->what,
+            (long long)done, (long long)total, rate, (double)(total - done) / rate);
+  else
+    fprintf(stderr, "\r%s: %lld traces, %.0f traces/s   ", p->what, (long long)done, rate);
+  fflush(stderr);
+}
+
+void cli_progress_end(cli_progress *p)
+{
+  if (p->on && p->last > 0)
+    fprintf(stderr, "\r\033[K");
+  p->last = 0;
+}

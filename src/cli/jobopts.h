@@ -1,0 +1,35 @@
+/* jobopts.h -- command-line options shared by the job-driven subcommands (stack, nmo):
+ * the job overrides and the progress line. Front-end only. */
+#ifndef TZERO_CLI_JOBOPTS_H
+#define TZERO_CLI_JOBOPTS_H
+
+#include <getopt.h>
+#include <stdint.h>
+#include "tzero/job.h"
+
+/* getopt_long entries for the overrides; their `val`s are the JOBOPT_* codes. */
+enum { JOBOPT_VELOCITY = 1000, JOBOPT_STRETCH, JOBOPT_INTERP, JOBOPT_THREADS, JOBOPT_SKIP_BAD };
+#define JOBOPTS_LONG                                                  \
+  { "velocity", required_argument, NULL, JOBOPT_VELOCITY },           \
+  { "stretch-limit", required_argument, NULL, JOBOPT_STRETCH },       \
+  { "interpolation", required_argument, NULL, JOBOPT_INTERP },        \
+  { "threads", required_argument, NULL, JOBOPT_THREADS },             \
+  { "skip-bad-files", no_argument, NULL, JOBOPT_SKIP_BAD }
+
+/* Handles one JOBOPT_* option into ov. Returns 1 when handled, 0 when `c` is
+ * not a job option, -1 after printing a usage error. */
+int cli_job_option(const char *cmd, int c, const char *arg, job_overrides *ov);
+
+/* A progress line on stderr, drawn only when stderr is a terminal. */
+typedef struct cli_progress {
+  int on;
+  const char *what;
+  double start, last;
+} cli_progress;
+
+void cli_progress_init(cli_progress *p, const char *what, int quiet);
+void cli_progress_show(void *ctx, int64_t done, int64_t total);  /* stack_progress_fn */
+void cli_progress_end(cli_progress *p);                          /* clears the line */
+double cli_now_s(void);
+
+#endif
