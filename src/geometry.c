@@ -18,6 +18,7 @@
 #include <string.h>
 
 #include "tzero/fileio.h"
+#include "json_doc.h"
 #include "tzero/job.h"
 #include "tzero/table.h"
 
@@ -265,17 +266,9 @@ int geometry_layout_parse(geometry_layout *l, const char *json, size_t len, cons
                           tz_err *err)
 {
   geometry_layout_init(l);
-  const char *end = NULL;
-  cJSON *root = cJSON_ParseWithOpts(json, &end, 1);
-  if (!root) {
-    tz_err_path(err, name);
-    size_t off = end ? (size_t)(end - json) : 0;
-    int64_t line = 1;
-    for (size_t i = 0; i < off && i < len; i++)
-      line += json[i] == '\n';
-    return tz_fail_at(err, TZ_E_FORMAT, -1, (int64_t)off, "layout: invalid JSON (line %lld)",
-                      (long long)line);
-  }
+  cJSON *root;
+  if (json_doc_parse(&root, json, len, name, "layout", err))
+    return err->status;
   int rc = TZ_OK;
   if (!cJSON_IsObject(root)) {
     rc = tz_fail(err, TZ_E_FORMAT, "layout: expected a JSON object");

@@ -31,6 +31,7 @@
 
 #include "tzero/bins.h"
 #include "tzero/fileio.h"
+#include "json_doc.h"
 #include "tzero/segy.h"
 
 #define MODEL_MAX_BYTES (4u << 20)
@@ -160,17 +161,9 @@ int synth_model_parse(synth_model *m, const char *json, size_t len, const char *
                       tz_err *err)
 {
   memset(m, 0, sizeof *m);
-  const char *end = NULL;
-  cJSON *root = cJSON_ParseWithOpts(json, &end, 1);
-  if (!root) {
-    tz_err_path(err, name);
-    size_t off = end ? (size_t)(end - json) : 0;
-    int64_t line = 1;
-    for (size_t i = 0; i < off && i < len; i++)
-      line += json[i] == '\n';
-    return tz_fail_at(err, TZ_E_FORMAT, -1, (int64_t)off, "model: invalid JSON (line %lld)",
-                      (long long)line);
-  }
+  cJSON *root;
+  if (json_doc_parse(&root, json, len, name, "model", err))
+    return err->status;
   int rc = model_from_json(m, root, err);
   cJSON_Delete(root);
   if (rc)
