@@ -118,13 +118,17 @@ static int add_knot(velocity_table *t, int64_t cmp, double time_s, double v, dou
 {
   int st = line > 0 ? TZ_E_FORMAT : TZ_E_ARG;
   int64_t ln = line > 0 ? line : -1;
-  if (!isfinite(time_s) || time_s < 0)
-    return tz_fail_line(err, st, ln, "cmp %lld: time %.10g ms must be finite and >= 0",
-                        (long long)cmp, time_s * 1e3);
+  if (!isfinite(time_s) || time_s < 0 || time_s * 1e3 > VELOCITY_MAX_TIME_MS)
+    return tz_fail_line(err, st, ln, "cmp %lld: time %.10g ms must be >= 0 (and at most %g)",
+                        (long long)cmp, time_s * 1e3, VELOCITY_MAX_TIME_MS);
   if (!isfinite(v) || v <= 0)
     return tz_fail_line(err, st, ln,
                         "cmp %lld: velocity %.10g m/s at %.10g ms must be positive",
                         (long long)cmp, v, time_s * 1e3);
+  if (v < VELOCITY_MIN_MPS || v > VELOCITY_MAX_MPS)
+    return tz_fail_line(err, st, ln,
+                        "cmp %lld: velocity %.10g m/s at %.10g ms is outside %g to %g m/s",
+                        (long long)cmp, v, time_s * 1e3, VELOCITY_MIN_MPS, VELOCITY_MAX_MPS);
   if (t->with_eta && (!isfinite(eta) || eta <= -0.5 || eta > VELOCITY_MAX_ETA))
     return tz_fail_line(err, st, ln,
                         "cmp %lld: eta %.10g at %.10g ms outside (-0.5, %g]",
@@ -275,8 +279,9 @@ int velocity_table_parse(velocity_table **out, const char *name, const char *tex
 
 int velocity_table_constant(velocity_table **out, double v_mps, tz_err *err)
 {
-  if (!isfinite(v_mps) || v_mps <= 0)
-    return tz_fail(err, TZ_E_ARG, "constant velocity %.10g m/s must be positive", v_mps);
+  if (!isfinite(v_mps) || v_mps < VELOCITY_MIN_MPS || v_mps > VELOCITY_MAX_MPS)
+    return tz_fail(err, TZ_E_ARG, "constant velocity %.10g m/s must be within %g to %g m/s",
+                   v_mps, VELOCITY_MIN_MPS, VELOCITY_MAX_MPS);
   velocity_table *t;
   int rc = vt_alloc(&t, 0, "", err);
   if (!rc)

@@ -20,6 +20,12 @@
 /* Anellipticity accepted in the eta column: -0.5 < eta <= VELOCITY_MAX_ETA
  * (eta <= -0.5 makes the fourth-order denominator vanish). */
 #define VELOCITY_MAX_ETA 1.0
+/* Velocities must lie in [VELOCITY_MIN_MPS, VELOCITY_MAX_MPS] and times in
+ * [0, VELOCITY_MAX_TIME_MS]: far beyond any seismic velocity or record length, but
+ * inside single precision, so sampled values never overflow or vanish. */
+#define VELOCITY_MIN_MPS 1.0
+#define VELOCITY_MAX_MPS 1.0e5
+#define VELOCITY_MAX_TIME_MS 1.0e7
 
 typedef struct velocity_table velocity_table;
 

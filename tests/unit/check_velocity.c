@@ -157,6 +157,10 @@ START_TEST(test_errors_name_line)
   parse_bad("cmp,time_ms,velocity_mps\n120,0\n", 2, "2 fields");
   parse_bad("cmp,time_ms,velocity_mps\n120,-5,1500\n", 2, ">= 0");
   parse_bad("cmp,time_ms,velocity_mps,eta\n120,0,1500,-0.7\n", 2, "eta");
+  /* Beyond single precision / any seismic velocity: refused, not overflowed. */
+  parse_bad("cmp,time_ms,velocity_mps\n120,0,1e43\n", 2, "outside");
+  parse_bad("cmp,time_ms,velocity_mps\n120,0,1e-40\n", 2, "outside");
+  parse_bad("cmp,time_ms,velocity_mps\n120,1e300,1500\n", 2, "at most");
 }
 END_TEST
 
@@ -289,6 +293,51 @@ START_TEST(test_load_missing_file)
 }
 END_TEST
 
+/* Robustness (project rule: never a crash on bad input): random tables drawn from
+ * the characters of the format either parse or fail as malformed with a line
+ * number, and a parsed table samples to positive finite velocities. */
+START_TEST(test_random_tables_never_crash)
+{
+  static const char alpha[] = "0123456789,,,,..--e#\n\n\n \t";
+  char txt[512];
+  unsigned s = 4242u;
+  int parsed = 0;
+  for (int trial = 0; trial < 3000; trial++) {
+    int n = snprintf(txt, sizeof txt, "%s", trial % 3 ? "cmp,time_ms,velocity_mps\n" : "");
+    /* Rows of plausible shape (few CMPs, random times and velocities, some
+     * non-positive), then a few characters overwritten at random. */
+    s = s * 1103515245u + 12345u;
+    int rows = (int)((s >> 16) % 8);
+    for (int r = 0; r < rows && n < 400; r++) {
+      s = s * 1103515245u + 12345u;
+      unsigned q = s >> 8;
+      n += snprintf(txt + n, sizeof txt - (size_t)n, "%u,%u,%d\n", 1 + q % 3,
+                    (unsigned)(r * 150 + (q >> 4) % 200), (int)((q >> 12) % 4000) - 50);
+    }
+    s = s * 1103515245u + 12345u;
+    for (int m = (int)((s >> 16) % 3); m > 0 && n > 0; m--) {
+      s = s * 1103515245u + 12345u;
+      txt[(s >> 8) % (unsigned)n] = alpha[(s >> 20) % (sizeof alpha - 1)];
+    }
+    txt[n] = '\0';
+    velocity_table *t = NULL;
+    tz_err e;
+    tz_err_init(&e);
+    int rc = velocity_table_parse(&t, "r.csv", txt, (size_t)n, &e);
+    ck_assert_msg(rc == TZ_OK || (rc == TZ_E_FORMAT && e.msg[0]), "rc %d for '%s'", rc, txt);
+    if (rc == TZ_OK) {
+      float v[64];
+      velocity_sample(t, 3, 0.0, 0.05, 64, v, NULL);
+      for (int i = 0; i < 64; i++)
+        ck_assert_msg(v[i] > 0 && isfinite(v[i]), "sample %d = %g from table:\n%s", i, v[i], txt);
+      parsed++;
+      velocity_table_free(t);
+    }
+  }
+  ck_assert_int_gt(parsed, 0);   /* the generator does reach valid tables */
+}
+END_TEST
+
 static Suite *velocity_suite(void)
 {
   Suite *s = suite_create("velocity");
@@ -303,6 +352,7 @@ static Suite *velocity_suite(void)
   tcase_add_test(tc, test_dix_imaginary_flagged);
   tcase_add_test(tc, test_check_warnings);
   tcase_add_test(tc, test_load_missing_file);
+  tcase_add_test(tc, test_random_tables_never_crash);
   suite_add_tcase(s, tc);
   return s;
 }
