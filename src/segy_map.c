@@ -21,7 +21,7 @@
   { #name, byte, width, kind, offsetof(segy_trace_header, name) }
 
 /* In byte order. Decoding takes two passes: the scaled kinds need the scalars. */
-const segy_field segy_fields[] = {
+static const segy_field segy_fields[] = {
   F(line_seq, 1, 4, SEGY_K_I32),
   F(file_seq, 5, 4, SEGY_K_I32),
   F(field_record, 9, 4, SEGY_K_I32),
@@ -62,7 +62,7 @@ const segy_field segy_fields[] = {
   F(time_scalar, 215, 2, SEGY_K_I16),
 };
 #undef F
-const size_t segy_nfields = sizeof segy_fields / sizeof segy_fields[0];
+static const size_t segy_nfields = sizeof segy_fields / sizeof segy_fields[0];
 
 const segy_field *segy_field_find(const char *name)
 {

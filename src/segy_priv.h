@@ -33,8 +33,7 @@ typedef struct segy_field {
   size_t off;         /* offsetof(segy_trace_header, member) */
 } segy_field;
 
-extern const segy_field segy_fields[];
-extern const size_t segy_nfields;
+/* The field table (segy_map.c); NULL for an unknown name. */
 const segy_field *segy_field_find(const char *name);
 
 /* Reorders `w` bytes of `p` in byte order `order` into big-endian in `out`. */
