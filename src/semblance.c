@@ -31,6 +31,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "tzero/table.h"
 #include "tzero/velocity.h"
 
 /* ---------------------------------------------------------------- accumulator */
@@ -532,4 +533,88 @@ int semblance_autopick(const float *panel, const float *power, size_t nvel, cons
   *out = pk;
   *n = np;
   return TZ_OK;
+}
+
+/* ---------------------------------------------------------------- velocity lists */
+
+static int push_velocity(double **v, size_t *n, size_t *cap, double x, tz_err *err)
+{
+  if (*n == SEMBLANCE_MAX_VELOCITIES)
+    return tz_fail(err, TZ_E_ARG, "velocity list: more than %u values",
+                   SEMBLANCE_MAX_VELOCITIES);
+  if (*n == *cap) {
+    size_t nc = *cap ? 2 * *cap : 16;
+    double *nv = realloc(*v, nc * sizeof *nv);
+    if (!nv)
+      return tz_fail(err, TZ_E_NOMEM, "velocity list");
+    *v = nv;
+    *cap = nc;
+  }
+  (*v)[(*n)++] = x;
+  return TZ_OK;
+}
+
+int semblance_parse_velocities(const char *text, double **out, size_t *n, tz_err *err)
+{
+  double *v = NULL;
+  size_t cnt = 0, cap = 0;
+  char item[128];
+  const char *p = text;
+  int rc = TZ_OK;
+  for (;;) {
+    const char *comma = strchr(p, ',');
+    size_t len = comma ? (size_t)(comma - p) : strlen(p);
+    if (len >= sizeof item) {
+      rc = tz_fail(err, TZ_E_ARG, "velocity list item '%.*s...': too long", 20, p);
+      goto fail;
+    }
+    memcpy(item, p, len);
+    item[len] = '\0';
+    /* A range is "A-B:S"; the '-' that separates A and B is the first one
+     * after a digit (so that exponents like 1e3 stay intact). */
+    char *dash = NULL, *colon = strchr(item, ':');
+    for (char *q = item + 1; *q; q++)
+      if (*q == '-' && (q[-1] >= '0' && q[-1] <= '9')) {
+        dash = q;
+        break;
+      }
+    double a, b, step;
+    if (!dash) {
+      if (colon || table_parse_f64(item, &a) || !(a > 0))
+        goto bad;
+      if ((rc = push_velocity(&v, &cnt, &cap, a, err)))
+        goto fail;
+    } else {
+      if (!colon || colon < dash)
+        goto bad;
+      *dash = *colon = '\0';
+      if (table_parse_f64(item, &a) || table_parse_f64(dash + 1, &b) ||
+          table_parse_f64(colon + 1, &step) || !(a > 0) || !(b >= a) || !(step > 0))
+        goto bad;
+      double m = floor((b - a) / step + 1e-9);
+      if (m >= SEMBLANCE_MAX_VELOCITIES) {
+        rc = tz_fail(err, TZ_E_ARG, "velocity list: more than %u values",
+                     SEMBLANCE_MAX_VELOCITIES);
+        goto fail;
+      }
+      for (double k = 0; k <= m; k++)
+        if ((rc = push_velocity(&v, &cnt, &cap, a + k * step, err)))
+          goto fail;
+    }
+    if (!comma)
+      break;
+    p = comma + 1;
+    continue;
+  bad:
+    rc = tz_fail(err, TZ_E_ARG,
+                 "velocity list item '%.*s': expected V or FIRST-LAST:STEP in m/s "
+                 "(positive, FIRST <= LAST, STEP > 0)", (int)len, p);
+    goto fail;
+  }
+  *out = v;
+  *n = cnt;
+  return TZ_OK;
+fail:
+  free(v);
+  return rc;
 }

@@ -124,4 +124,13 @@ int semblance_autopick(const float *panel, const float *power, size_t nvel, cons
                        const semblance_params *sp, const semblance_pick_params *pp,
                        semblance_pick **out, size_t *n, tz_err *err);
 
+/* ---- velocity lists (constant-velocity stacks) ---- */
+
+/* Parses a comma-separated list of velocities in m/s: "1500", "1500,1800",
+ * "1500-3000:100" (first, last, step; the last included when on the step).
+ * Values must be positive; order kept as written. On success *out owns an
+ * array of *n values (free()). TZ_E_ARG naming the item; at most
+ * SEMBLANCE_MAX_VELOCITIES values. */
+int semblance_parse_velocities(const char *text, double **out, size_t *n, tz_err *err);
+
 #endif

@@ -346,6 +346,33 @@ START_TEST(test_params)
 }
 END_TEST
 
+/* Velocity lists for constant-velocity stacks (issue #6 syntax, our own). */
+START_TEST(test_velocity_lists)
+{
+  double *v;
+  size_t n;
+  tz_err e;
+  tz_err_init(&e);
+  ck_assert_int_eq(semblance_parse_velocities("1500", &v, &n, &e), TZ_OK);
+  ck_assert(n == 1 && v[0] == 1500);
+  free(v);
+  ck_assert_int_eq(semblance_parse_velocities("1500-3000:100,3500, 4e3", &v, &n, &e), TZ_OK);
+  ck_assert_uint_eq(n, 18);
+  ck_assert(v[0] == 1500 && v[15] == 3000 && v[16] == 3500 && v[17] == 4000);
+  free(v);
+  ck_assert_int_eq(semblance_parse_velocities("1500-1600:33.3", &v, &n, &e), TZ_OK);
+  ck_assert_uint_eq(n, 4);
+  free(v);
+  static const char *bad[] = { "", "abc", "-1500", "0", "3000-1500:100", "1500-3000",
+                               "1500-3000:0", "1500:100", "1500,,1600" };
+  for (size_t i = 0; i < sizeof bad / sizeof bad[0]; i++) {
+    tz_err_init(&e);
+    ck_assert_msg(semblance_parse_velocities(bad[i], &v, &n, &e) == TZ_E_ARG, "'%s'", bad[i]);
+    ck_assert(strstr(e.msg, "velocity list item") != NULL);
+  }
+}
+END_TEST
+
 static Suite *semblance_suite(void)
 {
   Suite *s = suite_create("semblance");
@@ -360,6 +387,7 @@ static Suite *semblance_suite(void)
   tcase_add_test(tc, test_autopick);
   tcase_add_test(tc, test_inversion);
   tcase_add_test(tc, test_params);
+  tcase_add_test(tc, test_velocity_lists);
   suite_add_tcase(s, tc);
   return s;
 }
