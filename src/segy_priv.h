@@ -86,6 +86,10 @@ int segy_header_encode(const segy_trace_header *h, uint32_t samples, uint32_t in
  * Returns the number of non-finite or out-of-range values replaced. */
 int64_t segy_decode_samples(int code, int order, unsigned char *in, size_t n, float *out);
 
+/* Sample bytes (reordered to big-endian) of the trace the last successful
+ * segy_read_trace() returned; borrowed until the next call on the handle. */
+const unsigned char *segy_last_sample_bytes(const segy_file *f);
+
 /* EBCDIC (code page 037) <-> ASCII for the textual header. */
 unsigned char segy_ascii_to_ebcdic(unsigned char c);
 void segy_text_decode(const unsigned char *in, size_t n, int encoding, char *out);

@@ -52,6 +52,7 @@ struct segy_file {
   int64_t winoff;           /* file offset of win[0] */
   size_t winlen;            /* valid bytes in the window */
   int64_t bad;
+  const unsigned char *last;  /* sample bytes of the last trace read, big-endian */
 };
 
 static void warn(segy_info *in, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
@@ -637,5 +638,8 @@ int segy_read_trace(segy_file *f, int64_t i, segy_trace_header *h, float *sample
     s = f->scratch;
   }
   f->bad += segy_decode_samples(f->info.format_code, f->order, s, ns, samples);
+  f->last = s;
   return TZ_OK;
 }
+
+const unsigned char *segy_last_sample_bytes(const segy_file *f) { return f->last; }

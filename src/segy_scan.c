@@ -80,6 +80,7 @@ int segy_scan(segy_file *f, int with_samples, segy_stats *st, tz_err *err)
   st->amp_min = INFINITY;
   st->amp_max = -INFINITY;
   int rev0_private = 0;
+  int64_t ibm_nonzero = 0, ibm_unnormal = 0;   /* REFERENCE.md §5.3 wrong-format tell */
   for (int64_t i = 0; i < n; i++) {
     segy_trace_header h;
     rc = with_samples ? segy_read_trace(f, i, &h, s, in->samples, err)
@@ -141,6 +142,14 @@ int segy_scan(segy_file *f, int with_samples, segy_stats *st, tz_err *err)
       }
       nsamp += h.samples;
       st->all_zero += zero;
+      if (in->format_code == 1 && i < 1000) {
+        const unsigned char *p = segy_last_sample_bytes(f);
+        for (uint32_t k = 0; k < h.samples; k++, p += 4) {
+          uint32_t w = be32_load(p);
+          ibm_nonzero += (w & 0x00FFFFFFu) != 0;
+          ibm_unnormal += (w & 0x00FFFFFFu) != 0 && !(w & 0x00F00000u);
+        }
+      }
     }
     st->traces++;
   }
@@ -187,6 +196,11 @@ int segy_scan(segy_file *f, int with_samples, segy_stats *st, tz_err *err)
   if (rev0_private)
     anomaly(st, "rev 0 file with data in trace header bytes 181-240: not standard, not "
                 "trusted");
+  /* IBM writers normalise (first hex digit of the fraction nonzero); IEEE
+   * floats read as IBM are unnormalised about one time in sixteen. */
+  if (ibm_nonzero >= 100 && ibm_unnormal * 50 > ibm_nonzero)
+    anomaly(st, "%.0f%% of the IBM samples are unnormalised: the data may be IEEE floats "
+                "(try format 5)", 100.0 * (double)ibm_unnormal / (double)ibm_nonzero);
   if (n && in->bin_samples && st->samples_differ == n)
     anomaly(st, "binary header and trace headers disagree on the sample count");
 done:

@@ -42,6 +42,10 @@ expect_stdout "1 dead traces \(trace identification code 2\)" "dead trace"
 expect_status 0 "variable-length flag with one bad header: binary header fallback" -- \
   "$TZERO" inspect "$D/varfallback.sgy"
 expect_stdout "trace header sample counts are inconsistent; using 10 samples" "fallback warned"
+expect_status 0 "IEEE data flagged as IBM" -- "$TZERO" inspect "$D/ieee_as_ibm.sgy"
+expect_stdout "of the IBM samples are unnormalised: the data may be IEEE floats" "wrong format code suspected"
+expect_status 0 "--format 5 override" -- "$TZERO" inspect --quiet --samples 1 --format 5 "$D/ieee_as_ibm.sgy"
+expect_stdout "^  0.000 -370$" "first sample read as IEEE: -1000 * 0.37"
 expect_status 0 "--allow-partial ignores a truncated last trace" -- \
   "$TZERO" inspect --quiet --allow-partial "$D/truncated.sgy"
 expect_stdout ": 2 traces," "two whole traces kept"

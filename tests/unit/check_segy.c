@@ -476,6 +476,107 @@ START_TEST(test_nan_counted)
 }
 END_TEST
 
+/* Rev 2 writer: byte-order constant 01 02 03 04 at 3297-3300, revision bytes
+ * 02 00 at 3501-3502, trace count at 3513-3520, first trace at 3521-3528
+ * (REFERENCE.md §1.3, §4 #6 and #7). Rev 1: 01 00 and no constant. */
+START_TEST(test_writer_binary_header)
+{
+  size_t n;
+  const char *p2 = write_file("rev2.sgy", 5, 2, 3, 10);
+  unsigned char *b = copy_file(p2, &n);
+  const unsigned char c[4] = { 1, 2, 3, 4 }, r2[2] = { 2, 0 };
+  ck_assert_mem_eq(b + 3296, c, 4);
+  ck_assert_mem_eq(b + 3500, r2, 2);
+  ck_assert(be64_load(b + 3512) == 3);
+  ck_assert(be64_load(b + 3520) == 3600);
+  ck_assert_uint_eq(be16_load(b + 3502), 1);            /* fixed-length flag */
+  ck_assert_uint_eq(be16_load(b + 3216), 2000);         /* interval */
+  ck_assert_uint_eq(be16_load(b + 3220), 10);           /* samples */
+  ck_assert_uint_eq(be16_load(b + 3228), 1);            /* sorting code */
+  ck_assert_uint_eq(be16_load(b + 3226), 4);            /* ensemble fold */
+  ck_assert_uint_eq(be16_load(b + 3254), 1);            /* metres by default */
+  free(b);
+  unlink(p2);
+  const char *p1 = write_file("rev1.sgy", 1, 1, 3, 10);
+  b = copy_file(p1, &n);
+  const unsigned char r1[2] = { 1, 0 }, z[4] = { 0, 0, 0, 0 };
+  ck_assert_mem_eq(b + 3500, r1, 2);
+  ck_assert_mem_eq(b + 3296, z, 4);
+  ck_assert_uint_eq(be16_load(b + 3224), 1);
+  /* trace header 1: scalar -100 at 71-72, source_x 512345.67 -> 51234567 at 73-76 */
+  ck_assert_int_eq(u16_to_i16(be16_load(b + 3600 + 70)), -100);
+  ck_assert_int_eq(u32_to_i32(be32_load(b + 3600 + 72)), 51234567);
+  ck_assert_int_eq(u32_to_i32(be32_load(b + 3600 + 36)), -125);   /* offset, unscaled */
+  free(b);
+  unlink(p1);
+}
+END_TEST
+
+START_TEST(test_writer_errors)
+{
+  const char *p = tmp_path("werr.sgy");
+  segy_writer *w = NULL;
+  tz_err err;
+  tz_err_init(&err);
+  segy_write_opts o = { .samples = 0, .interval_us = 1000 };
+  ck_assert_int_eq(segy_writer_open(&w, p, &o, &err), TZ_E_ARG);
+  o.samples = 4;
+  o.format_code = 2;
+  tz_err_init(&err);
+  ck_assert_int_eq(segy_writer_open(&w, p, &o, &err), TZ_E_ARG);
+  o.format_code = 0;
+  tz_err_init(&err);
+  ck_assert_int_eq(segy_writer_open(&w, p, &o, &err), TZ_OK);
+  segy_trace_header h;
+  memset(&h, 0, sizeof h);
+  h.source_x = 3e7;          /* 3e9 centimetres does not fit 32 bits */
+  float s[4] = { 0 };
+  ck_assert_int_eq(segy_write_trace(w, &h, s, &err), TZ_E_ARG);
+  ck_assert_ptr_nonnull(strstr(err.msg, "source_x"));
+  ck_assert_int_eq(err.trace, 0);
+  segy_writer_abort(w);
+  ck_assert_int_ne(access(p, F_OK), 0);   /* nothing left behind, not even the temporary */
+  char cmd[700];
+  snprintf(cmd, sizeof cmd, "ls -A %s | grep -q werr", dir);
+  ck_assert_int_ne(system(cmd), 0);
+}
+END_TEST
+
+/* Header map: a field moved to other bytes, a float slot, and the errors. */
+START_TEST(test_header_map)
+{
+  segy_header_map m;
+  tz_err err;
+  tz_err_init(&err);
+  ck_assert_int_eq(segy_header_map_parse(&m, "{\"source_x\": {\"byte\": 181, \"width\": 4},"
+                                             " \"shotpoint\": {\"byte\": 225, \"float\": true},"
+                                             " \"cmp\": {\"byte\": 9, \"width\": 2}}", "m", &err),
+                   TZ_OK);
+  ck_assert_int_eq(m.n, 3);
+  unsigned char raw[240] = { 0 };
+  be16_store(raw + 70, (uint16_t)-10);       /* coordinate scalar -10 */
+  be32_store(raw + 180, 123456);             /* -> source_x 12345.6 */
+  be32_store(raw + 224, f32_bits(17.5f));    /* IEEE float slot */
+  be16_store(raw + 8, 0xFFFE);               /* 2-byte signed: -2 */
+  segy_trace_header h;
+  segy_header_decode(raw, SEGY_ORDER_BIG, &m, &h);
+  ck_assert_double_eq_tol(h.source_x, 12345.6, 1e-9);
+  ck_assert_int_eq(h.shotpoint, 18);         /* 17.5 rounded to the nearest integer (even) */
+  ck_assert_int_eq(h.cmp, -2);
+  static const char *const bad[] = {
+    "{\"source_x\": {\"byte\": 181},, }", "{\"nosuch\": {\"byte\": 1}}",
+    "{\"source_x\": {\"byte\": 239, \"width\": 4}}", "{\"source_x\": {\"width\": 3, \"byte\": 1}}",
+    "{\"cmp\": {\"byte\": 9, \"width\": 2, \"float\": true}}", "[1, 2]",
+    "{\"cmp\": {\"byte\": 9, \"colour\": 1}}",
+  };
+  for (size_t i = 0; i < sizeof bad / sizeof bad[0]; i++) {
+    tz_err_init(&err);
+    ck_assert_int_eq(segy_header_map_parse(&m, bad[i], "m.json", &err), TZ_E_FORMAT);
+    ck_assert_str_eq(err.path, "m.json");
+  }
+}
+END_TEST
+
 static Suite *segy_suite(void)
 {
   Suite *s = suite_create("segy");
@@ -493,6 +594,9 @@ static Suite *segy_suite(void)
   tcase_add_test(tc, test_short_file);
   tcase_add_test(tc, test_corrupt);
   tcase_add_test(tc, test_nan_counted);
+  tcase_add_test(tc, test_writer_binary_header);
+  tcase_add_test(tc, test_writer_errors);
+  tcase_add_test(tc, test_header_map);
   suite_add_tcase(s, tc);
   return s;
 }
