@@ -1,16 +1,50 @@
 #!/bin/sh
-# run.sh -- the demo: processes the bundled scenario line with what exists so far.
+# run.sh -- the demo: the invented Tarrowvane valley scenario (demo/tarrowvane/).
+#
+# Two lines: TV-GW-01, a shallow groundwater line (48-channel split spread, 2 m
+# stations) for the (invented) Brindlecote Water Co-operative, and TV-DX-04, a deeper
+# exploration-style line (120-channel trailing spread, 12.5 m stations) with a
+# dipping interface for the (invented) Harnet Ridge Exploration. Steps run one
+# after another; outputs go to demo/out/ (ignored by git).
 set -eu
 B=${B:-build}
 TZ="$B/tzero"
+D=demo/tarrowvane
+O=demo/out
+rm -rf "$O"
+mkdir -p "$O"
 "$TZ" --version
-"$TZ" --help
 
-# --- stack: synthesise the scenario line, stack it with the model's exact RMS
-# velocities (job file demo/ashvale/job_av_gw_01.json), print the QC summary.
-mkdir -p demo/out
-"$TZ" synth --model demo/ashvale/model_shallow.json --layout demo/ashvale/layout_groundwater.json \
-  --out demo/out/shots --line-name "AV-GW-01" --quiet
-"$TZ" stack --job demo/ashvale/job_av_gw_01.json
-echo "outputs: demo/out/av_gw_01_stack.sgy (stacked section), demo/out/av_gw_01_qc.json (QC report)"
-echo "         tzero report demo/out/av_gw_01_qc.json --cmp 140   (one CMP in detail)"
+echo
+echo "== TV-GW-01: synthesise 59 shots (one skipped shot point) from the layered model"
+"$TZ" synth --model "$D/model_groundwater.json" --layout "$D/layout_gw01.json" --out "$O/gw01" \
+  --record-ms 200 --interval-ms 0.25 --peak-hz 110 --noise 0.05 --seed 11 \
+  --noise-train-amplitude 3 --noise-train-velocity 220 --noise-train-hz 30 --line-name TV-GW-01
+
+echo
+echo "== TV-GW-01: geometry from the trace headers (line fitted through the midpoints)"
+"$TZ" geometry "$O"/gw01/shot_*.sgy | sed -n '1,12p'
+
+echo
+echo "== TV-GW-01: geometry from the job file (layout), predicted against actual fold"
+"$TZ" geometry --job "$D/gw01.job.json" --fold-table "$O/gw01_fold.csv" | sed -n '1,7p'
+echo "fold table: $O/gw01_fold.csv ($(($(wc -l <"$O/gw01_fold.csv") - 1)) CMPs)"
+
+echo
+echo "== TV-DX-04: synthesise with bare headers (no geometry, as field data often arrive)"
+"$TZ" synth --model "$D/model_deep.json" --layout "$D/layout_dx04.json" --out "$O/dx04_field" \
+  --record-ms 2000 --interval-ms 2 --peak-hz 28 --noise 0.01 --seed 4 --bare-headers \
+  --line-name TV-DX-04
+
+echo
+echo "== TV-DX-04: apply the layout, write shots with geometry headers, show fold"
+"$TZ" geometry --layout "$D/layout_dx04.json" --write "$O/dx04" "$O"/dx04_field/shot_*.sgy |
+  sed -n '1,7p'
+"$TZ" geometry --json "$O"/dx04/shot_*.sgy >"$O/dx04_geometry.json"
+echo "geometry summary from the written headers: $O/dx04_geometry.json"
+
+echo
+echo "== TV-GW-01: stack with the model's exact RMS velocities (job file $D/gw01.job.json)"
+"$TZ" stack --job "$D/gw01.job.json"
+echo "outputs: $O/gw01_stack.sgy (stacked section), $O/gw01_qc.json (QC report)"
+echo "         tzero report $O/gw01_qc.json --cmp 140   (one CMP in detail)"
