@@ -334,8 +334,6 @@ void synth_rng_seed(synth_rng *r, uint64_t seed)
 {
   for (int i = 0; i < 4; i++)
     r->s[i] = splitmix(&seed);
-  r->spare = 0;
-  r->has_spare = 0;
 }
 
 static uint64_t rotl(uint64_t x, int k) { return (x << k) | (x >> (64 - k)); }
@@ -355,20 +353,12 @@ uint64_t synth_rng_next(synth_rng *r)
 
 double synth_rng_gauss(synth_rng *r)
 {
-  if (r->has_spare) {
-    r->has_spare = 0;
-    return r->spare;
-  }
   for (;;) {
     double u = (double)(synth_rng_next(r) >> 11) * 0x1p-52 - 1.0;
     double v = (double)(synth_rng_next(r) >> 11) * 0x1p-52 - 1.0;
     double s = u * u + v * v;
-    if (s > 0 && s < 1) {
-      double k = sqrt(-2.0 * log(s) / s);
-      r->spare = v * k;
-      r->has_spare = 1;
-      return u * k;
-    }
+    if (s > 0 && s < 1)
+      return u * sqrt(-2.0 * log(s) / s);
   }
 }
 

@@ -78,11 +78,7 @@ int synth_head_time(const synth_model *m, double offset_m, double *t);
 double synth_ricker(double fp_hz, double t_s);
 
 /* ---- random numbers: xoshiro256** (Blackman and Vigna 2018) in a struct ---- */
-typedef struct synth_rng {
-  uint64_t s[4];
-  double spare;              /* second normal of the last polar pair */
-  int has_spare;
-} synth_rng;
+typedef struct synth_rng { uint64_t s[4]; } synth_rng;
 void synth_rng_seed(synth_rng *r, uint64_t seed);   /* splitmix64 expansion */
 uint64_t synth_rng_next(synth_rng *r);
 double synth_rng_gauss(synth_rng *r);               /* standard normal (polar method) */
