@@ -64,6 +64,8 @@ static void help(void)
          "\n%s", CLI_CAUTION);
 }
 
+#define SEMBLANCE_CLI_BATCH 256   /* CMPs whose gathers are held at once */
+
 struct opts {
   const char *job, *cmps, *out, *panels;
   long long supergather;
@@ -366,20 +368,15 @@ int cmd_semblance(int argc, char **argv)
   if ((rc = semblance_params_check(&o.sp, &nvel, &err)))
     goto done;
 
-  /* Every CMP any supergather needs, collected in one pass over the files. */
+  /* Analysis CMPs go in batches so that memory holds the gathers of at most
+   * SEMBLANCE_CLI_BATCH CMPs; each batch is one stack_collect() pass. */
   int32_t k = (int32_t)o.supergather;
-  size_t nneed = 0;
-  if (!(need = malloc(ncmp * (size_t)(2 * k + 1) * sizeof *need))) {
+  size_t per = (size_t)(2 * k + 1), batch = SEMBLANCE_CLI_BATCH / per ? SEMBLANCE_CLI_BATCH / per : 1;
+  if (!(need = malloc(batch * per * sizeof *need))) {
     rc = tz_fail(&err, TZ_E_NOMEM, "CMP list");
     goto done;
   }
-  for (size_t i = 0; i < ncmp; i++)
-    for (int32_t d = -k; d <= k; d++)
-      need[nneed++] = cmps[i] + d;
-  if ((rc = stack_collect(plan, need, nneed, &gs, &err)))
-    goto done;
-
-  nmo_axis ax = gs->axis;
+  nmo_axis ax = stack_plan_axis(plan);
   res = calloc(ncmp, sizeof *res);
   panel = malloc(nvel * ax.ns * sizeof *panel);
   power = malloc(nvel * ax.ns * sizeof *power);
@@ -404,6 +401,16 @@ int cmd_semblance(int argc, char **argv)
     goto done;
   size_t with_picks = 0;
   for (size_t i = 0; i < ncmp; i++) {
+    if (i % batch == 0) {
+      size_t nneed = 0;
+      for (size_t b = i; b < ncmp && b < i + batch; b++)
+        for (int32_t d = -k; d <= k; d++)
+          need[nneed++] = cmps[b] + d;
+      stack_gathers_free(gs);
+      gs = NULL;
+      if ((rc = stack_collect(plan, need, nneed, &gs, &err)))
+        goto done;
+    }
     struct cmp_result *r = &res[nres++];
     float *samples;
     double *offsets;

@@ -323,6 +323,38 @@ START_TEST(test_inversion)
 }
 END_TEST
 
+/* The stack-power floor: an event 1/50 of the strongest in amplitude has
+ * 1/2500 of its power, below the default floor of 1/1000 (our own rule,
+ * semblance.h), so it is picked only when the floor is lowered. */
+START_TEST(test_power_floor)
+{
+  const struct event ev[] = { { 0.4, 2000, 1.0 }, { 0.8, 2500, 0.02 } };
+  size_t nvel;
+  nmo_axis ax;
+  semblance_params p;
+  float *power;
+  float *panel = run_panel(ev, 2, 1, &nvel, &ax, &p, &power);
+  semblance_pick_params pp;
+  semblance_pick_params_default(&pp);
+  semblance_pick *pk;
+  size_t n;
+  tz_err e;
+  tz_err_init(&e);
+  ck_assert_int_eq(semblance_autopick(panel, power, nvel, &ax, &p, &pp, &pk, &n, &e), TZ_OK);
+  ck_assert_uint_eq(n, 1);
+  free(pk);
+  pp.min_relative_power = 1e-4;
+  ck_assert_int_eq(semblance_autopick(panel, power, nvel, &ax, &p, &pp, &pk, &n, &e), TZ_OK);
+  ck_assert_uint_eq(n, 2);
+  ck_assert_double_eq_tol(pk[1].velocity_mps, 2500, 25);
+  free(pk);
+  pp.min_relative_power = 2;
+  ck_assert_int_eq(semblance_autopick(panel, power, nvel, &ax, &p, &pp, &pk, &n, &e), TZ_E_ARG);
+  free(panel);
+  free(power);
+}
+END_TEST
+
 START_TEST(test_params)
 {
   semblance_params p;
@@ -386,6 +418,7 @@ static Suite *semblance_suite(void)
   tcase_add_test(tc, test_panel_peak_and_threads);
   tcase_add_test(tc, test_autopick);
   tcase_add_test(tc, test_inversion);
+  tcase_add_test(tc, test_power_floor);
   tcase_add_test(tc, test_params);
   tcase_add_test(tc, test_velocity_lists);
   suite_add_tcase(s, tc);
