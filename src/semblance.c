@@ -230,16 +230,22 @@ static void *panel_worker(void *arg)
     semblance_acc_reset(acc);
     for (size_t i = 0; i < g->ntraces; i++) {
       nmo_trace_info info;
+      /* nmo.c keeps live samples contiguous; the weight array is only asked
+       * for (a second call) should a trace ever come back with gaps. */
       w->rc = nmo_apply(ws, &w->p->nmo, w->p->mute, &g->axis, g->offset_m[i],
-                        g->samples + i * ns, vel, NULL, buf, wt, &info, &w->err);
+                        g->samples + i * ns, vel, NULL, buf, NULL, &info, &w->err);
+      if (!w->rc && info.live != info.end_live - info.first_live) {
+        w->rc = nmo_apply(ws, &w->p->nmo, w->p->mute, &g->axis, g->offset_m[i],
+                          g->samples + i * ns, vel, NULL, buf, wt, &info, &w->err);
+        if (!w->rc)
+          semblance_acc_add_weighted(acc, buf, wt);
+      } else if (!w->rc) {
+        semblance_acc_add(acc, buf, info.first_live, info.end_live);
+      }
       if (w->rc) {
         w->err.trace = (int64_t)i;
         goto done;
       }
-      if (info.live == info.end_live - info.first_live)
-        semblance_acc_add(acc, buf, info.first_live, info.end_live);
-      else
-        semblance_acc_add_weighted(acc, buf, wt);
     }
     semblance_acc_finish(acc, w->half, w->panel + k * ns, w->power ? w->power + k * ns : NULL);
   }
