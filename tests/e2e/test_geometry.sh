@@ -53,3 +53,16 @@ expect_status 0 "--write copies" -- "$TZERO" geometry --layout "$T/layout.json" 
   --quiet "$T"/bare/*.sgy
 expect_status 0 "copies carry the geometry" -- "$TZERO" geometry --json "$T"/w/*.sgy
 expect_stdout '"max":[[:space:]]*3' "fold from the written headers"
+cat >"$T/job.json" <<'JSON'
+{"shots": ["bare/shot_*.sgy"], "geometry": {"layout": "layout.json"}, "velocity": "v.csv",
+ "bins": {"size_m": 5, "first_cmp": 201}, "output": {"section": "out.sgy"}}
+JSON
+printf 'cmp,time_ms,velocity_mps\n1,0,1500\n' >"$T/v.csv"
+expect_status 0 "geometry from a job file" -- "$TZERO" geometry --job "$T/job.json" --json
+expect_stdout '"geometry":[[:space:]]*"layout"' "job's layout is used"
+expect_stdout '"bin_size_m":[[:space:]]*5' "job's bin size is used"
+expect_stdout '"first":[[:space:]]*201' "job's first CMP is used"
+expect_status 64 "--job with shot files" -- "$TZERO" geometry --job "$T/job.json" "$T"/sv/*.sgy
+expect_status 0 "off-line limit counts skipped traces" -- "$TZERO" geometry --origin-x 0 \
+  --origin-y 1 --azimuth 90 --max-off-line 0.5 --json "$T"/sv/*.sgy
+expect_stdout '"off_line":[[:space:]]*72' "every trace 1 m off the line is skipped"
