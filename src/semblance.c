@@ -21,8 +21,9 @@
  * velocity (unless inversions are allowed) and imply Dix (1955) interval
  * velocities inside the given bounds (computed by velocity_dix()).
  *
- * Not here: collecting gathers from files (the front end, via job/stack), file
- * output, NMO itself (nmo.c).
+ * Not here: reading gathers from files (stack_collect() in stack.c; this file
+ * only joins collected gathers into supergathers), file output, NMO itself
+ * (nmo.c).
  */
 #include "tzero/semblance.h"
 
@@ -193,6 +194,43 @@ static size_t half_window(double window_ms, double dt_s)
 {
   double h = floor(window_ms / 2000.0 / dt_s + 0.5);
   return h < 0 ? 0 : (size_t)h;
+}
+
+/* ---------------------------------------------------------------- supergathers */
+
+int semblance_supergather(const stack_gathers *gs, int32_t first_cmp, int32_t last_cmp,
+                          float **samples, double **offsets, size_t *ntraces, tz_err *err)
+{
+  size_t ns = gs->axis.ns, n = 0;
+  *samples = NULL;
+  *offsets = NULL;
+  *ntraces = 0;
+  for (size_t i = 0; i < gs->n; i++)
+    if (gs->g[i].cmp >= first_cmp && gs->g[i].cmp <= last_cmp)
+      n += gs->g[i].ntraces;
+  if (!n)
+    return TZ_OK;
+  float *s = malloc(n * ns * sizeof *s);
+  double *o = malloc(n * sizeof *o);
+  if (!s || !o) {
+    free(s);
+    free(o);
+    return tz_fail(err, TZ_E_NOMEM, "supergather of CMPs %d-%d (%zu traces)", first_cmp,
+                   last_cmp, n);
+  }
+  size_t at = 0;
+  for (size_t i = 0; i < gs->n; i++) {
+    const stack_gather *g = &gs->g[i];
+    if (g->cmp < first_cmp || g->cmp > last_cmp)
+      continue;
+    memcpy(s + at * ns, g->samples, g->ntraces * ns * sizeof *s);
+    memcpy(o + at, g->offset_m, g->ntraces * sizeof *o);
+    at += g->ntraces;
+  }
+  *samples = s;
+  *offsets = o;
+  *ntraces = n;
+  return TZ_OK;
 }
 
 /* ---------------------------------------------------------------- panel */

@@ -15,6 +15,7 @@
 #include <stdint.h>
 #include "tzero/error.h"
 #include "tzero/nmo.h"
+#include "tzero/stack.h"
 
 #define SEMBLANCE_MAX_VELOCITIES 100000u   /* trial velocities in one scan */
 #define SEMBLANCE_MAX_CANDIDATES 4096u     /* panel maxima considered by the picker */
@@ -74,6 +75,13 @@ typedef struct semblance_gather {
   const float *samples;        /* ntraces * axis.ns, trace after trace */
   const double *offset_m;      /* ntraces signed offsets */
 } semblance_gather;
+
+/* Concatenates the traces of the collected gathers whose CMP lies in
+ * [first_cmp, last_cmp] (a supergather), in gather order. On success *samples
+ * (ntraces * axis.ns) and *offsets (|offset| per trace) are owned by the
+ * caller (free()); both are NULL when no trace qualifies (*ntraces = 0). */
+int semblance_supergather(const stack_gathers *gs, int32_t first_cmp, int32_t last_cmp,
+                          float **samples, double **offsets, size_t *ntraces, tz_err *err);
 
 /* Fills panel[k * ns + j] = semblance at trial velocity k, output sample j
  * (t0 = axis.t_first_s + j dt), and power[k * ns + j] (same layout; NULL to

@@ -170,39 +170,6 @@ static int parse(int argc, char **argv, struct opts *o)
   return 0;
 }
 
-/* Assembles the supergather of `c` from the collected gathers (sorted by CMP). */
-static int supergather(const stack_gathers *gs, int32_t c, int32_t k, float **samples,
-                       double **offsets, size_t *ntr, int32_t *first, int32_t *last,
-                       tz_err *err)
-{
-  size_t ns = gs->axis.ns, n = 0;
-  *first = c - k;
-  *last = c + k;
-  for (size_t i = 0; i < gs->n; i++)
-    if (gs->g[i].cmp >= *first && gs->g[i].cmp <= *last)
-      n += gs->g[i].ntraces;
-  *ntr = n;
-  *samples = NULL;
-  *offsets = NULL;
-  if (!n)
-    return TZ_OK;
-  if (!(*samples = malloc(n * ns * sizeof **samples)) || !(*offsets = malloc(n * sizeof **offsets))) {
-    free(*samples);
-    *samples = NULL;
-    return tz_fail(err, TZ_E_NOMEM, "supergather of CMP %d (%zu traces)", c, n);
-  }
-  size_t at = 0;
-  for (size_t i = 0; i < gs->n; i++) {
-    const stack_gather *g = &gs->g[i];
-    if (g->cmp < *first || g->cmp > *last)
-      continue;
-    memcpy(*samples + at * ns, g->samples, g->ntraces * ns * sizeof **samples);
-    memcpy(*offsets + at, g->offset_m, g->ntraces * sizeof **offsets);
-    at += g->ntraces;
-  }
-  return TZ_OK;
-}
-
 static const stack_gather *find_gather(const stack_gathers *gs, int32_t c)
 {
   for (size_t i = 0; i < gs->n; i++)
@@ -415,8 +382,10 @@ int cmd_semblance(int argc, char **argv)
     float *samples;
     double *offsets;
     r->cmp = cmps[i];
-    if ((rc = supergather(gs, cmps[i], k, &samples, &offsets, &r->ntraces, &r->first,
-                          &r->last, &err)))
+    r->first = cmps[i] - k;
+    r->last = cmps[i] + k;
+    if ((rc = semblance_supergather(gs, r->first, r->last, &samples, &offsets, &r->ntraces,
+                                    &err)))
       goto done;
     if (r->ntraces == 0) {
       memset(panel, 0, nvel * ax.ns * sizeof *panel);

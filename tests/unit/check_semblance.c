@@ -355,6 +355,34 @@ START_TEST(test_power_floor)
 }
 END_TEST
 
+/* Supergathers join the gathers of a CMP range in gather order (issue #6:
+ * K neighbouring CMPs either side; common practice). */
+START_TEST(test_supergather)
+{
+  float s1[2 * 3] = { 1, 2, 3, 4, 5, 6 }, s2[3] = { 7, 8, 9 }, s3[3] = { 10, 11, 12 };
+  double o1[2] = { 100, 200 }, o2[1] = { 150 }, o3[1] = { 50 };
+  stack_gather g[3] = {
+    { .cmp = 10, .ntraces = 2, .offset_m = o1, .samples = s1 },
+    { .cmp = 11, .ntraces = 1, .offset_m = o2, .samples = s2 },
+    { .cmp = 13, .ntraces = 1, .offset_m = o3, .samples = s3 },
+  };
+  stack_gathers gs = { .axis = { 0, 0.004, 3 }, .n = 3, .g = g };
+  float *s;
+  double *o;
+  size_t n;
+  tz_err e;
+  tz_err_init(&e);
+  ck_assert_int_eq(semblance_supergather(&gs, 10, 12, &s, &o, &n, &e), TZ_OK);
+  ck_assert_uint_eq(n, 3);
+  ck_assert(s[6] == 7 && s[8] == 9 && o[2] == 150 && o[0] == 100);
+  free(s);
+  free(o);
+  ck_assert_int_eq(semblance_supergather(&gs, 14, 20, &s, &o, &n, &e), TZ_OK);
+  ck_assert_uint_eq(n, 0);
+  ck_assert_ptr_null(s);
+}
+END_TEST
+
 START_TEST(test_params)
 {
   semblance_params p;
@@ -419,6 +447,7 @@ static Suite *semblance_suite(void)
   tcase_add_test(tc, test_autopick);
   tcase_add_test(tc, test_inversion);
   tcase_add_test(tc, test_power_floor);
+  tcase_add_test(tc, test_supergather);
   tcase_add_test(tc, test_params);
   tcase_add_test(tc, test_velocity_lists);
   suite_add_tcase(s, tc);
