@@ -109,3 +109,9 @@ expect_status 64 "bad --threads" -- "$TZERO" stack --job "$J" --threads many
 expect_status 64 "bad --interpolation" -- "$TZERO" stack --job "$J" --interpolation cubic
 expect_status 0 "--help" -- "$TZERO" stack --help
 expect_stdout "qualified" "--help carries the caution"
+
+# --- the example of docs/job-file.md runs as written (docs that cannot rot)
+sed -n '/^```json$/,/^```$/p' "$TOP/docs/job-file.md" | sed '1d;$d' >"$D/doc.json"
+expect_status 0 "the docs/job-file.md example runs" -- "$TZERO" stack --job "$D/doc.json" --quiet
+[ -s "$D/out/doc_stack.sgy" ] && [ -s "$D/out/doc_qc.json" ] &&
+  ok "the docs example writes its section and report" || notok "docs example outputs missing"
