@@ -43,7 +43,8 @@ struct semblance_acc {
   double *sq;       /* sum_i f_ij^2 */
   int32_t *diff;    /* live-range counts as a difference array (ns + 1) */
   int32_t *cnt;     /* per-sample live counts from weighted adds */
-  double *pa, *pb, *pc;  /* prefix sums for the finish (ns + 1) */
+  double *pa, *pb, *pc, *pd;  /* prefix sums for the finish (ns + 1) */
+  double min_live;  /* windows with fewer live traces on average give 0 */
 };
 
 int semblance_acc_new(semblance_acc **out, size_t ns, tz_err *err)
@@ -61,7 +62,8 @@ int semblance_acc_new(semblance_acc **out, size_t ns, tz_err *err)
   a->pa = malloc((ns + 1) * sizeof *a->pa);
   a->pb = malloc((ns + 1) * sizeof *a->pb);
   a->pc = malloc((ns + 1) * sizeof *a->pc);
-  if (!a->sum || !a->sq || !a->diff || !a->cnt || !a->pa || !a->pb || !a->pc) {
+  a->pd = malloc((ns + 1) * sizeof *a->pd);
+  if (!a->sum || !a->sq || !a->diff || !a->cnt || !a->pa || !a->pb || !a->pc || !a->pd) {
     semblance_acc_free(a);
     return tz_fail(err, TZ_E_NOMEM, "semblance accumulator of %zu samples", ns);
   }
@@ -81,7 +83,13 @@ void semblance_acc_free(semblance_acc *a)
   free(a->pa);
   free(a->pb);
   free(a->pc);
+  free(a->pd);
   free(a);
+}
+
+void semblance_acc_min_live(semblance_acc *a, double min_live)
+{
+  a->min_live = min_live > 0 ? min_live : 0;
 }
 
 void semblance_acc_reset(semblance_acc *a)
@@ -124,7 +132,7 @@ void semblance_acc_finish(semblance_acc *a, size_t half, float *out, float *powe
 {
   size_t ns = a->ns;
   int32_t live = 0;
-  a->pa[0] = a->pb[0] = a->pc[0] = 0.0;
+  a->pa[0] = a->pb[0] = a->pc[0] = a->pd[0] = 0.0;
   for (size_t j = 0; j < ns; j++) {
     live += a->diff[j];
     int32_t nl = live + a->cnt[j];
@@ -133,6 +141,7 @@ void semblance_acc_finish(semblance_acc *a, size_t half, float *out, float *powe
     a->pa[j + 1] = a->pa[j] + s2;
     a->pb[j + 1] = a->pb[j] + n * a->sq[j];
     a->pc[j + 1] = a->pc[j] + s2 / (n1 * n1);
+    a->pd[j + 1] = a->pd[j] + n;
   }
   /* Differences of prefix sums carry rounding of order 1e-16 of the total;
    * a window whose live energy is below that is treated as empty (S = 0). */
@@ -142,10 +151,11 @@ void semblance_acc_finish(semblance_acc *a, size_t half, float *out, float *powe
     size_t hi = j + half + 1 < ns ? j + half + 1 : ns;
     double den = a->pb[hi] - a->pb[lo];
     double num = a->pa[hi] - a->pa[lo];
-    double s = den > floor_den && den > 0 ? num / den : 0.0;
+    int enough = a->pd[hi] - a->pd[lo] >= a->min_live * (double)(hi - lo);
+    double s = enough && den > floor_den && den > 0 ? num / den : 0.0;
     out[j] = (float)(s < 0 ? 0 : s > 1 ? 1 : s);
     if (power) {
-      double pw = (a->pc[hi] - a->pc[lo]) / (double)(hi - lo);
+      double pw = enough ? (a->pc[hi] - a->pc[lo]) / (double)(hi - lo) : 0.0;
       power[j] = (float)(pw > 0 ? pw : 0);
     }
   }
@@ -160,6 +170,7 @@ void semblance_params_default(semblance_params *p)
   p->velocity_max_mps = 4500;
   p->velocity_step_mps = 20;
   p->window_ms = 40;
+  p->min_live_fraction = 0.25;
   nmo_params_default(&p->nmo);
   p->mute = NULL;
   p->threads = 1;
@@ -183,6 +194,9 @@ int semblance_params_check(const semblance_params *p, size_t *nvel, tz_err *err)
   if (!(p->window_ms > 0) || !isfinite(p->window_ms) || p->window_ms > 10000)
     return tz_fail(err, TZ_E_ARG, "semblance window %g ms must be in (0, 10000]",
                    p->window_ms);
+  if (!(p->min_live_fraction >= 0 && p->min_live_fraction <= 1))
+    return tz_fail(err, TZ_E_ARG, "minimum live fraction %g must be in [0, 1]",
+                   p->min_live_fraction);
   if (p->threads > SEMBLANCE_MAX_THREADS)
     return tz_fail(err, TZ_E_ARG, "%d threads: more than %d", p->threads,
                    SEMBLANCE_MAX_THREADS);
@@ -261,6 +275,8 @@ static void *panel_worker(void *arg)
     goto done;
   if ((w->rc = semblance_acc_new(&acc, ns, &w->err)) != TZ_OK)
     goto done;
+  double ml = w->p->min_live_fraction * (double)g->ntraces;
+  semblance_acc_min_live(acc, ml > 2 ? ml : 2);
   for (size_t k = w->first; k < w->nvel; k += w->stride) {
     float v = (float)(w->p->velocity_min_mps + (double)k * w->p->velocity_step_mps);
     for (size_t j = 0; j < ns; j++)

@@ -40,6 +40,10 @@ typedef struct semblance_acc semblance_acc;
 int semblance_acc_new(semblance_acc **out, size_t ns, tz_err *err);  /* *out owns it */
 void semblance_acc_free(semblance_acc *a);                           /* NULL is a no-op */
 void semblance_acc_reset(semblance_acc *a);
+/* Reliability floor (0 by default, the plain definition): windows in which
+ * fewer than min_live traces are live on average give semblance and power 0.
+ * One live trace alone has semblance 1 whatever it holds. Kept across resets. */
+void semblance_acc_min_live(semblance_acc *a, double min_live);
 /* One trace of ns samples; only samples in [lo, hi) are added and counted live. */
 void semblance_acc_add(semblance_acc *a, const float *s, size_t lo, size_t hi);
 /* One trace with nmo_apply()'s weight array: a sample counts live where weight > 0
@@ -58,6 +62,10 @@ typedef struct semblance_params {
   double velocity_max_mps;     /* last trial velocity (inclusive when on the step). Default 4500 */
   double velocity_step_mps;    /* Default 20 */
   double window_ms;            /* full window length, centred on t0. Default 40 */
+  double min_live_fraction;    /* semblance is 0 where fewer than this fraction of the
+                                  gather's traces (and fewer than 2) are live, on
+                                  average over the window (after the mutes).
+                                  Default 0.25 */
   nmo_params nmo;              /* the stack's NMO parameters (stretch mute, interpolation) */
   const nmo_top_mute *mute;    /* borrowed; NULL = no top mute */
   int threads;                 /* worker threads over velocities; <= 1 = serial */

@@ -35,6 +35,9 @@ static void help(void)
          "  --velocity-max V         last trial velocity, m/s (default 4500)\n"
          "  --velocity-step V        trial velocity step, m/s (default 20)\n"
          "  --window MS              semblance window length, ms (default 40)\n"
+         "  --min-live F             semblance is 0 where fewer than F x the traces\n"
+         "                           (and fewer than 2) are live after the mutes\n"
+         "                           (fraction 0..1, default 0.25)\n"
          "  --stretch-limit PCT      override the job's stretch mute limit, %%\n"
          "  --threads N              worker threads (default: the job's, 0 = all cores)\n"
          "picking:\n"
@@ -87,7 +90,7 @@ struct cmp_result {
 
 enum {
   O_JOB = 256, O_CMPS, O_SUPER, O_VMIN, O_VMAX, O_VSTEP, O_WIN, O_STRETCH, O_THREADS, O_TMIN,
-  O_TMAX, O_MINS, O_MINP, O_SEP, O_IMIN, O_IMAX, O_INV, O_OUT, O_PANELS, O_JSON, O_QUIET
+  O_TMAX, O_MINS, O_MINP, O_MINLIVE, O_SEP, O_IMIN, O_IMAX, O_INV, O_OUT, O_PANELS, O_JSON, O_QUIET
 };
 
 static int parse(int argc, char **argv, struct opts *o)
@@ -105,6 +108,7 @@ static int parse(int argc, char **argv, struct opts *o)
     { "time-min", required_argument, NULL, O_TMIN },
     { "time-max", required_argument, NULL, O_TMAX },
     { "min-semblance", required_argument, NULL, O_MINS },
+    { "min-live", required_argument, NULL, O_MINLIVE },
     { "min-power", required_argument, NULL, O_MINP },
     { "min-separation", required_argument, NULL, O_SEP },
     { "interval-min", required_argument, NULL, O_IMIN },
@@ -136,6 +140,7 @@ static int parse(int argc, char **argv, struct opts *o)
     case O_TMIN: bad = cli_parse_f64(cmd, "--time-min", optarg, &o->pp.time_min_ms); break;
     case O_TMAX: bad = cli_parse_f64(cmd, "--time-max", optarg, &o->pp.time_max_ms); break;
     case O_MINS: bad = cli_parse_f64(cmd, "--min-semblance", optarg, &o->pp.min_semblance); break;
+    case O_MINLIVE: bad = cli_parse_f64(cmd, "--min-live", optarg, &o->sp.min_live_fraction); break;
     case O_MINP: bad = cli_parse_f64(cmd, "--min-power", optarg, &o->pp.min_relative_power); break;
     case O_SEP: bad = cli_parse_f64(cmd, "--min-separation", optarg, &o->pp.min_separation_ms); break;
     case O_IMIN: bad = cli_parse_f64(cmd, "--interval-min", optarg, &o->pp.interval_min_mps); break;
@@ -245,6 +250,7 @@ static int print_json(const struct opts *o, const struct cmp_result *res, size_t
     cJSON_AddNumberToObject(par, "velocity_step_mps", o->sp.velocity_step_mps);
     cJSON_AddNumberToObject(par, "trial_velocities", (double)nvel);
     cJSON_AddNumberToObject(par, "window_ms", o->sp.window_ms);
+    cJSON_AddNumberToObject(par, "min_live_fraction", o->sp.min_live_fraction);
     cJSON_AddNumberToObject(par, "stretch_limit_pct", o->sp.nmo.stretch_limit_pct);
     cJSON_AddNumberToObject(par, "supergather", (double)o->supergather);
     cJSON_AddNumberToObject(par, "min_semblance", o->pp.min_semblance);

@@ -118,6 +118,12 @@ START_TEST(test_live_count)
   for (int j = 4; j < NS; j++)
     ck_assert(sa[j] == 0.0f);       /* equal and opposite */
   ck_assert(memcmp(sa, sb, sizeof sa) == 0);
+  /* With a floor of 1.5 live traces the one-trace samples give 0 (our rule). */
+  semblance_acc_min_live(a, 1.5);
+  semblance_acc_finish(a, 0, sa, NULL);
+  for (int j = 0; j < 4; j++)
+    ck_assert(sa[j] == 0.0f);
+  semblance_acc_min_live(a, 0);
   semblance_acc_reset(a);
   semblance_acc_add(a, t1, 3, 3);    /* nothing live */
   semblance_acc_finish(a, 2, sa, NULL);
