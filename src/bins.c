@@ -120,11 +120,6 @@ static void crooked_point(const bins_line *l, double s, double *x, double *y)
   *y = l->y[i] + t * (l->y[i + 1] - l->y[i]);
 }
 
-static int64_t bin_index(double s, double size)
-{
-  return (int64_t)floor(s / size + 0.5);
-}
-
 void bins_cmp_centre(const bins_line *l, int32_t cmp, double *x, double *y)
 {
   double s = (double)((int64_t)cmp - l->p.first_cmp) * l->p.size_m;
@@ -164,16 +159,16 @@ int bins_locate(const bins_line *l, double mx, double my, bins_loc *loc)
       }
     }
   }
-  int64_t k = bin_index(s, l->p.size_m);
-  int64_t cmp = (int64_t)l->p.first_cmp + k;
-  if (cmp > INT32_MAX) cmp = INT32_MAX;
-  if (cmp < INT32_MIN) cmp = INT32_MIN;
+  double kd = floor(s / l->p.size_m + 0.5) + (double)l->p.first_cmp;
+  int range = kd >= (double)INT32_MIN && kd <= (double)INT32_MAX;
+  int64_t cmp = range ? (int64_t)kd : kd > 0 ? INT32_MAX : INT32_MIN;
   loc->cmp = (int32_t)cmp;
   loc->along_m = s;
   loc->off_line_m = off;
   bins_cmp_centre(l, loc->cmp, &loc->centre_x, &loc->centre_y);
-  loc->status = l->p.max_off_line_m > 0 && fabs(off) > l->p.max_off_line_m ? BINS_OFF_LINE
-                                                                            : BINS_IN;
+  loc->status = !range ? BINS_OUT_OF_RANGE
+                : l->p.max_off_line_m > 0 && fabs(off) > l->p.max_off_line_m ? BINS_OFF_LINE
+                                                                               : BINS_IN;
   return loc->status;
 }
 

@@ -603,7 +603,12 @@ int synth_survey(const synth_model *m, const geometry_layout *l, const synth_par
         geometry_to_header(&g, &h);
         h.source_point = sh.shot_point;
         bins_loc loc;
-        bins_locate(line, g.midpoint_x, g.midpoint_y, &loc);
+        if (bins_locate(line, g.midpoint_x, g.midpoint_y, &loc) == BINS_OUT_OF_RANGE) {
+          segy_writer_abort(w);
+          rcode = tz_fail(err, TZ_E_ARG, "CMP numbers out of range: bin size %g m too small",
+                          bp.size_m);
+          goto fail;
+        }
         h.cmp = loc.cmp;
         h.cmp_x = loc.centre_x;
         h.cmp_y = loc.centre_y;

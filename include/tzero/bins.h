@@ -32,7 +32,12 @@ typedef struct bins_params {
   double max_off_line_m;       /* traces farther off the line are BINS_OFF_LINE; 0 = no limit */
 } bins_params;
 
-enum bins_status { BINS_IN = 0, BINS_OFF_LINE = 1 };
+enum bins_status {
+  BINS_IN = 0,
+  BINS_OFF_LINE = 1,      /* farther from the line than max_off_line_m */
+  BINS_OUT_OF_RANGE = 2   /* the CMP number would not fit int32 (bad origin, size or
+                           * coordinates); loc->cmp is clamped and meaningless */
+};
 
 typedef struct bins_loc {
   int32_t cmp;
@@ -54,7 +59,7 @@ int bins_line_is_crooked(const bins_line *l);
 /* Straight-line parameters (for a crooked line: first node, first segment's
  * azimuth, size, first CMP and limit). */
 bins_params bins_line_get_params(const bins_line *l);
-/* Midpoint -> CMP. Returns the status (BINS_IN or BINS_OFF_LINE); *loc is filled
+/* Midpoint -> CMP. Returns the status (enum bins_status); *loc is filled
  * either way. */
 int bins_locate(const bins_line *l, double mx, double my, bins_loc *loc);
 /* Bin centre of a CMP number on the line. */

@@ -227,13 +227,23 @@ static int pass(run *r, int which, tz_err *err)
         s->traces++;
         bins_loc loc;
         int st = bins_locate(r->line, g.midpoint_x, g.midpoint_y, &loc);
+        if (st == BINS_OUT_OF_RANGE) {
+          rc = tz_fail_at(err, TZ_E_FORMAT, t, -1,
+                          "midpoint (%.2f, %.2f) is %.3g m along the line: its CMP number is "
+                          "out of range (check the line origin, bin size and coordinates)",
+                          g.midpoint_x, g.midpoint_y, loc.along_m);
+          goto file_done;
+        }
         if (!g.live) {
           r->dead++;
         } else if (st != BINS_IN) {
           r->off_line++;
         } else {
-          if ((rc = bins_fold_add(r->fold, loc.cmp, g.offset, err)))
+          if ((rc = bins_fold_add(r->fold, loc.cmp, g.offset, err))) {
+            if (err->trace < 0)
+              err->trace = t;
             goto file_done;
+          }
           r->binned++;
           s->live++;
           if (g.offset_abs < s->omin) s->omin = g.offset_abs;
@@ -258,6 +268,8 @@ static int pass(run *r, int which, tz_err *err)
     if (which == 1 && live_this > r->max_live_per_shot)
       r->max_live_per_shot = live_this;
   file_done:
+    if (rc)
+      tz_err_path(err, r->files[f]);
     if (w) {
       if (rc)
         segy_writer_abort(w);

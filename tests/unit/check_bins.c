@@ -32,6 +32,8 @@ START_TEST(test_straight_hand_cases)
   ck_assert_double_eq_tol(loc.off_line_m, -5.0, 1e-12);
   ck_assert_double_eq_tol(loc.centre_x, 112.5, 1e-12);
   ck_assert_double_eq_tol(loc.centre_y, 200.0, 1e-12);
+  /* A CMP number beyond int32 is reported, not wrapped (common practice). */
+  ck_assert_int_eq(bins_locate(l, 1e12, 200, &loc), BINS_OUT_OF_RANGE);
   /* Before the origin: s = -3.8 -> round(-1.52) = -2 -> CMP -1. */
   ck_assert_int_eq(bins_locate(l, 96.2, 199, &loc), BINS_IN);
   ck_assert_int_eq(loc.cmp, -1);
