@@ -17,6 +17,9 @@
 #include <float.h>
 #include <math.h>
 #include <string.h>
+#ifdef __SSE2__
+#include <emmintrin.h>
+#endif
 
 #include "segy_priv.h"
 
@@ -103,6 +106,46 @@ uint32_t segy_float_to_ibm(float v)
   return sign | (uint32_t)(q + 64) << 24 | f;
 }
 
+#ifdef __SSE2__
+/* IBM -> IEEE four words at a time (SSE2, the x86-64 baseline). For exponents
+ * 39..96 (about 1e-37 to 1e38, every ordinary seismic amplitude) the value is
+ * exactly (float)fraction * 2^(4E - 280): the 24-bit fraction converts to float
+ * without loss and the power of two is built from its bits, so no clz is needed.
+ * Zero fractions give 0. Any other group of four takes the scalar path, so the
+ * result is bit-identical to ibm_to_float(). Returns the words done. */
+static size_t ibm_block4(const unsigned char *p, size_t n, float *out, int64_t *nbad)
+{
+  const __m128i lo = _mm_set1_epi32(38), hi = _mm_set1_epi32(97);
+  const __m128i m7f = _mm_set1_epi32(0x7F), mfrac = _mm_set1_epi32(0x00FFFFFF);
+  const __m128i msign = _mm_set1_epi32((int)0x80000000u), bias = _mm_set1_epi32(153);
+  const __m128i zero = _mm_setzero_si128();
+  size_t i = 0;
+  for (; i + 4 <= n; i += 4, p += 16) {
+    __m128i v = _mm_loadu_si128((const __m128i *)p);
+    v = _mm_or_si128(_mm_slli_epi16(v, 8), _mm_srli_epi16(v, 8));      /* bytes in 16 */
+    v = _mm_shufflehi_epi16(_mm_shufflelo_epi16(v, 0xB1), 0xB1);        /* 16s in 32 */
+    __m128i e = _mm_and_si128(_mm_srli_epi32(v, 24), m7f);
+    __m128i frac = _mm_and_si128(v, mfrac);
+    __m128i fz = _mm_cmpeq_epi32(frac, zero);
+    __m128i in = _mm_and_si128(_mm_cmpgt_epi32(e, lo), _mm_cmplt_epi32(e, hi));
+    if (_mm_movemask_epi8(_mm_or_si128(in, fz)) != 0xFFFF) {
+      for (int k = 0; k < 4; k++) {
+        int bad;
+        out[i + (size_t)k] = ibm_to_float(be32_load(p + 4 * k), &bad);
+        *nbad += bad;
+      }
+      continue;
+    }
+    __m128i scale = _mm_slli_epi32(_mm_sub_epi32(_mm_slli_epi32(e, 2), bias), 23);
+    __m128 r = _mm_mul_ps(_mm_cvtepi32_ps(frac), _mm_castsi128_ps(scale));
+    r = _mm_or_ps(r, _mm_castsi128_ps(_mm_and_si128(v, msign)));
+    r = _mm_andnot_ps(_mm_castsi128_ps(fz), r);
+    _mm_storeu_ps(out + i, r);
+  }
+  return i;
+}
+#endif
+
 /* In-place reorder of n words of w bytes into big-endian. */
 static void reorder(int order, unsigned char *p, size_t n, int w)
 {
@@ -129,13 +172,19 @@ int64_t segy_decode_samples(int code, int order, unsigned char *in, size_t n, fl
   reorder(order, in, n, segy_format_bytes(code));
   const unsigned char *p = in;
   switch (code) {
-  case 1:
-    for (size_t i = 0; i < n; i++, p += 4) {
+  case 1: {
+    size_t i = 0;
+#ifdef __SSE2__
+    i = ibm_block4(p, n, out, &nbad);
+    p += 4 * i;
+#endif
+    for (; i < n; i++, p += 4) {
       int bad;
       out[i] = ibm_to_float(be32_load(p), &bad);
       nbad += bad;
     }
     break;
+  }
   case 2:
     for (size_t i = 0; i < n; i++, p += 4)
       out[i] = (float)u32_to_i32(be32_load(p));
