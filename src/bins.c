@@ -297,8 +297,10 @@ int bins_params_from_layout(const geometry_layout *l, double size_m, int32_t fir
   geometry_sincos_deg(l->azimuth_deg, &su, &cu);
   size_t ns = geometry_layout_shots(l), nc = geometry_layout_channels(l);
   double smin = INFINITY;
+  /* Receiver positions are monotonic in the channel index, so the smallest
+   * midpoint of a shot is at its first or last channel. */
   for (size_t k = 0; k < ns; k++)
-    for (size_t c = 0; c < nc; c++) {
+    for (size_t c = 0; c < nc; c += (nc > 1 ? nc - 1 : 1)) {
       geometry_trace g;
       if (geometry_layout_trace(l, k, c, &g, err))
         return err->status;

@@ -117,6 +117,8 @@ int geometry_layout_check(const geometry_layout *l, tz_err *err)
       (double)l->first_channel + l->channels - 1 > INT32_MAX ||
       (double)l->first_shot_point + l->shot_count - 1 > INT32_MAX)
     return tz_fail(err, TZ_E_FORMAT, "field record, channel or shot point numbers overflow");
+  if ((double)l->shot_count * (double)l->channels > (double)INT32_MAX)
+    return tz_fail(err, TZ_E_FORMAT, "shot_count x channels exceeds %d traces", INT32_MAX);
   if (geometry_layout_shots(l) == 0)
     return tz_fail(err, TZ_E_FORMAT, "every shot is skipped");
   return TZ_OK;
