@@ -457,6 +457,9 @@ int semblance_autopick(const float *panel, const float *power, size_t nvel, cons
                    "pick separation %g ms must be >= 0, minimum semblance %g and minimum "
                    "relative power %g in [0, 1]",
                    pp->min_separation_ms, pp->min_semblance, pp->min_relative_power);
+  if (pp->time_max_ms > 0 && !(pp->time_max_ms > pp->time_min_ms))
+    return tz_fail(err, TZ_E_ARG, "pick time range %g-%g ms is empty", pp->time_min_ms,
+                   pp->time_max_ms);
   if (nvel < 3 || ns < 3)
     return TZ_OK;   /* no interior maxima possible */
   size_t r = half_window(sp->window_ms, ax->dt_s);

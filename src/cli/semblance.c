@@ -167,6 +167,9 @@ static int parse(int argc, char **argv, struct opts *o)
     return cli_usage_error(cmd, "--threads %lld: expected 0 to %d", o->threads, JOB_MAX_THREADS);
   if (!isnan(o->stretch) && !(o->stretch >= 0 && o->stretch <= 1000))
     return cli_usage_error(cmd, "--stretch-limit %g: expected 0 to 1000 %%", o->stretch);
+  if (o->pp.time_max_ms > 0 && o->pp.time_max_ms <= o->pp.time_min_ms)
+    return cli_usage_error(cmd, "--time-max %g ms must be later than --time-min %g ms",
+                           o->pp.time_max_ms, o->pp.time_min_ms);
   tz_err e;
   tz_err_init(&e);
   size_t nv;

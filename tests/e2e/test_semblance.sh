@@ -66,6 +66,9 @@ expect_status 64 "bad number" -- "$TZERO" semblance --job "$J" --cmps 30 --windo
 expect_stderr "window: expected a number, got 'forty'" "bad number is named"
 expect_status 64 "bad interval bounds" -- "$TZERO" semblance --job "$J" --cmps 30 \
   --interval-min 4000 --interval-max 3000
+expect_status 64 "empty pick time range" -- "$TZERO" semblance --job "$J" --cmps 30 \
+  --time-min 500 --time-max 400
+expect_status 64 "live fraction above 1" -- "$TZERO" semblance --job "$J" --cmps 30 --min-live 2
 expect_status 66 "missing job file" -- "$TZERO" semblance --job "$D/nojob.json" --cmps 30
 expect_stderr "nojob.json" "missing job file is named"
 printf '{ "shots": ["shots/*.sgy"], "geometri": "headers" }\n' >"$D/bad.json"
