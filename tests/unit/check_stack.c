@@ -243,6 +243,19 @@ START_TEST(test_run_threads_identical)
       ck_assert_msg(k == 100, "CMP %d peaks at sample %zu", a->cmps[c].cmp, k);
     }
   }
+  /* a CMP sub-range (header-guided reads) gives the same bits for those CMPs */
+  stack_run_opts o;
+  ck_assert_int_eq(stack_run_opts_init(&o, p, v, &e), TZ_OK);
+  o.first_cmp = 8;
+  o.last_cmp = 15;
+  o.threads = 2;
+  stack_section *sub = NULL;
+  ck_assert_int_eq(stack_run(p, &o, &sub, &e), TZ_OK);
+  ck_assert_uint_eq(sub->ncmps, 8);
+  ck_assert(!memcmp(sub->samples, a->samples + (size_t)(8 - a->first_cmp) * NS,
+                    8 * NS * sizeof(float)));
+  ck_assert_int_gt(sub->skipped[STACK_SKIP_CMP_RANGE], 0);
+  stack_section_free(sub);
   stack_section_free(a);
   velocity_table_free(v);
   stack_plan_free(p);
