@@ -122,6 +122,8 @@ typedef struct segy_open_opts {
                                     * instead of being an error */
 } segy_open_opts;
 
+/* Thread rule: one handle per thread; handles share nothing, so several
+ * threads may each open and read the same file. */
 typedef struct segy_file segy_file;
 
 /* Opens and validates a file: headers decoded, byte order and text encoding
@@ -166,7 +168,10 @@ int segy_writer_open(segy_writer **out, const char *path, const segy_write_opts 
                      tz_err *err);
 /* Encodes the header fields from `h` (scalars chosen from h->coord_scalar and
  * h->elev_scalar; 0 picks -100, i.e. centimetres), sets the sample count and
- * interval from the writer, and writes `samples` (opts.samples values). */
+ * interval from the writer, and writes `samples` (opts.samples values).
+ * The 240 bytes start as h->raw (so fields tzero does not decode pass through;
+ * zero it for a fresh header), then every decoded field is written big-endian
+ * at its standard position. A value that does not fit its slot is TZ_E_ARG. */
 int segy_write_trace(segy_writer *w, const segy_trace_header *h, const float *samples,
                      tz_err *err);
 /* Flushes and renames into place; takes the writer (always freed). */

@@ -66,6 +66,13 @@ static void help(void)
          "\n%s", CLI_CAUTION);
 }
 
+/* Record length as the time of the last sample after the first, (samples - 1) x
+ * interval, the convention `tzero synth --record-ms` follows. */
+static double record_ms(const segy_info *in)
+{
+  return in->samples ? (in->samples - 1) * (double)in->interval_us / 1000.0 : 0;
+}
+
 static const char *order_name(int o)
 {
   return o == SEGY_ORDER_LITTLE ? "little" : o == SEGY_ORDER_PAIRS ? "pairs" : "big";
@@ -194,7 +201,7 @@ static cJSON *file_json(const char *path, const segy_info *in, const segy_stats 
   cJSON_AddNumberToObject(o, "traces", (double)in->trace_count);
   cJSON_AddNumberToObject(o, "samples_per_trace", in->samples);
   cJSON_AddNumberToObject(o, "sample_interval_us", in->interval_us);
-  cJSON_AddNumberToObject(o, "record_length_ms", in->samples * (double)in->interval_us / 1000.0);
+  cJSON_AddNumberToObject(o, "record_length_ms", record_ms(in));
   cJSON_AddNumberToObject(o, "format_code", in->format_code);
   cJSON_AddStringToObject(o, "format", segy_format_name(in->format_code));
   cJSON_AddNumberToObject(o, "bytes_per_sample", in->bytes_per_sample);
@@ -283,8 +290,8 @@ static void print_text(const char *path, const segy_info *in, const segy_stats *
   printf(")\n");
   printf("  samples per trace: %u\n", in->samples);
   printf("  sample interval: %u us\n", in->interval_us);
-  printf("  record length: %.3f ms (samples x interval)\n",
-         in->samples * (double)in->interval_us / 1000.0);
+  printf("  record length: %.3f ms (time of the last sample after the first)\n",
+         record_ms(in));
   if (st) {
     printf("  field records: %lld (%lld to %lld traces each)\n", (long long)st->field_records,
            (long long)st->traces_per_record_min, (long long)st->traces_per_record_max);
