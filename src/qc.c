@@ -55,10 +55,10 @@ static void add_inputs(cJSON *r, const stack_plan *p)
     cJSON_AddNumberToObject(o, "traces", (double)s->traces);
     cJSON_AddBoolToObject(o, "bad", s->bad);
     if (s->bad) {
-      cJSON_AddStringToObject(o, "error", s->error);
+      cJSON_AddStringToObject(o, "error", s->error ? s->error : "");
       cJSON *b = cJSON_CreateObject();
       cJSON_AddStringToObject(b, "path", s->path);
-      cJSON_AddStringToObject(b, "error", s->error);
+      cJSON_AddStringToObject(b, "error", s->error ? s->error : "");
       cJSON_AddItemToArray(bad, b);
     }
     cJSON_AddItemToArray(in, o);

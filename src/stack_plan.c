@@ -202,6 +202,20 @@ static void spacing_free(spacing *s)
   free(s->ch);
 }
 
+/* Marks an input bad with the formatted error; returns 1, or -1 out of memory. */
+static int mark_bad(stack_input *in, const tz_err *e, tz_err *err)
+{
+  char buf[1200];
+  tz_err_format(e, buf, sizeof buf);
+  in->bad = 1;
+  free((char *)in->error);
+  if (!(in->error = strdup(buf))) {
+    tz_fail(err, TZ_E_NOMEM, "bad-file list");
+    return -1;
+  }
+  return 1;
+}
+
 /* Opens input i; on failure either fails the build or marks the file bad. */
 static int open_or_skip(stack_plan *p, size_t i, segy_file **f, tz_err *err)
 {
@@ -219,9 +233,7 @@ static int open_or_skip(stack_plan *p, size_t i, segy_file **f, tz_err *err)
     *err = e;
     return -1;
   }
-  in->bad = 1;
-  tz_err_format(&e, in->error, sizeof in->error);
-  return 1;
+  return mark_bad(in, &e, err);
 }
 
 /* Records a read failure inside a file: fatal, or the file becomes bad. */
@@ -232,9 +244,7 @@ static int bad_inside(stack_plan *p, size_t i, tz_err *e, tz_err *err)
     *err = *e;
     return -1;
   }
-  p->inputs[i].bad = 1;
-  tz_err_format(e, p->inputs[i].error, sizeof p->inputs[i].error);
-  return 1;
+  return mark_bad(&p->inputs[i], e, err);
 }
 
 static int set_axis(stack_plan *p, segy_file *f, tz_err *err)
@@ -550,6 +560,8 @@ void stack_plan_free(stack_plan *p)
   geometry_source_free(p->geo);
   bins_line_free(p->line);
   free(p->cmps);
+  for (size_t i = 0; p->inputs && i < p->ninputs; i++)
+    free((char *)p->inputs[i].error);
   free(p->inputs);
   free(p);
 }

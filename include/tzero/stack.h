@@ -63,7 +63,7 @@ typedef struct stack_input {
   int64_t bytes;             /* file size (-1 when missing) */
   int64_t traces;            /* traces in the file (0 when unreadable) */
   int bad;                   /* 1 = skipped as missing or corrupt (skip_bad_files) */
-  char error[600];           /* why, when bad (formatted tz_err) */
+  const char *error;         /* why, when bad (formatted tz_err; owned by the plan), else NULL */
 } stack_input;
 
 /* What the plan resolved about the processing line. */
