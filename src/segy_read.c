@@ -518,6 +518,10 @@ int segy_open(segy_file **out, const char *path, const segy_open_opts *o, tz_err
   }
   if ((rc = settle(f, o, err)))
     goto fail;
+  uint64_t declared = in->revision_major >= 2 ? bin64(f, 3513) : 0;
+  if (declared && declared != (uint64_t)in->trace_count)
+    warn(in, "binary header declares %llu traces (bytes 3513-3520), the file holds %lld",
+         (unsigned long long)declared, (long long)in->trace_count);
   size_t need = f->hdr_bytes + (size_t)in->samples * (size_t)in->bytes_per_sample;
   f->wincap = need > WINDOW_BYTES ? need : WINDOW_BYTES;
   f->win = malloc(f->wincap);

@@ -153,6 +153,14 @@ j = inspect(path)
 ok(j is not None and j["trace_header_extensions"] == 1 and j["traces"] == 3
    and j["samples_per_trace"] == 9 and samples(j)[2].tolist() == [1.5] * 9,
    "rev 2: one trace header extension, samples from extension bytes 137-140")
+path = os.path.join(WORK, "rev2_count.sgy")
+raw = bytearray(segygen.write(path, rev=2, traces=trs))
+raw[3512:3520] = (5).to_bytes(8, "big")
+open(path, "wb").write(raw)
+j = inspect(path)
+ok(j is not None and j["traces"] == 2
+   and any("declares 5 traces (bytes 3513-3520)" in a for a in j["anomalies"]),
+   "rev 2: a trace count (3513-3520) that disagrees with the file is reported")
 path = os.path.join(WORK, "rev2_trailer.sgy")
 segygen.write(path, rev=2, trailers=2, traces=trs)
 j = inspect(path)
