@@ -1,0 +1,139 @@
+/* condition.h -- trace conditioning before NMO: zero-phase band-pass, gains, AGC.
+ *
+ * Three layers (docs/conditioning.md):
+ *   condition_chain      a plain value: an ordered list of steps with their
+ *                        parameters (what a job file describes). Built on the
+ *                        stack with condition_chain_init() and the _add_ calls,
+ *                        which check every parameter.
+ *   condition_plan       the chain bound to one trace time axis: corners checked
+ *                        against Nyquist, FFT plans made, time-only gain curves
+ *                        precomputed. Read-only once built; share it between threads.
+ *   condition_workspace  per-thread scratch (FFT buffers, running sums). One per
+ *                        thread; never share one between threads.
+ * condition_apply() then conditions one trace in place and allocates nothing.
+ *
+ * Threads and FFTW: FFTW's planner is not thread-safe. condition_plan_new() and
+ * condition_plan_free() make and destroy plans; call them from one thread, never
+ * while another thread is planning with FFTW. condition_apply() only executes
+ * plans (the new-array interface on the workspace's own buffers) and is safe on
+ * many threads at once, each with its own workspace. Plans are made with
+ * FFTW_ESTIMATE, so the same input gives bitwise the same output on every run.
+ */
+#ifndef TZERO_CONDITION_H
+#define TZERO_CONDITION_H
+
+#include <stddef.h>
+#include <stdint.h>
+#include "tzero/error.h"
+#include "tzero/velocity.h"
+
+#define CONDITION_MAX_STEPS 16          /* steps in one chain */
+#define CONDITION_MAX_SAMPLES 1000000   /* longest trace a plan accepts */
+#define CONDITION_MAX_POWER 10.0        /* |exponent| of the power gain */
+#define CONDITION_MAX_WINDOW_MS 1.0e6   /* AGC window and reference times, ms */
+
+typedef enum {
+  CONDITION_BANDPASS = 1,   /* zero-phase trapezoid (Ormsby) band-pass */
+  CONDITION_SPHERICAL,      /* spherical divergence t V_rms^2(t) / (t_ref V_rms^2(t_ref)) */
+  CONDITION_POWER,          /* power gain (t / t_ref)^exponent */
+  CONDITION_AGC             /* automatic gain control, sliding window */
+} condition_kind;
+
+typedef enum {
+  CONDITION_AGC_RMS = 0,    /* divide by the RMS amplitude in the window */
+  CONDITION_AGC_MEAN_ABS    /* divide by the mean absolute amplitude in the window */
+} condition_agc_measure;
+
+/* One step. Only the fields of its kind are meaningful. */
+typedef struct condition_step {
+  int kind;                   /* condition_kind */
+  double corners_hz[4];       /* BANDPASS: f1 < f2 <= f3 < f4, f1 >= 0 */
+  double reference_time_s;    /* SPHERICAL, POWER: gain is 1 at this time (> 0) */
+  double velocity_mps;        /* SPHERICAL: constant velocity; 0 = the velocity table
+                               * at the trace's CMP */
+  double exponent;            /* POWER */
+  double window_s;            /* AGC: window length (centred on each sample) */
+  int measure;                /* AGC: condition_agc_measure */
+} condition_step;
+
+/* The chain: a plain value, copy it freely. Steps run in order. */
+typedef struct condition_chain {
+  size_t n;
+  condition_step step[CONDITION_MAX_STEPS];
+} condition_chain;
+
+void condition_chain_init(condition_chain *c);    /* empty chain */
+
+/* Append one step after checking its parameters. TZ_E_ARG with a message naming the
+ * bad value (e.g. "corner f3 = 8 Hz is below f2 = 10 Hz"), or when the chain is full;
+ * the chain is unchanged on failure. Nyquist is checked later, by condition_plan_new(). */
+int condition_chain_add_bandpass(condition_chain *c, const double corners_hz[4], tz_err *err);
+/* velocity_mps = 0 takes V_rms from the velocity table at each trace's CMP. */
+int condition_chain_add_spherical(condition_chain *c, double reference_time_s,
+                                  double velocity_mps, tz_err *err);
+int condition_chain_add_power(condition_chain *c, double exponent, double reference_time_s,
+                              tz_err *err);
+int condition_chain_add_agc(condition_chain *c, double window_s, int measure, tz_err *err);
+
+/* 1 when some step needs the velocity table (spherical divergence without a constant). */
+int condition_chain_needs_velocity(const condition_chain *c);
+
+/* Names used in job files and reports: "bandpass", "spherical_divergence",
+ * "power_gain", "agc"; "rms", "mean_abs". Never NULL ("unknown"). The parse
+ * functions return -1 for anything else. */
+const char *condition_kind_name(int kind);
+int condition_kind_parse(const char *s);
+const char *condition_agc_measure_name(int measure);
+int condition_agc_measure_parse(const char *s);
+
+/* ---- plan: the chain on one time axis ---- */
+
+typedef struct condition_plan condition_plan;
+
+/* Binds the chain to the axis t_i = t_first_s + i dt_s, i < ns (a copy of the chain
+ * is kept). Checks: dt_s > 0, 1 <= ns <= CONDITION_MAX_SAMPLES, every band-pass
+ * corner below Nyquist 1/(2 dt_s), an AGC window of at least one sample, and a
+ * velocity table when the chain needs one (`table` is borrowed and must outlive the
+ * plan; NULL is fine otherwise). TZ_E_ARG naming the value; TZ_E_FFT when FFTW cannot
+ * plan. Not thread-safe (FFTW planner): see the top of this file. On success *out
+ * owns the plan: condition_plan_free(). An empty chain gives a plan that does nothing. */
+int condition_plan_new(condition_plan **out, const condition_chain *c, double t_first_s,
+                       double dt_s, size_t ns, const velocity_table *table, tz_err *err);
+void condition_plan_free(condition_plan *p);      /* NULL is a no-op; not thread-safe */
+
+size_t condition_plan_ns(const condition_plan *p);
+/* Transform length used by the band-pass (0 without one): the smallest 2^a 3^b 5^c
+ * at least twice ns, so the filter's response does not wrap around the trace. */
+size_t condition_plan_fft_size(const condition_plan *p);
+int condition_plan_needs_velocity(const condition_plan *p);
+
+/* ---- per-thread workspace and the per-trace call ---- */
+
+typedef struct condition_workspace condition_workspace;
+
+/* Scratch sized for the plan. *out owns it: condition_workspace_free(). */
+int condition_workspace_new(condition_workspace **out, const condition_plan *p, tz_err *err);
+void condition_workspace_free(condition_workspace *ws);   /* NULL is a no-op */
+
+/* Conditions one trace of condition_plan_ns() samples in place, step by step.
+ *   cmp      the trace's CMP (used only by the velocity-table spherical gain)
+ *   vel_mps  ns RMS velocities of that CMP sampled on the plan's axis
+ *            (velocity_sample()), when the caller already has them (the stacker
+ *            caches them per CMP); NULL = the workspace samples them itself.
+ *            Ignored when the plan needs no velocity.
+ * Allocates nothing; thread-safe with one workspace per thread. Non-finite input
+ * samples are TZ_E_ARG naming the sample (they would smear over the whole trace). */
+int condition_apply(const condition_plan *p, condition_workspace *ws, int64_t cmp,
+                    const float *vel_mps, float *trace, tz_err *err);
+
+/* ---- formulas (REFERENCE.md §3.11, §3.14), exposed for tests and docs ---- */
+
+/* Trapezoid amplitude A(|f|) for corners f[0..3] (REFERENCE.md §3.14). */
+double condition_trapezoid(const double corners_hz[4], double f_hz);
+/* Ormsby wavelet: the inverse Fourier transform of the unit trapezoid at time t
+ * (seconds); w(0) = f4 + f3 - f2 - f1 (REFERENCE.md §3.14). */
+double condition_ormsby_wavelet(const double corners_hz[4], double t_s);
+/* Spherical divergence correction t V^2 / (t_ref V_ref^2) (Newman 1973). */
+double condition_spherical_gain(double t_s, double v_mps, double t_ref_s, double v_ref_mps);
+
+#endif
