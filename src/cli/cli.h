@@ -25,6 +25,7 @@ int cmd_semblance(int argc, char **argv);
 int cmd_cvs(int argc, char **argv);
 int cmd_fit(int argc, char **argv);
 int cmd_compare(int argc, char **argv);
+int cmd_picture(int argc, char **argv);
 
 /* Prints "tzero CMD: <formatted error>[: strerror]" to stderr and returns the
  * exit status for the error's status. */

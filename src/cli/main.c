@@ -27,6 +27,7 @@ static const struct subcmd subcmds[] = {
   { "stack",     cmd_stack,     "the whole flow from a job file: stacked section and QC report" },
   { "report",    cmd_report,    "print a saved QC report, one CMP, or its fold table" },
   { "compare",   cmd_compare,   "compare two stacks of the same line CMP by CMP" },
+  { "picture",   cmd_picture,   "draw a section, gather or fold chart as a PNG picture" },
 };
 #define NSUB (sizeof subcmds / sizeof subcmds[0])
 

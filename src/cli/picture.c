@@ -1,0 +1,318 @@
+/* picture.c -- `tzero picture`: a section, gather or semblance panel, or a fold chart, as PNG. */
+#include <cjson/cJSON.h>
+#include <getopt.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sysexits.h>
+
+#include "cli.h"
+#include "tzero/picture.h"
+#include "tzero/table.h"
+
+static const char *cmd = "picture";
+
+static void help(void)
+{
+  printf("usage: tzero picture SECTION.sgy --out FILE.png [OPTIONS]\n"
+         "       tzero picture --fold QC.json --out FILE.png [--width W --height H]\n"
+         "\n"
+         "Draws a SEG-Y panel (a stacked section, CMP gathers, semblance panels) as a\n"
+         "PNG picture: time in ms increasing downward, traces left to right, labelled\n"
+         "by CMP number (bytes 21-24) when those increase trace to trace, by offset\n"
+         "or trial velocity (bytes 37-40) when they increase instead, else by trace\n"
+         "number. The title line gives the file, the CMP and time ranges and the clip.\n"
+         "With --fold, draws the fold per CMP from a QC report (tzero stack --report),\n"
+         "with the nominal fold dashed and the live fraction after the mutes below.\n"
+         "\n"
+         "options:\n"
+         "  --out FILE.png          picture to write (required)\n"
+         "  --cmps A-B              only traces with CMP A to B (inclusive); A alone: one\n"
+         "                          CMP (a gather)\n"
+         "  --time-ms T0-T1         only samples from T0 to T1 ms (recording time)\n"
+         "  --clip-percentile P     amplitude mapped to the extreme colour: the P-th\n"
+         "                          percentile of |amplitude| over the panel, 0 < P <= 100\n"
+         "                          (default 99; 100 for --colour-map semblance)\n"
+         "  --clip A                a fixed clip amplitude instead (same units as the data)\n"
+         "  --colour-map NAME       diverging (default: red positive, white zero, blue\n"
+         "                          negative), grey (black positive, white negative) or\n"
+         "                          semblance (sequential, navy at 0 to red at the clip)\n"
+         "  --style NAME            density, wiggle (variable area), both, or auto\n"
+         "                          (default: density, plus wiggles when traces are at\n"
+         "                          least 6 px apart)\n"
+         "  --width W, --height H   picture size in pixels, %u..%u by %u..%u (default:\n"
+         "                          2-12 px per trace, about 1300 px wide, 600-1000 px\n"
+         "                          of time)\n"
+         "  --title TEXT            replace the title line\n"
+         "  --fold QC.json          draw the fold chart of a QC report (tzero-qc/1)\n"
+         "  --json                  print what was drawn (size, plot area, clip) as JSON\n"
+         "  --quiet                 print nothing but errors\n"
+         "  -h, --help              this text\n"
+         "\n"
+         "Pixels sample the panel by nearest neighbour (docs/pictures.md gives the\n"
+         "exact rule and colour maps): a picture narrower than the number of traces\n"
+         "skips traces, so zoom with --cmps for detail.\n"
+         "\n%s",
+         PICTURE_MIN_WIDTH, PICTURE_MAX_SIDE, PICTURE_MIN_HEIGHT, PICTURE_MAX_SIDE, CLI_CAUTION);
+}
+
+/* "A-B" or "A" (when single is allowed); the separator is a '-' after the first
+ * character so that a leading minus sign stays a sign. */
+static int parse_range(const char *opt, const char *s, int single, int integer, double *a,
+                       double *b)
+{
+  char buf[128];
+  if (strlen(s) >= sizeof buf)
+    return cli_usage_error(cmd, "%s: range too long", opt);
+  snprintf(buf, sizeof buf, "%s", s);
+  char *dash = buf[0] ? strchr(buf + 1, '-') : NULL;
+  if (dash)
+    *dash = '\0';
+  int bad;
+  if (integer) {
+    int64_t x = 0, y = 0;
+    bad = table_parse_i64(buf, &x) || (dash && table_parse_i64(dash + 1, &y));
+    *a = (double)x;
+    *b = dash ? (double)y : (double)x;
+  } else {
+    bad = table_parse_f64(buf, a) || (dash && table_parse_f64(dash + 1, b));
+    if (!dash)
+      *b = *a;
+  }
+  if (bad || (!dash && !single))
+    return cli_usage_error(cmd, "%s: expected %s, got '%s'", opt,
+                           single ? "A-B or A" : "T0-T1", s);
+  if (*b < *a || (!integer && *b == *a))
+    return cli_usage_error(cmd, "%s: empty range '%s' (the end must follow the start)", opt, s);
+  return 0;
+}
+
+static int pick(const char *opt, const char *s, const char *const *names, int *out)
+{
+  for (int i = 0; names[i]; i++)
+    if (!strcmp(s, names[i])) {
+      *out = i;
+      return 0;
+    }
+  return cli_usage_error(cmd, "%s: unknown value '%s'", opt, s);
+}
+
+static int parse_px(const char *opt, const char *s, uint32_t *out)
+{
+  long long v;
+  int bad = cli_parse_i64(cmd, opt, s, &v);
+  if (bad)
+    return bad;
+  if (v < 1 || v > PICTURE_MAX_SIDE)
+    return cli_usage_error(cmd, "%s: %lld px outside 1..%u", opt, v, PICTURE_MAX_SIDE);
+  *out = (uint32_t)v;
+  return 0;
+}
+
+static const char *base_name(const char *p)
+{
+  const char *s = strrchr(p, '/');
+  return s ? s + 1 : p;
+}
+
+static void print_summary(const char *out, const picture_image *img, const picture_info *in,
+                          int json, const char *what)
+{
+  static const char *const styles[] = { "auto", "density", "wiggle", "both" };
+  if (json) {
+    cJSON *o = cJSON_CreateObject();
+    if (!o)
+      return;
+    cJSON_AddStringToObject(o, "path", out);
+    cJSON_AddStringToObject(o, "picture", what);
+    cJSON_AddNumberToObject(o, "width_px", img->width);
+    cJSON_AddNumberToObject(o, "height_px", img->height);
+    cJSON *pa = cJSON_AddObjectToObject(o, "plot_area_px");
+    cJSON_AddNumberToObject(pa, "x", in->plot_x);
+    cJSON_AddNumberToObject(pa, "y", in->plot_y);
+    cJSON_AddNumberToObject(pa, "width", in->plot_w);
+    cJSON_AddNumberToObject(pa, "height", in->plot_h);
+    if (!strcmp(what, "fold")) {
+      cJSON_AddNumberToObject(o, "fold_axis_max", in->clip);
+    } else {
+      cJSON_AddNumberToObject(o, "clip", in->clip);
+      if (in->clip_percentile > 0)
+        cJSON_AddNumberToObject(o, "clip_percentile", in->clip_percentile);
+      cJSON_AddStringToObject(o, "style", styles[in->style & 3]);
+    }
+    char *s = cJSON_Print(o);
+    cJSON_Delete(o);
+    if (s)
+      printf("%s\n", s);
+    free(s);
+    return;
+  }
+  if (!strcmp(what, "fold"))
+    printf("wrote %s (%u x %u px): fold chart\n", out, img->width, img->height);
+  else
+    printf("wrote %s (%u x %u px): %s, clip %.6g%s\n", out, img->width, img->height,
+           styles[in->style & 3], in->clip, in->clip_percentile > 0 ? " (percentile)" : "");
+}
+
+static int run_fold(const char *qc, const char *out, const char *title, uint32_t w, uint32_t h,
+                    int json, int quiet)
+{
+  tz_err err;
+  tz_err_init(&err);
+  picture_fold f = { 0 };
+  picture_image img = { 0 };
+  picture_info in;
+  char t[PICTURE_MAX_TITLE + 1];
+  int rc = picture_fold_load(&f, qc, &err);
+  if (!rc) {
+    if (!title) {
+      snprintf(t, sizeof t, "FOLD  %s  CMP %lld-%lld", base_name(qc), (long long)f.rows[0].cmp,
+               (long long)f.rows[f.n - 1].cmp);
+      title = t;
+    }
+    rc = picture_render_fold(&f, title, w, h, &img, &in, &err);
+  }
+  if (!rc)
+    rc = picture_write_png(&img, out, &err);
+  picture_fold_free(&f);
+  if (rc) {
+    picture_image_free(&img);
+    return cli_report(cmd, &err);
+  }
+  if (!quiet)
+    print_summary(out, &img, &in, json, "fold");
+  picture_image_free(&img);
+  return EX_OK;
+}
+
+int cmd_picture(int argc, char **argv)
+{
+  enum { O_OUT = 256, O_CMPS, O_TIME, O_PCT, O_CLIP, O_MAP, O_STYLE, O_W, O_H, O_TITLE, O_FOLD,
+         O_JSON, O_QUIET };
+  static const struct option opts[] = {
+    { "out", required_argument, NULL, O_OUT },
+    { "cmps", required_argument, NULL, O_CMPS },
+    { "time-ms", required_argument, NULL, O_TIME },
+    { "clip-percentile", required_argument, NULL, O_PCT },
+    { "clip", required_argument, NULL, O_CLIP },
+    { "colour-map", required_argument, NULL, O_MAP },
+    { "style", required_argument, NULL, O_STYLE },
+    { "width", required_argument, NULL, O_W },
+    { "height", required_argument, NULL, O_H },
+    { "title", required_argument, NULL, O_TITLE },
+    { "fold", required_argument, NULL, O_FOLD },
+    { "json", no_argument, NULL, O_JSON },
+    { "quiet", no_argument, NULL, O_QUIET },
+    { "help", no_argument, NULL, 'h' },
+    { NULL, 0, NULL, 0 },
+  };
+  static const char *const maps[] = { "diverging", "grey", "semblance", NULL };
+  static const char *const styles[] = { "auto", "density", "wiggle", "both", NULL };
+  const char *out = NULL, *title = NULL, *fold = NULL;
+  picture_opts po = { 0 };
+  picture_select sel = { 0 };
+  int json = 0, quiet = 0, c;
+  optind = 1;
+  opterr = 0;
+  while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
+    int bad = 0;
+    double a, b;
+    switch (c) {
+    case O_OUT: out = optarg; break;
+    case O_CMPS:
+      if (!(bad = parse_range("--cmps", optarg, 1, 1, &a, &b))) {
+        sel.have_cmps = 1;
+        sel.cmp_first = (int64_t)a;
+        sel.cmp_last = (int64_t)b;
+      }
+      break;
+    case O_TIME:
+      if (!(bad = parse_range("--time-ms", optarg, 0, 0, &a, &b))) {
+        sel.have_time = 1;
+        sel.time_first_ms = a;
+        sel.time_last_ms = b;
+      }
+      break;
+    case O_PCT:
+      if (!(bad = cli_parse_f64(cmd, "--clip-percentile", optarg, &po.clip_percentile)) &&
+          !(po.clip_percentile > 0 && po.clip_percentile <= 100))
+        bad = cli_usage_error(cmd, "--clip-percentile: %s outside (0, 100]", optarg);
+      break;
+    case O_CLIP:
+      if (!(bad = cli_parse_f64(cmd, "--clip", optarg, &po.clip_value)) && !(po.clip_value > 0))
+        bad = cli_usage_error(cmd, "--clip: %s must be positive", optarg);
+      break;
+    case O_MAP: bad = pick("--colour-map", optarg, maps, &po.map); break;
+    case O_STYLE: bad = pick("--style", optarg, styles, &po.style); break;
+    case O_W: bad = parse_px("--width", optarg, &po.width); break;
+    case O_H: bad = parse_px("--height", optarg, &po.height); break;
+    case O_TITLE: title = optarg; break;
+    case O_FOLD: fold = optarg; break;
+    case O_JSON: json = 1; break;
+    case O_QUIET: quiet = 1; break;
+    case 'h': help(); return EX_OK;
+    default:
+      return cli_usage_error(cmd, "unknown or incomplete option '%s'", argv[optind - 1]);
+    }
+    if (bad)
+      return bad;
+  }
+  if (!out)
+    return cli_usage_error(cmd, "--out FILE.png is required");
+  if (fold) {
+    if (argc - optind != 0)
+      return cli_usage_error(cmd, "--fold draws a QC report; no SEG-Y file goes with it");
+    return run_fold(fold, out, title, po.width, po.height, json, quiet);
+  }
+  if (argc - optind != 1)
+    return cli_usage_error(cmd, "expected one SEG-Y file, got %d", argc - optind);
+  const char *in_path = argv[optind];
+
+  tz_err err;
+  tz_err_init(&err);
+  picture_loaded l;
+  picture_image img = { 0 };
+  picture_info info;
+  int rc = picture_load_segy(in_path, &sel, &l, &err);
+  if (rc)
+    return cli_report(cmd, &err);
+  picture_panel p = { .data = l.data, .ntraces = l.ntraces, .nsamples = l.nsamples,
+                      .time_first_ms = l.time_first_ms, .interval_ms = l.interval_ms };
+  int offsets_increase = l.ntraces > 1;
+  for (size_t i = 1; i < l.ntraces; i++)
+    offsets_increase &= l.offset[i] > l.offset[i - 1];
+  if (l.cmps_increase && l.ntraces > 1) {
+    p.xvalue = l.cmp;
+    p.xlabel = "CMP";
+  } else if (offsets_increase) {
+    p.xvalue = l.offset;
+    p.xlabel = po.map == PICTURE_MAP_SEQUENTIAL ? "M/S" : "OFFSET";
+  } else if (l.ntraces == 1) {
+    p.xvalue = l.cmp;
+    p.xlabel = "CMP";
+  }
+  char t[PICTURE_MAX_TITLE + 1], what[80];
+  double t_last = l.time_first_ms + (double)(l.nsamples - 1) * l.interval_ms;
+  if (l.cmps_increase || l.ntraces == 1)
+    snprintf(what, sizeof what, "CMP %.0f-%.0f", l.cmp[0], l.cmp[l.ntraces - 1]);
+  else if (l.cmp[0] == l.cmp[l.ntraces - 1])
+    snprintf(what, sizeof what, "CMP %.0f, %zu TRACES", l.cmp[0], l.ntraces);
+  else
+    snprintf(what, sizeof what, "%zu TRACES", l.ntraces);
+  snprintf(t, sizeof t, "%s  %s  TIME %g-%g MS", base_name(in_path), what, l.time_first_ms,
+           t_last);
+  p.title = title ? title : t;
+  rc = picture_render_panel(&p, &po, &img, &info, &err);
+  if (!rc)
+    rc = picture_write_png(&img, out, &err);
+  picture_loaded_free(&l);
+  if (rc) {
+    picture_image_free(&img);
+    return cli_report(cmd, &err);
+  }
+  if (!quiet)
+    print_summary(out, &img, &info, json, "panel");
+  picture_image_free(&img);
+  return EX_OK;
+}
