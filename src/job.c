@@ -619,10 +619,19 @@ int job_parse(job_spec **out, const char *text, size_t len, const char *name, co
     return tz_fail_at(err, TZ_E_FORMAT, -1, (int64_t)((const char *)memchr(text, '\0', len) - text),
                       "NUL byte in job file");
   }
+  /* cJSON reads to the NUL: parse a terminated copy of exactly len bytes */
+  char *copy = malloc(len + 1);
+  if (!copy) {
+    job_free(j);
+    return tz_fail(err, TZ_E_NOMEM, "job text");
+  }
+  memcpy(copy, text, len);
+  copy[len] = '\0';
   const char *end = NULL;
-  cJSON *root = cJSON_ParseWithOpts(text, &end, 1);
+  cJSON *root = cJSON_ParseWithOpts(copy, &end, 1);
+  size_t at = end && end >= copy && end <= copy + len ? (size_t)(end - copy) : len;
+  free(copy);
   if (!root) {
-    size_t at = end && end >= text && end <= text + len ? (size_t)(end - text) : 0;
     int64_t line;
     locate(text, at, &line);
     job_free(j);

@@ -285,13 +285,18 @@ static const char *const required[] = { "inputs", "parameters", "traces", "cmps"
 
 int qc_report_parse(qc_report **out, const char *text, size_t len, const char *name, tz_err *err)
 {
+  char *copy = malloc(len + 1);   /* cJSON reads to the NUL: terminate exactly len bytes */
+  if (!copy)
+    return tz_fail(err, TZ_E_NOMEM, "QC report text");
+  memcpy(copy, text, len);
+  copy[len] = '\0';
   const char *end = NULL;
-  (void)len;
-  cJSON *root = cJSON_ParseWithOpts(text, &end, 1);
+  cJSON *root = cJSON_ParseWithOpts(copy, &end, 1);
+  int64_t at = end && end >= copy && end <= copy + len ? (int64_t)(end - copy) : (int64_t)len;
+  free(copy);
   if (!root) {
     tz_err_path(err, name);
-    return tz_fail_at(err, TZ_E_FORMAT, -1, end ? (int64_t)(end - text) : -1,
-                      "not valid JSON");
+    return tz_fail_at(err, TZ_E_FORMAT, -1, at, "not valid JSON");
   }
   const cJSON *f = cJSON_GetObjectItemCaseSensitive(root, "format");
   int rc = TZ_OK;

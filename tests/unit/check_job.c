@@ -258,6 +258,38 @@ START_TEST(test_load_relative)
 }
 END_TEST
 
+/* Never a crash (project rule): every prefix and every single-byte change of a
+ * valid job either parses or fails with a status and a message. */
+START_TEST(test_mutations)
+{
+  const char *t = "{\"shots\": [\"shots/*.sgy\"], \"velocity\": \"vel.csv\","
+                  " \"moveout\": {\"stretch_limit_pct\": 40}, \"mute\": {\"top\": [[0, 20]]},"
+                  " \"selection\": {\"cmp_first\": 1, \"cmp_last\": 9}, \"threads\": 2}";
+  size_t n = strlen(t);
+  char buf[512];
+  static const char repl[] = "\"{}[],:0-x ";
+  for (size_t cut = 0; cut <= n; cut++) {
+    job_spec *j = NULL;
+    tz_err e;
+    tz_err_init(&e);
+    int rc = job_parse(&j, t, cut, "m.json", dir, &e);
+    ck_assert(rc == TZ_OK ? j != NULL : (j == NULL && e.msg[0]));
+    job_free(j);
+  }
+  for (size_t i = 0; i < n; i++)
+    for (size_t k = 0; k < sizeof repl - 1; k++) {
+      memcpy(buf, t, n + 1);
+      buf[i] = repl[k];
+      job_spec *j = NULL;
+      tz_err e;
+      tz_err_init(&e);
+      int rc = job_parse(&j, buf, n, "m.json", dir, &e);
+      ck_assert(rc == TZ_OK ? j != NULL : (j == NULL && e.msg[0]));
+      job_free(j);
+    }
+}
+END_TEST
+
 static Suite *job_suite(void)
 {
   Suite *s = suite_create("job");
@@ -270,6 +302,7 @@ static Suite *job_suite(void)
   tcase_add_test(tc, test_json_error_offset);
   tcase_add_test(tc, test_overrides);
   tcase_add_test(tc, test_load_relative);
+  tcase_add_test(tc, test_mutations);
   suite_add_tcase(s, tc);
   return s;
 }
