@@ -6,8 +6,10 @@
 # (traces/s, MB/s of input) for linear and sinc8 interpolation, the plain
 # sequential read rate of the same files from a warm page cache (cat > /dev/null),
 # their ratio, the 1- vs 2-thread speed-up, and peak resident memory (GNU time)
-# against the section size. Targets (issue #5): linear >= 1/2 and sinc8 >= 1/4
-# of the read rate; peak memory < 3 x section + 64 MB, not growing with shots.
+# against the section size. CPU seconds (user + sys) are printed too: on a
+# shared machine they are steadier than wall time. Targets (issue #5): linear
+# >= 1/2 and sinc8 >= 1/4 of the read rate; peak memory < 3 x section + 64 MB,
+# not growing with shots.
 # Data go to $OUT/stack (removed at the end). Timings are wall-clock: run on an
 # otherwise idle machine.
 set -eu
@@ -52,23 +54,26 @@ run_stack() {
   label=$1
   shift
   if [ -n "$TIME" ]; then
-    "$TIME" -f "%e %M" -o "$D/time.txt" "$TZ" stack --quiet "$@"
+    "$TIME" -f "%e %M %U %S" -o "$D/time.txt" "$TZ" stack --quiet "$@"
     set -- $(tail -n 1 "$D/time.txt")
     el=$1
     rss=$2
+    cpu=$(calc "%.2f" "$3 + $4")
   else
     t0=$(now)
     "$TZ" stack --quiet "$@"
     el=$(calc "%.3f" "$(now) - $t0")
     rss=0
+    cpu=0
   fi
-  echo "$el $rss" >"$D/last"
+  echo "$el $rss $cpu" >"$D/last"
 }
 
 report_line() { # label traces bytes
   set -- "$1" "$2" "$3" $(cat "$D/last")
-  printf '  %-30s %8.2f s  %9.0f traces/s  %8.1f MB/s  peak RSS %6.1f MB\n' "$1" "$4" \
-    "$(calc "%.0f" "$2 / $4")" "$(calc "%.1f" "$3 / 1e6 / $4")" "$(calc "%.1f" "$5 / 1024")"
+  printf '  %-26s %6.2f s (CPU %5.2f s) %7.0f traces/s %7.1f MB/s  peak RSS %5.1f MB\n' \
+    "$1" "$4" "$6" "$(calc "%.0f" "$2 / $4")" "$(calc "%.1f" "$3 / 1e6 / $4")" \
+    "$(calc "%.1f" "$5 / 1024")"
 }
 
 # survey 2 has twice the shots over the same line (half the shot interval, twice
