@@ -22,7 +22,7 @@
 #define PICTURE_MAX_SIDE 20000u          /* width or height cap, pixels */
 #define PICTURE_MIN_WIDTH 240u           /* room for margins, labels and a plot */
 #define PICTURE_MIN_HEIGHT 160u
-#define PICTURE_MAX_SAMPLES (256u << 20) /* traces x samples cap of one panel */
+#define PICTURE_MAX_SAMPLES (64u << 20)  /* traces x samples cap of one panel */
 #define PICTURE_MAX_TITLE 200            /* characters of the title line */
 
 /* Fixed margins around the plot area (pixels). The plot area of a panel
@@ -39,7 +39,8 @@ enum picture_map {
 };
 
 enum picture_style {
-  PICTURE_STYLE_AUTO = 0,     /* density, plus wiggles when traces are >= 6 px apart */
+  PICTURE_STYLE_AUTO = 0,     /* density, plus wiggles when traces are >= 6 px apart
+                               * (never over the SEQUENTIAL map) */
   PICTURE_STYLE_DENSITY,
   PICTURE_STYLE_WIGGLE,       /* white background, black wiggles, positive lobes filled */
   PICTURE_STYLE_BOTH
@@ -84,7 +85,7 @@ typedef struct picture_info {
 
 /* Value at percentile p (0..100) of |a[i]| over n values, interpolated
  * linearly between order statistics at rank p/100 * (n - 1) (the usual
- * definition, as NumPy's default "linear" method). Needs n scratch doubles;
+ * definition, as NumPy's default "linear" method). Needs n scratch floats;
  * TZ_E_ARG when n == 0 or p is outside 0..100. */
 int picture_abs_percentile(const float *a, size_t n, double p, double *out, tz_err *err);
 

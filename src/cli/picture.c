@@ -40,7 +40,7 @@ static void help(void)
          "                          semblance (sequential, navy at 0 to red at the clip)\n"
          "  --style NAME            density, wiggle (variable area), both, or auto\n"
          "                          (default: density, plus wiggles when traces are at\n"
-         "                          least 6 px apart)\n"
+         "                          least 6 px apart, except with the semblance map)\n"
          "  --width W, --height H   picture size in pixels, %u..%u by %u..%u (default:\n"
          "                          1-12 px per trace, 600-4000 px of plot width, 600-1000\n"
          "                          px of time; fold chart 3 px per CMP, 480 px high)\n"

@@ -37,6 +37,40 @@ START_TEST(test_percentile)
 }
 END_TEST
 
+static int cmp_f(const void *a, const void *b)
+{
+  float x = *(const float *)a, y = *(const float *)b;
+  return (x > y) - (x < y);
+}
+
+/* The selection against a full sort (the definition above applied to sorted
+ * |a|), on sizes 1..300 with many ties and zeros as in muted sections. */
+START_TEST(test_percentile_select)
+{
+  unsigned seed = 12345;
+  float a[300], s[300];
+  tz_err e;
+  tz_err_init(&e);
+  for (size_t n = 1; n <= 300; n += 7) {
+    for (size_t i = 0; i < n; i++) {
+      seed = seed * 1103515245u + 12345u;
+      int r = (int)((seed >> 16) % 21) - 10;
+      a[i] = (seed >> 8) % 3 == 0 ? 0.0f : (float)r * 0.5f;
+      s[i] = fabsf(a[i]);
+    }
+    qsort(s, n, sizeof *s, cmp_f);
+    const double ps[] = { 0, 10, 50, 90, 99, 99.9, 100 };
+    for (size_t q = 0; q < sizeof ps / sizeof ps[0]; q++) {
+      double rank = ps[q] / 100.0 * (double)(n - 1), v;
+      size_t lo = (size_t)floor(rank), hi = lo + 1 < n ? lo + 1 : lo;
+      double want = s[lo] + (rank - (double)lo) * (s[hi] - s[lo]);
+      ck_assert_int_eq(picture_abs_percentile(a, n, ps[q], &v, &e), TZ_OK);
+      ck_assert_msg(fabs(v - want) <= 1e-12, "n %zu p %g: %g want %g", n, ps[q], v, want);
+    }
+  }
+}
+END_TEST
+
 static void expect_rgb(int map, double a, double clip, int r, int g, int b)
 {
   unsigned char c[3];
@@ -125,6 +159,16 @@ START_TEST(test_spike_panel)
   ck_assert_int_eq(px(&img, base + 10, row)[0], 0);  /* filled lobe */
   ck_assert_int_eq(px(&img, base - 10, row)[0], 255);
   ck_assert_int_eq(in.style, PICTURE_STYLE_WIGGLE);
+  picture_image_free(&img);
+  /* auto: 20 px between traces gives wiggles over density, except over the
+   * semblance map (never negative, so wiggles would only fill; docs) */
+  o.style = PICTURE_STYLE_AUTO;
+  ck_assert_int_eq(picture_render_panel(&p, &o, &img, &in, &e), TZ_OK);
+  ck_assert_int_eq(in.style, PICTURE_STYLE_BOTH);
+  picture_image_free(&img);
+  o.map = PICTURE_MAP_SEQUENTIAL;
+  ck_assert_int_eq(picture_render_panel(&p, &o, &img, &in, &e), TZ_OK);
+  ck_assert_int_eq(in.style, PICTURE_STYLE_DENSITY);
   picture_image_free(&img);
   free(d);
 }
@@ -288,6 +332,7 @@ static Suite *picture_suite(void)
   Suite *s = suite_create("picture");
   TCase *tc = tcase_create("core");
   tcase_add_test(tc, test_percentile);
+  tcase_add_test(tc, test_percentile_select);
   tcase_add_test(tc, test_colour_maps);
   tcase_add_test(tc, test_spike_panel);
   tcase_add_test(tc, test_sizes);
