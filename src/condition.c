@@ -554,7 +554,7 @@ int condition_apply(const condition_plan *p, condition_workspace *ws, int64_t cm
   if (!isfinite(sum))
     for (size_t i = 0; i < p->ns; i++)
       if (!isfinite(x[i]))
-        return tz_fail(err, TZ_E_ARG, "conditioning: sample %zu is not a finite number", i);
+        return tz_fail(err, TZ_E_FORMAT, "conditioning: sample %zu is not a finite number", i);
   for (size_t k = 0; k < p->chain.n; k++) {
     switch (p->chain.step[k].kind) {
     case CONDITION_BANDPASS:

@@ -121,8 +121,9 @@ void condition_workspace_free(condition_workspace *ws);   /* NULL is a no-op */
  *            (velocity_sample()), when the caller already has them (the stacker
  *            caches them per CMP); NULL = the workspace samples them itself.
  *            Ignored when the plan needs no velocity.
- * Allocates nothing; thread-safe with one workspace per thread. Non-finite input
- * samples are TZ_E_ARG naming the sample (they would smear over the whole trace). */
+ * Allocates nothing; thread-safe with one workspace per thread. A non-finite input
+ * sample is TZ_E_FORMAT (bad data) naming the sample: it would smear over the whole
+ * filtered trace. */
 int condition_apply(const condition_plan *p, condition_workspace *ws, int64_t cmp,
                     const float *vel_mps, float *trace, tz_err *err);
 
