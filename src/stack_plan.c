@@ -22,6 +22,8 @@
 #include <string.h>
 #include <sys/stat.h>
 #include <time.h>
+#include <pthread.h>
+#include <unistd.h>
 
 static const char *const skip_names[STACK_SKIP__COUNT] = {
   [STACK_SKIP_DEAD] = "dead",
@@ -487,70 +489,171 @@ static int open_geometry(stack_plan *p, tz_err *err)
 }
 
 /* Second scan: classify every trace, accumulate fold. */
-static int scan_bins(stack_plan *p, bins_fold *fold, stack_progress_fn progress, void *ctx,
-                     tz_err *err)
+/* One shot file's share of the header pass, filled by any thread (it touches
+ * only its own file's stack_input) and folded in by the calling thread in
+ * file order, so the result does not depend on the thread count. */
+typedef struct file_scan {
+  stack_plan *p;
+  size_t file;
+  int32_t *cmp;               /* stackable traces: CMP and |offset| */
+  double *off;
+  size_t n, cap;
+  int64_t counts[STACK_SKIP__COUNT];
+  int64_t traces;
+  int state;                  /* 0 scanned, 1 bad (skipped), -1 failed (err) */
+  tz_err err;
+} file_scan;
+
+static void scan_one(file_scan *s)
 {
+  stack_plan *p = s->p;
+  size_t i = s->file;
+  segy_file *f = NULL;
+  s->n = 0;
+  s->traces = 0;
+  memset(s->counts, 0, sizeof s->counts);
+  tz_err_init(&s->err);
+  int o = open_or_skip(p, i, &f, &s->err);
+  if (o) {
+    s->state = o;
+    return;
+  }
+  int64_t n = segy_trace_count(f);
+  s->state = 0;
+  s->traces = n;
+  if (!stack_file_axis_ok(p, segy_get_info(f))) {
+    s->counts[STACK_SKIP_SAMPLE_AXIS] = n;
+    segy_close(f);
+    return;
+  }
+  if ((size_t)n > s->cap) {
+    size_t nc = (size_t)n;
+    int32_t *c = realloc(s->cmp, nc * sizeof *c);
+    if (c)
+      s->cmp = c;
+    double *d = realloc(s->off, nc * sizeof *d);
+    if (d)
+      s->off = d;
+    if (!c || !d) {
+      segy_close(f);
+      s->state = -1;
+      tz_fail(&s->err, TZ_E_NOMEM, "header pass buffers");
+      return;
+    }
+    s->cap = nc;
+  }
+  for (int64_t t = 0; t < n; t++) {
+    segy_trace_header h;
+    tz_err e;
+    tz_err_init(&e);
+    if (segy_read_header(f, t, &h, &e)) {
+      s->state = bad_inside(p, i, &e, &s->err);
+      break;
+    }
+    int32_t cmp;
+    double off;
+    int reason;
+    if (!stack_plan_classify(p, &h, t, &cmp, &off, NULL, &reason)) {
+      s->counts[reason]++;
+      continue;
+    }
+    if (!p->has_range && (cmp < -STACK_MAX_CMPS * 100 || cmp > STACK_MAX_CMPS * 100)) {
+      tz_err_path(&s->err, p->inputs[i].path);
+      tz_fail_at(&s->err, TZ_E_FORMAT, t, -1, "CMP %d is implausibly far along the line",
+                 (int)cmp);
+      s->state = -1;
+      break;
+    }
+    s->cmp[s->n] = cmp;
+    s->off[s->n++] = off;
+  }
+  segy_close(f);
+}
+
+static void *scan_thread(void *arg)
+{
+  scan_one(arg);
+  return NULL;
+}
+
+/* The header pass proper: files in rounds of T, one file per thread. */
+static int scan_bins(stack_plan *p, bins_fold *fold, int threads, stack_progress_fn progress,
+                     void *ctx, tz_err *err)
+{
+  size_t T = threads > 0 ? (size_t)threads : 1;
+  file_scan *fs = calloc(T, sizeof *fs);
+  pthread_t *th = calloc(T, sizeof *th);
   int rc = TZ_OK;
+  if (!fs || !th) {
+    free(fs);
+    free(th);
+    return tz_fail(err, TZ_E_NOMEM, "header pass");
+  }
   int64_t done = 0;
-  for (size_t i = 0; i < p->ninputs && !rc; i++) {
+  for (size_t base = 0; base < p->ninputs && !rc; base += T) {
+    size_t m = p->ninputs - base < T ? p->ninputs - base : T;
+    size_t started = 1;
+    for (size_t k = 0; k < m; k++) {
+      fs[k].p = p;
+      fs[k].file = base + k;
+    }
+    for (size_t k = 1; k < m; k++) {
+      if (pthread_create(&th[k], NULL, scan_thread, &fs[k]))
+        break;        /* fewer threads: the rest are scanned here below */
+      started++;
+    }
+    scan_one(&fs[0]);
+    for (size_t k = started; k < m; k++)
+      scan_one(&fs[k]);
+    for (size_t k = 1; k < started; k++)
+      pthread_join(th[k], NULL);
+    for (size_t k = 0; k < m && !rc; k++) {
+      file_scan *s = &fs[k];
+      if (s->state < 0) {
+        *err = s->err;
+        rc = err->status ? err->status : TZ_E_INTERNAL;
+        break;
+      }
+      if (s->state > 0)
+        continue;     /* bad file (skip_bad_files): counted by the caller */
+      for (size_t t = 0; t < s->n && !rc; t++)
+        if ((rc = bins_fold_add(fold, s->cmp[t], s->off[t], err)))
+          tz_err_path(err, p->inputs[s->file].path);
+      p->traces += s->traces;
+      for (int r = 0; r < STACK_SKIP__COUNT; r++)
+        p->skipped[r] += s->counts[r];
+      p->stackable += (int64_t)s->n;
+      done += s->traces;
+    }
+    if (!rc && progress)
+      progress(ctx, done, -1);
+  }
+  for (size_t k = 0; k < T; k++) {
+    free(fs[k].cmp);
+    free(fs[k].off);
+  }
+  free(fs);
+  free(th);
+  return rc;
+}
+
+/* The section's sample axis from the first readable file (before the
+ * parallel scan, so that every thread compares with the same axis). */
+static int first_axis(stack_plan *p, tz_err *err)
+{
+  for (size_t i = 0; i < p->ninputs && !p->have_axis; i++) {
     segy_file *f = NULL;
     int o = open_or_skip(p, i, &f, err);
     if (o < 0)
       return err->status;
     if (o > 0)
       continue;
-    if ((rc = set_axis(p, f, err))) {
-      tz_err_path(err, p->inputs[i].path);
-      segy_close(f);
-      return rc;
-    }
-    int64_t n = segy_trace_count(f);
-    int axis_ok = stack_file_axis_ok(p, segy_get_info(f));
-    int64_t counts[STACK_SKIP__COUNT] = { 0 }, stack_n = 0;
-    int badf = 0;
-    for (int64_t t = 0; t < n && axis_ok; t++) {
-      segy_trace_header h;
-      tz_err e;
-      tz_err_init(&e);
-      if (segy_read_header(f, t, &h, &e)) {
-        badf = bad_inside(p, i, &e, err);
-        break;
-      }
-      int32_t cmp;
-      double off;
-      int reason;
-      if (!stack_plan_classify(p, &h, t, &cmp, &off, NULL, &reason)) {
-        counts[reason]++;
-        continue;
-      }
-      if (!p->has_range && (cmp < -STACK_MAX_CMPS * 100 || cmp > STACK_MAX_CMPS * 100)) {
-        segy_close(f);
-        tz_err_path(err, p->inputs[i].path);
-        return tz_fail_at(err, TZ_E_FORMAT, t, -1, "CMP %d is implausibly far along the line",
-                          (int)cmp);
-      }
-      if ((rc = bins_fold_add(fold, cmp, off, err))) {
-        segy_close(f);
-        return tz_err_path(err, p->inputs[i].path);
-      }
-      stack_n++;
-    }
+    int rc = set_axis(p, f, err);
     segy_close(f);
-    if (badf < 0)
-      return err->status;
-    if (!axis_ok)
-      counts[STACK_SKIP_SAMPLE_AXIS] = n;
-    if (badf > 0)
-      return -2;   /* the caller rebuilds the fold without this file */
-    p->traces += n;
-    for (int r = 0; r < STACK_SKIP__COUNT; r++)
-      p->skipped[r] += counts[r];
-    p->stackable += stack_n;
-    done += n;
-    if (progress)
-      progress(ctx, done, -1);
+    if (rc)
+      return tz_err_path(err, p->inputs[i].path);
   }
-  return rc;
+  return TZ_OK;
 }
 
 void stack_plan_free(stack_plan *p)
@@ -603,21 +706,14 @@ int stack_plan_build(stack_plan **out, const job_spec *job, stack_progress_fn pr
     p->first_cmp = (int32_t)job->cmp_first;
     p->last_cmp = (int32_t)job->cmp_last;
   }
-  for (;;) {
-    bins_fold_free(fold);
-    fold = NULL;
-    if ((rc = bins_fold_new(&fold, p->line, 1.0, err)))
-      goto fail;
-    p->traces = p->stackable = 0;
-    memset(p->skipped, 0, sizeof p->skipped);
-    rc = scan_bins(p, fold, progress, ctx, err);
-    if (rc != -2)
-      break;
-    /* a file turned bad part-way (skip_bad_files): rescan without it, so that
-     * its traces count neither in the fold nor in the totals */
-  }
-  if (rc)
+  if ((rc = first_axis(p, err)) || (rc = bins_fold_new(&fold, p->line, 1.0, err)))
     goto fail;
+  {
+    long cores = sysconf(_SC_NPROCESSORS_ONLN);
+    int T = job->threads > 0 ? job->threads : (cores > 0 ? (int)cores : 1);
+    if ((rc = scan_bins(p, fold, T, progress, ctx, err)))
+      goto fail;
+  }
   for (size_t i = 0; i < p->ninputs; i++)
     if (p->inputs[i].bad) {
       p->traces += p->inputs[i].traces;
