@@ -44,6 +44,7 @@ struct segy_file {
   int64_t data_end;         /* end of the trace data (before rev 2 trailers) */
   int64_t *toff;            /* variable-length: offset of each trace, else NULL */
   uint32_t *tns;            /* variable-length: samples of each trace */
+  uint16_t *tnx;            /* variable-length rev 2: header extensions of each trace */
   int check_ns;             /* a different 115-116 in a fixed-length file is an error */
   char *path;
   unsigned char *scratch;   /* little-endian / pair-swapped files: bytes reordered here */
@@ -216,27 +217,35 @@ static uint32_t header_samples(const segy_file *f, const unsigned char *h)
   return segy_ld16(f->order, h + 114);
 }
 
-/* Walks the traces of a variable-length file. */
+/* Walks the traces of a variable-length file. Rev 2 traces may each carry
+ * fewer header extensions than the binary header's maximum: the count is in
+ * extension bytes 157-158 (REFERENCE.md §1.6). */
 static int walk(segy_file *f, tz_err *err)
 {
   segy_info *in = &f->info;
   size_t cap = 0;
   int64_t n = 0, off = in->first_trace_offset;
-  unsigned char *h = malloc(f->hdr_bytes);
-  if (!h)
-    return tz_fail(err, TZ_E_NOMEM, "trace header buffer");
+  size_t probe = f->ext > 0 ? 2 * SEGY_TRACE_HEADER_BYTES : SEGY_TRACE_HEADER_BYTES;
+  unsigned char h[2 * SEGY_TRACE_HEADER_BYTES];
   int rc = TZ_OK;
   int same = 1;
   uint32_t maxns = 0;
   while (off < f->data_end) {
-    if (f->data_end - off < (int64_t)f->hdr_bytes) {
+    if (f->data_end - off < (int64_t)probe) {
       rc = tz_fail_at(err, TZ_E_FORMAT, n, off,
                       "truncated trace header: %lld bytes left, a header is %zu",
-                      (long long)(f->data_end - off), f->hdr_bytes);
+                      (long long)(f->data_end - off), probe);
       break;
     }
-    if ((rc = read_at(f, off, h, f->hdr_bytes, n, err)))
+    if ((rc = read_at(f, off, h, probe, n, err)))
       break;
+    int k = f->ext;
+    if (k > 0) {
+      int kk = segy_ld16(f->order, h + 240 + 156);
+      if (kk >= 1 && kk <= f->ext)
+        k = kk;
+    }
+    int64_t hb = SEGY_TRACE_HEADER_BYTES * (int64_t)(1 + k);
     uint32_t ns = header_samples(f, h);
     if (!ns)
       ns = in->samples;
@@ -247,7 +256,7 @@ static int walk(segy_file *f, tz_err *err)
     }
     if ((rc = check_samples(f, ns, n, off + 114, err)))
       break;
-    int64_t len = (int64_t)f->hdr_bytes + (int64_t)ns * in->bytes_per_sample;
+    int64_t len = hb + (int64_t)ns * in->bytes_per_sample;
     if (off + len > f->data_end) {
       rc = tz_fail_at(err, TZ_E_FORMAT, n, off,
                       "truncated last trace: %lld of %lld bytes present",
@@ -260,22 +269,27 @@ static int walk(segy_file *f, tz_err *err)
       if (a)
         f->toff = a;
       uint32_t *b = a ? realloc(f->tns, cap * sizeof *b) : NULL;
-      if (!b) {
+      if (b)
+        f->tns = b;
+      uint16_t *c = b && f->ext > 0 ? realloc(f->tnx, cap * sizeof *c) : NULL;
+      if (c)
+        f->tnx = c;
+      if (!b || (f->ext > 0 && !c)) {
         rc = tz_fail(err, TZ_E_NOMEM, "trace index for %lld traces", (long long)n);
         break;
       }
-      f->tns = b;
     }
     f->toff[n] = off;
     f->tns[n] = ns;
-    if (ns != f->tns[0])
+    if (f->tnx)
+      f->tnx[n] = (uint16_t)k;
+    if (ns != f->tns[0] || (f->tnx && f->tnx[n] != f->tnx[0]))
       same = 0;
     if (ns > maxns)
       maxns = ns;
     n++;
     off += len;
   }
-  free(h);
   if (rc)
     return rc;
   in->trace_count = n;
@@ -285,12 +299,19 @@ static int walk(segy_file *f, tz_err *err)
   if (n)
     in->samples = same ? f->tns[0] : maxns;
   if (same) {
+    if (n && f->tnx && f->tnx[0] != f->ext) {      /* every trace has fewer extensions */
+      f->ext = f->tnx[0];
+      f->hdr_bytes = SEGY_TRACE_HEADER_BYTES * (size_t)(1 + f->ext);
+      in->trace_header_extensions = f->ext;
+    }
     in->fixed_length = 1;
     f->trace_bytes = (int64_t)f->hdr_bytes + (int64_t)in->samples * in->bytes_per_sample;
     free(f->toff);
     free(f->tns);
+    free(f->tnx);
     f->toff = NULL;
     f->tns = NULL;
+    f->tnx = NULL;
   } else {
     in->fixed_length = 0;
     warn(in, "trace lengths vary (up to %u samples)", maxns);
@@ -466,8 +487,10 @@ static int settle(segy_file *f, const segy_open_opts *o, tz_err *err)
   if (werr.status == TZ_E_FORMAT && (f->data_end - in->first_trace_offset) % tb == 0) {
     free(f->toff);
     free(f->tns);
+    free(f->tnx);
     f->toff = NULL;
     f->tns = NULL;
+    f->tnx = NULL;
     f->check_ns = 0;
     warn(in, "trace header sample counts are inconsistent; using %u samples per trace "
              "from the binary header", in->samples);
@@ -556,6 +579,7 @@ void segy_close(segy_file *f)
     close(f->fd);
   free(f->toff);
   free(f->tns);
+  free(f->tnx);
   free(f->win);
   free(f->scratch);
   free(f->path);
@@ -569,6 +593,11 @@ int64_t segy_bad_samples(const segy_file *f) { return f->bad; }
 static int64_t trace_offset(const segy_file *f, int64_t i)
 {
   return f->toff ? f->toff[i] : f->info.first_trace_offset + i * f->trace_bytes;
+}
+
+static size_t trace_header_bytes(const segy_file *f, int64_t i)
+{
+  return f->tnx ? SEGY_TRACE_HEADER_BYTES * (size_t)(1 + f->tnx[i]) : f->hdr_bytes;
 }
 
 static uint32_t trace_samples(const segy_file *f, int64_t i)
@@ -609,15 +638,16 @@ int segy_read_header(segy_file *f, int64_t i, segy_trace_header *h, tz_err *err)
   if (check_index(f, i, err))
     return tz_err_path(err, f->path);
   int64_t off = trace_offset(f, i);
+  size_t hb = trace_header_bytes(f, i);
   const unsigned char *p;
   unsigned char tmp[SEGY_TRACE_HEADER_BYTES * 2];
-  if (off >= f->winoff && off + (int64_t)f->hdr_bytes <= f->winoff + (int64_t)f->winlen)
+  if (off >= f->winoff && off + (int64_t)hb <= f->winoff + (int64_t)f->winlen)
     p = f->win + (off - f->winoff);
-  else if (f->hdr_bytes <= sizeof tmp) {
-    if (read_at(f, off, tmp, f->hdr_bytes, i, err))
+  else if (hb <= sizeof tmp) {
+    if (read_at(f, off, tmp, hb, i, err))
       return tz_err_path(err, f->path);
     p = tmp;
-  } else if (!(p = window(f, off, f->hdr_bytes, i, err)))
+  } else if (!(p = window(f, off, hb, i, err)))
     return tz_err_path(err, f->path);
   return finish_header(f, i, off, p, h, err);
 }
@@ -632,11 +662,12 @@ int segy_read_trace(segy_file *f, int64_t i, segy_trace_header *h, float *sample
     return tz_fail_at(err, TZ_E_ARG, i, -1, "sample buffer of %zu is too small for %u samples",
                       cap, ns);
   int64_t off = trace_offset(f, i);
+  size_t hb = trace_header_bytes(f, i);
   size_t nbytes = (size_t)ns * (size_t)f->info.bytes_per_sample;
-  const unsigned char *p = window(f, off, f->hdr_bytes + nbytes, i, err);
+  const unsigned char *p = window(f, off, hb + nbytes, i, err);
   if (!p || finish_header(f, i, off, p, h, err))
     return tz_err_path(err, f->path);
-  unsigned char *s = (unsigned char *)p + f->hdr_bytes;  /* big-endian: left untouched */
+  unsigned char *s = (unsigned char *)p + hb;  /* big-endian: left untouched */
   if (f->scratch) {
     memcpy(f->scratch, s, nbytes);
     s = f->scratch;

@@ -153,6 +153,20 @@ j = inspect(path)
 ok(j is not None and j["trace_header_extensions"] == 1 and j["traces"] == 3
    and j["samples_per_trace"] == 9 and samples(j)[2].tolist() == [1.5] * 9,
    "rev 2: one trace header extension, samples from extension bytes 137-140")
+path = os.path.join(WORK, "rev2_ext_var.sgy")
+segygen.write(path, rev=2, fixed=0, ext_headers=2, ext_blocks=[1, 2, 1],
+              traces=[[1.0] * 5, [2.0] * 7, [3.0] * 5])
+j = inspect(path)
+ok(j is not None and j["traces"] == 3 and [len(s) for s in samples(j)] == [5, 7, 5]
+   and samples(j)[1][0] == 2.0 and samples(j)[2][4] == 3.0,
+   "rev 2 variable-length: per-trace extension counts (extension bytes 157-158)")
+path = os.path.join(WORK, "rev2_ext_fewer.sgy")
+segygen.write(path, rev=2, fixed=0, ext_headers=3, ext_blocks=[1, 1],
+              traces=[[1.0] * 5, [2.0] * 5])
+j = inspect(path)
+ok(j is not None and j["traces"] == 2 and j["trace_header_extensions"] == 1
+   and samples(j)[1].tolist() == [2.0] * 5,
+   "rev 2: every trace with fewer extensions than the maximum (3507-3510)")
 path = os.path.join(WORK, "rev2_count.sgy")
 raw = bytearray(segygen.write(path, rev=2, traces=trs))
 raw[3512:3520] = (5).to_bytes(8, "big")

@@ -89,7 +89,7 @@ def trace_header(fields, order):
 def write(path, fmt=5, order="big", rev=1, traces=((0.0,),), headers=None, interval=2000,
           text=("INVENTED TEST LINE",), encoding="ebcdic", ext_text=0, ext_records=None,
           first_offset=0, ext_headers=0, trailers=0, fixed=1, bin_samples=None,
-          trace_samples=None, constant=None, truncate=0, raw_format=None):
+          trace_samples=None, constant=None, truncate=0, raw_format=None, ext_blocks=None):
     """Writes a SEG-Y file; returns its bytes. `traces` is a list of sample lists."""
     binh = bytearray(400)
 
@@ -128,11 +128,12 @@ def write(path, fmt=5, order="big", rev=1, traces=((0.0,),), headers=None, inter
         f.setdefault("samples", len(tr) if trace_samples is None else trace_samples)
         f.setdefault("interval_us", interval)
         out += trace_header(f, order)
-        for k in range(ext_headers):
+        nblk = ext_blocks[i] if ext_blocks else ext_headers
+        for k in range(nblk):
             ext = bytearray(240)
             if k == 0:
                 ext[136:140] = pack("I", len(tr), order)     # extension 137-140: samples
-                ext[156:158] = pack("H", ext_headers + 1, order)
+                ext[156:158] = pack("H", nblk, order)         # 157-158: blocks on this trace
             out += ext
         for v in tr:
             out += sample_bytes(fmt, v, order)
