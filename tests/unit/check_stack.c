@@ -209,6 +209,34 @@ static stack_section *run(const stack_plan *p, const velocity_table *v, int thre
   return s;
 }
 
+/* The header pass on 1 and 3 threads gives the same plan (DESIGN.md "Quality"). */
+START_TEST(test_plan_threads)
+{
+  job_spec *j1 = job(", \"threads\": 1"), *j3 = job(", \"threads\": 3");
+  stack_plan *a = NULL, *b = NULL;
+  tz_err e;
+  tz_err_init(&e);
+  ck_assert_int_eq(stack_plan_build(&a, j1, NULL, NULL, &e), TZ_OK);
+  ck_assert_int_eq(stack_plan_build(&b, j3, NULL, NULL, &e), TZ_OK);
+  ck_assert_int_eq(stack_plan_first_cmp(a), stack_plan_first_cmp(b));
+  ck_assert_int_eq(stack_plan_last_cmp(a), stack_plan_last_cmp(b));
+  ck_assert_int_eq(stack_plan_stackable(a), stack_plan_stackable(b));
+  for (int r = 0; r < STACK_SKIP__COUNT; r++)
+    ck_assert_int_eq(stack_plan_skipped(a, r), stack_plan_skipped(b, r));
+  for (int32_t c = stack_plan_first_cmp(a); c <= stack_plan_last_cmp(a); c++) {
+    stack_cmp_plan x, y;
+    stack_plan_cmp(a, c, &x);
+    stack_plan_cmp(b, c, &y);
+    ck_assert(x.fold == y.fold && x.x_m == y.x_m && x.y_m == y.y_m &&
+              x.offset_min_m == y.offset_min_m && x.offset_max_m == y.offset_max_m);
+  }
+  stack_plan_free(a);
+  stack_plan_free(b);
+  job_free(j1);
+  job_free(j3);
+}
+END_TEST
+
 START_TEST(test_run_threads_identical)
 {
   job_spec *j = job(NULL);
@@ -349,6 +377,7 @@ static Suite *stack_suite(void)
   tcase_set_timeout(tc, 30);
   tcase_add_checked_fixture(tc, setup, teardown);
   tcase_add_test(tc, test_plan_fold);
+  tcase_add_test(tc, test_plan_threads);
   tcase_add_test(tc, test_run_threads_identical);
   tcase_add_test(tc, test_collect);
   tcase_add_test(tc, test_selection);
