@@ -53,6 +53,7 @@ struct condition_plan {
 };
 
 struct condition_workspace {
+  const condition_plan *plan;   /* the plan it was made for (its caches belong to it) */
   size_t ns, nfft;
   float *buf;                   /* nfft real samples (fftwf_malloc: plan alignment) */
   fftwf_complex *spec;          /* nfft/2 + 1 bins */
@@ -343,8 +344,13 @@ static int plan_gain(condition_plan *p, size_t k, tz_err *err)
   p->curve[k] = g;
   for (size_t i = 0; i < p->ns; i++) {
     double t = p->t_first_s + (double)i * p->dt_s;
-    double r = (t > p->dt_s ? t : p->dt_s) / s->reference_time_s;
-    g[i] = (float)(s->kind == CONDITION_POWER ? pow(r, s->exponent) : r);
+    double te = t > p->dt_s ? t : p->dt_s;   /* see "Gains use t = max(t_i, dt)" above */
+    double r = te / s->reference_time_s;
+    double gi = s->kind == CONDITION_POWER ? pow(r, s->exponent) : r;
+    if (!(gi <= CONDITION_MAX_GAIN))
+      return tz_fail(err, TZ_E_ARG, "conditioning[%zu] (%s): the gain reaches %.3g at %.10g ms, "
+                     "beyond %g", k, condition_kind_name(s->kind), gi, te * 1e3, CONDITION_MAX_GAIN);
+    g[i] = (float)gi;
   }
   return TZ_OK;
 }
@@ -425,6 +431,7 @@ int condition_workspace_new(condition_workspace **out, const condition_plan *p, 
   condition_workspace *ws = calloc(1, sizeof *ws);
   if (!ws)
     return tz_fail(err, TZ_E_NOMEM, "conditioning workspace");
+  ws->plan = p;
   ws->ns = p->ns;
   ws->nfft = p->nfft;
   int bad = 0;
@@ -544,7 +551,7 @@ static void apply_agc(const condition_plan *p, size_t k, condition_workspace *ws
 int condition_apply(const condition_plan *p, condition_workspace *ws, int64_t cmp,
                     const float *vel_mps, float *x, tz_err *err)
 {
-  if (ws->ns != p->ns || ws->nfft != p->nfft)
+  if (ws->plan != p)
     return tz_fail(err, TZ_E_ARG, "conditioning workspace was made for another plan");
   if (!p->chain.n)
     return TZ_OK;

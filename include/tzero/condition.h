@@ -31,6 +31,7 @@
 #define CONDITION_MAX_SAMPLES 1000000   /* longest trace a plan accepts */
 #define CONDITION_MAX_POWER 10.0        /* |exponent| of the power gain */
 #define CONDITION_MAX_WINDOW_MS 1.0e6   /* AGC window and reference times, ms */
+#define CONDITION_MAX_GAIN 1.0e20       /* largest time-only gain a plan accepts */
 
 typedef enum {
   CONDITION_BANDPASS = 1,   /* zero-phase trapezoid (Ormsby) band-pass */
@@ -94,7 +95,8 @@ typedef struct condition_plan condition_plan;
  * is kept). Checks: dt_s > 0, 1 <= ns <= CONDITION_MAX_SAMPLES, every band-pass
  * corner below Nyquist 1/(2 dt_s), an AGC window of at least one sample, and a
  * velocity table when the chain needs one (`table` is borrowed and must outlive the
- * plan; NULL is fine otherwise). TZ_E_ARG naming the value; TZ_E_FFT when FFTW cannot
+ * plan; NULL is fine otherwise), power and t/t_ref gains below CONDITION_MAX_GAIN
+ * over the axis. TZ_E_ARG naming the value; TZ_E_FFT when FFTW cannot
  * plan. Not thread-safe (FFTW planner): see the top of this file. On success *out
  * owns the plan: condition_plan_free(). An empty chain gives a plan that does nothing. */
 int condition_plan_new(condition_plan **out, const condition_chain *c, double t_first_s,
@@ -111,7 +113,8 @@ int condition_plan_needs_velocity(const condition_plan *p);
 
 typedef struct condition_workspace condition_workspace;
 
-/* Scratch sized for the plan. *out owns it: condition_workspace_free(). */
+/* Scratch for one plan (and only that plan: it caches per-CMP velocities). *out owns
+ * it: condition_workspace_free(). */
 int condition_workspace_new(condition_workspace **out, const condition_plan *p, tz_err *err);
 void condition_workspace_free(condition_workspace *ws);   /* NULL is a no-op */
 

@@ -273,6 +273,18 @@ START_TEST(test_power_gain)
   ck_assert_double_eq_tol(x[1050], -2.0 * 4.0, 1e-5);       /* t = 2.0 s */
   ck_assert(x[0] < 0 && x[0] == x[50]);                     /* t <= dt: gain of dt */
   ck_assert_int_eq(condition_chain_add_power(&c, 11, 1.0, &e), TZ_E_ARG);
+  /* a workspace belongs to its plan */
+  condition_plan *other = plan_of(&c, -0.1, 0.002, 1200, NULL);
+  tz_err_init(&e);
+  ck_assert_int_eq(condition_apply(other, ws, 0, NULL, x, &e), TZ_E_ARG);
+  condition_plan_free(other);
+  /* a gain beyond single-precision comfort is refused: (1 ms / 1000 s)^-4 = 1e24 */
+  condition_chain_init(&c);
+  tz_err_init(&e);
+  ck_assert_int_eq(condition_chain_add_power(&c, -4, 1000.0, &e), TZ_OK);
+  ck_assert_int_eq(condition_plan_new(&other, &c, 0, 0.001, 100, NULL, &e), TZ_E_ARG);
+  ck_assert_msg(strstr(e.msg, "conditioning[0] (power_gain): the gain reaches 1e+24"), "%s",
+                e.msg);
   condition_workspace_free(ws);
   condition_plan_free(p);
 }
