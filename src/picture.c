@@ -417,6 +417,31 @@ static void top_axis(picture_image *img, int64_t x, int64_t y, int64_t w, const 
   }
 }
 
+/* Labels for values that do not run monotonically (offsets of a split-spread
+ * gather): every k-th trace is labelled with its own value, k the smallest
+ * stride that keeps the labels apart. */
+static void trace_labels(picture_image *img, int64_t x, int64_t y, int64_t w, const double *xs,
+                         size_t n, const char *xlabel)
+{
+  int64_t free_from = XLABEL_X + text_width(xlabel) + CELL_W / 2;
+  double dx = (double)w / (double)n, widest = 0;
+  char lab[32];
+  for (size_t i = 0; i < n; i++) {
+    snprintf(lab, sizeof lab, "%g", xs[i]);
+    widest = fmax(widest, (double)text_width(lab));
+  }
+  size_t k = (size_t)ceil((widest + CELL_W) / dx);
+  k = k < 1 ? 1 : k;
+  for (size_t i = 0; i < n; i += k) {
+    int64_t xi = x + (int64_t)floor(((double)i + 0.5) * dx);
+    fill_rect(img, xi, y - TICK_LEN - 1, xi + 1, y - 1, black);
+    snprintf(lab, sizeof lab, "%g", xs[i]);
+    if (xi - text_width(lab) / 2 >= free_from)
+      picture_text(img, xi - text_width(lab) / 2, y - TICK_LEN - 3 - TEXT_H, lab, TEXT_SCALE,
+                   black);
+  }
+}
+
 /* ---------------------------------------------------------------- panels */
 
 void picture_default_size(size_t ntraces, size_t nsamples, uint32_t *width, uint32_t *height)
@@ -567,8 +592,14 @@ int picture_render_panel(const picture_panel *p, const picture_opts *o, picture_
             in.plot_y + ((double)p->nsamples - 0.5) * rows_per_sample - 0.5, p->time_first_ms,
             t_last, 40);
   int mono = monotonic(p->xvalue, p->ntraces);
-  const char *xlabel = mono ? (p->xlabel ? p->xlabel : "X") : "TRACE";
-  top_axis(img, in.plot_x, in.plot_y, in.plot_w, mono ? p->xvalue : NULL, p->ntraces, xlabel);
+  int finite = p->xvalue != NULL;
+  for (size_t i = 0; finite && i < p->ntraces; i++)
+    finite = isfinite(p->xvalue[i]);
+  const char *xlabel = mono || finite ? (p->xlabel ? p->xlabel : "X") : "TRACE";
+  if (!mono && finite)
+    trace_labels(img, in.plot_x, in.plot_y, in.plot_w, p->xvalue, p->ntraces, xlabel);
+  else
+    top_axis(img, in.plot_x, in.plot_y, in.plot_w, mono ? p->xvalue : NULL, p->ntraces, xlabel);
 
   char cap[256];
   const char *legend = map == PICTURE_MAP_GREY         ? "BLACK POSITIVE, WHITE NEGATIVE"

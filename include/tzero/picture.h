@@ -61,7 +61,9 @@ typedef struct picture_panel {
   double time_first_ms;       /* time of sample 0 */
   double interval_ms;         /* sample interval */
   const double *xvalue;       /* per trace value for the horizontal axis (CMP, offset,
-                               * velocity); NULL or not monotonic: trace number 1..n */
+                               * velocity): ticks at round values when it runs
+                               * monotonically, else every k-th trace labelled with
+                               * its value; NULL: trace numbers 1..n */
   const char *xlabel;         /* e.g. "CMP"; NULL: "TRACE" */
   const char *title;          /* title line; NULL: none */
 } picture_panel;

@@ -20,10 +20,11 @@ static void help(void)
          "\n"
          "Draws a SEG-Y panel (a stacked section, CMP gathers, semblance panels) as a\n"
          "PNG picture: time in ms increasing downward, traces left to right, labelled\n"
-         "by CMP number (bytes 21-24) when those increase trace to trace, by offset\n"
-         "or trial velocity (bytes 37-40) when they increase instead, else by trace\n"
-         "number. The title line gives the file, the CMP and time ranges and the clip.\n"
-         "With --fold, draws the fold per CMP from a QC report (tzero stack --report),\n"
+         "by CMP number (bytes 21-24) when those increase trace to trace, else by\n"
+         "offset in m, or trial velocity in m/s for semblance panels (bytes 37-40)\n"
+         "when those vary, else by trace number. The title line gives the file, the\n"
+         "CMP and time ranges; the line below it the clip and colour legend.\n"
+         "With --fold, draws the fold per CMP from the QC report of tzero stack,\n"
          "with the nominal fold dashed and the live fraction after the mutes below.\n"
          "\n"
          "options:\n"
@@ -279,15 +280,15 @@ int cmd_picture(int argc, char **argv)
     return cli_report(cmd, &err);
   picture_panel p = { .data = l.data, .ntraces = l.ntraces, .nsamples = l.nsamples,
                       .time_first_ms = l.time_first_ms, .interval_ms = l.interval_ms };
-  int offsets_increase = l.ntraces > 1;
+  int offsets_vary = 0, semblance = po.map == PICTURE_MAP_SEQUENTIAL;
   for (size_t i = 1; i < l.ntraces; i++)
-    offsets_increase &= l.offset[i] > l.offset[i - 1];
+    offsets_vary |= l.offset[i] != l.offset[0];
   if (l.cmps_increase && l.ntraces > 1) {
     p.xvalue = l.cmp;
     p.xlabel = "CMP";
-  } else if (offsets_increase) {
+  } else if (offsets_vary) { /* a gather, or trial velocities of a semblance panel */
     p.xvalue = l.offset;
-    p.xlabel = po.map == PICTURE_MAP_SEQUENTIAL ? "M/S" : "OFFSET";
+    p.xlabel = semblance ? "M/S" : "OFFSET";
   } else if (l.ntraces == 1) {
     p.xvalue = l.cmp;
     p.xlabel = "CMP";
@@ -297,7 +298,8 @@ int cmd_picture(int argc, char **argv)
   if (l.cmps_increase || l.ntraces == 1)
     snprintf(what, sizeof what, "CMP %.0f-%.0f", l.cmp[0], l.cmp[l.ntraces - 1]);
   else if (l.cmp[0] == l.cmp[l.ntraces - 1])
-    snprintf(what, sizeof what, "CMP %.0f, %zu TRACES", l.cmp[0], l.ntraces);
+    snprintf(what, sizeof what, "CMP %.0f, %zu %s", l.cmp[0], l.ntraces,
+             semblance && offsets_vary ? "VELOCITIES" : "TRACES");
   else
     snprintf(what, sizeof what, "%zu TRACES", l.ntraces);
   snprintf(t, sizeof t, "%s  %s  TIME %g-%g MS", base_name(in_path), what, l.time_first_ms,
