@@ -5,8 +5,10 @@
  *   A. reading: thread t reads its contiguous slice of the batch (each thread
  *      keeps its own segy_file handle, so reading and sample conversion run in
  *      parallel) and classifies each trace with stack_plan_classify();
- *   B. stacking: thread t takes, in batch order, the traces whose CMP index is
- *      t modulo the thread count: NMO (nmo_apply) with the CMP's velocity
+ *   B. stacking: thread t takes, in batch order, the traces of its CMPs (CMP
+ *      index / OWNER_BLOCK modulo the thread count: blocks of 16 CMPs, so no
+ *      two threads write the same cache line of the per-CMP counters): NMO
+ *      (nmo_apply) with the CMP's velocity
  *      function, then sum[i] += out[i], weight[i] += w[i] over the live span.
  * Every CMP is therefore summed by exactly one thread, in input order, with the
  * same float operations whatever the thread count: the section is bitwise
@@ -32,6 +34,8 @@
 
 #define BATCH_TRACES 512
 #define CACHE_BYTES ((size_t)64 << 20)
+#define OWNER_BLOCK 16            /* CMPs per ownership block (16 x 4 bytes = a cache line) */
+#define LINE 64
 
 typedef struct run_shared run_shared;
 
@@ -198,7 +202,7 @@ static int stack_slice(worker *w)
   const nmo_top_mute *mute = sh->o->mute.n ? &sh->o->mute : NULL;
   for (size_t j = 0; j < (size_t)sh->bn; j++) {
     int32_t ci = sh->bidx[j];
-    if (ci < 0 || ci % sh->T != w->id)
+    if (ci < 0 || (ci / OWNER_BLOCK) % sh->T != w->id)
       continue;
     const float *vel, *eta;
     velocity_of(sh, ci, &vel, &eta);
@@ -298,6 +302,16 @@ void stack_section_free(stack_section *s)
   free(s);
 }
 
+/* Zeroed memory starting on a cache line, rounded up to whole lines. */
+static void *zalloc_lines(size_t n)
+{
+  size_t m = (n + LINE - 1) / LINE * LINE;
+  void *p = aligned_alloc(LINE, m ? m : LINE);
+  if (p)
+    memset(p, 0, m ? m : LINE);
+  return p;
+}
+
 static double now_s(void)
 {
   struct timespec ts;
@@ -361,14 +375,15 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
   sh.cache_n = sh.ncmps;
   if (sh.cache_n * per > CACHE_BYTES) {
     size_t c = CACHE_BYTES / per;
-    c -= c % (size_t)sh.T;
-    sh.cache_n = c ? c : (size_t)sh.T;
+    size_t unit = (size_t)OWNER_BLOCK * (size_t)sh.T;   /* slot owner = CMP owner */
+    c -= c % unit;
+    sh.cache_n = c ? c : unit;
   }
   sh.sum = calloc(fn, sizeof *sh.sum);
   sh.wsum = calloc(fn, sizeof *sh.wsum);
-  sh.fold = calloc(sh.ncmps, sizeof *sh.fold);
-  sh.live = calloc(sh.ncmps, sizeof *sh.live);
-  sh.maxfirst = calloc(sh.ncmps, sizeof *sh.maxfirst);
+  sh.fold = zalloc_lines(sh.ncmps * sizeof *sh.fold);
+  sh.live = zalloc_lines(sh.ncmps * sizeof *sh.live);
+  sh.maxfirst = zalloc_lines(sh.ncmps * sizeof *sh.maxfirst);
   sh.tag = malloc(sh.cache_n * sizeof *sh.tag);
   sh.cvel = malloc(sh.cache_n * sh.ns * sizeof *sh.cvel);
   sh.ceta = sh.use_eta ? malloc(sh.cache_n * sh.ns * sizeof *sh.ceta) : NULL;

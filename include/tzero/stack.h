@@ -13,9 +13,10 @@
  *   stack_collect()     the traces of chosen CMPs (semblance, `tzero nmo`): one
  *                       header scan per shot file, then only those traces are read.
  *
- * Threads: stack_run() partitions CMPs among threads (CMP index modulo the thread
- * count); every CMP is summed by one thread, in input order, with the same float
- * operations, so the section is bitwise identical for any thread count.
+ * Threads: stack_run() partitions CMPs among threads (blocks of 16 consecutive
+ * CMPs dealt round-robin); every CMP is summed by one thread, in input order,
+ * with the same float operations, so the section is bitwise identical for any
+ * thread count.
  *
  * A plan is read-only after it is built and may be shared by threads (each
  * stack_run / stack_collect call owns its own file handles and buffers).
