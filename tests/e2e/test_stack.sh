@@ -74,6 +74,15 @@ bad_job "empty shot pattern" 66 "shots\\[0\\]: pattern .* matches no file" \
 bad_job "not JSON" 65 'not valid JSON' '{"shots": ["shots/*.sgy"],'
 bad_job "no velocity at all" 65 'no velocity table' '{"shots": ["shots/*.sgy"]}'
 
+# --- Dix warnings reach the report: RMS 2500 m/s at 1.0 s then 2000 m/s at 1.2 s
+# gives V_int^2 = -7.25e6 (REFERENCE.md check value #16, Dix 1955); the run goes on
+printf 'cmp,time_ms,velocity_mps\n1,0,1800\n1,500,2500\n1,1000,2500\n1,1200,2000\n' >"$D/dix.csv"
+expect_status 0 "stack with an imaginary Dix interval" -- "$TZERO" stack --job "$J" \
+  --velocity "$D/dix.csv" --out "$D/out/dix.sgy" --report "$D/out/dix.json"
+expect_stdout "^velocity .*dix.csv: 1 control CMPs, [1-9][0-9]* warning" "summary counts the Dix warnings"
+grep -q '"imaginary"' "$D/out/dix.json" && ok "report lists the imaginary interval" ||
+  notok "report lacks the imaginary interval"
+
 # --- bad velocity table: the velocity module's message with its line, status 65
 printf 'cmp,time_ms,velocity_mps\n1,0,1800\n1,300,-5\n' >"$D/badvel.csv"
 rm -f "$D/out/bad.sgy"

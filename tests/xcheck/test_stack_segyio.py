@@ -167,6 +167,23 @@ def main():
           and rep["traces"]["stacked"] == SHOTS * CHANNELS - 2,
           "QC trace counts: all read, one dead and one auxiliary skipped", str(rep["traces"]))
 
+    # --- full-fold time = where the stretch mute reaches the CMP's far offset:
+    # x_mute = v t0 sqrt((1 + s)^2 - 1) (REFERENCE.md §3.3, check value #13), so
+    # t0 = x_max / (v sqrt((1 + s)^2 - 1)) with v = 1800 m/s above 300 ms
+    s_lim = 0.5
+    bad_ff = []
+    for c in rep["cmps"]:
+        if c["fold"] != nominal:
+            continue
+        t_ff = c["offset_max_m"] / (EVENTS[0][1] * np.sqrt((1 + s_lim) ** 2 - 1))
+        if t_ff < EVENTS[0][0] and abs(c["full_fold_ms"] - t_ff * 1e3) > 2 * DT_US / 1000:
+            bad_ff.append((c["cmp"], c["full_fold_ms"], round(t_ff * 1e3, 2)))
+    tz.ok(not bad_ff, "full_fold_ms equals the stretch-mute time of the far offset within "
+          "two samples", str(bad_ff[:3]))
+    by = [c for c in rep["mute"]["by_offset"] if c["traces"] > 0]
+    tz.ok(all(a["stretch_muted_fraction"] < b["stretch_muted_fraction"] for a, b in zip(by, by[1:])),
+          "stretch-muted fraction grows with offset class (stretch grows with x, §3.3)")
+
     # --- headers, read back with segyio (SEG-Y rev 1 positions, REFERENCE.md §1.3, §1.5)
     with segyio.open(sec, ignore_geometry=True) as f:
         ok_hdr = (f.bin[3229] == 4 and f.bin[3227] == int(nominal) and f.bin[3501] == 0x0100
