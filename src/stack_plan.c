@@ -131,9 +131,11 @@ int stack_plan_nmo(const stack_plan *p, nmo_params *np, nmo_top_mute *mute, tz_e
 
 /* ---------------------------------------------------------------- classify */
 
-int stack_plan_classify(const stack_plan *p, const segy_trace_header *h, int64_t trace,
-                        int32_t *cmp, double *offset_abs_m, double *offset_signed_m,
-                        int *reason)
+/* As stack_plan_classify; when `gerr` is not NULL a geometry failure returns -1
+ * with the geometry module's message in *gerr instead of being a skip. */
+static int classify(const stack_plan *p, const segy_trace_header *h, int64_t trace,
+                    int32_t *cmp, double *offset_abs_m, double *offset_signed_m, int *reason,
+                    tz_err *gerr)
 {
   int r = stack_kind_reason(h->kind);
   if (r >= 0) {
@@ -148,9 +150,9 @@ int stack_plan_classify(const stack_plan *p, const segy_trace_header *h, int64_t
   geometry_trace g;
   tz_err e;
   tz_err_init(&e);
-  if (geometry_source_trace(p->geo, h, trace, &g, &e)) {
+  if (geometry_source_trace(p->geo, h, trace, &g, gerr ? gerr : &e)) {
     *reason = STACK_SKIP_UNREADABLE;
-    return 0;
+    return gerr ? -1 : 0;
   }
   bins_loc loc;
   if (bins_locate(p->line, g.midpoint_x, g.midpoint_y, &loc) != BINS_IN) {
@@ -170,6 +172,13 @@ int stack_plan_classify(const stack_plan *p, const segy_trace_header *h, int64_t
   if (offset_signed_m)
     *offset_signed_m = g.offset;
   return 1;
+}
+
+int stack_plan_classify(const stack_plan *p, const segy_trace_header *h, int64_t trace,
+                        int32_t *cmp, double *offset_abs_m, double *offset_signed_m,
+                        int *reason)
+{
+  return classify(p, h, trace, cmp, offset_abs_m, offset_signed_m, reason, NULL);
 }
 
 /* ---------------------------------------------------------------- build */
@@ -553,7 +562,17 @@ static void scan_one(file_scan *s)
     int32_t cmp;
     double off;
     int reason;
-    if (!stack_plan_classify(p, &h, t, &cmp, &off, NULL, &reason)) {
+    int k = classify(p, &h, t, &cmp, &off, NULL, &reason, &s->err);
+    if (k < 0) {
+      /* no geometry for this trace (not in the layout or table, coordinates in
+       * degrees...): an error naming the file and trace, as docs/geometry-table.md says */
+      tz_err_path(&s->err, p->inputs[i].path);
+      if (s->err.trace < 0)
+        s->err.trace = t;
+      s->state = -1;
+      break;
+    }
+    if (!k) {
       s->counts[reason]++;
       continue;
     }

@@ -45,7 +45,8 @@ enum stack_skip {
   STACK_SKIP_CMP_RANGE,      /* CMP outside the selected range */
   STACK_SKIP_OFFSET,         /* |offset| outside the offset limits */
   STACK_SKIP_SAMPLE_AXIS,    /* sample interval, count or delay differs from the section */
-  STACK_SKIP_UNREADABLE,     /* header or geometry could not be read for this trace */
+  STACK_SKIP_UNREADABLE,     /* no geometry for this trace (only from stack_plan_classify:
+                              * the header pass stops with the geometry error instead) */
   STACK_SKIP_BAD_FILE,       /* in a shot file skipped as missing or corrupt */
   STACK_SKIP__COUNT
 };
@@ -116,7 +117,8 @@ int64_t stack_plan_skipped(const stack_plan *p, int reason);
 /* The job's NMO parameters and top mute in nmo.h form. */
 int stack_plan_nmo(const stack_plan *p, nmo_params *np, nmo_top_mute *mute, tz_err *err);
 /* Locates one trace (header as read) the way the plan does: returns 1 and fills
- * *cmp and *offset_abs_m when it would be stacked, 0 and *reason when skipped. */
+ * *cmp and *offset_abs_m when it would be stacked, 0 and *reason when skipped.
+ * Thread-safe on a shared plan. */
 int stack_plan_classify(const stack_plan *p, const segy_trace_header *h, int64_t trace,
                         int32_t *cmp, double *offset_abs_m, double *offset_signed_m,
                         int *reason);

@@ -112,6 +112,33 @@ expect_status 65 "a file that is not SEG-Y stops the run" -- "$TZERO" stack \
   --job "$D/c/line.json" --out "$D/c/st2.sgy" --quiet
 expect_no_file "$D/c/st2.sgy" "no section after a non-SEG-Y shot"
 
+# --- geometry from a table (docs/geometry-table.md): the same fold as the headers;
+# a trace missing from the table stops the run naming the file and trace
+"$PYTHON" -c "
+import sys
+sys.path.insert(0, '$TOP/tests/xcheck')
+import test_stack_segyio as s
+with open('$D/table.csv', 'w') as f, open('$D/short.csv', 'w') as g:
+    f.write('field_record,channel,source_x_m,source_y_m,receiver_x_m,receiver_y_m\n')
+    g.write('field_record,channel,source_x_m,source_y_m,receiver_x_m,receiver_y_m\n')
+    for sh, c, sx, rx in s.geometry():
+        row = f'{sh + 1},{c + 1},{sx},5000,{rx},5000\n'
+        f.write(row)
+        if (sh, c) != (9, 7):
+            g.write(row)
+"
+sed 's#"geometry": "headers"#"geometry": {"table": "table.csv"}#' "$J" >"$D/tab.json"
+sed 's#"geometry": "headers"#"geometry": {"table": "short.csv"}#' "$J" >"$D/short.json"
+expect_status 0 "geometry from a table" -- "$TZERO" stack --job "$D/tab.json" --out "$D/out/tab.sgy" \
+  --report "$D/out/tab.json" --quiet
+if cmp -s "$D/out/tab.sgy" "$D/out/t1.sgy"; then ok "table geometry gives the same section as the headers"
+else notok "table geometry differs from the headers"; fi
+rm -f "$D/out/short.sgy"
+expect_status 65 "a trace missing from the geometry table" -- "$TZERO" stack --job "$D/short.json" \
+  --out "$D/out/short.sgy" --quiet
+expect_stderr 'shot_0010.sgy: .*trace 8: .*not in geometry table' "the message names the file, trace and table"
+expect_no_file "$D/out/short.sgy" "no section when a trace has no geometry"
+
 # --- options
 expect_status 64 "missing --job" -- "$TZERO" stack
 expect_status 64 "bad --threads" -- "$TZERO" stack --job "$J" --threads many
