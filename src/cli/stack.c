@@ -12,6 +12,7 @@
 
 #include "cli.h"
 #include "jobopts.h"
+#include "tzero/fileio.h"
 #include "tzero/qc.h"
 #include "tzero/stack.h"
 
@@ -132,6 +133,7 @@ int cmd_stack(int argc, char **argv)
   stack_setup su;
   stack_section *sec = NULL;
   char *report = NULL;
+  fileio_out *rep_out = NULL;
   cli_progress pg;
   cli_progress_init(&pg, "header pass", quiet || json);
   int rc = stack_setup_load(&su, jobpath, &ov, 1, cli_progress_show, &pg, &e);
@@ -145,6 +147,10 @@ int cmd_stack(int argc, char **argv)
     tz_err_path(&e, jobpath);
     goto done;
   }
+  /* the report's temporary file first: a report that cannot be created stops
+   * the run before the section appears */
+  if (job->report && (rc = fileio_create(&rep_out, job->report, &e)))
+    goto done;
   double t_plan = cli_now_s();
   stack_run_opts ro;
   if ((rc = stack_run_opts_init(&ro, su.plan, su.velocity, &e)))
@@ -168,16 +174,28 @@ int cmd_stack(int argc, char **argv)
   };
   if ((rc = qc_report_build(&qa, &report, &e)))
     goto done;
-  if (job->report && (rc = qc_write_text(job->report, report, &e))) {
-    fprintf(stderr, "tzero stack: the section %s was written; the report was not\n",
-            job->section);
-    goto done;
+  if (rep_out) {
+    FILE *fp = fileio_stream(rep_out);
+    if (fputs(report, fp) == EOF || fputc('\n', fp) == EOF) {
+      rc = tz_fail(&e, TZ_E_IO, "write failed");
+      tz_err_path(&e, job->report);
+      fileio_abort(rep_out);
+    } else {
+      rc = fileio_commit(rep_out, &e);
+    }
+    rep_out = NULL;
+    if (rc) {
+      fprintf(stderr, "tzero stack: the section %s was written; the report was not\n",
+              job->section);
+      goto done;
+    }
   }
   if (json)
     printf("%s\n", report);
   else if (!quiet)
     rc = print_summary(report, job->report, &e);
 done:
+  fileio_abort(rep_out);
   if (rc)
     rc = cli_report("stack", &e);
   free(report);

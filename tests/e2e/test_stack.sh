@@ -139,6 +139,15 @@ expect_status 65 "a trace missing from the geometry table" -- "$TZERO" stack --j
 expect_stderr 'shot_0010.sgy: .*trace 8: .*not in geometry table' "the message names the file, trace and table"
 expect_no_file "$D/out/short.sgy" "no section when a trace has no geometry"
 
+# --- an uncreatable report stops the run before the section appears
+rm -f "$D/out/nr.sgy"
+expect_status 73 "report in a missing folder" -- "$TZERO" stack --job "$J" --out "$D/out/nr.sgy" \
+  --report "$D/nofolder/qc.json" --quiet
+expect_no_file "$D/out/nr.sgy" "no section when the report cannot be created"
+expect_status 73 "section in a missing folder" -- "$TZERO" stack --job "$J" \
+  --out "$D/nofolder/st.sgy" --report "$D/out/nr.json" --quiet
+expect_no_file "$D/out/nr.json" "no report when the section cannot be created"
+
 # --- options
 expect_status 64 "missing --job" -- "$TZERO" stack
 expect_status 64 "bad --threads" -- "$TZERO" stack --job "$J" --threads many
