@@ -227,9 +227,6 @@ static int get_path(const cJSON *v, const char *jpath, const char *dir, int must
 
 static int add_shot(job_spec *j, const char *path, size_t *cap, tz_err *err)
 {
-  for (size_t i = 0; i < j->nshots; i++)
-    if (!strcmp(j->shots[i], path))
-      return TZ_OK;
   if (j->nshots >= JOB_MAX_SHOTS)
     return tz_fail(err, TZ_E_JOB, "$.shots: more than %u files", JOB_MAX_SHOTS);
   if (j->nshots == *cap) {
@@ -243,6 +240,53 @@ static int add_shot(job_spec *j, const char *path, size_t *cap, tz_err *err)
   if (!(j->shots[j->nshots] = strdup(path)))
     return tz_fail(err, TZ_E_NOMEM, "shot list");
   j->nshots++;
+  return TZ_OK;
+}
+
+typedef struct shot_key {
+  const char *path;
+  size_t idx;
+} shot_key;
+
+static int cmp_shot_key(const void *a, const void *b)
+{
+  const shot_key *x = a, *y = b;
+  int c = strcmp(x->path, y->path);
+  return c ? c : (x->idx > y->idx) - (x->idx < y->idx);
+}
+
+/* A file matched by several patterns is kept once, at its first place:
+ * sort (path, index) pairs, drop all but the first of each path, compact. */
+static int dedupe_shots(job_spec *j, tz_err *err)
+{
+  size_t n = j->nshots;
+  if (n < 2)
+    return TZ_OK;
+  shot_key *k = malloc(n * sizeof *k);
+  unsigned char *drop = calloc(n, 1);
+  if (!k || !drop) {
+    free(k);
+    free(drop);
+    return tz_fail(err, TZ_E_NOMEM, "shot list");
+  }
+  for (size_t i = 0; i < n; i++) {
+    k[i].path = j->shots[i];
+    k[i].idx = i;
+  }
+  qsort(k, n, sizeof *k, cmp_shot_key);
+  for (size_t i = 1; i < n; i++)
+    if (!strcmp(k[i].path, k[i - 1].path))
+      drop[k[i].idx] = 1;
+  size_t m = 0;
+  for (size_t i = 0; i < n; i++) {
+    if (drop[i])
+      free(j->shots[i]);
+    else
+      j->shots[m++] = j->shots[i];
+  }
+  j->nshots = m;
+  free(k);
+  free(drop);
   return TZ_OK;
 }
 
@@ -261,8 +305,6 @@ static int parse_shots(job_spec *j, const cJSON *v, const char *dir, tz_err *err
   if (!j->patterns)
     return tz_fail(err, TZ_E_NOMEM, "shot patterns");
   size_t cap = 0;
-  /* A single-shot cap to avoid quadratic duplicate checks: dedupe is linear per add,
-   * acceptable up to tens of thousands of files. */
   for (size_t i = 0; i < n; i++) {
     const cJSON *e = cJSON_IsArray(v) ? cJSON_GetArrayItem(v, (int)i) : v;
     char jp[64];
@@ -308,7 +350,7 @@ static int parse_shots(job_spec *j, const cJSON *v, const char *dir, tz_err *err
     if (!added)
       return tz_fail(err, TZ_E_NOINPUT, "%s: pattern '%s' matches only folders", jp, pat);
   }
-  return TZ_OK;
+  return dedupe_shots(j, err);
 }
 
 static int parse_geometry(job_spec *j, const cJSON *v, const char *dir, tz_err *err)
