@@ -28,6 +28,7 @@ static const struct subcmd subcmds[] = {
   { "report",    cmd_report,    "print a saved QC report, one CMP, or its fold table" },
   { "compare",   cmd_compare,   "compare two stacks of the same line CMP by CMP" },
   { "picture",   cmd_picture,   "draw a section, gather or fold chart as a PNG picture" },
+  { "audio",     cmd_audio,     "convert multichannel audio shot records to SEG-Y shot files" },
 };
 #define NSUB (sizeof subcmds / sizeof subcmds[0])
 
