@@ -25,8 +25,10 @@
 #include <errno.h>
 #include <fcntl.h>
 #include <math.h>
+#include <pthread.h>
 #include <samplerate.h>
 #include <sndfile.h>
+#include <stdatomic.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -867,42 +869,138 @@ static int by_record(const void *pa, const void *pb)
   return (a > b) - (a < b);
 }
 
+/* Workers take files in index order from a shared counter; each file's result
+ * and error have their own slot, so the outcome does not depend on timing. */
+typedef struct batch_work {
+  const audio_batch *b;
+  const audio_params *p;
+  const char *stage;
+  const int64_t *seq;            /* first line sequence number of each file */
+  audio_result *res;
+  tz_err *errs;
+  int *rcs;
+  atomic_size_t next;
+  atomic_int failed;
+} batch_work;
+
+static void *batch_worker(void *arg)
+{
+  batch_work *w = arg;
+  for (;;) {
+    size_t i = atomic_fetch_add(&w->next, 1);
+    if (i >= w->b->n || atomic_load(&w->failed))
+      break;
+    char *to = join(w->stage, w->b->names[i]);
+    tz_err_init(&w->errs[i]);
+    w->rcs[i] = to ? audio_convert(w->b->paths[i], to, w->p, w->b->records[i], w->seq[i],
+                                   &w->res[i], &w->errs[i])
+                   : tz_fail(&w->errs[i], TZ_E_NOMEM, "output path");
+    free(to);
+    if (w->rcs[i])
+      atomic_store(&w->failed, 1);
+  }
+  return NULL;
+}
+
+/* Converts every file into stage/; on failure copies the first failing file's error. */
+static int convert_all(const audio_batch *b, const audio_params *p, const char *stage,
+                       const int64_t *seq, audio_result *res, tz_err *err)
+{
+  batch_work w = { .b = b, .p = p, .stage = stage, .seq = seq, .res = res };
+  atomic_init(&w.next, 0);
+  atomic_init(&w.failed, 0);
+  w.errs = malloc(b->n * sizeof *w.errs);
+  w.rcs = calloc(b->n, sizeof *w.rcs);
+  if (!w.errs || !w.rcs) {
+    free(w.errs);
+    free(w.rcs);
+    return tz_fail(err, TZ_E_NOMEM, "per-file results");
+  }
+  long cores = sysconf(_SC_NPROCESSORS_ONLN);
+  size_t nt = p->threads > 0 ? (size_t)p->threads : cores > 0 ? (size_t)cores : 1;
+  if (nt > b->n)
+    nt = b->n;
+  if (nt > AUDIO_MAX_THREADS)
+    nt = AUDIO_MAX_THREADS;
+  pthread_t th[AUDIO_MAX_THREADS];
+  size_t started = 0;
+  for (size_t t = 1; t < nt; t++) {
+    if (pthread_create(&th[started], NULL, batch_worker, &w) != 0)
+      break;                               /* fewer threads: same result, slower */
+    started++;
+  }
+  batch_worker(&w);
+  for (size_t t = 0; t < started; t++)
+    pthread_join(th[t], NULL);
+  int rc = TZ_OK;
+  for (size_t i = 0; i < b->n; i++)
+    if (w.rcs[i]) {
+      *err = w.errs[i];
+      rc = w.rcs[i];
+      break;
+    }
+  free(w.errs);
+  free(w.rcs);
+  return rc;
+}
+
+static void remove_staged(const audio_batch *b, const char *stage)
+{
+  for (size_t i = 0; i < b->n; i++) {
+    char *f = join(stage, b->names[i]);
+    if (f)
+      unlink(f);                           /* absent ones (never written, moved): ENOENT */
+    free(f);
+  }
+  rmdir(stage);
+}
+
 int audio_batch_run(const audio_batch *b, const char *out_dir, const audio_params *p,
                     audio_result *results, tz_err *err)
 {
   int rc = TZ_OK;
   int32_t *recs = malloc(b->n * sizeof *recs);
-  if (!recs)
-    return tz_fail(err, TZ_E_NOMEM, "field records");
+  int64_t *seq = malloc(b->n * sizeof *seq);
+  audio_result *res = results ? results : malloc(b->n * sizeof *res);
+  if (!recs || !seq || !res) {
+    rc = tz_fail(err, TZ_E_NOMEM, "field records");
+    goto done;
+  }
   memcpy(recs, b->records, b->n * sizeof *recs);
   qsort(recs, b->n, sizeof *recs, by_record);
   for (size_t i = 1; i < b->n; i++)
     if (recs[i] == recs[i - 1]) {
       rc = tz_fail(err, TZ_E_ARG, "field record %d is given to two input files", (int)recs[i]);
-      break;
+      goto done;
     }
-  free(recs);
   /* Every file is checked before anything is written. */
-  for (size_t i = 0; !rc && i < b->n; i++) {
+  int64_t line_seq = 1;
+  for (size_t i = 0; i < b->n; i++) {
     audio_info in;
     audio_window w;
-    if (!(rc = audio_probe(b->paths[i], &in, err)) && (rc = audio_plan(&in, p, &w, err)))
+    if ((rc = audio_probe(b->paths[i], &in, err)))
+      goto done;
+    if ((rc = audio_plan(&in, p, &w, err))) {
       tz_err_path(err, b->paths[i]);
+      goto done;
+    }
+    seq[i] = line_seq;
+    line_seq += (int64_t)w.channels;
   }
-  if (rc)
-    return rc;
 
   int created = 0;
   struct stat st;
   if (stat(out_dir, &st) == 0) {
     if (!S_ISDIR(st.st_mode)) {
       tz_err_path(err, out_dir);
-      return tz_fail(err, TZ_E_CREATE, "exists and is not a folder");
+      rc = tz_fail(err, TZ_E_CREATE, "exists and is not a folder");
+      goto done;
     }
   } else if (mkdir(out_dir, 0777) != 0) {
     int e = errno;
     tz_err_path(err, out_dir);
-    return tz_fail_os(err, TZ_E_CREATE, e, "cannot create the output folder");
+    rc = tz_fail_os(err, TZ_E_CREATE, e, "cannot create the output folder");
+    goto done;
   } else {
     created = 1;
   }
@@ -917,24 +1015,8 @@ int audio_batch_run(const audio_batch *b, const char *out_dir, const audio_param
     free(stage);
     stage = NULL;
   }
-  int64_t line_seq = 1;
-  size_t written = 0;
-  for (size_t i = 0; !rc && i < b->n; i++) {
-    char *to = join(stage, b->names[i]);
-    audio_result r;
-    if (!to) {
-      rc = tz_fail(err, TZ_E_NOMEM, "output path");
-      break;
-    }
-    rc = audio_convert(b->paths[i], to, p, b->records[i], line_seq, &r, err);
-    free(to);
-    if (rc)
-      break;
-    written = i + 1;
-    line_seq += (int64_t)r.win.channels;
-    if (results)
-      results[i] = r;
-  }
+  if (!rc)
+    rc = convert_all(b, p, stage, seq, res, err);
   for (size_t i = 0; !rc && i < b->n; i++) {
     char *from = join(stage, b->names[i]), *to = join(out_dir, b->names[i]);
     if (!from || !to) {
@@ -948,16 +1030,18 @@ int audio_batch_run(const audio_batch *b, const char *out_dir, const audio_param
     free(to);
   }
   if (stage) {
-    for (size_t i = 0; rc && i < written; i++) {
-      char *f = join(stage, b->names[i]);
-      if (f)
-        unlink(f);
-      free(f);
-    }
-    rmdir(stage);
+    if (rc)
+      remove_staged(b, stage);
+    else
+      rmdir(stage);
     free(stage);
   }
   if (rc && created)
     rmdir(out_dir);
+done:
+  free(recs);
+  free(seq);
+  if (res != results)
+    free(res);
   return rc;
 }

@@ -26,6 +26,7 @@
 #define AUDIO_MAX_SAMPLES 65535u       /* output samples per trace (SEG-Y rev 1 u16) */
 #define AUDIO_MAX_FILES 1000000        /* inputs of one run */
 #define AUDIO_DEFAULT_INTERVAL_US 250u /* 4 kHz: common practice for shallow reflection */
+#define AUDIO_MAX_THREADS 256
 
 /* libsamplerate's three band-limited sinc converters. */
 enum audio_quality { AUDIO_QUALITY_BEST = 0, AUDIO_QUALITY_MEDIUM, AUDIO_QUALITY_FAST };
@@ -43,6 +44,8 @@ typedef struct audio_params {
   int format_code;            /* SEG-Y sample format: 5 IEEE (default when 0) or 1 IBM */
   int quality;                /* enum audio_quality (default best) */
   const char *line_name;      /* for the textual header; NULL = none */
+  int threads;                /* audio_batch_run: files converted at once (0 = the
+                               * online cores); the output does not depend on it */
 } audio_params;
 
 void audio_params_init(audio_params *p);
@@ -136,7 +139,9 @@ int audio_batch_load_records(audio_batch *b, const char *csv_path, tz_err *err);
  * moved into place only when all succeeded. On failure nothing is left: the
  * hidden folder is removed, and out_dir too when this call created it.
  * results (may be NULL) must hold audio_batch_count(b) entries. Field records
- * must be distinct (TZ_E_ARG). */
+ * must be distinct (TZ_E_ARG). Files are converted p->threads at a time; when
+ * several fail, the error reported is that of the first in sorted order.
+ * Trace sequence numbers within the line run on across the files. */
 int audio_batch_run(const audio_batch *b, const char *out_dir, const audio_params *p,
                     audio_result *results, tz_err *err);
 

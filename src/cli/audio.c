@@ -51,6 +51,8 @@ static void help(void)
          "  --resampler best|medium|fast\n"
          "                        libsamplerate sinc converter (default best)\n"
          "  --line-name NAME      line name for the textual header\n"
+         "  --threads N           files converted at once (default 0 = all cores; the\n"
+         "                        output is the same for any N)\n"
          "  --json                print the summary as JSON\n"
          "  --quiet               print nothing but errors\n"
          "  -h, --help            this text\n"
@@ -183,7 +185,7 @@ static void print_text(const audio_batch *b, const audio_result *res, const char
 
 enum {
   O_OUT = 256, O_INTERVAL, O_START, O_LENGTH, O_CHANNELS, O_FIRST, O_TABLE, O_REVERSE, O_SCALE,
-  O_FORMAT, O_RESAMPLER, O_LINENAME, O_JSON, O_QUIET,
+  O_FORMAT, O_RESAMPLER, O_LINENAME, O_THREADS, O_JSON, O_QUIET,
 };
 
 int cmd_audio(int argc, char **argv)
@@ -201,6 +203,7 @@ int cmd_audio(int argc, char **argv)
     { "format", required_argument, NULL, O_FORMAT },
     { "resampler", required_argument, NULL, O_RESAMPLER },
     { "line-name", required_argument, NULL, O_LINENAME },
+    { "threads", required_argument, NULL, O_THREADS },
     { "json", no_argument, NULL, O_JSON },
     { "quiet", no_argument, NULL, O_QUIET },
     { "help", no_argument, NULL, 'h' },
@@ -262,6 +265,14 @@ int cmd_audio(int argc, char **argv)
                                 optarg);
       break;
     case O_LINENAME: p.line_name = optarg; break;
+    case O_THREADS:
+      if ((rc = cli_parse_i64(cmd, "--threads", optarg, &ll)))
+        break;
+      if (ll < 0 || ll > AUDIO_MAX_THREADS)
+        rc = cli_usage_error(cmd, "--threads: expected 0 to %d", AUDIO_MAX_THREADS);
+      else
+        p.threads = (int)ll;
+      break;
     case O_JSON: json = 1; break;
     case O_QUIET: quiet = 1; break;
     case 'h': free(chans); help(); return EX_OK;

@@ -32,6 +32,15 @@ expect_stdout "sgy/shot_2.sgy: field record 12, 6 traces x 2000 samples at 250 u
 sz=$(wc -c <"$T/sgy/shot_1.sgy")
 [ "$sz" -eq $((3600 + 6 * (240 + 2000 * 4))) ] && ok "file size" || notok "file size $sz"
 ls -a "$T/sgy" | grep -q '^\.tzero' && notok "no hidden folder left" || ok "no hidden folder left"
+# Same bytes for any thread count (DESIGN.md: bitwise-identical output).
+cp "$good" "$T/field/shot_3.wav"
+cp "$good" "$T/field/shot_4.wav"
+expect_status 0 "one thread" -- "$TZERO" audio "$T/field" --out "$T/t1" --threads 1 --quiet
+expect_status 0 "three threads" -- "$TZERO" audio "$T/field" --out "$T/t3" --threads 3 --quiet
+same=1
+for f in shot_1 shot_2 shot_3 shot_4; do cmp -s "$T/t1/$f.sgy" "$T/t3/$f.sgy" || same=0; done
+[ $same -eq 1 ] && ok "files identical for 1 and 3 threads" || notok "files differ by thread count"
+rm "$T/field/shot_3.wav" "$T/field/shot_4.wav"
 expect_status 0 "--json" -- "$TZERO" audio "$good" --out "$T/sgyj" --json
 expect_stdout '"format":[[:space:]]*"tzero-audio/1"' "JSON summary has its format tag"
 expect_status 0 "--quiet" -- "$TZERO" audio "$good" --out "$T/sgyj" --quiet
