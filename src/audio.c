@@ -41,6 +41,7 @@
 
 #define AUDIO_BLOCK 4096          /* input frames decoded per read */
 #define AUDIO_OUT_BLOCK 4096      /* output frames per converter call */
+#define AUDIO_SRC_CHANNELS 128   /* libsamplerate's most channels per converter */
 #define AUDIO_FILTER_REACH 160.0  /* input samples each side that the best sinc filter
                                    * reaches at ratio >= 1 (its 340239 coefficients at
                                    * 2381 per zero crossing: about 143) */
@@ -320,8 +321,6 @@ static int read_frames(sfin *f, float *buf, int64_t at, size_t n, const char *pa
 
 static int seek_to(sfin *f, int64_t frame, const char *path, tz_err *err)
 {
-  if (frame == 0)
-    return TZ_OK;
   if (sf_seek(f->sf, (sf_count_t)frame, SEEK_SET) != (sf_count_t)frame) {
     tz_err_path(err, path);
     return tz_fail(err, TZ_E_IO, "cannot seek to sample %lld: %s", (long long)frame,
@@ -354,11 +353,12 @@ static const int converter_type[] = {
   [AUDIO_QUALITY_FAST] = SRC_SINC_FASTEST,
 };
 
+/* Resamples the nsel channels chan[] (at most AUDIO_SRC_CHANNELS) into rec. */
 static int resample_window(sfin *f, const audio_window *w, int quality, const int *chan,
-                           float factor, float *rec, float *ib, float *sb, float *ob, stats *st,
-                           const char *path, tz_err *err)
+                           size_t nsel, float factor, float *rec, float *ib, float *sb,
+                           float *ob, stats *st, const char *path, tz_err *err)
 {
-  size_t nch = (size_t)f->si.channels, nsel = w->channels, nout = w->samples;
+  size_t nch = (size_t)f->si.channels, nout = w->samples;
   int64_t rate_dt = (int64_t)f->si.samplerate * w->interval_us;
   int64_t period = rate_dt / gcd64(rate_dt, 1000000);      /* frames between coincidences */
   double ratio = 1e6 / (double)rate_dt;
@@ -494,9 +494,13 @@ int audio_convert(const char *in_path, const char *out_path, const audio_params 
   for (size_t j = 0; j < nsel; j++)
     chan[j] = p->channels ? (int)p->channels[j] - 1 : (int)j;
   float factor = (float)(p->reverse_polarity ? -p->scale : p->scale);
-  rc = w.resampled ? resample_window(&f, &w, p->quality, chan, factor, rec, ib, sb, ob, &st,
-                                     in_path, err)
-                   : copy_window(&f, &w, chan, factor, rec, ib, sb, &st, in_path, err);
+  if (!w.resampled)
+    rc = copy_window(&f, &w, chan, factor, rec, ib, sb, &st, in_path, err);
+  /* libsamplerate takes at most AUDIO_SRC_CHANNELS per converter: more channels
+   * are done in groups, one pass over the file each */
+  for (size_t g = 0; w.resampled && !rc && g < nsel; g += AUDIO_SRC_CHANNELS)
+    rc = resample_window(&f, &w, p->quality, chan + g, min_size(AUDIO_SRC_CHANNELS, nsel - g),
+                         factor, rec + g * w.samples, ib, sb, ob, &st, in_path, err);
   if (rc)
     goto done;
 

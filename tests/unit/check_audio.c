@@ -191,6 +191,38 @@ START_TEST(test_resample_spike_and_dc)
 }
 END_TEST
 
+/* More channels than libsamplerate takes in one converter (128): channel c has
+ * its spike 10 + c frames later, so each trace must find its own spike. */
+static short late_spike(int c, int64_t i) { return i == 4410 + 441 * (c % 7) ? 16384 : 0; }
+
+START_TEST(test_many_channels)
+{
+  const char *in = tmp_path("wide.wav"), *out = tmp_path("wide.sgy");
+  write_wav(in, 44100, 200, 8820, late_spike);
+  tz_err err;
+  tz_err_init(&err);
+  audio_params p;
+  audio_params_init(&p);
+  audio_result r;
+  ck_assert_msg(audio_convert(in, out, &p, 1, 1, &r, &err) == TZ_OK, "%s", err.msg);
+  segy_file *f;
+  const segy_info *info;
+  read_back(out, &f, &info);
+  ck_assert_int_eq(segy_trace_count(f), 200);
+  float s[800];
+  for (int t = 0; t < 200; t++) {
+    segy_trace_header h;
+    ck_assert_int_eq(segy_read_trace(f, t, &h, s, 800, &err), TZ_OK);
+    int best = 0;
+    for (int k = 1; k < (int)info->samples; k++)
+      if (fabsf(s[k]) > fabsf(s[best]))
+        best = k;
+    ck_assert_int_eq(best, 400 + 40 * (t % 7));   /* 441 frames = 40 samples at 250 us */
+  }
+  segy_close(f);
+}
+END_TEST
+
 /* Window, channel, interval and ratio limits are refused with the numbers. */
 START_TEST(test_plan_errors)
 {
@@ -374,6 +406,56 @@ START_TEST(test_batch)
 }
 END_TEST
 
+/* Damaged files never crash: every byte of the first 64 set to four values, and
+ * every truncation up to 100 bytes, of a WAV and an AIFF (both written by
+ * libsndfile). Each attempt ends in success or a documented status (common
+ * practice: a reader must survive any input; Check reports a crash as an error). */
+START_TEST(test_damaged_headers)
+{
+  static const int formats[] = { SF_FORMAT_WAV | SF_FORMAT_PCM_16,
+                                 SF_FORMAT_AIFF | SF_FORMAT_PCM_24 };
+  static const unsigned char vals[] = { 0x00, 0xff, 0x7f, 0x80 };
+  const char *good = tmp_path("good"), *bad = tmp_path("bad"), *out = tmp_path("bad.sgy");
+  for (int fm = 0; fm < 2; fm++) {
+    SF_INFO si = { .samplerate = 8000, .channels = 3, .format = formats[fm] };
+    SNDFILE *sf = sf_open(good, SFM_WRITE, &si);
+    ck_assert_ptr_nonnull(sf);
+    short fr[3 * 200];
+    for (int i = 0; i < 3 * 200; i++)
+      fr[i] = (short)(i * 37);
+    ck_assert_int_eq(sf_writef_short(sf, fr, 200), 200);
+    sf_close(sf);
+    unsigned char buf[4096];
+    FILE *fp = fopen(good, "rb");
+    size_t n = fread(buf, 1, sizeof buf, fp);
+    fclose(fp);
+    ck_assert_uint_gt(n, 1000);
+    for (int k = 0; k < 64 * 4 + 100; k++) {
+      unsigned char m[4096];
+      memcpy(m, buf, n);
+      size_t len = n;
+      if (k < 64 * 4)
+        m[k / 4] = vals[k % 4];
+      else
+        len = (size_t)(k - 64 * 4);
+      fp = fopen(bad, "wb");
+      fwrite(m, 1, len, fp);
+      fclose(fp);
+      tz_err err;
+      tz_err_init(&err);
+      audio_params p;
+      audio_params_init(&p);
+      p.interval_us = 500;
+      int rc = audio_convert(bad, out, &p, 1, 1, NULL, &err);
+      ck_assert_msg(rc == TZ_OK || rc == TZ_E_FORMAT || rc == TZ_E_ARG || rc == TZ_E_IO,
+                    "format %d mutation %d: status %d (%s)", fm, k, rc, err.msg);
+      if (rc)
+        ck_assert_msg(err.path[0] && err.msg[0], "mutation %d: message and path", k);
+    }
+  }
+}
+END_TEST
+
 START_TEST(test_known_extensions)
 {
   ck_assert_int_eq(audio_known_extension("wav"), 1);
@@ -392,9 +474,11 @@ static Suite *audio_suite(void)
   tcase_set_timeout(tc, 60);
   tcase_add_test(tc, test_copy_exact_channels_polarity);
   tcase_add_test(tc, test_resample_spike_and_dc);
+  tcase_add_test(tc, test_many_channels);
   tcase_add_test(tc, test_plan_errors);
   tcase_add_test(tc, test_probe_errors);
   tcase_add_test(tc, test_batch);
+  tcase_add_test(tc, test_damaged_headers);
   tcase_add_test(tc, test_known_extensions);
   suite_add_tcase(s, tc);
   return s;
