@@ -16,8 +16,10 @@
  * are dropped. Near the file start, M shrinks (to 0 if need be) and the start
  * sees the silence before the file, as any resampler would.
  *
- * Not here: geometry (tzero geometry --layout --write does that), trigger
- * detection, and any filtering beyond the converter's anti-alias low-pass.
+ * Geometry is optional: with a geometry source (layout or table, geometry.h)
+ * the positions go into the headers as tzero geometry --write puts them.
+ * Not here: CMP binning (tzero geometry), trigger detection, and any filtering
+ * beyond the converter's anti-alias low-pass.
  */
 #include "tzero/audio.h"
 
@@ -36,6 +38,7 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
+#include "tzero/geometry.h"
 #include "tzero/segy.h"
 #include "tzero/table.h"
 
@@ -458,11 +461,37 @@ static void cards(char *buf, size_t cap, const char *in_path, const audio_info *
            "%s\n"
            "CHANNELS (FILE NUMBERS, IN TRACE ORDER) %.40s\n"
            "AMPLITUDE: FRACTION OF FULL SCALE TIMES %g%s\n"
-           "GEOMETRY NOT SET: USE TZERO GEOMETRY --LAYOUT --WRITE\n",
+           "%s\n",
            p->line_name ? p->line_name : "(NOT GIVEN)", (int)field_record, base,
            in->format_name, in->channels, in->rate_hz, in->duration_s, w->start_ms,
            w->record_ms, resamp, chans, p->scale,
-           p->reverse_polarity ? ", POLARITY REVERSED" : "");
+           p->reverse_polarity ? ", POLARITY REVERSED" : "",
+           p->geometry ? "GEOMETRY FROM A LAYOUT OR GEOMETRY TABLE (SOURCE/RECEIVER X Y, OFFSET)"
+                       : "GEOMETRY NOT SET: USE TZERO GEOMETRY --LAYOUT --WRITE");
+}
+
+/* The header of output trace j (0-based), with geometry when p has a source. */
+static int trace_header(const audio_params *p, int32_t field_record, size_t j,
+                        int64_t first_line_seq, segy_trace_header *h, tz_err *err)
+{
+  memset(h, 0, sizeof *h);
+  h->line_seq = (int32_t)(first_line_seq + (int64_t)j);
+  h->file_seq = (int32_t)(j + 1);
+  h->field_record = field_record;
+  h->channel = (int32_t)(j + 1);
+  h->kind = SEGY_KIND_SEISMIC;
+  h->vertical_sum = 1;
+  h->stacked_traces = 1;
+  h->data_use = 1;              /* production */
+  h->coord_units = 1;
+  if (p->geometry) {
+    geometry_trace g;
+    int rc = geometry_source_trace(p->geometry, h, (int64_t)j, &g, err);
+    if (rc)
+      return rc;
+    geometry_to_header(&g, h);
+  }
+  return TZ_OK;
 }
 
 int audio_convert(const char *in_path, const char *out_path, const audio_params *p,
@@ -514,17 +543,8 @@ int audio_convert(const char *in_path, const char *out_path, const audio_params 
     goto done;
   for (size_t j = 0; j < nsel; j++) {
     segy_trace_header h;
-    memset(&h, 0, sizeof h);
-    h.line_seq = (int32_t)(first_line_seq + (int64_t)j);
-    h.file_seq = (int32_t)(j + 1);
-    h.field_record = field_record;
-    h.channel = (int32_t)(j + 1);
-    h.kind = SEGY_KIND_SEISMIC;
-    h.vertical_sum = 1;
-    h.stacked_traces = 1;
-    h.data_use = 1;              /* production */
-    h.coord_units = 1;
-    if ((rc = segy_write_trace(wr, &h, rec + j * w.samples, err)))
+    if ((rc = trace_header(p, field_record, j, first_line_seq, &h, err)) ||
+        (rc = segy_write_trace(wr, &h, rec + j * w.samples, err)))
       goto done;
   }
   rc = segy_writer_finish(wr, err);
@@ -987,6 +1007,13 @@ int audio_batch_run(const audio_batch *b, const char *out_dir, const audio_param
     if ((rc = audio_plan(&in, p, &w, err))) {
       tz_err_path(err, b->paths[i]);
       goto done;
+    }
+    for (size_t j = 0; p->geometry && j < w.channels; j++) {
+      segy_trace_header h;
+      if ((rc = trace_header(p, b->records[i], j, 1, &h, err))) {
+        tz_err_path(err, b->paths[i]);
+        goto done;
+      }
     }
     seq[i] = line_seq;
     line_seq += (int64_t)w.channels;

@@ -19,6 +19,8 @@
 #include <stdint.h>
 #include "tzero/error.h"
 
+struct geometry_source;              /* geometry.h */
+
 #define AUDIO_MAX_CHANNELS 1024        /* cap on channels in one file (libsndfile's own) */
 #define AUDIO_MIN_RATE_HZ 200          /* slower than 5 ms sampling is not a seismic record */
 #define AUDIO_MAX_RATE_HZ 768000       /* the fastest audio rate in common use */
@@ -44,6 +46,10 @@ typedef struct audio_params {
   int format_code;            /* SEG-Y sample format: 5 IEEE (default when 0) or 1 IBM */
   int quality;                /* enum audio_quality (default best) */
   const char *line_name;      /* for the textual header; NULL = none */
+  const struct geometry_source *geometry; /* borrowed; NULL = no geometry. Else the
+                               * source and receiver positions and offset of every
+                               * trace (by field record and channel) go into its
+                               * header, as geometry_to_header() writes them */
   int threads;                /* audio_batch_run: files converted at once (0 = the
                                * online cores); the output does not depend on it */
 } audio_params;

@@ -8,6 +8,7 @@
 
 #include "cli.h"
 #include "tzero/audio.h"
+#include "tzero/geometry.h"
 #include "tzero/table.h"
 
 static void help(void)
@@ -27,8 +28,8 @@ static void help(void)
          "output interval with libsamplerate's band-limited sinc converter, which\n"
          "low-passes below the new Nyquist frequency before decimating.\n"
          "Trace headers get the field record, channel 1..N, trace sequence numbers,\n"
-         "trace kind seismic, sample count and interval; set geometry afterwards with\n"
-         "tzero geometry --layout FILE --write DIR2 DIR/*.sgy.\n"
+         "trace kind seismic, sample count and interval; geometry from --layout, or\n"
+         "afterwards with tzero geometry --layout FILE --write (which also bins CMPs).\n"
          "\n"
          "options:\n"
          "  --out DIR             output folder (created if missing, one level)\n"
@@ -45,6 +46,8 @@ static void help(void)
          "                        order, from 0) gets N+k (default 1)\n"
          "  --record-table FILE   field records from a CSV with the header row\n"
          "                        file,field_record (file names without folders)\n"
+         "  --layout FILE         source and receiver positions and offsets from a\n"
+         "                        layout (docs/layout.md), by field record and channel\n"
          "  --reverse-polarity    multiply every sample by -1\n"
          "  --scale F             multiply every sample by F (default 1)\n"
          "  --format ieee|ibm     SEG-Y sample format (default ieee)\n"
@@ -185,7 +188,7 @@ static void print_text(const audio_batch *b, const audio_result *res, const char
 
 enum {
   O_OUT = 256, O_INTERVAL, O_START, O_LENGTH, O_CHANNELS, O_FIRST, O_TABLE, O_REVERSE, O_SCALE,
-  O_FORMAT, O_RESAMPLER, O_LINENAME, O_THREADS, O_JSON, O_QUIET,
+  O_FORMAT, O_RESAMPLER, O_LINENAME, O_THREADS, O_LAYOUT, O_JSON, O_QUIET,
 };
 
 int cmd_audio(int argc, char **argv)
@@ -204,12 +207,13 @@ int cmd_audio(int argc, char **argv)
     { "resampler", required_argument, NULL, O_RESAMPLER },
     { "line-name", required_argument, NULL, O_LINENAME },
     { "threads", required_argument, NULL, O_THREADS },
+    { "layout", required_argument, NULL, O_LAYOUT },
     { "json", no_argument, NULL, O_JSON },
     { "quiet", no_argument, NULL, O_QUIET },
     { "help", no_argument, NULL, 'h' },
     { NULL, 0, NULL, 0 },
   };
-  const char *cmd = "audio", *out = NULL, *table = NULL;
+  const char *cmd = "audio", *out = NULL, *table = NULL, *layout = NULL;
   audio_params p;
   audio_params_init(&p);
   int32_t *chans = NULL;
@@ -265,6 +269,7 @@ int cmd_audio(int argc, char **argv)
                                 optarg);
       break;
     case O_LINENAME: p.line_name = optarg; break;
+    case O_LAYOUT: layout = optarg; break;
     case O_THREADS:
       if ((rc = cli_parse_i64(cmd, "--threads", optarg, &ll)))
         break;
@@ -299,7 +304,17 @@ int cmd_audio(int argc, char **argv)
   audio_batch *b = NULL;
   audio_result *res = NULL;
   cJSON *o = NULL;
-  rc = audio_batch_new(&b, argv + optind, (size_t)(argc - optind), &err);
+  geometry_source *geo = NULL;
+  if (layout) {
+    geometry_layout l;
+    geometry_layout_init(&l);
+    if (!(rc = geometry_layout_load(&l, layout, &err)))
+      rc = geometry_source_layout(&geo, &l, &err);
+    geometry_layout_free(&l);
+  }
+  p.geometry = geo;
+  if (!rc)
+    rc = audio_batch_new(&b, argv + optind, (size_t)(argc - optind), &err);
   if (!rc)
     rc = table ? audio_batch_load_records(b, table, &err) : audio_batch_number(b, first, &err);
   if (!rc && !(res = calloc(audio_batch_count(b), sizeof *res)))
@@ -319,6 +334,7 @@ int cmd_audio(int argc, char **argv)
   cJSON_Delete(o);
   free(res);
   audio_batch_free(b);
+  geometry_source_free(geo);
   free(chans);
   return rc ? cli_report(cmd, &err) : EX_OK;
 }

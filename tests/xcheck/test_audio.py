@@ -163,4 +163,36 @@ ok(p.returncode == 0, "record table", p.stderr.strip())
 _, h, _ = read_segy(os.path.join(out4, "shot_10.sgy"))
 ok(h[0][TF.FieldRecord] == 5001, "field record from the table", str(h[0][TF.FieldRecord]))
 
+# --- 5: geometry from a layout (docs/layout.md: off-end spread ahead, receiver c of
+# shot i at first_source + i*ds + near + c*dg along the line; azimuth 90 = +x). SEG-Y
+# rev 1: 71-72 coordinate scalar (negative divides), 73-88 source/receiver X/Y, 37-40
+# offset.
+lay = os.path.join(WORK, "layout.json")
+with open(lay, "w") as fh:
+    fh.write('{"receiver_interval_m": 5, "source_interval_m": 10, "shot_count": 2, '
+             '"channels": 6, "first_field_record": 101, "near_offset_m": 5, '
+             '"first_station_x_m": 500000, "first_station_y_m": 6400000, "azimuth_deg": 90}')
+out5 = os.path.join(WORK, "sgyg")
+p = run("audio", field, "--out", out5, "--first-record", 101, "--layout", lay, "--quiet",
+        "--length-ms", 50)
+ok(p.returncode == 0, "--layout", p.stderr.strip())
+good_geo = True
+for i, name in enumerate(["shot_2.sgy", "shot_10.sgy"]):
+    _, h, _ = read_segy(os.path.join(out5, name))
+    for c, th in enumerate(h):
+        sc = th[TF.SourceGroupScalar]
+        f = 1.0 / -sc if sc < 0 else (sc or 1)
+        sx, gx = th[TF.SourceX] * f, th[TF.GroupX] * f
+        want_s = 500000 + 10 * i
+        want_g = want_s + 5 + 5 * c
+        if (abs(sx - want_s) > 0.01 or abs(gx - want_g) > 0.01 or
+                abs(th[TF.GroupY] * f - 6400000) > 0.01 or th[TF.offset] != 5 + 5 * c):
+            good_geo = False
+            print(f"# {name} channel {c + 1}: source {sx} receiver {gx} offset {th[TF.offset]}")
+ok(good_geo, "source and receiver X/Y and offsets follow the layout")
+p = run("audio", field, "--out", os.path.join(WORK, "sgyg2"), "--first-record", 201,
+        "--layout", lay, "--quiet", check=False)
+ok(p.returncode == 65 and "201" in p.stderr and not os.path.exists(os.path.join(WORK, "sgyg2")),
+   "field records the layout lacks are refused before writing", p.stderr.strip())
+
 done()
