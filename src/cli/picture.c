@@ -117,8 +117,15 @@ static const char *base_name(const char *p)
   return s ? s + 1 : p;
 }
 
+/* What a picture covers, for the summary. */
+struct extent {
+  size_t traces;                 /* traces (panel) or CMPs in the report (fold) */
+  double cmp_first, cmp_last;
+  double time_first_ms, time_last_ms; /* panel only */
+};
+
 static void print_summary(const char *out, const picture_image *img, const picture_info *in,
-                          int json, const char *what)
+                          int json, const char *what, const struct extent *x)
 {
   static const char *const styles[] = { "auto", "density", "wiggle", "both" };
   if (json) {
@@ -134,9 +141,15 @@ static void print_summary(const char *out, const picture_image *img, const pictu
     cJSON_AddNumberToObject(pa, "y", in->plot_y);
     cJSON_AddNumberToObject(pa, "width", in->plot_w);
     cJSON_AddNumberToObject(pa, "height", in->plot_h);
+    cJSON_AddNumberToObject(o, "cmp_first", x->cmp_first);
+    cJSON_AddNumberToObject(o, "cmp_last", x->cmp_last);
     if (!strcmp(what, "fold")) {
+      cJSON_AddNumberToObject(o, "cmps", (double)x->traces);
       cJSON_AddNumberToObject(o, "fold_axis_max", in->clip);
     } else {
+      cJSON_AddNumberToObject(o, "traces", (double)x->traces);
+      cJSON_AddNumberToObject(o, "time_first_ms", x->time_first_ms);
+      cJSON_AddNumberToObject(o, "time_last_ms", x->time_last_ms);
       cJSON_AddNumberToObject(o, "clip", in->clip);
       if (in->clip_percentile > 0)
         cJSON_AddNumberToObject(o, "clip_percentile", in->clip_percentile);
@@ -150,10 +163,13 @@ static void print_summary(const char *out, const picture_image *img, const pictu
     return;
   }
   if (!strcmp(what, "fold"))
-    printf("wrote %s (%u x %u px): fold chart\n", out, img->width, img->height);
+    printf("wrote %s (%u x %u px): fold chart of %zu CMPs, %.0f-%.0f\n", out, img->width,
+           img->height, x->traces, x->cmp_first, x->cmp_last);
   else
-    printf("wrote %s (%u x %u px): %s, clip %.6g%s\n", out, img->width, img->height,
-           styles[in->style & 3], in->clip, in->clip_percentile > 0 ? " (percentile)" : "");
+    printf("wrote %s (%u x %u px): %zu traces, CMP %.0f-%.0f, %g-%g ms, %s, clip %.6g%s\n", out,
+           img->width, img->height, x->traces, x->cmp_first, x->cmp_last, x->time_first_ms,
+           x->time_last_ms, styles[in->style & 3], in->clip,
+           in->clip_percentile > 0 ? " (percentile)" : "");
 }
 
 static int run_fold(const char *qc, const char *out, const char *title, uint32_t w, uint32_t h,
@@ -174,6 +190,8 @@ static int run_fold(const char *qc, const char *out, const char *title, uint32_t
     }
     rc = picture_render_fold(&f, title, w, h, &img, &in, &err);
   }
+  struct extent x = { f.n, f.n ? (double)f.rows[0].cmp : 0, f.n ? (double)f.rows[f.n - 1].cmp : 0,
+                      0, 0 };
   if (!rc)
     rc = picture_write_png(&img, out, &err);
   picture_fold_free(&f);
@@ -182,7 +200,7 @@ static int run_fold(const char *qc, const char *out, const char *title, uint32_t
     return cli_report(cmd, &err);
   }
   if (!quiet)
-    print_summary(out, &img, &in, json, "fold");
+    print_summary(out, &img, &in, json, "fold", &x);
   picture_image_free(&img);
   return EX_OK;
 }
@@ -308,13 +326,19 @@ int cmd_picture(int argc, char **argv)
   rc = picture_render_panel(&p, &po, &img, &info, &err);
   if (!rc)
     rc = picture_write_png(&img, out, &err);
+  double cmin = l.cmp[0], cmax = l.cmp[0];
+  for (size_t i = 1; i < l.ntraces; i++) {
+    cmin = l.cmp[i] < cmin ? l.cmp[i] : cmin;
+    cmax = l.cmp[i] > cmax ? l.cmp[i] : cmax;
+  }
+  struct extent x = { l.ntraces, cmin, cmax, l.time_first_ms, t_last };
   picture_loaded_free(&l);
   if (rc) {
     picture_image_free(&img);
     return cli_report(cmd, &err);
   }
   if (!quiet)
-    print_summary(out, &img, &info, json, "panel");
+    print_summary(out, &img, &info, json, "panel", &x);
   picture_image_free(&img);
   return EX_OK;
 }

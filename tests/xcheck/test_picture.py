@@ -133,7 +133,11 @@ for pct, cmap in ((99, "diverging"), (90, "grey"), (100, "semblance")):
 out3 = os.path.join(WORK, "window.png")
 p = run("picture", sec2, "--out", out3, "--cmps", "110-129", "--time-ms", "100-600",
         "--width", 400 + LEFT + RIGHT, "--height", 300 + TOP + BOTTOM, "--style", "density",
-        "--clip", "2.5")
+        "--clip", "2.5", "--json")
+info = json.loads(p.stdout) if p.returncode == 0 else {}
+ok(info.get("traces") == 20 and info.get("cmp_first") == 110 and info.get("cmp_last") == 129
+   and info.get("time_first_ms") == 100 and info.get("time_last_ms") == 600,
+   "the summary gives the CMPs and times drawn", str(info))
 sub = noise[110 - 101:129 - 101 + 1, (100 - 20) // 4:(600 - 20) // 4 + 1]   # delay 20 ms
 _, px3 = png(out3)
 want = expected_plot(sub, 400, 300, 2.5, "diverging").astype(int)
