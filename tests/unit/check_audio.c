@@ -223,6 +223,46 @@ START_TEST(test_many_channels)
 }
 END_TEST
 
+/* NaN and infinities in a float file are counted and replaced by 0, so the
+ * resampler never spreads them (common practice, as segy_read_trace does). */
+START_TEST(test_nonfinite_float)
+{
+  const char *in = tmp_path("nan.wav"), *out = tmp_path("nan.sgy");
+  SF_INFO si = { .samplerate = 44100, .channels = 2, .format = SF_FORMAT_WAV | SF_FORMAT_FLOAT };
+  SNDFILE *sf = sf_open(in, SFM_WRITE, &si);
+  ck_assert_ptr_nonnull(sf);
+  float fr[2 * 4410];
+  for (int i = 0; i < 2 * 4410; i++)
+    fr[i] = 1.5f;                                   /* float files may pass 1.0 */
+  fr[2 * 1000] = NAN;
+  fr[2 * 2000 + 1] = INFINITY;
+  fr[2 * 3000 + 1] = -INFINITY;
+  ck_assert_int_eq(sf_writef_float(sf, fr, 4410), 4410);
+  sf_close(sf);
+  tz_err err;
+  tz_err_init(&err);
+  audio_params p;
+  audio_params_init(&p);
+  audio_result r;
+  ck_assert_msg(audio_convert(in, out, &p, 1, 1, &r, &err) == TZ_OK, "%s", err.msg);
+  ck_assert_int_eq(r.nonfinite, 3);
+  ck_assert_int_eq(r.clipped, 0);                   /* no full scale for float */
+  ck_assert_double_eq_tol(r.peak, 1.5, 1e-9);
+  segy_file *f;
+  const segy_info *info;
+  read_back(out, &f, &info);
+  float s[400];
+  for (int t = 0; t < 2; t++) {
+    segy_trace_header h;
+    ck_assert_int_eq(segy_read_trace(f, t, &h, s, 400, &err), TZ_OK);
+    ck_assert_int_eq(segy_bad_samples(f), 0);
+    for (int k = 0; k < (int)info->samples; k++)
+      ck_assert(isfinite(s[k]));
+  }
+  segy_close(f);
+}
+END_TEST
+
 /* Window, channel, interval and ratio limits are refused with the numbers. */
 START_TEST(test_plan_errors)
 {
@@ -475,6 +515,7 @@ static Suite *audio_suite(void)
   tcase_add_test(tc, test_copy_exact_channels_polarity);
   tcase_add_test(tc, test_resample_spike_and_dc);
   tcase_add_test(tc, test_many_channels);
+  tcase_add_test(tc, test_nonfinite_float);
   tcase_add_test(tc, test_plan_errors);
   tcase_add_test(tc, test_probe_errors);
   tcase_add_test(tc, test_batch);
