@@ -55,6 +55,16 @@ expect_status 0 "geometry --layout --write on the converted shots" -- "$TZERO" g
   --layout "$T/layout.json" --write "$T/geo" --json "$T/sgy/shot_1.sgy" "$T/sgy/shot_2.sgy"
 expect_stdout '"binned":[[:space:]]*12' "all 12 traces binned"
 expect_status 0 "inspect the result" -- "$TZERO" inspect "$T/geo/shot_2.sgy"
+printf 'cmp,time_ms,velocity_mps\n1,0,1500\n1,400,1800\n' >"$T/velocity.csv"
+cat >"$T/line.json" <<'JSON'
+{"shots": ["geo/*.sgy"], "geometry": "headers", "velocity": "velocity.csv",
+ "output": {"section": "stk/line_stack.sgy", "report": "stk/line_qc.json"}}
+JSON
+mkdir "$T/stk"
+expect_status 0 "stack the converted, geometry-assigned shots" -- "$TZERO" stack \
+  --job "$T/line.json" --json
+expect_stdout '"read":[[:space:]]*12' "the stack reads all 12 traces"
+[ -s "$T/stk/line_stack.sgy" ] && ok "stacked section written" || notok "no stacked section"
 
 # Bad inputs: message naming the file, status, nothing written.
 printf 'field notes, line 3: shots 1-40 recorded on the blue recorder\n' >"$T/notes.wav"
