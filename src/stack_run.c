@@ -1,23 +1,34 @@
 /* stack_run.c -- the data pass: NMO, mutes and live-weighted sums, one CMP per thread.
  *
  * The traces are read in input order, file by file, in batches of up to
- * BATCH_TRACES. Each batch goes through two phases separated by barriers:
+ * BATCH_TRACES. Each batch goes through two phases:
  *   A. reading: thread t reads its contiguous slice of the batch (each thread
  *      keeps its own segy_file handle, so reading and sample conversion run in
  *      parallel) and classifies each trace with stack_plan_classify();
- *   B. stacking: thread t takes, in batch order, the traces of its CMPs (CMP
- *      index / OWNER_BLOCK modulo the thread count: blocks of 16 CMPs, so no
- *      two threads write the same cache line of the per-CMP counters): NMO
- *      (nmo_apply) with the CMP's velocity
- *      function, then sum[i] += out[i], weight[i] += w[i] over the live span.
- * Every CMP is therefore summed by exactly one thread, in input order, with the
- * same float operations whatever the thread count: the section is bitwise
- * identical for any N (tests/e2e/test_stack.sh proves it).
+ *   B. stacking: thread t takes, in batch order, the traces of the CMPs it
+ *      owns in this batch: NMO (nmo_apply) with the CMP's velocity function,
+ *      then sum[i] += out[i], weight[i] += w[i] over the live span.
+ * The two phases are pipelined over two batch buffers: in one step every
+ * thread reads its slice of batch k+1 and stacks its CMPs of batch k, then all
+ * meet at one barrier (a short spin before sleeping: a futex wake-up costs
+ * hundreds of microseconds on a virtual machine, as long as a phase).
+ * Ownership is decided per batch from the batch's own CMPs: their traces are
+ * split into T contiguous CMP ranges of about equal trace counts, so a shot
+ * whose CMPs fall mostly in one place still keeps every thread busy. (When a
+ * batch spans more CMPs than the velocity cache or the histogram holds, the
+ * fixed rule "CMP index / OWNER_BLOCK modulo T" is used instead.)
+ * Every CMP of a batch is therefore summed by exactly one thread, in input
+ * order, and batches follow each other through the barrier: the same float
+ * operations in the same order whatever the thread count, so the section is
+ * bitwise identical for any N (tests/e2e/test_stack.sh proves it).
  *
- * Velocity functions are sampled once per CMP into a direct-mapped cache whose
- * size is a multiple of the thread count, so a slot is only ever touched by the
- * CMP's own thread (no locks). Memory: sum and weight (2 x section), the cache
- * (at most the section, capped at CACHE_BYTES), one batch of input traces.
+ * Velocity functions are sampled once per CMP into a direct-mapped cache. A
+ * slot is only ever touched by the thread owning its CMP in the current batch
+ * (no locks): per-batch ranges are used only when the batch's CMP span fits
+ * in the cache (no two of its CMPs share a slot), and the cache size is a
+ * multiple of OWNER_BLOCK x T for the fixed rule. Memory: sum and weight
+ * (2 x section), the cache (at most the section, capped at CACHE_BYTES), two
+ * batches of input traces.
  *
  * Stack trace (REFERENCE.md §3.10): s(t0) = sum_i w_i f_i(t0) / sum_i w_i, where
  * the NMO output f_i already carries its taper weight w_i and muted samples have
@@ -27,6 +38,7 @@
 
 #include <math.h>
 #include <pthread.h>
+#include <stdatomic.h>
 #include <stdlib.h>
 #include <string.h>
 #include <time.h>
@@ -36,6 +48,66 @@
 #define CACHE_BYTES ((size_t)64 << 20)
 #define OWNER_BLOCK 16            /* CMPs per ownership block (16 x 4 bytes = a cache line) */
 #define LINE 64
+#define SPAN_MAX 4096             /* CMP span of a batch split into balanced ranges */
+#define SPIN_ROUNDS 20000         /* barrier polls (about 100 us) before sleeping */
+
+#if defined(__x86_64__) || defined(__i386__)
+#define cpu_relax() __builtin_ia32_pause()
+#else
+#define cpu_relax() ((void)0)
+#endif
+
+/* A barrier that spins briefly before it sleeps. The last thread to arrive
+ * resets the count and advances the generation; the others poll the
+ * generation, then wait on the condition variable. Sequentially consistent
+ * atomics order everything written before the barrier before everything read
+ * after it, as pthread_barrier_wait does.
+ * It also tells every thread the same thing about failures: a thread passes
+ * `failed` in, and the last one to arrive freezes "has any thread failed so
+ * far" for this round, so all threads leave the loop at the same barrier (a
+ * failure raised during the next round cannot reach a slow reader early). */
+typedef struct run_barrier {
+  pthread_mutex_t mu;
+  pthread_cond_t cv;
+  atomic_uint count, gen;
+  atomic_int failed;         /* sticky: some thread failed */
+  atomic_int stop;           /* `failed` as of the last completed round */
+  unsigned n;
+} run_barrier;
+
+static int barrier_wait(run_barrier *b, int failed)
+{
+  unsigned g = atomic_load(&b->gen);
+  if (failed)
+    atomic_store(&b->failed, 1);
+  if (atomic_fetch_add(&b->count, 1) + 1 == b->n) {
+    atomic_store(&b->stop, atomic_load(&b->failed));
+    atomic_store(&b->count, 0);
+    pthread_mutex_lock(&b->mu);
+    atomic_fetch_add(&b->gen, 1);
+    pthread_cond_broadcast(&b->cv);
+    pthread_mutex_unlock(&b->mu);
+    return atomic_load(&b->stop);
+  }
+  for (int k = 0; k < SPIN_ROUNDS && atomic_load(&b->gen) == g; k++)
+    cpu_relax();
+  if (atomic_load(&b->gen) == g) {
+    pthread_mutex_lock(&b->mu);
+    while (atomic_load(&b->gen) == g)
+      pthread_cond_wait(&b->cv, &b->mu);
+    pthread_mutex_unlock(&b->mu);
+  }
+  return atomic_load(&b->stop);
+}
+
+/* One batch: traces [a, a + n) of input file `file`, decoded into `in`. */
+typedef struct batch {
+  size_t file;
+  int64_t a, n;
+  float *in;                 /* BATCH_TRACES * ns */
+  int32_t *bidx;             /* CMP index or -1 */
+  double *boff;
+} batch;
 
 typedef struct run_shared run_shared;
 
@@ -54,13 +126,16 @@ typedef struct worker {
   int64_t read, stacked;
   int64_t muted_stretch, muted_top, muted_end, samples;
   stack_mute_class cls[STACK_MUTE_CLASSES];
+  int32_t *hist;             /* SPAN_MAX: traces per CMP of the batch */
+  int32_t own_lo, own_hi;    /* CMP indexes [own_lo, own_hi) owned in this batch */
+  int own_fixed;             /* 1: the fixed block rule instead */
 } worker;
 
 struct run_shared {
   const stack_plan *p;
   const stack_run_opts *o;
   int T;
-  pthread_barrier_t bar;
+  run_barrier bar;
   pthread_mutex_t gate_mu;   /* start gate: workers wait until every thread exists */
   pthread_cond_t gate_cv;
   int gate;                  /* 0 closed, 1 go, -1 abort */
@@ -77,12 +152,7 @@ struct run_shared {
   int32_t *tag;
   float *cvel, *ceta;
   int use_eta;
-  /* batch */
-  float *in;                 /* BATCH_TRACES * ns */
-  int32_t *bidx;             /* CMP index or -1 */
-  double *boff;
-  size_t bfile;
-  int64_t ba, bn;
+  batch bt[2];               /* batch k in bt[k % 2] */
   size_t nclasses;
   double class_m;
   worker *wk;
@@ -104,27 +174,27 @@ int stack_run_opts_init(stack_run_opts *o, const stack_plan *p, const velocity_t
   return stack_plan_nmo(p, &o->nmo, &o->mute, err);
 }
 
-static int read_slice(worker *w, int64_t lo, int64_t hi)
+static int read_slice(worker *w, const batch *b, int64_t lo, int64_t hi)
 {
   run_shared *sh = w->sh;
   const stack_plan *p = sh->p;
   if (lo >= hi)
     return TZ_OK;
-  if (!w->f || w->fcur != sh->bfile) {
+  if (!w->f || w->fcur != b->file) {
     segy_close(w->f);
     w->f = NULL;
-    int rc = stack_open_input(p, sh->bfile, &w->f, &w->err);
+    int rc = stack_open_input(p, b->file, &w->f, &w->err);
     if (rc)
       return rc;
-    w->fcur = sh->bfile;
+    w->fcur = b->file;
   }
   int axis_ok = stack_file_axis_ok(p, segy_get_info(w->f));
   for (int64_t t = lo; t < hi; t++) {
-    size_t j = (size_t)(t - sh->ba);
-    float *buf = sh->in + j * sh->ns;
+    size_t j = (size_t)(t - b->a);
+    float *buf = b->in + j * sh->ns;
     segy_trace_header h;
     int rc;
-    sh->bidx[j] = -1;
+    b->bidx[j] = -1;
     w->read++;
     if (!axis_ok) {
       w->skipped[STACK_SKIP_SAMPLE_AXIS]++;
@@ -132,9 +202,9 @@ static int read_slice(worker *w, int64_t lo, int64_t hi)
     }
     if (sh->subset) {
       if ((rc = segy_read_header(w->f, t, &h, &w->err)))
-        return tz_err_path(&w->err, p->inputs[sh->bfile].path);
+        return tz_err_path(&w->err, p->inputs[b->file].path);
     } else if ((rc = segy_read_trace(w->f, t, &h, buf, sh->ns, &w->err))) {
-      return tz_err_path(&w->err, p->inputs[sh->bfile].path);
+      return tz_err_path(&w->err, p->inputs[b->file].path);
     }
     int32_t cmp;
     double off;
@@ -148,9 +218,9 @@ static int read_slice(worker *w, int64_t lo, int64_t hi)
       continue;
     }
     if (sh->subset && (rc = segy_read_trace(w->f, t, &h, buf, sh->ns, &w->err)))
-      return tz_err_path(&w->err, p->inputs[sh->bfile].path);
-    sh->bidx[j] = cmp - sh->first;
-    sh->boff[j] = off;
+      return tz_err_path(&w->err, p->inputs[b->file].path);
+    b->bidx[j] = cmp - sh->first;
+    b->boff[j] = off;
   }
   return TZ_OK;
 }
@@ -195,23 +265,80 @@ static void accumulate(float *S, float *W, const float *o, const float *w, size_
   }
 }
 
-static int stack_slice(worker *w)
+/* Decides which CMPs of batch b this thread stacks. Every thread computes the
+ * same split from the same data: CMPs in increasing order, each going to
+ * thread floor(T x (traces before it + half its own) / traces), a monotone rule,
+ * so each thread gets one contiguous range of about n / T traces. */
+static void batch_owners(worker *w, const batch *b)
+{
+  run_shared *sh = w->sh;
+  int32_t lo = INT32_MAX, hi = -1;
+  int64_t live = 0;
+  for (int64_t j = 0; j < b->n; j++) {
+    int32_t ci = b->bidx[j];
+    if (ci < 0)
+      continue;
+    lo = ci < lo ? ci : lo;
+    hi = ci > hi ? ci : hi;
+    live++;
+  }
+  w->own_fixed = 0;
+  w->own_lo = w->own_hi = 0;
+  if (!live || sh->T == 1) {
+    w->own_hi = sh->T == 1 ? INT32_MAX : 0;
+    return;
+  }
+  size_t span = (size_t)(hi - lo) + 1;
+  if (span > SPAN_MAX || span > sh->cache_n) {
+    w->own_fixed = 1;
+    return;
+  }
+  memset(w->hist, 0, span * sizeof *w->hist);
+  for (int64_t j = 0; j < b->n; j++)
+    if (b->bidx[j] >= 0)
+      w->hist[b->bidx[j] - lo]++;
+  int64_t before = 0;
+  int found = 0;
+  for (size_t c = 0; c < span; c++) {
+    int64_t t = (int64_t)sh->T * (2 * before + w->hist[c]) / (2 * live);
+    before += w->hist[c];
+    if (t == w->id && !found) {
+      w->own_lo = lo + (int32_t)c;
+      found = 1;
+    }
+    if (t > w->id) {
+      w->own_hi = found ? lo + (int32_t)c : 0;
+      return;
+    }
+  }
+  w->own_hi = found ? hi + 1 : 0;
+}
+
+static int owns(const worker *w, int32_t ci)
+{
+  if (w->own_fixed)
+    return (ci / OWNER_BLOCK) % w->sh->T == w->id;
+  return ci >= w->own_lo && ci < w->own_hi;
+}
+
+static int stack_slice(worker *w, const batch *b)
 {
   run_shared *sh = w->sh;
   const nmo_axis *ax = &sh->p->axis;
   const nmo_top_mute *mute = sh->o->mute.n ? &sh->o->mute : NULL;
-  for (size_t j = 0; j < (size_t)sh->bn; j++) {
-    int32_t ci = sh->bidx[j];
-    if (ci < 0 || (ci / OWNER_BLOCK) % sh->T != w->id)
+  batch_owners(w, b);
+  for (size_t j = 0; j < (size_t)b->n; j++) {
+    int32_t ci = b->bidx[j];
+    if (ci < 0 || !owns(w, ci))
       continue;
     const float *vel, *eta;
     velocity_of(sh, ci, &vel, &eta);
     nmo_trace_info info;
-    int rc = nmo_apply(w->ws, &sh->o->nmo, mute, ax, sh->boff[j], sh->in + j * sh->ns, vel, eta,
+    int rc = nmo_apply(w->ws, &sh->o->nmo, mute, ax, b->boff[j], b->in + j * sh->ns, vel, eta,
                        w->out, w->w, &info, &w->err);
     if (rc) {
-      tz_err_path(&w->err, sh->p->inputs[sh->bfile].path);
-      w->err.trace = sh->ba + (int64_t)j;
+      tz_err_path(&w->err, sh->p->inputs[b->file].path);
+      w->err.trace = b->a + (int64_t)j;
       return rc;
     }
     accumulate(sh->sum + (size_t)ci * sh->ns, sh->wsum + (size_t)ci * sh->ns, w->out, w->w,
@@ -225,7 +352,7 @@ static int stack_slice(worker *w)
     w->muted_stretch += (int64_t)info.muted_stretch;
     w->muted_top += (int64_t)info.muted_top;
     w->muted_end += (int64_t)info.muted_end;
-    size_t k = (size_t)(sh->boff[j] / sh->class_m);
+    size_t k = (size_t)(b->boff[j] / sh->class_m);
     if (k >= sh->nclasses)
       k = sh->nclasses - 1;
     stack_mute_class *c = &w->cls[k];
@@ -238,12 +365,29 @@ static int stack_slice(worker *w)
   return TZ_OK;
 }
 
-static int any_failed(const run_shared *sh)
+/* Advances (*fi, *a) to the next batch at or after file *fi, trace *a; every
+ * thread walks the same sequence. Returns 0 after the last file. */
+static int next_batch(const stack_plan *p, batch *b, size_t fi, int64_t a)
 {
-  for (int t = 0; t < sh->T; t++)
-    if (sh->wk[t].failed)
-      return 1;
+  for (; fi < p->ninputs; fi++, a = 0) {
+    if (p->inputs[fi].bad || a >= p->inputs[fi].traces)
+      continue;
+    int64_t ntr = p->inputs[fi].traces;
+    b->file = fi;
+    b->a = a;
+    b->n = ntr - a < BATCH_TRACES ? ntr - a : BATCH_TRACES;
+    return 1;
+  }
+  b->n = 0;
   return 0;
+}
+
+/* Thread t's share of batch b: traces [a + n t / T, a + n (t + 1) / T). */
+static void read_share(worker *w, batch *b)
+{
+  int64_t lo = b->a + b->n * w->id / w->sh->T, hi = b->a + b->n * (w->id + 1) / w->sh->T;
+  if (read_slice(w, b, lo, hi))
+    w->failed = 1;
 }
 
 static void *work(void *arg)
@@ -259,35 +403,28 @@ static void *work(void *arg)
   pthread_mutex_unlock(&sh->gate_mu);
   if (!go)
     return NULL;
-  for (size_t fi = 0; fi < p->ninputs; fi++) {
-    if (p->inputs[fi].bad)
-      continue;
-    int64_t ntr = p->inputs[fi].traces;
-    for (int64_t a = 0; a < ntr; a += BATCH_TRACES) {
-      int64_t n = ntr - a < BATCH_TRACES ? ntr - a : BATCH_TRACES;
-      if (w->id == 0) {
-        sh->bfile = fi;
-        sh->ba = a;
-        sh->bn = n;
-      }
-      pthread_barrier_wait(&sh->bar);     /* batch set */
-      int64_t lo = a + n * w->id / sh->T, hi = a + n * (w->id + 1) / sh->T;
-      if (read_slice(w, lo, hi))
-        w->failed = 1;
-      pthread_barrier_wait(&sh->bar);     /* batch read */
-      if (any_failed(sh))
-        goto out;
-      if (stack_slice(w))
-        w->failed = 1;
-      pthread_barrier_wait(&sh->bar);     /* batch stacked */
-      if (any_failed(sh))
-        goto out;
-      done += n;
-      if (w->id == 0 && sh->o->progress)
-        sh->o->progress(sh->o->progress_ctx, done, p->traces);
-    }
+  /* Step k reads batch k + 1 into one buffer and stacks batch k from the other.
+   * Only the descriptors (file, a, n) are per thread; the buffers are shared. */
+  batch cur = sh->bt[0], nxt = sh->bt[1];
+  int have = next_batch(p, &cur, 0, 0);
+  if (have)
+    read_share(w, &cur);
+  int stop = barrier_wait(&sh->bar, w->failed);   /* batch 0 read */
+  while (have && !stop) {
+    int more = next_batch(p, &nxt, cur.file, cur.a + cur.n);
+    if (more)
+      read_share(w, &nxt);
+    if (stack_slice(w, &cur))
+      w->failed = 1;
+    stop = barrier_wait(&sh->bar, w->failed);     /* batch k stacked, k + 1 read */
+    done += cur.n;
+    if (w->id == 0 && sh->o->progress && !stop)
+      sh->o->progress(sh->o->progress_ctx, done, p->traces);
+    batch t = cur;                        /* swap buffers */
+    cur = nxt;
+    nxt = t;
+    have = more;
   }
-out:
   segy_close(w->f);
   w->f = NULL;
   return NULL;
@@ -329,11 +466,14 @@ static void free_shared(run_shared *sh)
   free(sh->tag);
   free(sh->cvel);
   free(sh->ceta);
-  free(sh->in);
-  free(sh->bidx);
-  free(sh->boff);
+  for (int k = 0; k < 2; k++) {
+    free(sh->bt[k].in);
+    free(sh->bt[k].bidx);
+    free(sh->bt[k].boff);
+  }
   if (sh->wk)
     for (int t = 0; t < sh->T; t++) {
+      free(sh->wk[t].hist);
       nmo_workspace_free(sh->wk[t].ws);
       free(sh->wk[t].out);
       free(sh->wk[t].w);
@@ -387,12 +527,17 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
   sh.tag = malloc(sh.cache_n * sizeof *sh.tag);
   sh.cvel = malloc(sh.cache_n * sh.ns * sizeof *sh.cvel);
   sh.ceta = sh.use_eta ? malloc(sh.cache_n * sh.ns * sizeof *sh.ceta) : NULL;
-  sh.in = malloc((size_t)BATCH_TRACES * sh.ns * sizeof *sh.in);
-  sh.bidx = malloc(BATCH_TRACES * sizeof *sh.bidx);
-  sh.boff = malloc(BATCH_TRACES * sizeof *sh.boff);
+  int bt_ok = 1;
+  for (int k = 0; k < 2; k++) {
+    batch *b = &sh.bt[k];
+    b->in = malloc((size_t)BATCH_TRACES * sh.ns * sizeof *b->in);
+    b->bidx = malloc(BATCH_TRACES * sizeof *b->bidx);
+    b->boff = malloc(BATCH_TRACES * sizeof *b->boff);
+    bt_ok = bt_ok && b->in && b->bidx && b->boff;
+  }
   sh.wk = calloc((size_t)sh.T, sizeof *sh.wk);
   if (!sh.sum || !sh.wsum || !sh.fold || !sh.live || !sh.maxfirst || !sh.tag || !sh.cvel ||
-      (sh.use_eta && !sh.ceta) || !sh.in || !sh.bidx || !sh.boff || !sh.wk) {
+      (sh.use_eta && !sh.ceta) || !bt_ok || !sh.wk) {
     free_shared(&sh);
     return tz_fail(err, TZ_E_NOMEM, "section of %zu CMPs x %zu samples", sh.ncmps, sh.ns);
   }
@@ -406,7 +551,8 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
     tz_err_init(&w->err);
     w->out = malloc(sh.ns * sizeof *w->out);
     w->w = malloc(sh.ns * sizeof *w->w);
-    if (!w->out || !w->w)
+    w->hist = malloc(SPAN_MAX * sizeof *w->hist);
+    if (!w->out || !w->w || !w->hist)
       rc = tz_fail(err, TZ_E_NOMEM, "trace buffers");
     else
       rc = nmo_workspace_new(&w->ws, sh.ns, err);
@@ -415,10 +561,13 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
     free_shared(&sh);
     return rc;
   }
-  if (pthread_barrier_init(&sh.bar, NULL, (unsigned)sh.T)) {
-    free_shared(&sh);
-    return tz_fail(err, TZ_E_INTERNAL, "cannot make a thread barrier");
-  }
+  pthread_mutex_init(&sh.bar.mu, NULL);
+  pthread_cond_init(&sh.bar.cv, NULL);
+  atomic_init(&sh.bar.count, 0);
+  atomic_init(&sh.bar.gen, 0);
+  atomic_init(&sh.bar.failed, 0);
+  atomic_init(&sh.bar.stop, 0);
+  sh.bar.n = (unsigned)sh.T;
   pthread_mutex_init(&sh.gate_mu, NULL);
   pthread_cond_init(&sh.gate_cv, NULL);
   for (int t = 1; t < sh.T && !rc; t++) {
@@ -436,7 +585,8 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
   for (int t = 1; t < sh.T; t++)
     if (sh.wk[t].started)
       pthread_join(sh.wk[t].th, NULL);
-  pthread_barrier_destroy(&sh.bar);
+  pthread_mutex_destroy(&sh.bar.mu);
+  pthread_cond_destroy(&sh.bar.cv);
   pthread_mutex_destroy(&sh.gate_mu);
   pthread_cond_destroy(&sh.gate_cv);
   if (!rc)
