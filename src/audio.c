@@ -419,7 +419,7 @@ static int resample_window(sfin *f, const audio_window *w, int quality, const in
       scatter(ob, nsel, (size_t)a, (size_t)b, factor, rec, nout, (size_t)(q + a - lead_out));
     q += gen;
     if (eof && have == 0 && gen == 0)
-      break;                              /* flushed; any samples left stay 0 */
+      break;                              /* flushed */
   }
   src_delete(state);
   if (!rc && q < want_out)
