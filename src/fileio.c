@@ -115,6 +115,14 @@ int fileio_read_all(const char *path, size_t max, char **out, size_t *len, tz_er
     tz_err_path(err, path);
     return tz_fail_os(err, TZ_E_NOINPUT, e, "cannot open");
   }
+  /* fopen() opens a folder for reading on Linux; the first read then fails
+   * with EISDIR, which would be reported as an I/O error. */
+  struct stat st;
+  if (fstat(fileno(fp), &st) == 0 && S_ISDIR(st.st_mode)) {
+    fclose(fp);
+    tz_err_path(err, path);
+    return tz_fail(err, TZ_E_NOINPUT, "is a folder, expected a file");
+  }
   size_t cap = 4096, n = 0;
   char *buf = malloc(cap);
   int rc = TZ_OK;

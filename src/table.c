@@ -7,6 +7,8 @@
  */
 #include "tzero/table.h"
 
+#include "tzero/fileio.h"
+
 #include <ctype.h>
 #include <errno.h>
 #include <math.h>
@@ -46,43 +48,11 @@ static int make(table_reader **out, const char *name, char *text, size_t len, tz
 
 int table_open(table_reader **out, const char *path, tz_err *err)
 {
-  FILE *fp = fopen(path, "rb");
-  if (!fp) {
-    int e = errno;
-    tz_err_path(err, path);
-    return tz_fail_os(err, TZ_E_NOINPUT, e, "cannot open table");
-  }
-  size_t cap = 4096, len = 0;
-  char *buf = malloc(cap);
-  if (!buf) {
-    fclose(fp);
-    return tz_fail(err, TZ_E_NOMEM, "table buffer");
-  }
-  for (;;) {
-    if (cap - len < 4096) {
-      char *nb = realloc(buf, cap * 2);
-      if (!nb) {
-        free(buf);
-        fclose(fp);
-        return tz_fail(err, TZ_E_NOMEM, "table buffer");
-      }
-      buf = nb;
-      cap *= 2;
-    }
-    size_t got = fread(buf + len, 1, cap - len - 1, fp);
-    len += got;
-    if (got == 0)
-      break;
-  }
-  if (ferror(fp)) {
-    int e = errno;
-    free(buf);
-    fclose(fp);
-    tz_err_path(err, path);
-    return tz_fail_os(err, TZ_E_IO, e, "read failed");
-  }
-  fclose(fp);
-  buf[len] = '\0';
+  char *buf;
+  size_t len;
+  int rc = fileio_read_all(path, TABLE_MAX_BYTES, &buf, &len, err);
+  if (rc)
+    return rc;
   return make(out, path, buf, len, err);
 }
 

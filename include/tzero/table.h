@@ -20,6 +20,9 @@ void table_close(table_reader *t);                 /* NULL is a no-op */
  * split on commas and trimmed of blanks. *nfields is 0 at end of input.
  * Lines longer than TABLE_MAX_LINE are TZ_E_FORMAT. */
 #define TABLE_MAX_LINE 65536
+/* A table file larger than this is refused before it is read whole (TZ_E_FORMAT);
+ * a geometry table of a million traces is about 80 MB. */
+#define TABLE_MAX_BYTES (1u << 28)
 #define TABLE_MAX_FIELDS 256
 int table_next(table_reader *t, size_t *nfields, tz_err *err);
 /* Borrowed until the next table_next(); "" past the last field. */

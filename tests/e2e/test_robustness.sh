@@ -1,0 +1,41 @@
+# test_robustness.sh -- bad input of every kind against the contract of DESIGN.md:
+# a one-line message naming the file (and line, trace or byte where one applies),
+# the <sysexits.h> status (BSD sysexits(3): 64 usage, 65 data, 66 no input,
+# 73 cannot create, 74 I/O) and no output left behind, not even a hidden
+# temporary file. Each case here was a defect once; the comment says how it failed.
+# The survey is tiny and written by `tzero synth`; the defects are made with
+# python3 byte edits (SEG-Y rev 1 byte positions, REFERENCE.md §1).
+. "$TOP/tests/e2e/lib.sh"
+cd "$T" || exit 1
+cat >model.json <<'JSON'
+{"layers": [{"thickness_m": 50, "velocity_mps": 1500}, {"velocity_mps": 2200}]}
+JSON
+cat >layout.json <<'JSON'
+{"receiver_interval_m": 5, "source_interval_m": 10, "shot_count": 4, "channels": 8}
+JSON
+"$TZERO" synth --model model.json --layout layout.json --out sv --record-ms 200 \
+  --interval-ms 2 --rms-table vel.csv --quiet || { notok "synth survey"; exit 1; }
+cat >job.json <<'JSON'
+{"shots": ["sv/*.sgy"], "velocity": "vel.csv", "output": {"section": "out.sgy"}}
+JSON
+# no_leftovers DESC: nothing but the inputs in $T (no output, no .NAME.tmp-*)
+no_leftovers() {
+  extra=$(ls -A | grep -Ev '^(model\.json|layout\.json|sv|vel\.csv|job\.json|in|out|err)$' | tr '\n' ' ')
+  if [ -z "$extra" ]; then ok "$1: no output left"; else notok "$1: left $extra"; fi
+}
+mkdir in
+
+# --- a folder given where a file is expected was an I/O error (74, "read failed:
+# Is a directory"): fopen() opens folders on Linux, the read fails. It is a
+# missing input (66). Common practice (sysexits(3): EX_NOINPUT).
+expect_status 66 "velocity table that is a folder" -- "$TZERO" velocity check sv
+expect_stderr "sv: is a folder" "message names the folder"
+expect_status 66 "job file that is a folder" -- "$TZERO" stack --job sv --out x.sgy
+expect_status 66 "geometry table that is a folder" -- "$TZERO" geometry --table sv sv/shot_000001.sgy
+expect_status 66 "layout that is a folder" -- "$TZERO" geometry --layout sv sv/shot_000001.sgy
+# an endless input (a device) was read without limit into memory
+expect_status 65 "table from an endless device is refused at the size cap" -- \
+  "$TZERO" velocity check /dev/zero
+expect_stderr "/dev/zero: file larger than" "message names the device and the cap"
+no_leftovers "folders and devices as inputs"
+
