@@ -199,7 +199,6 @@ static int parse_reader(velocity_table **out, table_reader *r, tz_err *err)
   int rc = table_next(r, &nf, err);
   if (rc)
     return rc;
-  tz_err_path(err, table_name(r));
   if (nf == 0)
     return tz_fail_line(err, TZ_E_FORMAT, -1,
                         "empty velocity table: expected the header line "
@@ -254,15 +253,24 @@ static int parse_reader(velocity_table **out, table_reader *r, tz_err *err)
   return TZ_OK;
 }
 
+/* The table's name goes into err only on failure: a successful load must not
+ * leave its path behind for a later, unrelated error to be reported under. */
+static int parse_named(velocity_table **out, table_reader *r, tz_err *err)
+{
+  int rc = parse_reader(out, r, err);
+  if (rc)
+    tz_err_path(err, table_name(r));
+  table_close(r);
+  return rc;
+}
+
 int velocity_table_load(velocity_table **out, const char *path, tz_err *err)
 {
   table_reader *r;
   int rc = table_open(&r, path, err);
   if (rc)
     return rc;
-  rc = parse_reader(out, r, err);
-  table_close(r);
-  return rc;
+  return parse_named(out, r, err);
 }
 
 int velocity_table_parse(velocity_table **out, const char *name, const char *text,
@@ -272,9 +280,7 @@ int velocity_table_parse(velocity_table **out, const char *name, const char *tex
   int rc = table_open_mem(&r, name, text, len, err);
   if (rc)
     return rc;
-  rc = parse_reader(out, r, err);
-  table_close(r);
-  return rc;
+  return parse_named(out, r, err);
 }
 
 int velocity_table_constant(velocity_table **out, double v_mps, tz_err *err)

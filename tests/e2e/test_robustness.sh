@@ -39,3 +39,15 @@ expect_status 65 "table from an endless device is refused at the size cap" -- \
 expect_stderr "/dev/zero: file larger than" "message names the device and the cap"
 no_leftovers "folders and devices as inputs"
 
+# --- a successful velocity load left its path in the error record, so a later
+# failure (here: a CMP range too long for one section) was reported under the
+# velocity file's name.
+cat >range.json <<'JSON'
+{"shots": ["sv/*.sgy"], "velocity": "vel.csv", "selection": {"cmp_first": 1, "cmp_last": 999999999},
+ "output": {"section": "x.sgy"}}
+JSON
+expect_status 65 "CMP range too long for one section" -- "$TZERO" stack --job range.json --quiet
+if grep -q 'vel\.csv' "$T/err"; then notok "error is not blamed on the velocity table"
+else ok "error is not blamed on the velocity table"; fi
+rm -f range.json
+no_leftovers "CMP range"
