@@ -16,6 +16,7 @@
  */
 #include "stack_int.h"
 
+#include <errno.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -821,8 +822,20 @@ int stack_setup_load(stack_setup *s, const char *job_path, const job_overrides *
                  "--velocity)");
     tz_err_path(err, job_path);
   }
-  if (!rc && s->job->velocity)
-    rc = velocity_table_load(&s->velocity, s->job->velocity, err);
+  if (!rc && s->job->velocity) {
+    /* job_load does not require the file (semblance creates it); here it is read. */
+    struct stat st;
+    if (stat(s->job->velocity, &st) != 0) {
+      int e = errno;
+      if (need_velocity) {
+        rc = tz_fail_os(err, TZ_E_NOINPUT, e, "$.velocity: cannot open '%s' (a velocity "
+                        "table is needed here; tzero semblance writes one)", s->job->velocity);
+        tz_err_path(err, job_path);
+      }
+    } else {
+      rc = velocity_table_load(&s->velocity, s->job->velocity, err);
+    }
+  }
   if (!rc)
     rc = stack_plan_build(&s->plan, s->job, progress, ctx, err);
   if (rc) {

@@ -135,8 +135,9 @@ typedef struct stack_setup {
 } stack_setup;
 
 /* Loads the job file, applies `ov` (may be NULL), loads the velocity table
- * (required when need_velocity; a job without one is then TZ_E_JOB naming
- * $.velocity) and builds the plan. On failure nothing is left to free. */
+ * (required when need_velocity: a job without one is then TZ_E_JOB and a
+ * table that does not exist TZ_E_NOINPUT, both naming $.velocity; otherwise a
+ * table not written yet is left out) and builds the plan. On failure nothing is left to free. */
 int stack_setup_load(stack_setup *s, const char *job_path, const job_overrides *ov,
                      int need_velocity, stack_progress_fn progress, void *ctx, tz_err *err);
 void stack_setup_free(stack_setup *s);     /* frees the members; NULL members are fine */

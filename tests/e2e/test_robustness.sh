@@ -51,3 +51,26 @@ if grep -q 'vel\.csv' "$T/err"; then notok "error is not blamed on the velocity 
 else ok "error is not blamed on the velocity table"; fi
 rm -f range.json
 no_leftovers "CMP range"
+
+# --- a job naming a velocity table that does not exist yet was refused by every
+# command (66), which broke the usual first run: semblance writes that table.
+# Commands that do not read it accept the job; stack and nmo still need it.
+cat >first.json <<'JSON'
+{"shots": ["sv/*.sgy"], "velocity": "later.csv", "output": {"section": "x.sgy"}}
+JSON
+expect_status 0 "semblance with the job's velocity table not written yet" -- \
+  "$TZERO" semblance --job first.json --cmps 8 --out later.csv --quiet
+[ -s later.csv ] && ok "semblance wrote the table the job names" || notok "no later.csv"
+rm -f later.csv
+expect_status 0 "cvs with the job's velocity table not written yet" -- \
+  "$TZERO" cvs --job first.json --cmps 6-10 --velocities 1500,2000 --out cvs.sgy --quiet
+rm -f cvs.sgy
+expect_status 0 "geometry with the job's velocity table not written yet" -- \
+  "$TZERO" geometry --job first.json --quiet
+expect_status 66 "stack still needs the velocity table" -- "$TZERO" stack --job first.json --quiet
+expect_stderr "first\.json: .*\\\$\.velocity: cannot open '.*later\.csv'" "message names the job, key and file"
+expect_status 66 "nmo still needs the velocity table" -- "$TZERO" nmo --job first.json --cmps 8 \
+  --out g.sgy --quiet
+expect_stderr "\\\$\.velocity: cannot open" "nmo message names the key"
+rm -f first.json
+no_leftovers "velocity table not written yet"

@@ -90,6 +90,20 @@ START_TEST(test_minimal_defaults)
 }
 END_TEST
 
+/* The velocity table a job names may not exist yet: `tzero semblance --job` is
+ * the usual first run and writes it (DESIGN.md pipeline; issue report). */
+START_TEST(test_velocity_not_written_yet)
+{
+  job_spec *j = NULL;
+  tz_err e;
+  ck_assert_int_eq(parse("{\"shots\": [\"shots/*.sgy\"], \"velocity\": \"later.csv\"}", &j, &e),
+                   TZ_OK);
+  ck_assert_ptr_nonnull(strstr(j->velocity, "later.csv"));
+  ck_assert_int_eq(strncmp(j->velocity, dir, strlen(dir)), 0);  /* relative to job folder */
+  job_free(j);
+}
+END_TEST
+
 START_TEST(test_full_job)
 {
   const char *t =
@@ -158,8 +172,6 @@ static const struct {
   { "{\"shots\": [\"nothing/*.sgy\"]}", TZ_E_NOINPUT, "$.shots[0]: pattern" },
   { "{\"shots\": []}", TZ_E_JOB, "$.shots: expected at least one file pattern" },
   { "{\"velocity\": \"vel.csv\"}", TZ_E_JOB, "$.shots: required key missing" },
-  { "{\"shots\": [\"shots/*.sgy\"], \"velocity\": \"missing.csv\"}", TZ_E_NOINPUT,
-    "$.velocity: cannot open" },
   { "{\"shots\": [\"shots/*.sgy\"], \"geometry\": \"layout\"}", TZ_E_JOB, "$.geometry: expected" },
   { "{\"shots\": [\"shots/*.sgy\"], \"geometry\": {\"table\": \"nope.csv\"}}", TZ_E_NOINPUT,
     "$.geometry.table: cannot open" },
@@ -298,6 +310,7 @@ static Suite *job_suite(void)
   tcase_add_test(tc, test_edit_distance);
   tcase_add_test(tc, test_minimal_defaults);
   tcase_add_test(tc, test_full_job);
+  tcase_add_test(tc, test_velocity_not_written_yet);
   tcase_add_loop_test(tc, test_bad_jobs, 0, (int)(sizeof bad / sizeof bad[0]));
   tcase_add_test(tc, test_json_error_offset);
   tcase_add_test(tc, test_overrides);
