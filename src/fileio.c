@@ -107,6 +107,13 @@ void fileio_abort(fileio_out *o)
   release(o);
 }
 
+int fileio_same_file(const char *a, const char *b)
+{
+  struct stat sa, sb;
+  return stat(a, &sa) == 0 && stat(b, &sb) == 0 && sa.st_dev == sb.st_dev &&
+         sa.st_ino == sb.st_ino;
+}
+
 int fileio_read_all(const char *path, size_t max, char **out, size_t *len, tz_err *err)
 {
   FILE *fp = fopen(path, "rb");

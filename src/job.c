@@ -807,6 +807,44 @@ static int add_str(cJSON *o, const char *k, const char *v)
   return cJSON_AddItemToObject(o, k, v ? cJSON_CreateString(v) : cJSON_CreateNull()) ? 0 : -1;
 }
 
+/* ---------------------------------------------------------------- outputs */
+
+int job_check_output(const job_spec *j, const char *out, const char *what, int reads_velocity,
+                     tz_err *err)
+{
+  struct stat st;
+  if (!out || stat(out, &st) != 0)
+    return TZ_OK;                        /* not there yet: nothing to overwrite */
+  const char *one[] = { j->path, reads_velocity ? j->velocity : NULL, j->geometry_file,
+                        j->header_map };
+  const char *hit = NULL;
+  for (size_t i = 0; !hit && i < sizeof one / sizeof one[0]; i++)
+    if (one[i] && one[i][0] && fileio_same_file(out, one[i]))
+      hit = one[i];
+  for (size_t i = 0; !hit && i < j->nshots; i++)
+    if (fileio_same_file(out, j->shots[i]))
+      hit = j->shots[i];
+  if (!hit)
+    return TZ_OK;
+  tz_err_path(err, out);
+  return tz_fail(err, TZ_E_CREATE, "%s would overwrite the input %s; choose another output",
+                 what, hit);
+}
+
+int job_check_outputs(const job_spec *j, tz_err *err)
+{
+  int rc;
+  if ((rc = job_check_output(j, j->section, "the section ($.output.section or --out)", 1, err)) ||
+      (rc = job_check_output(j, j->report, "the report ($.output.report or --report)", 1, err)))
+    return rc;
+  if (j->section && j->report &&
+      (!strcmp(j->section, j->report) || fileio_same_file(j->section, j->report))) {
+    tz_err_path(err, j->report);
+    return tz_fail(err, TZ_E_CREATE, "the report and the section are the same file");
+  }
+  return TZ_OK;
+}
+
 int job_to_json(const job_spec *j, char **out, tz_err *err)
 {
   cJSON *r = cJSON_CreateObject(), *o;

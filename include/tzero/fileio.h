@@ -20,6 +20,10 @@ int fileio_commit(fileio_out *o, tz_err *err);
 /* Closes and removes the temporary file; takes the handle. NULL is a no-op. */
 void fileio_abort(fileio_out *o);
 
+/* 1 when `a` and `b` both exist and are the same file (device and inode), so
+ * that writing one would replace the other; 0 otherwise. */
+int fileio_same_file(const char *a, const char *b);
+
 /* Reads a whole file into a NUL-terminated buffer the caller owns (free()).
  * Files larger than `max` bytes are TZ_E_FORMAT. */
 int fileio_read_all(const char *path, size_t max, char **out, size_t *len, tz_err *err);

@@ -117,6 +117,16 @@ void job_overrides_init(job_overrides *o);
 /* Applies and re-checks the overridden values (missing velocity file etc.). */
 int job_apply_overrides(job_spec *j, const job_overrides *o, tz_err *err);
 
+/* TZ_E_CREATE when writing `out` would replace one of the job's inputs (the job
+ * file, a shot file, the geometry file, the header map and, when `reads_velocity`,
+ * the velocity table): outputs are renamed into place, so the input would be
+ * lost. `what` names the output in the message ("--out"). An output that does
+ * not exist yet is always fine. Semblance may write the job's velocity table. */
+int job_check_output(const job_spec *j, const char *out, const char *what, int reads_velocity,
+                     tz_err *err);
+/* job_check_output for the job's section and report, and that the two differ. */
+int job_check_outputs(const job_spec *j, tz_err *err);
+
 /* The resolved job as JSON text (same keys as the file, all defaults filled,
  * shot list expanded). On success *out owns a NUL-terminated string (free()). */
 int job_to_json(const job_spec *j, char **out, tz_err *err);

@@ -120,6 +120,8 @@ int cmd_cvs(int argc, char **argv)
     rc = job_apply_overrides(job, &ov, &err);
   }
   if (!rc)
+    rc = job_check_output(job, out, "--out", 0, &err);
+  if (!rc)
     rc = stack_plan_build(&plan, job, NULL, NULL, &err);
   if (rc)
     goto done;

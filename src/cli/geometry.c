@@ -172,6 +172,13 @@ static int pass(run *r, int which, tz_err *err)
           return tz_fail(err, TZ_E_NOMEM, "trace buffer");
         }
       }
+      if (fileio_same_file(path, r->files[f])) {
+        segy_close(sf);
+        free(buf);
+        tz_err_path(err, path);
+        return tz_fail(err, TZ_E_CREATE, "--write %s would overwrite the input %s; choose "
+                       "another folder", r->write_dir, r->files[f]);
+      }
       if ((rc = segy_writer_open(&w, path, &wo, err)))
         goto file_done;
     }

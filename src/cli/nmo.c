@@ -95,7 +95,8 @@ int cmd_nmo(int argc, char **argv)
   }
   stack_run_opts ro;
   int64_t written = 0;
-  if (!(rc = stack_run_opts_init(&ro, su.plan, su.velocity, &e)) &&
+  if (!(rc = job_check_output(su.job, out, "--out", 1, &e)) &&
+      !(rc = stack_run_opts_init(&ro, su.plan, su.velocity, &e)) &&
       !(rc = stack_collect(su.plan, cmps, ncmps, &g, &e)))
     rc = stack_write_nmo_gathers(su.plan, g, &ro, out, su.job->sample_format, &written, &e);
   if (!rc && json) {

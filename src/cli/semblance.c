@@ -329,7 +329,9 @@ int cmd_semblance(int argc, char **argv)
   job_overrides_init(&ov);
   ov.stretch_limit_pct = o.stretch;
   ov.threads = (int)o.threads;
-  if ((rc = job_apply_overrides(job, &ov, &err)))
+  if ((rc = job_apply_overrides(job, &ov, &err)) ||
+      (rc = job_check_output(job, o.out, "--out", 0, &err)) ||
+      (rc = job_check_output(job, o.panels, "--panels", 0, &err)))
     goto done;
   if ((rc = stack_plan_build(&plan, job, NULL, NULL, &err)))
     goto done;

@@ -147,6 +147,8 @@ int cmd_stack(int argc, char **argv)
     tz_err_path(&e, jobpath);
     goto done;
   }
+  if ((rc = job_check_outputs(job, &e)))
+    goto done;
   /* the report's temporary file first: a report that cannot be created stops
    * the run before the section appears */
   if (job->report && (rc = fileio_create(&rep_out, job->report, &e)))

@@ -74,3 +74,37 @@ expect_status 66 "nmo still needs the velocity table" -- "$TZERO" nmo --job firs
 expect_stderr "\\\$\.velocity: cannot open" "nmo message names the key"
 rm -f first.json
 no_leftovers "velocity table not written yet"
+
+# --- an output naming an input replaced it: outputs are renamed into place, so
+# `stack --out sv/shot_000001.sgy` destroyed a shot record (exit 0) and
+# `--report job.json` the job. Refused as "cannot create output" (73).
+cp sv/shot_000001.sgy in/keep.sgy
+cp job.json in/job.json
+cp vel.csv in/vel.csv
+expect_status 73 "stack section onto a shot file" -- "$TZERO" stack --job job.json \
+  --out sv/shot_000001.sgy --quiet
+expect_stderr "would overwrite the input .*shot_000001\.sgy" "message names the input"
+cmp -s sv/shot_000001.sgy in/keep.sgy && ok "the shot file is intact" || notok "shot file changed"
+expect_status 73 "stack section onto the velocity table" -- "$TZERO" stack --job job.json \
+  --out vel.csv --quiet
+expect_status 73 "stack report onto the job file" -- "$TZERO" stack --job job.json \
+  --out x.sgy --report job.json --quiet
+expect_status 73 "stack report and section the same file" -- "$TZERO" stack --job job.json \
+  --out x.sgy --report x.sgy --quiet
+expect_status 73 "nmo gathers onto a shot file" -- "$TZERO" nmo --job job.json --cmps 8 \
+  --out sv/shot_000002.sgy --quiet
+expect_status 73 "cvs panels onto a shot file" -- "$TZERO" cvs --job job.json --cmps 6-10 \
+  --velocities 1500 --out sv/shot_000002.sgy --quiet
+expect_status 73 "semblance table onto the job file" -- "$TZERO" semblance --job job.json \
+  --cmps 8 --out job.json --quiet
+expect_status 73 "velocity intervals onto its input" -- "$TZERO" velocity intervals vel.csv \
+  --out vel.csv
+expect_status 73 "geometry --write into the shot folder" -- "$TZERO" geometry --write sv \
+  sv/shot_000001.sgy --quiet
+cmp -s sv/shot_000001.sgy in/keep.sgy && cmp -s job.json in/job.json && cmp -s vel.csv in/vel.csv &&
+  ok "every input is intact" || notok "an input changed"
+# semblance writing the velocity table its job names is the usual revision loop
+expect_status 0 "semblance may rewrite the job's velocity table" -- "$TZERO" semblance \
+  --job job.json --cmps 8 --out vel.csv --quiet
+cp in/vel.csv vel.csv
+no_leftovers "outputs onto inputs"
