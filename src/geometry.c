@@ -110,6 +110,27 @@ int geometry_layout_check(const geometry_layout *l, tz_err *err)
       !isfinite(l->azimuth_deg) || !isfinite(l->first_source_m) ||
       !isfinite(l->source_offset_m) || !isfinite(l->source_depth_m))
     return tz_fail(err, TZ_E_FORMAT, "layout positions must be finite numbers");
+  if (fabs(l->first_station_x_m) > GEOMETRY_MAX_COORD_M ||
+      fabs(l->first_station_y_m) > GEOMETRY_MAX_COORD_M)
+    return tz_fail(err, TZ_E_FORMAT, "first_station_x_m and first_station_y_m must be within "
+                   "+-%g m", GEOMETRY_MAX_COORD_M);
+  if (l->receiver_interval_m < 0.01 || l->source_interval_m < 0.01)
+    return tz_fail(err, TZ_E_FORMAT, "receiver_interval_m and source_interval_m must be at "
+                   "least 0.01 m");
+  double spread = l->near_offset_m + (double)l->channels * l->receiver_interval_m;
+  double extent = fabs(l->first_source_m) + (double)(l->shot_count - 1) * l->source_interval_m;
+  if (spread > GEOMETRY_MAX_EXTENT_M || extent + spread > GEOMETRY_MAX_EXTENT_M)
+    return tz_fail(err, TZ_E_FORMAT, "the line reaches %.6g m from station 0 (first_source_m, "
+                   "shot_count x source_interval_m, near_offset_m, channels x "
+                   "receiver_interval_m); at most %g m", extent + spread, GEOMETRY_MAX_EXTENT_M);
+  if (fabs(l->source_offset_m) > GEOMETRY_MAX_HEIGHT_M || l->source_depth_m < 0 ||
+      l->source_depth_m > GEOMETRY_MAX_HEIGHT_M)
+    return tz_fail(err, TZ_E_FORMAT, "source_offset_m must be within +-%g m and source_depth_m "
+                   "within 0..%g m", GEOMETRY_MAX_HEIGHT_M, GEOMETRY_MAX_HEIGHT_M);
+  for (size_t i = 0; i < l->nstation_elev; i++)
+    if (fabs(l->station_elev_m[i]) > GEOMETRY_MAX_HEIGHT_M)
+      return tz_fail(err, TZ_E_FORMAT, "station_elevations_m[%zu]: %g m is beyond +-%g m", i,
+                     l->station_elev_m[i], GEOMETRY_MAX_HEIGHT_M);
   /* Field records and channel numbers must stay inside int32. */
   double last_ffid = (double)l->first_field_record +
                      (double)(l->shot_count - 1) * (double)l->field_record_step;
@@ -185,7 +206,12 @@ static int layout_key(geometry_layout *l, const cJSON *it, tz_err *err)
   if (!strcmp(k, "first_source_m")) return json_number(it, k, &l->first_source_m, err);
   if (!strcmp(k, "shot_count")) return json_int32(it, k, &l->shot_count, err);
   if (!strcmp(k, "channels")) return json_int32(it, k, &l->channels, err);
-  if (!strcmp(k, "channels_behind")) return json_int32(it, k, &l->channels_behind, err);
+  if (!strcmp(k, "channels_behind")) {
+    if (json_int32(it, k, &l->channels_behind, err))
+      return err->status;
+    return l->channels_behind < 0 ? tz_fail(err, TZ_E_FORMAT, "channels_behind must be >= 0")
+                                  : TZ_OK;
+  }
   if (!strcmp(k, "near_offset_m")) return json_number(it, k, &l->near_offset_m, err);
   if (!strcmp(k, "source_offset_m")) return json_number(it, k, &l->source_offset_m, err);
   if (!strcmp(k, "source_depth_m")) return json_number(it, k, &l->source_depth_m, err);
@@ -567,9 +593,15 @@ static int table_read(geometry_table *gt, table_reader *tr, tz_err *err)
       return err->status;
     if (ffid < INT32_MIN || ffid > INT32_MAX || ch < INT32_MIN || ch > INT32_MAX)
       return tz_fail_line(err, TZ_E_FORMAT, line, "field record or channel out of range");
-    for (int i = COL_SX; i < NCOLS; i++)
+    for (int i = COL_SX; i < NCOLS; i++) {
       if (col[i] >= 0 && table_field_f64(tr, (size_t)col[i], col_names[i], &v[i], err))
         return err->status;
+      int xy = i == COL_SX || i == COL_SY || i == COL_RX || i == COL_RY;
+      double lim = xy ? GEOMETRY_MAX_COORD_M + GEOMETRY_MAX_EXTENT_M : GEOMETRY_MAX_HEIGHT_M;
+      if (fabs(v[i]) > lim)
+        return tz_fail_line(err, TZ_E_FORMAT, line, "column %s: %g m is beyond +-%g m",
+                            col_names[i], v[i], lim);
+    }
     r->key = row_key((int32_t)ffid, (int32_t)ch);
     r->line = line;
     r->sx = v[COL_SX];

@@ -24,6 +24,12 @@
 #define GEOMETRY_MAX_CHANNELS 100000   /* cap on channels per shot in a layout */
 #define GEOMETRY_MAX_SHOTS 10000000    /* cap on shots in a layout */
 #define GEOMETRY_MAX_TABLE_ROWS 50000000 /* cap on geometry-table rows */
+/* Plausibility caps on layout distances (checked, so that every derived
+ * coordinate fits a SEG-Y coordinate slot in centimetres, 2^31 cm = 21475 km):
+ * map coordinates of station 0, the line's along-line extent, depths and heights. */
+#define GEOMETRY_MAX_COORD_M 2e7       /* beyond any projected coordinate (UTM northing 1e7) */
+#define GEOMETRY_MAX_EXTENT_M 1e6      /* shots and spreads within 1000 km of station 0 */
+#define GEOMETRY_MAX_HEIGHT_M 2e4      /* elevations, depths, source offset from the line */
 
 /* Where the receivers sit relative to the source, along the shooting direction
  * (the direction in which successive shots move, the line azimuth). */

@@ -108,3 +108,29 @@ expect_status 0 "semblance may rewrite the job's velocity table" -- "$TZERO" sem
   --job job.json --cmps 8 --out vel.csv --quiet
 cp in/vel.csv vel.csv
 no_leftovers "outputs onto inputs"
+
+# --- layout and geometry-table distances had no bounds: a receiver interval of
+# 1e-300 m or a station at 1e300 m reached the SEG-Y writer, which failed with
+# "invalid argument" (64) naming a hidden temporary folder; a table coordinate of
+# 1e300 m passed and failed later without naming the table. Now the file and key
+# (or line and column) are named, status 65.
+bad_layout() { # desc json-extra
+  printf '{"receiver_interval_m": 5, "source_interval_m": 10, "shot_count": 2, "channels": 4%s}' \
+    "$2" >badlay.json
+  expect_status 65 "layout: $1" -- "$TZERO" synth --model model.json --layout badlay.json \
+    --out bsv --quiet
+  expect_stderr "^tzero synth: badlay\.json: " "layout: $1: message names the layout"
+}
+bad_layout "station 0 at 1e300 m" ', "first_station_x_m": 1e300'
+bad_layout "receiver interval 1e-300 m" ', "receiver_interval_m": 1e-300'
+bad_layout "near offset 1e12 m" ', "near_offset_m": 1e12'
+bad_layout "station elevation 1e300 m" ', "station_elevations_m": [0, 1e300]'
+bad_layout "negative channels_behind" ', "spread": "split", "channels_behind": -1'
+rm -f badlay.json
+{ echo "field_record,channel,source_x_m,source_y_m,receiver_x_m,receiver_y_m"
+  for c in 1 2 3 4 5 6 7 8; do echo "1,$c,0,0,1e300,0"; done; } >badtab.csv
+expect_status 65 "geometry table coordinate 1e300 m" -- "$TZERO" geometry --table badtab.csv \
+  sv/shot_000001.sgy --quiet
+expect_stderr "badtab\.csv: line 2: column receiver_x_m" "message names table, line and column"
+rm -f badtab.csv
+no_leftovers "layout and table distances"
