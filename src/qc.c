@@ -283,6 +283,32 @@ void qc_report_free(qc_report *r)
 static const char *const required[] = { "inputs", "parameters", "traces", "cmps", "fold", "mute",
                                         "velocity", "timing_s", "section", NULL };
 
+/* Figures the readers print (DESIGN.md "QC report"): a damaged report is refused
+ * naming the key, instead of printing "nan" where a count should be. */
+static const char *const required_numbers[] = {
+  "traces.read", "traces.stacked", "fold.min", "fold.max", "fold.mean",
+  "mute.stretch_limit_pct", "mute.muted_fraction", "section.cmp_first", "section.cmp_last",
+  NULL };
+static const char *const cmp_numbers[] = { "cmp", "x_m", "y_m", "fold", "offset_min_m",
+                                           "offset_max_m", "live_fraction", NULL };
+
+static const cJSON *at(const cJSON *o, const char *path);
+
+static int check_numbers(const cJSON *root, tz_err *err)
+{
+  for (size_t i = 0; required_numbers[i]; i++) {
+    const cJSON *v = at(root, required_numbers[i]);
+    if (!cJSON_IsNumber(v))
+      return tz_fail(err, TZ_E_FORMAT, "$.%s: expected a number", required_numbers[i]);
+  }
+  size_t k = 0;
+  for (const cJSON *c = cJSON_GetObjectItemCaseSensitive(root, "cmps")->child; c; c = c->next, k++)
+    for (size_t i = 0; cmp_numbers[i]; i++)
+      if (!cJSON_IsNumber(cJSON_GetObjectItemCaseSensitive(c, cmp_numbers[i])))
+        return tz_fail(err, TZ_E_FORMAT, "$.cmps[%zu].%s: expected a number", k, cmp_numbers[i]);
+  return TZ_OK;
+}
+
 int qc_report_parse(qc_report **out, const char *text, size_t len, const char *name, tz_err *err)
 {
   char *copy = malloc(len + 1);   /* cJSON reads to the NUL: terminate exactly len bytes */
@@ -307,6 +333,8 @@ int qc_report_parse(qc_report **out, const char *text, size_t len, const char *n
       rc = tz_fail(err, TZ_E_FORMAT, "$.%s: required key missing", required[i]);
   if (!rc && !cJSON_IsArray(cJSON_GetObjectItemCaseSensitive(root, "cmps")))
     rc = tz_fail(err, TZ_E_FORMAT, "$.cmps: expected an array");
+  if (!rc)
+    rc = check_numbers(root, err);
   qc_report *r = rc ? NULL : calloc(1, sizeof *r);
   if (!rc && (!r || !(r->name = strdup(name ? name : ""))))
     rc = tz_fail(err, TZ_E_NOMEM, "QC report");

@@ -134,3 +134,24 @@ expect_status 65 "geometry table coordinate 1e300 m" -- "$TZERO" geometry --tabl
 expect_stderr "badtab\.csv: line 2: column receiver_x_m" "message names table, line and column"
 rm -f badtab.csv
 no_leftovers "layout and table distances"
+
+# --- a QC report with a damaged figure (a string, null or a missing CMP key)
+# was printed with "nan" in its place (exit 0), and `report --fold-csv` onto the
+# report replaced it. The reader now names the key (65); the CSV is refused (73).
+"$TZERO" stack --job job.json --out sec.sgy --report qc.json --quiet
+damage() { # name python-statement
+  "$PYTHON" -c "import json; r = json.load(open('qc.json')); $2; json.dump(r, open('$1', 'w'))"
+}
+damage bad1.json "r['cmps'][2]['fold'] = 'x'"
+expect_status 65 "report with a string fold" -- "$TZERO" report bad1.json
+expect_stderr 'bad1\.json: \$\.cmps\[2\]\.fold: expected a number' "message names the CMP entry"
+damage bad2.json "r['fold']['mean'] = None"
+expect_status 65 "report with a null mean fold" -- "$TZERO" report bad2.json
+expect_stderr '\$\.fold\.mean' "message names the key"
+damage bad3.json "r['cmps'][0] = {}"
+expect_status 65 "report with an empty CMP entry" -- "$TZERO" report bad3.json --cmp 1
+cp qc.json in/qc.json
+expect_status 73 "fold CSV onto the report it reads" -- "$TZERO" report qc.json --fold-csv qc.json
+cmp -s qc.json in/qc.json && ok "the report is intact" || notok "the report changed"
+rm -f sec.sgy qc.json bad1.json bad2.json bad3.json
+no_leftovers "damaged reports"
