@@ -17,6 +17,14 @@
  * first copied into a zero-padded buffer (with the top mute applied in recorded
  * time), so interpolation never needs a bounds test.
  *
+ * On x86-64 CPUs with AVX2 (checked once per workspace with
+ * __builtin_cpu_supports; the binary still runs on any x86-64) passes 2 and 3
+ * run eight samples at a time (the *_avx2 functions). They perform exactly the
+ * scalar operations lane by lane (IEEE add, multiply, divide and square root
+ * are correctly rounded; no fused multiply-add: the "avx2" target does not
+ * enable FMA, and -std=c11 keeps contraction off), so both paths give the same
+ * bits; tests/unit/check_simd.c compares them on random gathers.
+ *
  * Not here: velocity functions (velocity.c), gathers, files and stacking.
  */
 #include "tzero/nmo.h"
@@ -27,6 +35,13 @@
 #ifdef __SSE__
 #include <xmmintrin.h>
 #endif
+#if defined(__x86_64__) && defined(__GNUC__)
+#include <immintrin.h>
+#define NMO_AVX2 1
+#define AVX2_FN __attribute__((target("avx2")))
+#else
+#define NMO_AVX2 0
+#endif
 
 #if defined(__GNUC__) && !defined(__clang__)
 #define NMO_VECTORISE __attribute__((optimize("tree-vectorize")))
@@ -34,7 +49,8 @@
 #define NMO_VECTORISE
 #endif
 
-#define PAD 4               /* zeros on each side of the input copy (sinc8 reach) */
+#define PAD 8               /* zeros on each side of the input copy (sinc8 reach 4;
+                               the AVX2 linear gather loads 8 past a sample) */
 #define NPHASE 2048         /* sinc8 kernel table: fractional positions 0..1 */
 #define SINC_HALF 4         /* taps at offsets -3..+4 around floor(u) */
 #define KAISER_BETA 5.0     /* window shape; see docs/nmo.md for the error it gives */
@@ -45,6 +61,7 @@ struct nmo_workspace {
   float *tsq;               /* ns_max: t^2 per output sample */
   float *u;                 /* ns_max: fractional input index per output sample */
   float *sinc;              /* (NPHASE + 1) x 8 kernel weights */
+  int avx2;                 /* the CPU has AVX2: use the *_avx2 kernels */
 };
 
 void nmo_params_default(nmo_params *p)
@@ -194,8 +211,22 @@ int nmo_workspace_new(nmo_workspace **out, size_t ns_max, tz_err *err)
     return tz_fail(err, TZ_E_NOMEM, "NMO workspace for %zu samples", ns_max);
   }
   build_sinc(ws->sinc);
+#if NMO_AVX2
+  ws->avx2 = __builtin_cpu_supports("avx2") ? 1 : 0;
+#endif
   *out = ws;
   return TZ_OK;
+}
+
+int nmo_workspace_simd(nmo_workspace *ws, int simd)
+{
+#if NMO_AVX2
+  ws->avx2 = simd && __builtin_cpu_supports("avx2");
+#else
+  (void)simd;
+  ws->avx2 = 0;
+#endif
+  return ws->avx2;
 }
 
 void nmo_workspace_free(nmo_workspace *ws)
@@ -312,6 +343,163 @@ static void gather_sinc8(float *restrict out, const float *restrict u,
   }
 }
 
+/* Live weights: 1 over [i0, i1) (vectorised fill). */
+NMO_VECTORISE
+static void fill_one(float *restrict w, size_t i0, size_t i1)
+{
+  for (size_t i = i0; i < i1; i++)
+    w[i] = 1.0f;
+}
+
+#if NMO_AVX2
+/* Pass 1, eight samples at a time: t0 = tf + (float)i dt, then t0^2 + x2 / v^2
+ * with the same operations as moveout_sq(). */
+AVX2_FN static void moveout_sq_avx2(float *restrict tsq, const float *restrict vel, float tf,
+                                    float dt, float x2, size_t i0, size_t ns)
+{
+  int i = (int)i0, b = (int)ns;
+  const __m256 vtf = _mm256_set1_ps(tf), vdt = _mm256_set1_ps(dt), vx2 = _mm256_set1_ps(x2);
+  const __m256i step = _mm256_setr_epi32(0, 1, 2, 3, 4, 5, 6, 7);
+  for (; i + 8 <= b; i += 8) {
+    __m256 fi = _mm256_cvtepi32_ps(_mm256_add_epi32(_mm256_set1_epi32(i), step));
+    __m256 t0 = _mm256_add_ps(vtf, _mm256_mul_ps(fi, vdt));
+    __m256 v = _mm256_loadu_ps(vel + i);
+    __m256 r = _mm256_add_ps(_mm256_mul_ps(t0, t0), _mm256_div_ps(vx2, _mm256_mul_ps(v, v)));
+    _mm256_storeu_ps(tsq + i, r);
+  }
+  for (; i < b; i++) {
+    float t0 = tf + (float)i * dt;
+    tsq[i] = t0 * t0 + x2 / (vel[i] * vel[i]);
+  }
+}
+
+/* Stretch-mute scan, eight at a time: the first i >= i0 where
+ * !(tsq[i] > (k t0) t0), t0 = tf + (float)i dt (as in nmo_apply), or ns. */
+AVX2_FN static size_t stretch_scan_avx2(const float *tsq, float tf, float dt, float k,
+                                        size_t i0, size_t ns)
+{
+  int i = (int)i0, b = (int)ns;
+  const __m256 vtf = _mm256_set1_ps(tf), vdt = _mm256_set1_ps(dt), vk = _mm256_set1_ps(k);
+  const __m256i step = _mm256_setr_epi32(0, 1, 2, 3, 4, 5, 6, 7);
+  for (; i + 8 <= b; i += 8) {
+    __m256 fi = _mm256_cvtepi32_ps(_mm256_add_epi32(_mm256_set1_epi32(i), step));
+    __m256 t0 = _mm256_add_ps(vtf, _mm256_mul_ps(fi, vdt));
+    __m256 lim = _mm256_mul_ps(_mm256_mul_ps(vk, t0), t0);
+    /* ordered compare: a NaN stops the zone, as !(a > b) does */
+    int m = _mm256_movemask_ps(_mm256_cmp_ps(_mm256_loadu_ps(tsq + i), lim, _CMP_GT_OQ));
+    if (m != 0xFF)
+      return (size_t)i + (size_t)__builtin_ctz(~(unsigned)m);
+  }
+  for (; i < b; i++) {
+    float t0 = tf + (float)i * dt;
+    if (!(tsq[i] > k * t0 * t0))
+      break;
+  }
+  return (size_t)i;
+}
+
+/* Passes 3a and 3b fused for linear interpolation, eight samples at a time: u as
+ * in input_index(), then out = a[k] + f (a[k+1] - a[k]) with k = (int)u,
+ * f = u - k, and weight 1. When the eight k lie within 8 samples of the first
+ * (almost always: NMO compresses time), a[k] and a[k+1] come from two unaligned
+ * loads and an in-register permutation; otherwise from AVX2 gathers. */
+AVX2_FN static void live_linear_avx2(float *restrict out, float *restrict wt, float *restrict u,
+                                     const float *restrict tsq, const float *restrict a,
+                                     float tf, float idt, float umax, size_t i0, size_t i1)
+{
+  int i = (int)i0, n = (int)i1;
+  const __m256 vtf = _mm256_set1_ps(tf), vidt = _mm256_set1_ps(idt);
+  const __m256 vmax = _mm256_set1_ps(umax), vzero = _mm256_setzero_ps();
+  const __m256 one = _mm256_set1_ps(1.0f);
+  const __m256i seven = _mm256_set1_epi32(7);
+  for (; i + 8 <= n; i += 8) {
+    __m256 v = _mm256_mul_ps(_mm256_sub_ps(_mm256_sqrt_ps(_mm256_loadu_ps(tsq + i)), vtf), vidt);
+    v = _mm256_max_ps(_mm256_min_ps(v, vmax), vzero);
+    _mm256_storeu_ps(u + i, v);
+    __m256i k = _mm256_cvttps_epi32(v);
+    __m256 f = _mm256_sub_ps(v, _mm256_cvtepi32_ps(k));
+    int k0 = _mm_cvtsi128_si32(_mm256_castsi256_si128(k));
+    __m256i d = _mm256_sub_epi32(k, _mm256_set1_epi32(k0));
+    __m256 lo, hi;
+    /* all d in [0, 7] (unsigned min leaves them unchanged) */
+    if (_mm256_movemask_epi8(_mm256_cmpeq_epi32(_mm256_min_epu32(d, seven), d)) == -1) {
+      lo = _mm256_permutevar8x32_ps(_mm256_loadu_ps(a + k0), d);
+      hi = _mm256_permutevar8x32_ps(_mm256_loadu_ps(a + k0 + 1), d);
+    } else {
+      lo = _mm256_i32gather_ps(a, k, 4);
+      hi = _mm256_i32gather_ps(a + 1, k, 4);
+    }
+    _mm256_storeu_ps(out + i, _mm256_add_ps(lo, _mm256_mul_ps(f, _mm256_sub_ps(hi, lo))));
+    if (wt)
+      _mm256_storeu_ps(wt + i, one);
+  }
+  for (; i < n; i++) {
+    float x = (sqrtf(tsq[i]) - tf) * idt;
+    x = x < umax ? x : umax;
+    x = x > 0.0f ? x : 0.0f;
+    u[i] = x;
+    int k = (int)x;
+    float f = x - (float)k;
+    out[i] = a[k] + f * (a[k + 1] - a[k]);
+    if (wt)
+      wt[i] = 1.0f;
+  }
+}
+
+/* Passes 3a and 3b fused for sinc8, eight output samples at a time. Each output
+ * is summed exactly as gather_sinc8() does: products p0..p7, then
+ * ((p0 + p4) + (p2 + p6)) + ((p1 + p5) + (p3 + p7)); the eight horizontal sums
+ * are done together by 128-bit lane and in-lane shuffles (a transpose), each
+ * addition pairing the same two numbers as the 4-wide code. */
+AVX2_FN static void live_sinc8_avx2(float *restrict out, float *restrict u,
+                                    const float *restrict tsq, const float *restrict a,
+                                    const float *restrict tab, float tf, float idt, float umax,
+                                    size_t i0, size_t i1)
+{
+  int i = (int)i0, n = (int)i1;
+  const __m256 vtf = _mm256_set1_ps(tf), vidt = _mm256_set1_ps(idt);
+  const __m256 vmax = _mm256_set1_ps(umax), vzero = _mm256_setzero_ps();
+  const __m256 vnph = _mm256_set1_ps((float)NPHASE), half = _mm256_set1_ps(0.5f);
+  const __m256i order = _mm256_setr_epi32(0, 4, 1, 5, 2, 6, 3, 7);
+  int kk[8], pp[8];
+  for (; i + 8 <= n; i += 8) {
+    __m256 v = _mm256_mul_ps(_mm256_sub_ps(_mm256_sqrt_ps(_mm256_loadu_ps(tsq + i)), vtf), vidt);
+    v = _mm256_max_ps(_mm256_min_ps(v, vmax), vzero);
+    _mm256_storeu_ps(u + i, v);
+    __m256i k = _mm256_cvttps_epi32(v);
+    __m256 f = _mm256_sub_ps(v, _mm256_cvtepi32_ps(k));
+    __m256i ph = _mm256_cvttps_epi32(_mm256_add_ps(_mm256_mul_ps(f, vnph), half));
+    _mm256_storeu_si256((__m256i *)kk, _mm256_sub_epi32(k, _mm256_set1_epi32(SINC_HALF - 1)));
+    _mm256_storeu_si256((__m256i *)pp, _mm256_slli_epi32(ph, 3));
+    __m256 P[8];
+    for (int j = 0; j < 8; j++)
+      P[j] = _mm256_mul_ps(_mm256_loadu_ps(tab + pp[j]), _mm256_loadu_ps(a + kk[j]));
+    /* Q: (p0 + p4, p1 + p5, p2 + p6, p3 + p7) of two outputs per register */
+    __m256 Q01 = _mm256_add_ps(_mm256_permute2f128_ps(P[0], P[1], 0x20),
+                               _mm256_permute2f128_ps(P[0], P[1], 0x31));
+    __m256 Q23 = _mm256_add_ps(_mm256_permute2f128_ps(P[2], P[3], 0x20),
+                               _mm256_permute2f128_ps(P[2], P[3], 0x31));
+    __m256 Q45 = _mm256_add_ps(_mm256_permute2f128_ps(P[4], P[5], 0x20),
+                               _mm256_permute2f128_ps(P[4], P[5], 0x31));
+    __m256 Q67 = _mm256_add_ps(_mm256_permute2f128_ps(P[6], P[7], 0x20),
+                               _mm256_permute2f128_ps(P[6], P[7], 0x31));
+    /* R: (q0 + q2, q1 + q3) of four outputs per register */
+    __m256 R0 = _mm256_add_ps(_mm256_shuffle_ps(Q01, Q23, _MM_SHUFFLE(1, 0, 1, 0)),
+                              _mm256_shuffle_ps(Q01, Q23, _MM_SHUFFLE(3, 2, 3, 2)));
+    __m256 R4 = _mm256_add_ps(_mm256_shuffle_ps(Q45, Q67, _MM_SHUFFLE(1, 0, 1, 0)),
+                              _mm256_shuffle_ps(Q45, Q67, _MM_SHUFFLE(3, 2, 3, 2)));
+    /* r0 + r1: outputs 0 2 4 6 | 1 3 5 7, then back in order */
+    __m256 o = _mm256_add_ps(_mm256_shuffle_ps(R0, R4, _MM_SHUFFLE(2, 0, 2, 0)),
+                             _mm256_shuffle_ps(R0, R4, _MM_SHUFFLE(3, 1, 3, 1)));
+    _mm256_storeu_ps(out + i, _mm256_permutevar8x32_ps(o, order));
+  }
+  if (i < n) {
+    input_index(u, tsq, tf, idt, umax, (size_t)i, i1);
+    gather_sinc8(out, u, a, tab, (size_t)i, i1);
+  }
+}
+#endif
+
 /* Raised-cosine ramp: 0 at r <= 0, 1 at r >= 1. */
 static float ramp(double r)
 {
@@ -367,19 +555,29 @@ int nmo_apply(nmo_workspace *ws, const nmo_params *p, const nmo_top_mute *mute,
   size_t i_pos = 0;
   while (i_pos < ns && tf + (double)i_pos * dt < 0)
     i_pos++;
-  moveout_sq(tsq, vel_mps, e, (float)tf, (float)dt, x2, i_pos, ns);
+#if NMO_AVX2
+  if (ws->avx2 && !e)
+    moveout_sq_avx2(tsq, vel_mps, (float)tf, (float)dt, x2, i_pos, ns);
+  else
+#endif
+    moveout_sq(tsq, vel_mps, e, (float)tf, (float)dt, x2, i_pos, ns);
 
   /* Stretch mute: (t - t0)/t0 > s  <=>  t^2 > (1 + s)^2 t0^2 (t, t0 >= 0). The zone is
    * the top of the trace down to the first sample within the limit (docs/nmo.md). */
   size_t i_s = i_pos;
   if (p->stretch_limit_pct > 0) {
     float k = (float)((1 + p->stretch_limit_pct / 100) * (1 + p->stretch_limit_pct / 100));
-    while (i_s < ns) {
-      float t0 = (float)tf + (float)i_s * (float)dt;
-      if (!(tsq[i_s] > k * t0 * t0))
-        break;
-      i_s++;
-    }
+#if NMO_AVX2
+    if (ws->avx2)
+      i_s = stretch_scan_avx2(tsq, (float)tf, (float)dt, k, i_s, ns);
+    else
+#endif
+      while (i_s < ns) {
+        float t0 = (float)tf + (float)i_s * (float)dt;
+        if (!(tsq[i_s] > k * t0 * t0))
+          break;
+        i_s++;
+      }
   }
   /* Top mute in recorded time: output is muted where its input time is inside the
    * zeroed zone (t < tm, or t = tm when a taper starts there with weight 0). */
@@ -406,17 +604,30 @@ int nmo_apply(nmo_workspace *ws, const nmo_params *p, const nmo_top_mute *mute,
   size_t i0 = i_t;   /* i_t <= i_e by construction */
 
   const float *a = ws->pad + PAD;
-  input_index(u, tsq, (float)tf, (float)(1.0 / dt), (float)(ns - 1), i0, i_e);
-  if (p->interp == NMO_INTERP_SINC8)
-    gather_sinc8(out, u, a, ws->sinc, i0, i_e);
-  else
-    gather_linear(out, u, a, i0, i_e);
+  int filled = 0;   /* weights of the live range already written */
+#if NMO_AVX2
+  if (ws->avx2 && p->interp == NMO_INTERP_LINEAR) {
+    live_linear_avx2(out, weight, u, tsq, a, (float)tf, (float)(1.0 / dt), (float)(ns - 1), i0,
+                     i_e);
+    filled = 1;
+  } else if (ws->avx2) {
+    live_sinc8_avx2(out, u, tsq, a, ws->sinc, (float)tf, (float)(1.0 / dt), (float)(ns - 1), i0,
+                    i_e);
+  } else
+#endif
+  {
+    input_index(u, tsq, (float)tf, (float)(1.0 / dt), (float)(ns - 1), i0, i_e);
+    if (p->interp == NMO_INTERP_SINC8)
+      gather_sinc8(out, u, a, ws->sinc, i0, i_e);
+    else
+      gather_linear(out, u, a, i0, i_e);
+  }
   memset(out, 0, i0 * sizeof *out);
   memset(out + i_e, 0, (ns - i_e) * sizeof *out);
   if (weight) {
     memset(weight, 0, i0 * sizeof *weight);
-    for (size_t i = i0; i < i_e; i++)
-      weight[i] = 1.0f;
+    if (!filled)
+      fill_one(weight, i0, i_e);
     memset(weight + i_e, 0, (ns - i_e) * sizeof *weight);
   }
 

@@ -57,6 +57,10 @@ double nmo_top_mute_time_s(const nmo_top_mute *m, double offset_m);
 typedef struct nmo_workspace nmo_workspace;
 int nmo_workspace_new(nmo_workspace **out, size_t ns_max, tz_err *err);
 void nmo_workspace_free(nmo_workspace *ws);    /* NULL is a no-op */
+/* simd = 0 selects the portable kernels, 1 (the default) the AVX2 ones where the
+ * CPU has them. Both give the same bits (tests/unit/check_simd.c); for tests and
+ * benchmarks. Returns 1 when the AVX2 kernels are now in use. */
+int nmo_workspace_simd(nmo_workspace *ws, int simd);
 
 /* The time axis shared by input and output. */
 typedef struct nmo_axis {
