@@ -114,6 +114,15 @@ int fileio_same_file(const char *a, const char *b)
          sa.st_ino == sb.st_ino;
 }
 
+int fileio_check_not_input(const char *out, const char *in, const char *what, tz_err *err)
+{
+  if (!out || !in || !fileio_same_file(out, in))
+    return TZ_OK;
+  tz_err_path(err, out);
+  return tz_fail(err, TZ_E_CREATE, "%s would overwrite the input %s; choose another output",
+                 what, in);
+}
+
 int fileio_read_all(const char *path, size_t max, char **out, size_t *len, tz_err *err)
 {
   FILE *fp = fopen(path, "rb");

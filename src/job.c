@@ -817,18 +817,13 @@ int job_check_output(const job_spec *j, const char *out, const char *what, int r
     return TZ_OK;                        /* not there yet: nothing to overwrite */
   const char *one[] = { j->path, reads_velocity ? j->velocity : NULL, j->geometry_file,
                         j->header_map };
-  const char *hit = NULL;
-  for (size_t i = 0; !hit && i < sizeof one / sizeof one[0]; i++)
-    if (one[i] && one[i][0] && fileio_same_file(out, one[i]))
-      hit = one[i];
-  for (size_t i = 0; !hit && i < j->nshots; i++)
-    if (fileio_same_file(out, j->shots[i]))
-      hit = j->shots[i];
-  if (!hit)
-    return TZ_OK;
-  tz_err_path(err, out);
-  return tz_fail(err, TZ_E_CREATE, "%s would overwrite the input %s; choose another output",
-                 what, hit);
+  int rc = TZ_OK;
+  for (size_t i = 0; !rc && i < sizeof one / sizeof one[0]; i++)
+    if (one[i] && one[i][0])
+      rc = fileio_check_not_input(out, one[i], what, err);
+  for (size_t i = 0; !rc && i < j->nshots; i++)
+    rc = fileio_check_not_input(out, j->shots[i], what, err);
+  return rc;
 }
 
 int job_check_outputs(const job_spec *j, tz_err *err)

@@ -23,6 +23,9 @@ void fileio_abort(fileio_out *o);
 /* 1 when `a` and `b` both exist and are the same file (device and inode), so
  * that writing one would replace the other; 0 otherwise. */
 int fileio_same_file(const char *a, const char *b);
+/* TZ_E_CREATE (path `out`) when writing `out` would replace the input `in`:
+ * "WHAT would overwrite the input IN; choose another output". NULLs are fine. */
+int fileio_check_not_input(const char *out, const char *in, const char *what, tz_err *err);
 
 /* Reads a whole file into a NUL-terminated buffer the caller owns (free()).
  * Files larger than `max` bytes are TZ_E_FORMAT. */

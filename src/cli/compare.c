@@ -207,7 +207,11 @@ int cmd_compare(int argc, char **argv)
   tz_err err;
   tz_err_init(&err);
   compare_result *r = NULL;
-  int rc = compare_sections(pa, pb, &p, &r, &err);
+  int rc = fileio_check_not_input(csv, pa, "--csv", &err);
+  if (!rc)
+    rc = fileio_check_not_input(csv, pb, "--csv", &err);
+  if (!rc)
+    rc = compare_sections(pa, pb, &p, &r, &err);
   if (!rc && csv)
     rc = write_csv(csv, r, &err);
   if (rc) {

@@ -172,12 +172,10 @@ static int pass(run *r, int which, tz_err *err)
           return tz_fail(err, TZ_E_NOMEM, "trace buffer");
         }
       }
-      if (fileio_same_file(path, r->files[f])) {
+      if ((rc = fileio_check_not_input(path, r->files[f], "--write", err))) {
         segy_close(sf);
         free(buf);
-        tz_err_path(err, path);
-        return tz_fail(err, TZ_E_CREATE, "--write %s would overwrite the input %s; choose "
-                       "another folder", r->write_dir, r->files[f]);
+        return rc;
       }
       if ((rc = segy_writer_open(&w, path, &wo, err)))
         goto file_done;
@@ -738,8 +736,15 @@ int cmd_geometry(int argc, char **argv)
   } else {
     nominal = ds > 0 && dg > 0 ? (double)r.max_live_per_shot * dg / (2.0 * ds) : 0;
   }
-  if (fold_path && (rc = write_fold_table(&r, pred, fold_path, &err)))
-    goto done;
+  if (fold_path) {
+    const char *given[] = { job_path, layout_path, table_path, crooked, map_path };
+    for (size_t i = 0; !rc && i < sizeof given / sizeof given[0]; i++)
+      rc = fileio_check_not_input(fold_path, given[i], "--fold-table", &err);
+    for (size_t i = 0; !rc && i < r.nfiles; i++)
+      rc = fileio_check_not_input(fold_path, r.files[i], "--fold-table", &err);
+    if (rc || (rc = write_fold_table(&r, pred, fold_path, &err)))
+      goto done;
+  }
   if (json) {
     char *txt = NULL;
     out = json_summary(&r, pred, kind, gfile, fitted, &fr, nominal, dg, ds,

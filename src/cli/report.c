@@ -77,10 +77,7 @@ int cmd_report(int argc, char **argv)
       goto done;
     if (!strcmp(csv, "-")) {
       fputs(text, stdout);
-    } else if (fileio_same_file(csv, path)) {
-      tz_err_path(&e, csv);
-      rc = tz_fail(&e, TZ_E_CREATE, "--fold-csv would overwrite the report; choose another "
-                   "output");
+    } else if ((rc = fileio_check_not_input(csv, path, "--fold-csv", &e))) {
       goto done;
     } else if ((rc = qc_write_text(csv, text, &e))) {
       goto done;

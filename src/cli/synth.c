@@ -9,6 +9,7 @@
 
 #include "cli.h"
 #include "tzero/bins.h"
+#include "tzero/fileio.h"
 #include "tzero/synth.h"
 
 static void help(void)
@@ -199,7 +200,9 @@ int cmd_synth(int argc, char **argv)
   synth_model m;
   geometry_layout l;
   geometry_layout_init(&l);
-  if (synth_model_load(&m, model_path, &err) || geometry_layout_load(&l, layout_path, &err))
+  if (fileio_check_not_input(rms, model_path, "--rms-table", &err) ||
+      fileio_check_not_input(rms, layout_path, "--rms-table", &err) ||
+      synth_model_load(&m, model_path, &err) || geometry_layout_load(&l, layout_path, &err))
     return cli_report(cmd, &err);
   synth_summary s;
   int rc = synth_survey(&m, &l, &p, out, &s, &err);

@@ -426,11 +426,8 @@ int cmd_velocity(int argc, char **argv)
 
   tz_err err;
   tz_err_init(&err);
-  if (op.out && fileio_same_file(op.out, op.file)) {
-    tz_err_path(&err, op.out);
-    tz_fail(&err, TZ_E_CREATE, "--out would overwrite the input table; choose another output");
+  if (fileio_check_not_input(op.out, op.file, "--out", &err))
     return cli_report(CMD, &err);
-  }
   velocity_table *t;
   if (velocity_table_load(&t, op.file, &err))
     return cli_report(CMD, &err);

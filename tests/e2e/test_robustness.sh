@@ -101,8 +101,15 @@ expect_status 73 "velocity intervals onto its input" -- "$TZERO" velocity interv
   --out vel.csv
 expect_status 73 "geometry --write into the shot folder" -- "$TZERO" geometry --write sv \
   sv/shot_000001.sgy --quiet
+expect_status 73 "compare --csv onto a compared file" -- "$TZERO" compare sv/shot_000001.sgy \
+  sv/shot_000002.sgy --csv sv/shot_000001.sgy --quiet
+expect_status 73 "geometry --fold-table onto a shot file" -- "$TZERO" geometry \
+  --fold-table sv/shot_000001.sgy sv/shot_000001.sgy sv/shot_000002.sgy --quiet
+cp layout.json in/layout.json
+expect_status 73 "synth --rms-table onto its layout" -- "$TZERO" synth --model model.json \
+  --layout layout.json --out sv2 --rms-table layout.json --quiet
 cmp -s sv/shot_000001.sgy in/keep.sgy && cmp -s job.json in/job.json && cmp -s vel.csv in/vel.csv &&
-  ok "every input is intact" || notok "an input changed"
+  cmp -s layout.json in/layout.json && ok "every input is intact" || notok "an input changed"
 # semblance writing the velocity table its job names is the usual revision loop
 expect_status 0 "semblance may rewrite the job's velocity table" -- "$TZERO" semblance \
   --job job.json --cmps 8 --out vel.csv --quiet
