@@ -766,6 +766,13 @@ int stack_plan_build(stack_plan **out, const job_spec *job, stack_progress_fn pr
     goto fail;
   }
   p->ncmps = (size_t)((int64_t)p->last_cmp - p->first_cmp + 1);
+  if ((double)p->ncmps * p->axis.ns > STACK_MAX_SECTION_SAMPLES) {
+    rc = tz_fail(err, TZ_E_FORMAT, "CMPs %d to %d x %zu samples: a section of more than %u "
+                 "samples (select a CMP range, or check the coordinates and bin size)",
+                 (int)p->first_cmp, (int)p->last_cmp, (size_t)p->axis.ns,
+                 STACK_MAX_SECTION_SAMPLES);
+    goto fail;
+  }
   if (!(p->cmps = calloc(p->ncmps, sizeof *p->cmps))) {
     rc = tz_fail(err, TZ_E_NOMEM, "%zu CMPs", p->ncmps);
     goto fail;
@@ -839,6 +846,7 @@ int stack_setup_load(stack_setup *s, const char *job_path, const job_overrides *
   if (!rc)
     rc = stack_plan_build(&s->plan, s->job, progress, ctx, err);
   if (rc) {
+    tz_err_path(err, job_path);   /* errors of no particular file belong to the job */
     stack_setup_free(s);
     return rc;
   }

@@ -33,6 +33,9 @@
 #include "tzero/velocity.h"
 
 #define STACK_MAX_CMPS 2000000          /* CMPs one section may span */
+/* CMPs x samples of one section (the data pass keeps 16 bytes of sums per
+ * sample, so the cap is 4 GB of memory): checked before anything is allocated. */
+#define STACK_MAX_SECTION_SAMPLES (1u << 28)
 #define STACK_MAX_GATHER_TRACES 1000000 /* traces stack_collect may return */
 
 /* Why a trace did not go into the stack. Counted, never silent. */

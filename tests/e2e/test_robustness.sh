@@ -162,3 +162,18 @@ expect_status 73 "fold CSV onto the report it reads" -- "$TZERO" report qc.json 
 cmp -s qc.json in/qc.json && ok "the report is intact" || notok "the report changed"
 rm -f sec.sgy qc.json bad1.json bad2.json bad3.json
 no_leftovers "damaged reports"
+
+# --- a section size driven by the data had no cap: two shots 1000 km apart
+# with 65535 samples asked for 1000002 CMPs x 65535 samples (1 TB of sums) and
+# the run died "out of memory" (71) or, with overcommit, wrote a 262 GB file.
+# Refused before allocating (65), naming the job.
+printf '{"receiver_interval_m": 1, "source_interval_m": 500000, "shot_count": 2, "channels": 2}' \
+  >far.json
+"$TZERO" synth --model model.json --layout far.json --out far --samples 65535 --interval-ms 1 \
+  --no-reflections --no-direct --no-head-wave --quiet
+printf '{"shots": ["far/*.sgy"], "velocity": "vel.csv", "output": {"section": "x.sgy"}}' >farjob.json
+expect_status 65 "section too large for memory is refused" -- "$TZERO" stack --job farjob.json --quiet
+expect_stderr "farjob\.json: CMPs 1 to 1000002 x 65535 samples: a section of more than" \
+  "message names the job and the size"
+rm -rf far far.json farjob.json
+no_leftovers "section size cap"
