@@ -166,6 +166,10 @@ int table_parse_f64(const char *s, double *out)
     s++;
   if (!*s)
     return -1;
+  /* decimal only: strtod(3) would also take hexadecimal floats ("0x5dc") */
+  const char *digits = s + (*s == '+' || *s == '-');
+  if (digits[0] == '0' && (digits[1] == 'x' || digits[1] == 'X'))
+    return -1;
   errno = 0;
   char *end;
   double v = strtod(s, &end);

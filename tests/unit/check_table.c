@@ -63,6 +63,12 @@ START_TEST(test_parse)
   ck_assert_int_eq(table_parse_f64("inf", &d), -1);
   ck_assert_int_eq(table_parse_f64("1e999", &d), -1);
   ck_assert_int_eq(table_parse_f64("12abc", &d), -1);
+  /* strtod(3) also reads C99 hexadecimal floats: "0x5dc" was taken as 1500 m/s.
+   * Tables and options are decimal (common practice). */
+  ck_assert_int_eq(table_parse_f64("0x5dc", &d), -1);
+  ck_assert_int_eq(table_parse_f64("-0X1p4", &d), -1);
+  ck_assert_int_eq(table_parse_f64("-1.5E+2", &d), 0);
+  ck_assert(d == -150.0);
 }
 END_TEST
 
