@@ -340,6 +340,11 @@ static int load_crooked(const char *path, double **x, double **y, size_t *n, tz_
     if ((rc = table_field_f64(t, 0, "x_m", &(*x)[*n], err)) ||
         (rc = table_field_f64(t, 1, "y_m", &(*y)[*n], err)))
       break;
+    if (*n && (*x)[*n] == (*x)[*n - 1] && (*y)[*n] == (*y)[*n - 1]) {
+      tz_err_path(err, path);
+      rc = tz_fail_line(err, TZ_E_FORMAT, table_line(t), "node repeats the previous node");
+      break;
+    }
     (*n)++;
   }
   table_close(t);

@@ -177,3 +177,12 @@ expect_stderr "farjob\.json: CMPs 1 to 1000002 x 65535 samples: a section of mor
   "message names the job and the size"
 rm -rf far far.json farjob.json
 no_leftovers "section size cap"
+
+# --- a crooked-line file with a repeated node was "invalid argument" (64)
+# without the file's name: it is bad data in that file (65, file and line).
+printf 'x_m,y_m\n0,0\n20,0\n20,0\n40,5\n' >crooked.csv
+expect_status 65 "crooked line with a repeated node" -- "$TZERO" geometry --crooked crooked.csv \
+  sv/shot_000001.sgy --quiet
+expect_stderr "crooked\.csv: line 4: node repeats" "message names file and line"
+rm -f crooked.csv
+no_leftovers "crooked line"
