@@ -639,6 +639,12 @@ int synth_survey(const synth_model *m, const geometry_layout *l, const synth_par
   line = NULL;
   struct stat st;
   if (stat(target, &st) != 0) {
+    /* mkdtemp makes 0700; the survey folder gets the usual umask-governed mode */
+    mode_t um = umask(0);
+    umask(um);
+    if (chmod(tmp, 0777 & ~um) != 0) {
+      /* not fatal: the folder is still usable by its owner */
+    }
     if (rename(tmp, target) != 0) {
       int e = errno;
       tz_err_path(err, target);

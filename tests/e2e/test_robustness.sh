@@ -186,3 +186,12 @@ expect_status 65 "crooked line with a repeated node" -- "$TZERO" geometry --croo
 expect_stderr "crooked\.csv: line 4: node repeats" "message names file and line"
 rm -f crooked.csv
 no_leftovers "crooked line"
+
+# --- the survey folder of `tzero synth` kept mkdtemp(3)'s mode 0700, so other
+# users could not read a survey made for them; it now follows the umask as the
+# files inside do (common practice).
+(umask 022 && "$TZERO" synth --model model.json --layout layout.json --out modes --quiet)
+m=$(stat -c %a modes 2>/dev/null)
+[ "$m" = 755 ] && ok "survey folder mode follows the umask (755)" || notok "survey folder mode $m"
+rm -rf modes
+no_leftovers "survey folder mode"
