@@ -54,9 +54,10 @@ static int parse_range(const char *s, job_overrides *o)
   size_t n = 0;
   tz_err e;
   tz_err_init(&e);
-  if (!strchr(s + 1, '-') || strchr(s, ',') || strchr(s, ':') ||
-      stack_parse_cmp_list(s, &v, &n, &e))
+  if (!strchr(s + 1, '-') || strchr(s, ',') || strchr(s, ':'))
     return cli_usage_error("stack", "--cmp-range: expected FIRST-LAST, got '%s'", s);
+  if (stack_parse_cmp_list(s, &v, &n, &e))
+    return cli_usage_error("stack", "--cmp-range: expected FIRST-LAST, got '%s' (%s)", s, e.msg);
   o->has_cmp_range = 1;
   o->cmp_first = v[0];
   o->cmp_last = v[n - 1];

@@ -195,3 +195,10 @@ m=$(stat -c %a modes 2>/dev/null)
 [ "$m" = 755 ] && ok "survey folder mode follows the umask (755)" || notok "survey folder mode $m"
 rm -rf modes
 no_leftovers "survey folder mode"
+
+# --- `stack --cmp-range 1-999999999` said only "expected FIRST-LAST" although
+# the syntax was right; the message now gives the limit that was hit.
+expect_status 64 "CMP range longer than a section may be" -- "$TZERO" stack --job job.json \
+  --cmp-range 1-999999999 --out x.sgy --quiet
+expect_stderr "more than [0-9]+ CMPs" "message gives the limit"
+no_leftovers "long CMP range option"
