@@ -8,6 +8,7 @@
 #include <sysexits.h>
 
 #include "cli.h"
+#include "tzero/fileio.h"
 #include "tzero/picture.h"
 #include "tzero/table.h"
 
@@ -181,7 +182,9 @@ static int run_fold(const char *qc, const char *out, const char *title, uint32_t
   picture_image img = { 0 };
   picture_info in;
   char t[PICTURE_MAX_TITLE + 1];
-  int rc = picture_fold_load(&f, qc, &err);
+  int rc = fileio_check_not_input(out, qc, "--out", &err);
+  if (!rc)
+    rc = picture_fold_load(&f, qc, &err);
   if (!rc) {
     if (!title) {
       snprintf(t, sizeof t, "FOLD  %s  CMP %lld-%lld", base_name(qc), (long long)f.rows[0].cmp,
@@ -293,7 +296,9 @@ int cmd_picture(int argc, char **argv)
   picture_loaded l;
   picture_image img = { 0 };
   picture_info info;
-  int rc = picture_load_segy(in_path, &sel, &l, &err);
+  int rc = fileio_check_not_input(out, in_path, "--out", &err);
+  if (!rc)
+    rc = picture_load_segy(in_path, &sel, &l, &err);
   if (rc)
     return cli_report(cmd, &err);
   picture_panel p = { .data = l.data, .ntraces = l.ntraces, .nsamples = l.nsamples,

@@ -202,3 +202,13 @@ expect_status 64 "CMP range longer than a section may be" -- "$TZERO" stack --jo
   --cmp-range 1-999999999 --out x.sgy --quiet
 expect_stderr "more than [0-9]+ CMPs" "message gives the limit"
 no_leftovers "long CMP range option"
+
+# --- `picture SECTION --out SECTION` wrote the PNG over the section (exit 0).
+"$TZERO" stack --job job.json --out sec.sgy --report qc.json --quiet
+cp sec.sgy in/sec.sgy
+expect_status 73 "picture onto the section it draws" -- "$TZERO" picture sec.sgy --out sec.sgy --quiet
+expect_status 73 "fold picture onto the report it draws" -- "$TZERO" picture --fold qc.json \
+  --out qc.json --quiet
+cmp -s sec.sgy in/sec.sgy && ok "the section is intact" || notok "the section changed"
+rm -f sec.sgy qc.json
+no_leftovers "pictures onto inputs"
