@@ -20,6 +20,12 @@ struct fileio_out {
 
 int fileio_create(fileio_out **out, const char *path, tz_err *err)
 {
+  struct stat st;
+  if (stat(path, &st) == 0 && S_ISDIR(st.st_mode)) {
+    /* found now rather than at the rename, after all the work */
+    tz_err_path(err, path);
+    return tz_fail(err, TZ_E_CREATE, "is a folder; give a file name for the output");
+  }
   fileio_out *o = calloc(1, sizeof *o);
   size_t n = strlen(path);
   if (!o || !(o->path = strdup(path)) || !(o->tmp = malloc(n + 32))) {

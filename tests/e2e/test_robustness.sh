@@ -212,3 +212,13 @@ expect_status 73 "fold picture onto the report it draws" -- "$TZERO" picture --f
 cmp -s sec.sgy in/sec.sgy && ok "the section is intact" || notok "the section changed"
 rm -f sec.sgy qc.json
 no_leftovers "pictures onto inputs"
+
+# --- an output path that is a folder failed only at the final rename ("cannot
+# move output into place: Is a directory"), after all the work; now at creation.
+mkdir outdir
+expect_status 73 "section path that is a folder" -- "$TZERO" stack --job job.json --out outdir --quiet
+expect_stderr "outdir: is a folder" "message names the folder"
+expect_status 73 "velocity output that is a folder" -- "$TZERO" velocity intervals vel.csv --out outdir
+[ -z "$(ls -A outdir)" ] && ok "nothing written into the folder" || notok "files in outdir"
+rmdir outdir
+no_leftovers "outputs that are folders"
