@@ -181,6 +181,7 @@ int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
     skipped += s->skipped[k];
   }
   cJSON_AddNumberToObject(tr, "skipped_total", (double)skipped);
+  cJSON_AddNumberToObject(tr, "bad_samples", (double)s->bad_samples);
 
   cJSON *cm = cJSON_AddArrayToObject(r, "cmps");
   int64_t fmin = INT64_MAX, fmax = 0, fsum = 0, zero = 0;
@@ -479,6 +480,9 @@ int qc_report_summary(const qc_report *r, char **text, tz_err *err)
       any = 1;
     }
   put(&b, "%s\n", any ? "" : "; none skipped");
+  if (numv(R, "traces.bad_samples") > 0)
+    put(&b, "samples     %.0f NaN, infinite or out-of-range input samples were stacked as 0\n",
+        numv(R, "traces.bad_samples"));
   put(&b, "section     %s: CMPs %.0f-%.0f (%.0f CMPs), %.0f samples at %.0f us from %.1f ms\n",
       strv(R, "section.path", "(not written)"), numv(R, "section.cmp_first"),
       numv(R, "section.cmp_last"), numv(R, "section.cmps"), numv(R, "section.samples"),

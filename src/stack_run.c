@@ -124,6 +124,7 @@ typedef struct worker {
   int failed;
   int64_t skipped[STACK_SKIP__COUNT];
   int64_t read, stacked;
+  int64_t bad_samples;       /* NaN/Inf/out-of-range samples the reader replaced by 0 */
   int64_t muted_stretch, muted_top, muted_end, samples;
   stack_mute_class cls[STACK_MUTE_CLASSES];
   int32_t *hist;             /* SPAN_MAX: traces per CMP of the batch */
@@ -181,6 +182,8 @@ static int read_slice(worker *w, const batch *b, int64_t lo, int64_t hi)
   if (lo >= hi)
     return TZ_OK;
   if (!w->f || w->fcur != b->file) {
+    if (w->f)
+      w->bad_samples += segy_bad_samples(w->f);
     segy_close(w->f);
     w->f = NULL;
     int rc = stack_open_input(p, b->file, &w->f, &w->err);
@@ -425,6 +428,8 @@ static void *work(void *arg)
     nxt = t;
     have = more;
   }
+  if (w->f)
+    w->bad_samples += segy_bad_samples(w->f);
   segy_close(w->f);
   w->f = NULL;
   return NULL;
@@ -646,6 +651,7 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
     worker *w = &sh.wk[t];
     s->traces_read += w->read;
     s->traces_stacked += w->stacked;
+    s->bad_samples += w->bad_samples;
     for (int r = 0; r < STACK_SKIP__COUNT; r++)
       s->skipped[r] += w->skipped[r];
     s->samples_total += w->samples;

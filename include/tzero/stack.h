@@ -193,6 +193,7 @@ typedef struct stack_section {
   int64_t traces_read;           /* every trace of every readable input */
   int64_t traces_stacked;
   int64_t skipped[STACK_SKIP__COUNT];
+  int64_t bad_samples;           /* NaN, infinite or out-of-range input samples, read as 0 */
   int64_t bytes_read;            /* input bytes of the files read */
   /* mute statistics over all stacked traces */
   int64_t samples_total, muted_stretch, muted_top, muted_end;

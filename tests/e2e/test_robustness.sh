@@ -222,3 +222,25 @@ expect_status 73 "velocity output that is a folder" -- "$TZERO" velocity interva
 [ -z "$(ls -A outdir)" ] && ok "nothing written into the folder" || notok "files in outdir"
 rmdir outdir
 no_leftovers "outputs that are folders"
+
+# --- NaN and infinite samples in a shot file were replaced by 0 and stacked
+# without a word; the report and summary now count them (issue: "NaN/Inf
+# samples are counted and reported"). IEEE bit patterns from IEEE 754.
+"$TZERO" synth --model model.json --layout layout.json --out nsv --format ieee --quiet
+"$PYTHON" - <<'PY'
+import struct
+p = 'nsv/shot_000002.sgy'
+b = bytearray(open(p, 'rb').read())
+ns = struct.unpack('>H', b[3220:3222])[0]
+for k, v in enumerate([float('nan'), float('inf'), float('-inf')]):
+    off = 3600 + k * (240 + 4 * ns) + 240 + 4 * 10
+    b[off:off + 4] = struct.pack('>f', v)
+open(p, 'wb').write(b)
+PY
+printf '{"shots": ["nsv/*.sgy"], "velocity": "vel.csv", "output": {"section": "n.sgy", "report": "n.json"}}' >nj.json
+expect_status 0 "stack with NaN and infinite samples" -- "$TZERO" stack --job nj.json
+expect_stdout "^samples +3 NaN, infinite or out-of-range" "summary counts the bad samples"
+grep -Eq '"bad_samples":[[:space:]]*3' n.json && ok "report counts the bad samples" ||
+  notok "report lacks bad_samples 3"
+rm -rf nsv nj.json n.sgy n.json
+no_leftovers "bad samples"
