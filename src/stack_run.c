@@ -26,7 +26,12 @@
  * slot is only ever touched by the thread owning its CMP in the current batch
  * (no locks): per-batch ranges are used only when the batch's CMP span fits
  * in the cache (no two of its CMPs share a slot), and the cache size is a
- * multiple of OWNER_BLOCK x T for the fixed rule. Memory: sum and weight
+ * multiple of OWNER_BLOCK x T for the fixed rule.
+ * The big arrays (sum, weight, velocity cache) are first touched, and so
+ * faulted in and zeroed, by all threads together before the first batch
+ * (each its share), on transparent huge pages where the system offers them:
+ * otherwise the thread owning the leading CMPs of a roll-along line takes
+ * nearly all the page faults, one per 4 KB. Memory: sum and weight
  * (2 x section), the cache (at most the section, capped at CACHE_BYTES), two
  * batches of input traces.
  *
@@ -41,6 +46,7 @@
 #include <stdatomic.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/mman.h>
 #include <time.h>
 #include <unistd.h>
 
@@ -368,6 +374,30 @@ static int stack_slice(worker *w, const batch *b)
   return TZ_OK;
 }
 
+/* Memory for a large array, not yet touched: aligned to 2 MB and marked for
+ * transparent huge pages (a hint; ignored where unsupported). The caller
+ * zeroes it (prefault_share). */
+#define HUGE_ALIGN ((size_t)2 << 20)
+static void *big_alloc(size_t n)
+{
+  size_t m = (n + HUGE_ALIGN - 1) / HUGE_ALIGN * HUGE_ALIGN;
+  void *p = aligned_alloc(HUGE_ALIGN, m ? m : HUGE_ALIGN);
+#ifdef MADV_HUGEPAGE
+  if (p)
+    (void)madvise(p, m ? m : HUGE_ALIGN, MADV_HUGEPAGE);
+#endif
+  return p;
+}
+
+/* Thread t's share of n floats at a: zeroed (faulting its pages in). */
+static void prefault_share(float *a, size_t n, int t, int T)
+{
+  if (!a)
+    return;
+  size_t lo = n * (size_t)t / (size_t)T, hi = n * (size_t)(t + 1) / (size_t)T;
+  memset(a + lo, 0, (hi - lo) * sizeof *a);
+}
+
 /* Advances (*fi, *a) to the next batch at or after file *fi, trace *a; every
  * thread walks the same sequence. Returns 0 after the last file. */
 static int next_batch(const stack_plan *p, batch *b, size_t fi, int64_t a)
@@ -408,6 +438,11 @@ static void *work(void *arg)
     return NULL;
   /* Step k reads batch k + 1 into one buffer and stacks batch k from the other.
    * Only the descriptors (file, a, n) are per thread; the buffers are shared. */
+  size_t fn = sh->ncmps * sh->ns, cn = sh->cache_n * sh->ns;
+  prefault_share(sh->sum, fn, w->id, sh->T);
+  prefault_share(sh->wsum, fn, w->id, sh->T);
+  prefault_share(sh->cvel, cn, w->id, sh->T);
+  prefault_share(sh->ceta, cn, w->id, sh->T);
   batch cur = sh->bt[0], nxt = sh->bt[1];
   int have = next_batch(p, &cur, 0, 0);
   if (have)
@@ -524,14 +559,14 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
     c -= c % unit;
     sh.cache_n = c ? c : unit;
   }
-  sh.sum = calloc(fn, sizeof *sh.sum);
-  sh.wsum = calloc(fn, sizeof *sh.wsum);
+  sh.sum = big_alloc(fn * sizeof *sh.sum);     /* zeroed by the threads */
+  sh.wsum = big_alloc(fn * sizeof *sh.wsum);
   sh.fold = zalloc_lines(sh.ncmps * sizeof *sh.fold);
   sh.live = zalloc_lines(sh.ncmps * sizeof *sh.live);
   sh.maxfirst = zalloc_lines(sh.ncmps * sizeof *sh.maxfirst);
   sh.tag = malloc(sh.cache_n * sizeof *sh.tag);
-  sh.cvel = malloc(sh.cache_n * sh.ns * sizeof *sh.cvel);
-  sh.ceta = sh.use_eta ? malloc(sh.cache_n * sh.ns * sizeof *sh.ceta) : NULL;
+  sh.cvel = big_alloc(sh.cache_n * sh.ns * sizeof *sh.cvel);
+  sh.ceta = sh.use_eta ? big_alloc(sh.cache_n * sh.ns * sizeof *sh.ceta) : NULL;
   int bt_ok = 1;
   for (int k = 0; k < 2; k++) {
     batch *b = &sh.bt[k];
