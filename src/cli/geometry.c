@@ -306,6 +306,35 @@ static double median_spacing(double *v, size_t n)
   return m > 0.1 ? round(m * 100.0) / 100.0 : m;
 }
 
+static const char *base_of(const char *path)
+{
+  const char *b = strrchr(path, '/');
+  return b ? b + 1 : path;
+}
+
+static int cmp_base(const void *a, const void *b)
+{
+  return strcmp(base_of(*(char *const *)a), base_of(*(char *const *)b));
+}
+
+/* --write puts every copy under its own file name in one folder: two inputs with
+ * the same name would leave only the second. TZ_E_CREATE naming both. */
+static int check_write_names(char **files, size_t n, tz_err *err)
+{
+  char **v = malloc((n ? n : 1) * sizeof *v);
+  if (!v)
+    return tz_fail(err, TZ_E_NOMEM, "file names");
+  memcpy(v, files, n * sizeof *v);
+  qsort(v, n, sizeof *v, cmp_base);
+  int rc = TZ_OK;
+  for (size_t i = 1; i < n && !rc; i++)
+    if (!strcmp(base_of(v[i]), base_of(v[i - 1])))
+      rc = tz_fail(err, TZ_E_CREATE, "--write: %s and %s have the same name; their copies "
+                   "would overwrite each other", v[i - 1], v[i]);
+  free(v);
+  return rc;
+}
+
 static int load_crooked(const char *path, double **x, double **y, size_t *n, tz_err *err)
 {
   table_reader *t;
@@ -723,6 +752,8 @@ int cmd_geometry(int argc, char **argv)
   if (oclass <= 0)
     oclass = 8 * (dg > 0 ? dg : 2 * bin);
   if ((rc = bins_fold_new(&r.fold, r.line, oclass, &err)))
+    goto done;
+  if (write_dir && (rc = check_write_names(r.files, r.nfiles, &err)))
     goto done;
   if (write_dir && mkdir(write_dir, 0777) != 0 && errno != EEXIST) {
     int e = errno;

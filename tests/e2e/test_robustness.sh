@@ -244,3 +244,15 @@ grep -Eq '"bad_samples":[[:space:]]*3' n.json && ok "report counts the bad sampl
   notok "report lacks bad_samples 3"
 rm -rf nsv nj.json n.sgy n.json
 no_leftovers "bad samples"
+
+# --- geometry --write with two inputs of the same name (from two folders) kept
+# only the second copy, silently; refused before anything is written (73).
+mkdir -p two/a two/b
+cp sv/shot_000001.sgy two/a/s.sgy
+cp sv/shot_000002.sgy two/b/s.sgy
+expect_status 73 "geometry --write with two inputs of one name" -- "$TZERO" geometry \
+  --write copies two/a/s.sgy two/b/s.sgy --quiet
+expect_stderr "two/a/s\.sgy and two/b/s\.sgy have the same name" "message names both inputs"
+expect_no_file copies "no output folder"
+rm -rf two
+no_leftovers "same-named inputs"
