@@ -18,6 +18,9 @@
 #include "tzero/stack.h"
 
 #define SEMBLANCE_MAX_VELOCITIES 100000u   /* trial velocities in one scan */
+/* trial velocities x samples of one panel (panel and power: 1 GB at the cap),
+ * checked before the panel is allocated */
+#define SEMBLANCE_MAX_PANEL_SAMPLES (1u << 27)
 #define SEMBLANCE_MAX_CANDIDATES 4096u     /* panel maxima considered by the picker */
 #define SEMBLANCE_MAX_THREADS 256
 

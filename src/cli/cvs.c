@@ -131,6 +131,12 @@ int cmd_cvs(int argc, char **argv)
     goto done;
   }
   nmo_axis ax = stack_plan_axis(plan);
+  if ((double)nvel * (double)ncmp * ax.ns > STACK_MAX_SECTION_SAMPLES) {
+    rc = tz_fail(&err, TZ_E_ARG, "%zu velocities x %zu CMPs x %zu samples: more than %u "
+                 "samples of panels (fewer velocities or a shorter CMP range)", nvel, ncmp,
+                 (size_t)ax.ns, STACK_MAX_SECTION_SAMPLES);
+    goto done;
+  }
   segy_write_opts wo = {
     .revision = 1, .format_code = job->sample_format == JOB_FORMAT_IBM ? 1 : 5,
     .samples = (uint32_t)ax.ns, .interval_us = stack_plan_interval_us(plan),

@@ -355,6 +355,12 @@ int cmd_semblance(int argc, char **argv)
     goto done;
   }
   nmo_axis ax = stack_plan_axis(plan);
+  if ((double)nvel * ax.ns > SEMBLANCE_MAX_PANEL_SAMPLES) {
+    rc = tz_fail(&err, TZ_E_ARG, "%zu trial velocities x %zu samples: a panel of more than %u "
+                 "samples (choose a larger --velocity-step or a narrower velocity range)",
+                 nvel, ax.ns, SEMBLANCE_MAX_PANEL_SAMPLES);
+    goto done;
+  }
   res = calloc(ncmp, sizeof *res);
   panel = malloc(nvel * ax.ns * sizeof *panel);
   power = malloc(nvel * ax.ns * sizeof *power);

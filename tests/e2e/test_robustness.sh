@@ -256,3 +256,19 @@ expect_stderr "two/a/s\.sgy and two/b/s\.sgy have the same name" "message names 
 expect_no_file copies "no output folder"
 rm -rf two
 no_leftovers "same-named inputs"
+
+# --- long traces with a fine velocity scan: semblance asked for a 60001 x 65535
+# panel (16 GB) and died "out of memory" (71); cvs with 60001 velocities set out
+# to write a 94 GB file. Both are refused before any work (64).
+printf '{"receiver_interval_m": 5, "source_interval_m": 10, "shot_count": 2, "channels": 4}' >long.json
+"$TZERO" synth --model model.json --layout long.json --out long --samples 65535 --interval-ms 1 \
+  --no-reflections --no-direct --no-head-wave --quiet
+printf '{"shots": ["long/*.sgy"], "velocity": "vel.csv", "output": {"section": "x.sgy"}}' >longjob.json
+expect_status 64 "semblance panel beyond the memory cap" -- "$TZERO" semblance --job longjob.json \
+  --cmps 3 --velocity-min 1000 --velocity-max 4000 --velocity-step 0.05 --out x.csv --quiet
+expect_stderr "60001 trial velocities x 65535 samples" "message gives the panel size"
+expect_status 64 "cvs panels beyond the size cap" -- "$TZERO" cvs --job longjob.json --cmps 2-5 \
+  --velocities 1000-4000:0.05 --out x.sgy --quiet
+expect_stderr "60001 velocities x 4 CMPs x 65535 samples" "message gives the output size"
+rm -rf long long.json longjob.json
+no_leftovers "scan sizes"
