@@ -14,7 +14,8 @@
 
 struct fileio_out {
   FILE *fp;
-  char *path;
+  char *path;     /* as given, for messages */
+  char *target;   /* what the rename replaces: path, or the file a symbolic link names */
   char *tmp;
 };
 
@@ -26,23 +27,47 @@ int fileio_create(fileio_out **out, const char *path, tz_err *err)
     tz_err_path(err, path);
     return tz_fail(err, TZ_E_CREATE, "is a folder; give a file name for the output");
   }
+  if (stat(path, &st) == 0 && !S_ISREG(st.st_mode)) {
+    /* the rename would replace a device, pipe or socket (or a link to one, such as
+     * /dev/stdout) by a plain file: for root, in /dev itself */
+    tz_err_path(err, path);
+    return tz_fail(err, TZ_E_CREATE, "is a device, pipe or socket; outputs are written to a "
+                   "temporary file and renamed into place, so give a file name");
+  }
+  /* A symbolic link is written through: renaming onto the link itself would
+   * replace the link (for root, /dev/stdout) instead of the file it names. */
+  char *real = NULL;
+  if (lstat(path, &st) == 0 && S_ISLNK(st.st_mode) && !(real = realpath(path, NULL))) {
+    int e = errno;
+    tz_err_path(err, path);
+    return tz_fail_os(err, TZ_E_CREATE, e, "is a symbolic link to a file that cannot be "
+                      "written");
+  }
+  const char *target = real ? real : path;
   fileio_out *o = calloc(1, sizeof *o);
-  size_t n = strlen(path);
-  if (!o || !(o->path = strdup(path)) || !(o->tmp = malloc(n + 32))) {
+  size_t n = strlen(target);
+  if (!o || !(o->path = strdup(path)) || !(o->target = real ? real : strdup(path)) ||
+      !(o->tmp = malloc(n + 32))) {
     if (o) {
       free(o->path);
+      if (!o->target)
+        free(real);
+      free(o->target);
       free(o);
+    } else {
+      free(real);
     }
     return tz_fail(err, TZ_E_NOMEM, "output handle");
   }
-  const char *slash = strrchr(path, '/');
-  size_t dirlen = slash ? (size_t)(slash - path) + 1 : 0;
-  memcpy(o->tmp, path, dirlen);
-  snprintf(o->tmp + dirlen, n + 32 - dirlen, ".%s.tmp-XXXXXX", path + dirlen);
+  const char *slash = strrchr(target, '/');
+  size_t dirlen = slash ? (size_t)(slash - target) + 1 : 0;
+  memcpy(o->tmp, target, dirlen);
+  snprintf(o->tmp + dirlen, n + 32 - dirlen, ".%s.tmp-XXXXXX", target + dirlen);
   int fd = mkstemp(o->tmp);
   if (fd < 0) {
     int e = errno;
     free(o->tmp);
+    free(o->target);
     free(o->path);
     free(o);
     tz_err_path(err, path);
@@ -60,6 +85,7 @@ int fileio_create(fileio_out **out, const char *path, tz_err *err)
     close(fd);
     unlink(o->tmp);
     free(o->tmp);
+    free(o->target);
     free(o->path);
     free(o);
     tz_err_path(err, path);
@@ -75,6 +101,7 @@ const char *fileio_path(const fileio_out *o) { return o->path; }
 static void release(fileio_out *o)
 {
   free(o->tmp);
+  free(o->target);
   free(o->path);
   free(o);
 }
@@ -93,7 +120,7 @@ int fileio_commit(fileio_out *o, tz_err *err)
     unlink(o->tmp);
     tz_err_path(err, o->path);
     rc = tz_fail_os(err, TZ_E_IO, e, "write failed on close");
-  } else if (rename(o->tmp, o->path) != 0) {
+  } else if (rename(o->tmp, o->target) != 0) {
     int e = errno;
     unlink(o->tmp);
     tz_err_path(err, o->path);

@@ -272,3 +272,23 @@ expect_status 64 "cvs panels beyond the size cap" -- "$TZERO" cvs --job longjob.
 expect_stderr "60001 velocities x 4 CMPs x 65535 samples" "message gives the output size"
 rm -rf long long.json longjob.json
 no_leftovers "scan sizes"
+
+# --- outputs are renamed into place, and the rename replaced whatever stood at
+# the name: a symbolic link became a plain file (for root, `--out /dev/stdout`
+# replaced the /dev/stdout link itself) and a named pipe was swapped for a file.
+# Links are now written through to the file they name; devices, pipes and
+# sockets are refused (73). Not tried on /dev here: the test must not touch it.
+echo old >target.csv
+ln -s target.csv link.csv
+expect_status 0 "output through a symbolic link" -- "$TZERO" velocity intervals vel.csv --out link.csv
+[ -L link.csv ] && ok "the link is still a link" || notok "the link was replaced"
+grep -q '^cmp,' target.csv && ok "the file it names has the output" || notok "target not written"
+mkfifo pipe
+expect_status 73 "output onto a named pipe" -- "$TZERO" velocity intervals vel.csv --out pipe
+expect_stderr "pipe: is a device, pipe or socket" "message names the pipe"
+[ -p pipe ] && ok "the pipe is still a pipe" || notok "the pipe was replaced"
+ln -s nowhere/x.csv dangling.csv
+expect_status 73 "output through a link to nowhere" -- "$TZERO" velocity intervals vel.csv \
+  --out dangling.csv
+rm -f target.csv link.csv pipe dangling.csv
+no_leftovers "links, pipes"
