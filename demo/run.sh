@@ -48,3 +48,8 @@ echo "== TV-GW-01: stack with the model's exact RMS velocities (job file $D/gw01
 "$TZ" stack --job "$D/gw01.job.json"
 echo "outputs: $O/gw01_stack.sgy (stacked section), $O/gw01_qc.json (QC report)"
 echo "         tzero report $O/gw01_qc.json --cmp 140   (one CMP in detail)"
+
+echo
+echo "== TV-GW-01: pictures of the section (first 150 ms) and of the fold and mute coverage"
+"$TZ" picture "$O/gw01_stack.sgy" --out "$O/gw01_stack.png" --time-ms 0-150
+"$TZ" picture --fold "$O/gw01_qc.json" --out "$O/gw01_fold.png"
