@@ -567,6 +567,138 @@ static int parse_output(job_spec *j, const cJSON *v, const char *dir, tz_err *er
   return TZ_OK;
 }
 
+/* "conditioning": an array of steps, each an object naming its "step" (condition.h
+ * checks the values; its message is given the JSON path of the value). */
+static int cond_fail(tz_err *err, const char *jpath, const tz_err *why)
+{
+  return tz_fail(err, TZ_E_JOB, "%s: %s", jpath, why->msg);
+}
+
+static int get_ms(const cJSON *step, const char *key, const char *jp, int required,
+                  double dflt_ms, double *out_s, tz_err *err)
+{
+  char kp[96];
+  snprintf(kp, sizeof kp, "%s.%s", jp, key);
+  const cJSON *v = ITEM(step, key);
+  if (!v) {
+    if (required)
+      return tz_fail(err, TZ_E_JOB, "%s: required key missing", kp);
+    *out_s = dflt_ms * 1e-3;
+    return TZ_OK;
+  }
+  double ms;
+  int rc = get_number(v, kp, 1e-3, CONDITION_MAX_WINDOW_MS, &ms, err);
+  if (!rc)
+    *out_s = ms * 1e-3;
+  return rc;
+}
+
+static int parse_condition_step(job_spec *j, const cJSON *st, const char *jp, tz_err *err)
+{
+  static const char *const snames[] = { "bandpass", "spherical_divergence", "power_gain", "agc",
+                                        NULL };
+  static const int svals[] = { CONDITION_BANDPASS, CONDITION_SPHERICAL, CONDITION_POWER,
+                               CONDITION_AGC };
+  static const char *const k_bp[] = { "step", "corners_hz", NULL };
+  static const char *const k_sph[] = { "step", "reference_time_ms", "velocity_mps", NULL };
+  static const char *const k_pow[] = { "step", "exponent", "reference_time_ms", NULL };
+  static const char *const k_agc[] = { "step", "window_ms", "measure", NULL };
+  static const char *const mnames[] = { "rms", "mean_abs", NULL };
+  static const int mvals[] = { CONDITION_AGC_RMS, CONDITION_AGC_MEAN_ABS };
+  char kp[96];
+  int rc = want_object(st, jp, err), kind;
+  if (rc)
+    return rc;
+  snprintf(kp, sizeof kp, "%s.step", jp);
+  const cJSON *e = ITEM(st, "step");
+  if (!e)
+    return tz_fail(err, TZ_E_JOB, "%s: required key missing (\"bandpass\", "
+                   "\"spherical_divergence\", \"power_gain\" or \"agc\")", kp);
+  if ((rc = get_choice(e, kp, snames, svals, &kind, err)))
+    return rc;
+  const char *const *keys = kind == CONDITION_BANDPASS ? k_bp : kind == CONDITION_SPHERICAL
+                                ? k_sph : kind == CONDITION_POWER ? k_pow : k_agc;
+  if ((rc = check_keys(st, jp, keys, err)))
+    return rc;
+  condition_chain *c = &j->conditioning;
+  tz_err why;
+  tz_err_init(&why);
+  double t_s, v = 0;
+  switch (kind) {
+  case CONDITION_BANDPASS: {
+    snprintf(kp, sizeof kp, "%s.corners_hz", jp);
+    const cJSON *a = ITEM(st, "corners_hz");
+    if (!a)
+      return tz_fail(err, TZ_E_JOB, "%s: required key missing ([f1, f2, f3, f4] in Hz)", kp);
+    if (!cJSON_IsArray(a) || cJSON_GetArraySize(a) != 4)
+      return tz_fail(err, TZ_E_JOB, "%s: expected an array of four frequencies [f1, f2, f3, "
+                     "f4] in Hz, got %s", kp, kind_name(a));
+    double f[4];
+    int i = 0;
+    for (const cJSON *x = a->child; x; x = x->next, i++) {
+      char ip[112];
+      snprintf(ip, sizeof ip, "%s[%d]", kp, i);
+      if ((rc = get_number(x, ip, 0, 1e6, &f[i], err)))
+        return rc;
+    }
+    if (condition_chain_add_bandpass(c, f, &why))
+      return cond_fail(err, kp, &why);
+    return TZ_OK;
+  }
+  case CONDITION_SPHERICAL:
+    if ((rc = get_ms(st, "reference_time_ms", jp, 0, 1000, &t_s, err)))
+      return rc;
+    snprintf(kp, sizeof kp, "%s.velocity_mps", jp);
+    if ((e = ITEM(st, "velocity_mps")) &&
+        (rc = get_number(e, kp, VELOCITY_MIN_MPS, VELOCITY_MAX_MPS, &v, err)))
+      return rc;
+    if (condition_chain_add_spherical(c, t_s, v, &why))
+      return cond_fail(err, jp, &why);
+    return TZ_OK;
+  case CONDITION_POWER:
+    if ((rc = get_ms(st, "reference_time_ms", jp, 0, 1000, &t_s, err)))
+      return rc;
+    snprintf(kp, sizeof kp, "%s.exponent", jp);
+    if (!(e = ITEM(st, "exponent")))
+      return tz_fail(err, TZ_E_JOB, "%s: required key missing (power of time, e.g. 2)", kp);
+    if ((rc = get_number(e, kp, -CONDITION_MAX_POWER, CONDITION_MAX_POWER, &v, err)))
+      return rc;
+    if (condition_chain_add_power(c, v, t_s, &why))
+      return cond_fail(err, jp, &why);
+    return TZ_OK;
+  default: {
+    int measure = CONDITION_AGC_RMS;
+    if ((rc = get_ms(st, "window_ms", jp, 1, 0, &t_s, err)))
+      return rc;
+    snprintf(kp, sizeof kp, "%s.measure", jp);
+    if ((e = ITEM(st, "measure")) && (rc = get_choice(e, kp, mnames, mvals, &measure, err)))
+      return rc;
+    if (condition_chain_add_agc(c, t_s, measure, &why))
+      return cond_fail(err, jp, &why);
+    return TZ_OK;
+  }
+  }
+}
+
+static int parse_conditioning(job_spec *j, const cJSON *v, tz_err *err)
+{
+  if (!cJSON_IsArray(v))
+    return tz_fail(err, TZ_E_JOB, "$.conditioning: expected an array of steps, got %s",
+                   kind_name(v));
+  size_t n = (size_t)cJSON_GetArraySize(v), i = 0;
+  if (n > CONDITION_MAX_STEPS)
+    return tz_fail(err, TZ_E_JOB, "$.conditioning: %zu steps, at most %d", n, CONDITION_MAX_STEPS);
+  condition_chain_init(&j->conditioning);
+  for (const cJSON *st = v->child; st; st = st->next, i++) {
+    char jp[64];
+    snprintf(jp, sizeof jp, "$.conditioning[%zu]", i);
+    int rc = parse_condition_step(j, st, jp, err);
+    if (rc)
+      return rc;
+  }
+  return TZ_OK;
+}
+
 static void set_defaults(job_spec *j)
 {
   j->geometry = JOB_GEOMETRY_HEADERS;
@@ -585,7 +717,7 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
 {
   static const char *const keys[] = { "name", "shots", "geometry", "header_map", "bins",
                                       "velocity", "moveout", "mute", "selection", "output",
-                                      "threads", "skip_bad_files", NULL };
+                                      "conditioning", "threads", "skip_bad_files", NULL };
   int rc;
   if (!cJSON_IsObject(root))
     return tz_fail(err, TZ_E_JOB, "$: expected an object, got %s", kind_name(root));
@@ -623,6 +755,8 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
   if ((e = ITEM(root, "selection")) && (rc = parse_selection(j, e, err)))
     return rc;
   if ((e = ITEM(root, "output")) && (rc = parse_output(j, e, dir, err)))
+    return rc;
+  if ((e = ITEM(root, "conditioning")) && (rc = parse_conditioning(j, e, err)))
     return rc;
   if ((e = ITEM(root, "threads"))) {
     int64_t t;
@@ -840,6 +974,34 @@ int job_check_outputs(const job_spec *j, tz_err *err)
   return TZ_OK;
 }
 
+/* One conditioning step as written in a job file, every default filled. */
+static cJSON *condition_step_json(const condition_step *s)
+{
+  cJSON *o = cJSON_CreateObject();
+  if (!o)
+    return NULL;
+  cJSON_AddStringToObject(o, "step", condition_kind_name(s->kind));
+  switch (s->kind) {
+  case CONDITION_BANDPASS:
+    cJSON_AddItemToObject(o, "corners_hz", cJSON_CreateDoubleArray(s->corners_hz, 4));
+    break;
+  case CONDITION_SPHERICAL:
+    cJSON_AddNumberToObject(o, "reference_time_ms", s->reference_time_s * 1e3);
+    if (s->velocity_mps > 0)   /* absent: the velocity table, as in the job file */
+      cJSON_AddNumberToObject(o, "velocity_mps", s->velocity_mps);
+    break;
+  case CONDITION_POWER:
+    cJSON_AddNumberToObject(o, "exponent", s->exponent);
+    cJSON_AddNumberToObject(o, "reference_time_ms", s->reference_time_s * 1e3);
+    break;
+  case CONDITION_AGC:
+    cJSON_AddNumberToObject(o, "window_ms", s->window_s * 1e3);
+    cJSON_AddStringToObject(o, "measure", condition_agc_measure_name(s->measure));
+    break;
+  }
+  return o;
+}
+
 int job_to_json(const job_spec *j, char **out, tz_err *err)
 {
   cJSON *r = cJSON_CreateObject(), *o;
@@ -914,6 +1076,9 @@ int job_to_json(const job_spec *j, char **out, tz_err *err)
       add_str(o, "report", j->report);
       add_str(o, "sample_format", j->sample_format == JOB_FORMAT_IBM ? "ibm" : "ieee");
     }
+    o = cJSON_AddArrayToObject(r, "conditioning");
+    for (size_t i = 0; o && i < j->conditioning.n; i++)
+      bad |= !cJSON_AddItemToArray(o, condition_step_json(&j->conditioning.step[i]));
     cJSON_AddNumberToObject(r, "threads", j->threads);
     cJSON_AddBoolToObject(r, "skip_bad_files", j->skip_bad_files);
   }

@@ -305,6 +305,24 @@ done:
   return TZ_OK;
 }
 
+/* ---------------------------------------------------------------- conditioning */
+
+int stack_condition_plan(condition_plan **out, const condition_chain *c, const nmo_axis *ax,
+                         const velocity_table *v, tz_err *err)
+{
+  *out = NULL;
+  if (!c || !c->n)
+    return TZ_OK;
+  tz_err why;
+  tz_err_init(&why);
+  int rc = condition_plan_new(out, c, ax->t_first_s, ax->dt_s, ax->ns, v, &why);
+  if (rc == TZ_E_ARG)
+    return tz_fail(err, TZ_E_JOB, "$.%s", why.msg);
+  if (rc)
+    *err = why;
+  return rc;
+}
+
 /* ---------------------------------------------------------------- writing */
 
 int stack_section_write(const stack_section *s, const stack_plan *p, const char *path,
@@ -407,16 +425,22 @@ int stack_write_nmo_gathers(const stack_plan *p, const stack_gathers *G, const s
   wo.measurement_system = 1;
   wo.text = text;
   float *vel = malloc(ns * sizeof *vel), *eta = NULL, *out = malloc(ns * sizeof *out);
+  float *in = malloc(ns * sizeof *in);     /* a trace's copy, conditioned */
   int use_eta = o->nmo.use_eta && velocity_table_has_eta(o->velocity);
   if (use_eta)
     eta = malloc(ns * sizeof *eta);
   nmo_workspace *ws = NULL;
+  condition_plan *cp = NULL;
+  condition_workspace *cws = NULL;
   segy_writer *w = NULL;
   int rc = TZ_OK;
-  if (!vel || !out || (use_eta && !eta)) {
+  if (!vel || !out || !in || (use_eta && !eta)) {
     rc = tz_fail(err, TZ_E_NOMEM, "gather buffers");
     goto done;
   }
+  if ((rc = stack_condition_plan(&cp, o->conditioning, &G->axis, o->velocity, err)) ||
+      (cp && (rc = condition_workspace_new(&cws, cp, err))))
+    goto done;
   if ((rc = nmo_workspace_new(&ws, ns, err)) || (rc = segy_writer_open(&w, path, &wo, err)))
     goto done;
   int64_t seq = 0;
@@ -426,8 +450,11 @@ int stack_write_nmo_gathers(const stack_plan *p, const stack_gathers *G, const s
       continue;
     velocity_sample(o->velocity, g->cmp, G->axis.t_first_s, G->axis.dt_s, ns, vel, eta);
     for (size_t k = 0; k < g->ntraces && !rc; k++) {
-      rc = nmo_apply(ws, &o->nmo, o->mute.n ? &o->mute : NULL, &G->axis, g->offset_m[k],
-                     g->samples + k * ns, vel, use_eta ? eta : NULL, out, NULL, NULL, err);
+      memcpy(in, g->samples + k * ns, ns * sizeof *in);
+      if (cp && (rc = condition_apply(cp, cws, g->cmp, vel, in, err)))
+        break;
+      rc = nmo_apply(ws, &o->nmo, o->mute.n ? &o->mute : NULL, &G->axis, g->offset_m[k], in,
+                     vel, use_eta ? eta : NULL, out, NULL, NULL, err);
       if (rc)
         break;
       segy_trace_header h = g->headers[k];
@@ -450,8 +477,11 @@ int stack_write_nmo_gathers(const stack_plan *p, const stack_gathers *G, const s
 done:
   segy_writer_abort(w);
   nmo_workspace_free(ws);
+  condition_workspace_free(cws);
+  condition_plan_free(cp);
   free(vel);
   free(eta);
   free(out);
+  free(in);
   return rc;
 }

@@ -38,5 +38,11 @@ int stack_open_input(const stack_plan *p, size_t i, segy_file **f, tz_err *err);
 int stack_file_axis_ok(const stack_plan *p, const segy_info *info);
 /* The reason a trace kind is not stacked, or -1 when the kind is data. */
 int stack_kind_reason(int kind);
+/* The conditioning plan of chain `c` on the section axis: *out = NULL when c is NULL
+ * or empty. A chain that does not fit the axis (a corner at Nyquist, say) is
+ * TZ_E_JOB with the JSON path ("$.conditioning[1] (bandpass): ..."). Single-threaded
+ * (FFTW planner). *out owns the plan: condition_plan_free(). */
+int stack_condition_plan(condition_plan **out, const condition_chain *c, const nmo_axis *ax,
+                         const velocity_table *v, tz_err *err);
 
 #endif

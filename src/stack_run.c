@@ -6,8 +6,10 @@
  *      keeps its own segy_file handle, so reading and sample conversion run in
  *      parallel) and classifies each trace with stack_plan_classify();
  *   B. stacking: thread t takes, in batch order, the traces of the CMPs it
- *      owns in this batch: NMO (nmo_apply) with the CMP's velocity function,
- *      then sum[i] += out[i], weight[i] += w[i] over the live span.
+ *      owns in this batch: conditioning in place (condition_apply, when the job
+ *      has steps: one plan shared, a workspace per thread), NMO (nmo_apply)
+ *      with the CMP's velocity function, then sum[i] += out[i],
+ *      weight[i] += w[i] over the live span.
  * The two phases are pipelined over two batch buffers: in one step every
  * thread reads its slice of batch k+1 and stacks its CMPs of batch k, then all
  * meet at one barrier (a short spin before sleeping: a futex wake-up costs
@@ -123,6 +125,7 @@ typedef struct worker {
   pthread_t th;
   int started;
   nmo_workspace *ws;
+  condition_workspace *cws;  /* NULL without conditioning */
   float *out, *w;
   segy_file *f;
   size_t fcur;
@@ -159,6 +162,7 @@ struct run_shared {
   int32_t *tag;
   float *cvel, *ceta;
   int use_eta;
+  condition_plan *cond;      /* NULL without conditioning; made before the threads start */
   batch bt[2];               /* batch k in bt[k % 2] */
   size_t nclasses;
   double class_m;
@@ -178,6 +182,7 @@ int stack_run_opts_init(stack_run_opts *o, const stack_plan *p, const velocity_t
     if (p->cmps[c].offset_max_m > maxoff)
       maxoff = p->cmps[c].offset_max_m;
   o->offset_class_m = maxoff / 8 >= 1 ? ceil(maxoff / 8) : 1;
+  o->conditioning = p->job->conditioning.n ? &p->job->conditioning : NULL;
   return stack_plan_nmo(p, &o->nmo, &o->mute, err);
 }
 
@@ -343,8 +348,13 @@ static int stack_slice(worker *w, const batch *b)
     const float *vel, *eta;
     velocity_of(sh, ci, &vel, &eta);
     nmo_trace_info info;
-    int rc = nmo_apply(w->ws, &sh->o->nmo, mute, ax, b->boff[j], b->in + j * sh->ns, vel, eta,
-                       w->out, w->w, &info, &w->err);
+    float *in = b->in + j * sh->ns;    /* this thread's trace: conditioned in place */
+    int rc = sh->cond ? condition_apply(sh->cond, w->cws, (int64_t)sh->first + ci, vel, in,
+                                        &w->err)
+                      : TZ_OK;
+    if (!rc)
+      rc = nmo_apply(w->ws, &sh->o->nmo, mute, ax, b->boff[j], in, vel, eta, w->out, w->w,
+                     &info, &w->err);
     if (rc) {
       tz_err_path(&w->err, sh->p->inputs[b->file].path);
       w->err.trace = b->a + (int64_t)j;
@@ -515,10 +525,12 @@ static void free_shared(run_shared *sh)
     for (int t = 0; t < sh->T; t++) {
       free(sh->wk[t].hist);
       nmo_workspace_free(sh->wk[t].ws);
+      condition_workspace_free(sh->wk[t].cws);
       free(sh->wk[t].out);
       free(sh->wk[t].w);
     }
   free(sh->wk);
+  condition_plan_free(sh->cond);
 }
 
 int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out, tz_err *err)
@@ -583,7 +595,7 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
   }
   for (size_t c = 0; c < sh.cache_n; c++)
     sh.tag[c] = -1;
-  int rc = TZ_OK;
+  int rc = stack_condition_plan(&sh.cond, o->conditioning, &p->axis, o->velocity, err);
   for (int t = 0; t < sh.T && !rc; t++) {
     worker *w = &sh.wk[t];
     w->id = t;
@@ -596,6 +608,8 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
       rc = tz_fail(err, TZ_E_NOMEM, "trace buffers");
     else
       rc = nmo_workspace_new(&w->ws, sh.ns, err);
+    if (!rc && sh.cond)
+      rc = condition_workspace_new(&w->cws, sh.cond, err);
   }
   if (rc) {
     free_shared(&sh);

@@ -17,6 +17,7 @@
 
 #include <stddef.h>
 #include <stdint.h>
+#include "tzero/condition.h"
 #include "tzero/error.h"
 
 #define JOB_MAX_BYTES (16u << 20)    /* a job file larger than this is refused */
@@ -83,6 +84,12 @@ typedef struct job_spec {
   char *section;              /* stacked SEG-Y path (required unless given as override) */
   char *report;               /* QC report path; NULL = none */
   int sample_format;          /* enum job_sample_format, default IEEE (5) */
+
+  /* "conditioning": ordered steps applied to every trace after binning and before
+   * NMO (docs/conditioning.md); n = 0 = none (default). Parameters are checked
+   * here; Nyquist and the AGC window against the sample interval when the stack
+   * makes its plan. */
+  condition_chain conditioning;
 
   int threads;                /* 0 = the machine's online cores */
   int skip_bad_files;         /* 0 = a missing or corrupt shot file stops the run */

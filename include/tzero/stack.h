@@ -26,6 +26,7 @@
 
 #include <stddef.h>
 #include <stdint.h>
+#include "tzero/condition.h"
 #include "tzero/error.h"
 #include "tzero/job.h"
 #include "tzero/nmo.h"
@@ -151,6 +152,9 @@ typedef struct stack_run_opts {
   const velocity_table *velocity;  /* borrowed, required */
   nmo_params nmo;                  /* stack_run_opts_init() takes them from the job */
   nmo_top_mute mute;
+  const condition_chain *conditioning; /* applied to each trace before NMO (docs/
+                                    * conditioning.md); init: the job's chain, or NULL
+                                    * when it has no steps; borrowed */
   int threads;                     /* 0 = the machine's online cores */
   int32_t first_cmp, last_cmp;     /* sub-range of the plan's range (init: the whole) */
   double offset_class_m;           /* width of the mute-statistics offset classes
@@ -244,8 +248,9 @@ int stack_collect(const stack_plan *p, const int32_t *cmps, size_t ncmps, stack_
                   tz_err *err);
 void stack_gathers_free(stack_gathers *g);   /* NULL is a no-op */
 
-/* Writes the gathers NMO-corrected (velocities, NMO parameters and mutes from o;
- * o's CMP range, threads and progress are not used) as SEG-Y rev 1 CMP gathers:
+/* Writes the gathers NMO-corrected (conditioning, velocities, NMO parameters and
+ * mutes from o; o's CMP range, threads and progress are not used) as SEG-Y rev 1
+ * CMP gathers:
  * CMPs in order, traces by |offset|, each trace's own header kept, with CMP
  * number (21-24), trace number within the CMP (25-28), signed offset (37-40)
  * and CMP X/Y (181-188) set; binary header sorting code 2 (CMP ensemble),

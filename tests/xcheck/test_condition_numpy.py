@@ -22,6 +22,7 @@ import subprocess
 
 import numpy as np
 
+import tzcheck as tz
 from tzcheck import WORK, TZERO, ok, done
 
 DRIVER = os.path.join(os.path.dirname(TZERO), "tests", "condition_driver")
@@ -166,5 +167,116 @@ p = subprocess.run([DRIVER, "-", "0", "0", "0.002", "700", os.path.join(WORK, "c
                    capture_output=True, text=True)
 ok(p.returncode == 1 and "f4 = 250 Hz is at or above the Nyquist frequency 250 Hz" in p.stderr,
    "corner at Nyquist refused with its value", p.stderr.strip())
+
+# ---- `tzero stack` and `tzero nmo` with a "conditioning" job key, on a file written by
+# segyio. Zero-offset traces (source = receiver), one per CMP: NMO is then the identity
+# (t = t0, REFERENCE.md §3.1) and each CMP stacks one trace, so the section must be the
+# conditioned input. Reference: the NumPy chain above (independent of tzero).
+import json  # noqa: E402
+
+import segyio  # noqa: E402
+
+NTR, NSS, DTUS = 12, 600, 2000
+sdir = os.path.join(WORK, "cond_line")
+os.makedirs(os.path.join(sdir, "shots"), exist_ok=True)
+os.makedirs(os.path.join(sdir, "out"), exist_ok=True)
+raw = rng.standard_normal((NTR, NSS))
+spec = segyio.spec()
+spec.samples = list(range(NSS))
+spec.format = 5
+spec.tracecount = NTR
+with segyio.create(os.path.join(sdir, "shots", "zero_offset.sgy"), spec) as f:
+    f.bin.update(hdt=DTUS, hns=NSS, format=5, mfeet=1)
+    F = segyio.TraceField
+    for k in range(NTR):
+        f.header[k] = {F.TRACE_SEQUENCE_LINE: k + 1, F.TRACE_SEQUENCE_FILE: k + 1,
+                       F.FieldRecord: k + 1, F.TraceNumber: 1, F.TraceIdentificationCode: 1,
+                       F.offset: 0, F.SourceGroupScalar: -100,
+                       F.SourceX: (2000 + 10 * k) * 100, F.SourceY: 0,
+                       F.GroupX: (2000 + 10 * k) * 100, F.GroupY: 0, F.CoordinateUnits: 1,
+                       F.TRACE_SAMPLE_COUNT: NSS, F.TRACE_SAMPLE_INTERVAL: DTUS}
+        f.trace[k] = raw[k].astype(np.float32)
+with open(os.path.join(sdir, "velocity.csv"), "w") as fp:
+    fp.write(TABLE.replace("200,", "1,"))   # one control CMP: the same function everywhere
+job = {
+    "name": "Tollerby Moss zero-offset test (invented)",
+    "shots": ["shots/*.sgy"],
+    "bins": {"size_m": 10, "origin_x_m": 2000, "origin_y_m": 0, "azimuth_deg": 90,
+             "first_cmp": 1},
+    "velocity": "velocity.csv",
+    "conditioning": [
+        {"step": "spherical_divergence", "reference_time_ms": 1200},
+        {"step": "bandpass", "corners_hz": [4, 8, 60, 90]},
+        {"step": "agc", "window_ms": 300},
+    ],
+    "output": {"section": "out/stack.sgy", "report": "out/qc.json"},
+}
+with open(os.path.join(sdir, "line.json"), "w") as fp:
+    json.dump(job, fp, indent=2)
+dts = DTUS * 1e-6
+vz = np.interp(dts * np.arange(NSS), kt, kv)
+want_line = agc(bandpass_fft(raw * times(0, dts, NSS) * vz ** 2 / (1.2 * vref ** 2), dts,
+                             [4, 8, 60, 90]), dts, 0.3, "rms")
+p = tz.run("stack", "--job", os.path.join(sdir, "line.json"), "--quiet", "--threads", 2)
+if ok(p.returncode == 0, "tzero stack runs a job with a conditioning chain", p.stderr.strip()):
+    with segyio.open(os.path.join(sdir, "out", "stack.sgy"), ignore_geometry=True) as f:
+        sec = np.array([f.trace[i] for i in range(f.tracecount)], dtype=np.float64)
+    ok(sec.shape == want_line.shape, "one stacked trace per zero-offset CMP", str(sec.shape))
+    if sec.shape == want_line.shape:
+        # the last sample is left out: NMO mutes what maps to the trace end (docs/nmo.md)
+        close(sec[:, :-1], want_line[:, :-1], 1e-4, "stacked zero-offset section = NumPy "
+              "chain of the input (spherical -> band-pass -> AGC)")
+    with open(os.path.join(sdir, "out", "qc.json")) as fp:
+        steps = json.load(fp)["parameters"]["conditioning"]
+    ok([s["step"] for s in steps] == ["spherical_divergence", "bandpass", "agc"]
+       and steps[1]["corners_hz"] == [4, 8, 60, 90] and steps[2]["measure"] == "rms",
+       "QC report records the resolved conditioning chain", json.dumps(steps))
+gout = os.path.join(sdir, "out", "gathers.sgy")
+p = tz.run("nmo", "--job", os.path.join(sdir, "line.json"), "--cmps", "3-5", "--out", gout,
+           "--quiet")
+if ok(p.returncode == 0, "tzero nmo runs a job with a conditioning chain", p.stderr.strip()):
+    with segyio.open(gout, ignore_geometry=True) as f:
+        gat = np.array([f.trace[i] for i in range(f.tracecount)], dtype=np.float64)
+    close(gat[:, :-1], want_line[2:5, :-1], 1e-4,
+          "NMO gathers of CMPs 3-5 carry the same conditioning")
+
+# A NaN sample: the SEG-Y reader replaces it by 0 (docs/segy-reading.md), so it cannot
+# smear over the filtered trace; the section equals the chain of the input with a 0 there.
+bad = os.path.join(sdir, "nan")
+os.makedirs(os.path.join(bad, "shots"), exist_ok=True)
+os.makedirs(os.path.join(bad, "out"), exist_ok=True)
+with segyio.open(os.path.join(sdir, "shots", "zero_offset.sgy"), ignore_geometry=True) as src:
+    with segyio.create(os.path.join(bad, "shots", "zero_offset.sgy"), spec) as f:
+        f.bin.update(hdt=DTUS, hns=NSS, format=5, mfeet=1)
+        for k in range(NTR):
+            f.header[k] = src.header[k]
+            tr = np.array(src.trace[k])
+            if k == 3:
+                tr[100] = np.nan
+            f.trace[k] = tr
+with open(os.path.join(bad, "velocity.csv"), "w") as fp:
+    fp.write(TABLE.replace("200,", "1,"))
+with open(os.path.join(bad, "line.json"), "w") as fp:
+    json.dump(job, fp)
+zeroed = raw.copy()
+zeroed[3, 100] = 0
+want_nan = agc(bandpass_fft(zeroed * times(0, dts, NSS) * vz ** 2 / (1.2 * vref ** 2), dts,
+                            [4, 8, 60, 90]), dts, 0.3, "rms")
+p = tz.run("stack", "--job", os.path.join(bad, "line.json"), "--quiet")
+if ok(p.returncode == 0, "a line with a NaN sample stacks", p.stderr.strip()):
+    with segyio.open(os.path.join(bad, "out", "stack.sgy"), ignore_geometry=True) as f:
+        sec = np.array([f.trace[i] for i in range(f.tracecount)], dtype=np.float64)
+    ok(np.all(np.isfinite(sec)), "no NaN in the conditioned section")
+    close(sec[:, :-1], want_nan[:, :-1], 1e-4, "NaN sample conditioned as 0")
+
+# A band-pass corner above Nyquist (250 Hz at 2 ms) is a job error naming the step.
+job["conditioning"] = [{"step": "bandpass", "corners_hz": [5, 10, 200, 300]}]
+with open(os.path.join(sdir, "nyquist.json"), "w") as fp:
+    json.dump(job, fp)
+p = tz.run("stack", "--job", os.path.join(sdir, "nyquist.json"), "--quiet", check=False)
+ok(p.returncode == 65 and "$.conditioning[0] (bandpass): corner f4 = 300 Hz is at or above the "
+   "Nyquist frequency 250 Hz" in p.stderr, "corner above Nyquist: exit 65 naming the step",
+   f"{p.returncode}: {p.stderr.strip()}")
+ok(not os.path.exists(os.path.join(sdir, "out", "nyquist.sgy")), "no section left behind")
 
 done()
