@@ -95,6 +95,15 @@ int fileio_create(fileio_out **out, const char *path, tz_err *err)
   return TZ_OK;
 }
 
+int fileio_probe(const char *path, tz_err *err)
+{
+  fileio_out *o;
+  int rc = fileio_create(&o, path, err);
+  if (!rc)
+    fileio_abort(o);
+  return rc;
+}
+
 FILE *fileio_stream(fileio_out *o) { return o->fp; }
 const char *fileio_path(const fileio_out *o) { return o->path; }
 

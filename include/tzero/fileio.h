@@ -20,6 +20,10 @@ int fileio_commit(fileio_out *o, tz_err *err);
 /* Closes and removes the temporary file; takes the handle. NULL is a no-op. */
 void fileio_abort(fileio_out *o);
 
+/* Creates and removes a temporary file beside `path`: the same TZ_E_CREATE as
+ * fileio_create() would give, found before a long run rather than after it. */
+int fileio_probe(const char *path, tz_err *err);
+
 /* 1 when `a` and `b` both exist and are the same file (device and inode), so
  * that writing one would replace the other; 0 otherwise. */
 int fileio_same_file(const char *a, const char *b);

@@ -9,6 +9,7 @@
 
 #include "cli.h"
 #include "jobopts.h"
+#include "tzero/fileio.h"
 #include "tzero/stack.h"
 
 static void help(void)
@@ -95,7 +96,7 @@ int cmd_nmo(int argc, char **argv)
   }
   stack_run_opts ro;
   int64_t written = 0;
-  if (!(rc = job_check_output(su.job, out, "--out", 1, &e)) &&
+  if (!(rc = job_check_output(su.job, out, "--out", 1, &e)) && !(rc = fileio_probe(out, &e)) &&
       !(rc = stack_run_opts_init(&ro, su.plan, su.velocity, &e)) &&
       !(rc = stack_collect(su.plan, cmps, ncmps, &g, &e)))
     rc = stack_write_nmo_gathers(su.plan, g, &ro, out, su.job->sample_format, &written, &e);

@@ -10,6 +10,7 @@
 #include <unistd.h>
 
 #include "cli.h"
+#include "tzero/fileio.h"
 #include "tzero/job.h"
 #include "tzero/segy.h"
 #include "tzero/semblance.h"
@@ -331,7 +332,8 @@ int cmd_semblance(int argc, char **argv)
   ov.threads = (int)o.threads;
   if ((rc = job_apply_overrides(job, &ov, &err)) ||
       (rc = job_check_output(job, o.out, "--out", 0, &err)) ||
-      (rc = job_check_output(job, o.panels, "--panels", 0, &err)))
+      (rc = job_check_output(job, o.panels, "--panels", 0, &err)) ||
+      (o.out && (rc = fileio_probe(o.out, &err))))
     goto done;
   if ((rc = stack_plan_build(&plan, job, NULL, NULL, &err)))
     goto done;

@@ -148,7 +148,7 @@ int cmd_stack(int argc, char **argv)
     tz_err_path(&e, jobpath);
     goto done;
   }
-  if ((rc = job_check_outputs(job, &e)))
+  if ((rc = job_check_outputs(job, &e)) || (rc = fileio_probe(job->section, &e)))
     goto done;
   /* the report's temporary file first: a report that cannot be created stops
    * the run before the section appears */

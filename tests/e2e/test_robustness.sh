@@ -292,3 +292,15 @@ expect_status 73 "output through a link to nowhere" -- "$TZERO" velocity interva
   --out dangling.csv
 rm -f target.csv link.csv pipe dangling.csv
 no_leftovers "links, pipes"
+
+# --- an output in a folder that does not exist was found only when the result
+# was written, after the whole data pass (stack, nmo) or the whole analysis
+# (semblance); now a probe finds it first. Same status (73), no probe file left.
+expect_status 73 "stack section in a missing folder" -- "$TZERO" stack --job job.json \
+  --out nodir/x.sgy --quiet
+expect_stderr "nodir/x\.sgy: cannot create output" "message names the section"
+expect_status 73 "nmo gathers in a missing folder" -- "$TZERO" nmo --job job.json --cmps 8 \
+  --out nodir/x.sgy --quiet
+expect_status 73 "semblance table in a missing folder" -- "$TZERO" semblance --job job.json \
+  --cmps 8 --out nodir/x.csv --quiet
+no_leftovers "outputs in missing folders"
