@@ -204,6 +204,8 @@ int cmd_cvs(int argc, char **argv)
            first, last, (long long)traces_per_panel, vels[0], vels[nvel - 1]);
   }
 done:;
+  if (rc)
+    tz_err_path(&err, jobpath);   /* an error of no particular file belongs to the job */
   int ex = rc ? cli_report(cmd, &err) : EX_OK;
   segy_writer_abort(w);
   stack_section_free(sec);

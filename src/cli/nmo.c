@@ -126,8 +126,10 @@ int cmd_nmo(int argc, char **argv)
       printf(" (%zu requested CMPs have no traces and were left out)", empty);
     printf("\n");
   }
-  if (rc)
+  if (rc) {
+    tz_err_path(&e, jobpath);   /* an error of no particular file belongs to the job */
     rc = cli_report("nmo", &e);
+  }
   stack_gathers_free(g);
   stack_setup_free(&su);
   free(cmps);

@@ -199,8 +199,10 @@ int cmd_stack(int argc, char **argv)
     rc = print_summary(report, job->report, &e);
 done:
   fileio_abort(rep_out);
-  if (rc)
+  if (rc) {
+    tz_err_path(&e, jobpath);   /* an error of no particular file belongs to the job */
     rc = cli_report("stack", &e);
+  }
   free(report);
   stack_section_free(sec);
   stack_setup_free(&su);

@@ -304,3 +304,16 @@ expect_status 73 "nmo gathers in a missing folder" -- "$TZERO" nmo --job job.jso
 expect_status 73 "semblance table in a missing folder" -- "$TZERO" semblance --job job.json \
   --cmps 8 --out nodir/x.csv --quiet
 no_leftovers "outputs in missing folders"
+
+# --- a conditioning step that the sample interval rules out (checked after the
+# header pass) was reported without the job's name.
+printf '{"shots": ["sv/*.sgy"], "velocity": "vel.csv", "conditioning": [{"step": "bandpass", "corners_hz": [5, 10, 60, 300]}], "output": {"section": "x.sgy"}}' >cond.json
+expect_status 65 "band-pass above Nyquist" -- "$TZERO" stack --job cond.json --quiet
+expect_stderr "^tzero stack: cond\.json: .*Nyquist" "stack names the job"
+expect_status 65 "band-pass above Nyquist (nmo)" -- "$TZERO" nmo --job cond.json --cmps 8 --out x.sgy
+expect_stderr "^tzero nmo: cond\.json: " "nmo names the job"
+expect_status 65 "band-pass above Nyquist (cvs)" -- "$TZERO" cvs --job cond.json --cmps 6-8 \
+  --velocities 1500 --out x.sgy --quiet
+expect_stderr "^tzero cvs: cond\.json: " "cvs names the job"
+rm -f cond.json
+no_leftovers "conditioning checked late"
