@@ -4,7 +4,8 @@
 # Two lines: TV-GW-01, a shallow groundwater line (48-channel split spread, 2 m
 # stations) for the (invented) Brindlecote Water Co-operative, and TV-DX-04, a deeper
 # exploration-style line (120-channel trailing spread, 12.5 m stations) with a
-# dipping interface for the (invented) Harnet Ridge Exploration. Steps run one
+# dipping interface for the (invented) Harnet Ridge Exploration, taken through
+# velocity analysis (semblance picks), stacking and comparison. Steps run one
 # after another; outputs go to demo/out/ (ignored by git).
 set -eu
 B=${B:-build}
@@ -53,3 +54,28 @@ echo
 echo "== TV-GW-01: pictures of the section (first 150 ms) and of the fold and mute coverage"
 "$TZ" picture "$O/gw01_stack.sgy" --out "$O/gw01_stack.png" --time-ms 0-150
 "$TZ" picture --fold "$O/gw01_qc.json" --out "$O/gw01_fold.png"
+
+echo
+echo "== TV-DX-04: velocity analysis (semblance on 5-CMP supergathers, automatic picks)"
+"$TZ" semblance --job "$D/dx04.job.json" --cmps 60-260:40 --supergather 2 \
+  --velocity-min 1500 --velocity-max 3500 --velocity-step 20 \
+  --out "$O/dx04_velocity.csv" --panels "$O/dx04_panels.sgy" --quiet
+echo "picked velocity table: $O/dx04_velocity.csv (model's exact RMS velocities: $O/dx04_field/rms_velocity.csv)"
+"$TZ" velocity check "$O/dx04_velocity.csv" | tail -n 1
+
+echo
+echo "== TV-DX-04: stack with the picked velocities (spherical divergence gain, band-pass, sinc8 NMO)"
+"$TZ" stack --job "$D/dx04.job.json" | sed -n '1,6p'
+
+echo
+echo "== TV-DX-04: rerun with the model's velocities, then compare the two sections"
+"$TZ" stack --job "$D/dx04.job.json" --velocity "$O/dx04_field/rms_velocity.csv" \
+  --out "$O/dx04_stack_model.sgy" --report "$O/dx04_qc_model.json" --quiet
+"$TZ" compare "$O/dx04_stack_model.sgy" "$O/dx04_stack.sgy" --csv "$O/dx04_compare.csv" | tail -n 4
+"$TZ" picture "$O/dx04_stack.sgy" --out "$O/dx04_stack.png"
+"$TZ" picture "$O/dx04_panels.sgy" --out "$O/dx04_panels.png" --colour-map semblance
+
+echo
+echo "outputs in $O/: gw01_stack.sgy, gw01_qc.json, gw01_stack.png, gw01_fold.png,"
+echo "  dx04_velocity.csv, dx04_stack.sgy, dx04_qc.json, dx04_stack.png, dx04_panels.png"
+echo "A processed section is an interpretation aid: have it reviewed by a qualified geophysicist."
