@@ -95,7 +95,7 @@ int main(int argc, char **argv)
     return 1;
   for (int interp = NMO_INTERP_LINEAR; interp <= NMO_INTERP_SINC8; interp++) {
     p.interp = interp;
-    double t_vel = 0, t_nmo = 0;
+    double t_vel = 0, t_correct = 0;
     size_t live = 0;
     for (int64_t r = 0; r < reps; r++) {
       double t0 = now();
@@ -114,14 +114,14 @@ int main(int argc, char **argv)
       tn[r] = t2 - t1;
     }
     t_vel = median(tv, (size_t)reps) * (double)reps;   /* median gather, scaled */
-    t_nmo = median(tn, (size_t)reps) * (double)reps;
+    t_correct = median(tn, (size_t)reps) * (double)reps;
     double nsamp = (double)reps * NTR * NS;
     if (interp == NMO_INTERP_LINEAR)
-      t_lin_trace = t_nmo / ((double)reps * NTR);
+      t_lin_trace = t_correct / ((double)reps * NTR);
     printf("nmo %-6s: %7.1f M output samples/s/core (%5.1f M live samples/s), "
            "%.3f ms per 240x1500 gather; velocity sampling %.2f%% of the time\n",
-           nmo_interp_name(interp), nsamp / t_nmo * 1e-6, (double)live / t_nmo * 1e-6,
-           t_nmo / (double)reps * 1e3, 100 * t_vel / (t_vel + t_nmo));
+           nmo_interp_name(interp), nsamp / t_correct * 1e-6, (double)live / t_correct * 1e-6,
+           t_correct / (double)reps * 1e3, 100 * t_vel / (t_vel + t_correct));
   }
   /* Without a per-CMP cache: velocity sampled for every trace (shot order). */
   double t0 = now();

@@ -3,8 +3,8 @@
  *
  * Usage: segy_bench FILE [MB]. Writes about MB megabytes (default 300) of
  * format 1 traces to FILE with the library's writer, reads it once to warm
- * the page cache, then times: plain fread in 1 MB blocks; segy_read_header
- * over every trace; segy_read_trace over every trace; and IBM-to-float
+ * the page cache, then times: plain fread in 1 MB blocks; segy_header_read
+ * over every trace; segy_trace_read over every trace; and IBM-to-float
  * conversion alone on an in-memory buffer. Rates are file megabytes (1e6
  * bytes) per second of wall-clock time; best of three runs each.
  */
@@ -14,7 +14,7 @@
 #include <string.h>
 #include <time.h>
 
-#include "segy_priv.h"   /* segy_decode_samples: the converter segy_read_trace uses */
+#include "segy_priv.h"   /* segy_decode_samples: the converter segy_trace_read uses */
 #include "tzero/segy.h"
 
 #define NS 3000u
@@ -67,7 +67,7 @@ int main(int argc, char **argv)
   tz_err_init(&err);
 
   /* write */
-  segy_write_opts o = { .format_code = 1, .samples = NS, .interval_us = 1000,
+  segy_writer_opts o = { .format_code = 1, .samples = NS, .interval_us = 1000,
                         .sorting_code = 1, .text = "SPEED TEST FILE, INVENTED DATA" };
   segy_writer *w;
   float *s = malloc(NS * sizeof *s);
@@ -84,7 +84,7 @@ int main(int argc, char **argv)
     h.receiver_x = h.source_x + 12.5 * (double)(i % 240);
     for (uint32_t k = 0; k < NS; k++)
       s[k] = (float)sin(0.01 * k + (double)i) * 1000.0f;
-    if (segy_write_trace(w, &h, s, &err))
+    if (segy_trace_write(w, &h, s, &err))
       return die(&err);
   }
   if (segy_writer_finish(w, &err))
@@ -108,14 +108,14 @@ int main(int argc, char **argv)
     segy_trace_header h;
     t = now();
     for (int64_t i = 0; i < n; i++) {
-      if (segy_read_header(f, i, &h, &err))
+      if (segy_header_read(f, i, &h, &err))
         return die(&err);
       sink += h.receiver_x;
     }
     double th = now() - t;
     t = now();
     for (int64_t i = 0; i < n; i++) {
-      if (segy_read_trace(f, i, &h, s, NS, &err))
+      if (segy_trace_read(f, i, &h, s, NS, &err))
         return die(&err);
       sink += s[i % NS];
     }
@@ -128,7 +128,7 @@ int main(int argc, char **argv)
   }
 
   /* IBM conversion alone: one trace of big-endian words, converted over and
-   * over in cache, through the same loop segy_read_trace uses */
+   * over in cache, through the same loop segy_trace_read uses */
   unsigned char *words = malloc(4 * (size_t)NS);
   for (uint32_t k = 0; k < NS; k++) {
     uint32_t wd = segy_float_to_ibm((float)sin(0.37 * k) * 1000.0f);
@@ -147,9 +147,9 @@ int main(int argc, char **argv)
   double nw = (double)reps * NS;
 
   printf("plain sequential fread (1 MB blocks): %8.0f MB/s\n", bytes / 1e6 / best_plain);
-  printf("header-only scan (segy_read_header):  %8.0f MB/s of file, %.2f M traces/s\n",
+  printf("header-only scan (segy_header_read):  %8.0f MB/s of file, %.2f M traces/s\n",
          bytes / 1e6 / best_hdr, (double)ntr / best_hdr / 1e6);
-  printf("full read (segy_read_trace, IBM):     %8.0f MB/s (%.0f%% of plain read)\n",
+  printf("full read (segy_trace_read, IBM):     %8.0f MB/s (%.0f%% of plain read)\n",
          bytes / 1e6 / best_full, 100.0 * best_plain / best_full);
   printf("IBM->float conversion alone:          %8.0f MB/s of samples (%.0f M samples/s)\n",
          nw * 4 / 1e6 / tc, nw / tc / 1e6);

@@ -535,7 +535,7 @@ int audio_convert(const char *in_path, const char *out_path, const audio_params 
 
   char text[38 * 78];
   cards(text, sizeof text, in_path, &in, &w, p, field_record);
-  segy_write_opts wo = { .revision = 1, .format_code = p->format_code ? p->format_code : 5,
+  segy_writer_opts wo = { .revision = 1, .format_code = p->format_code ? p->format_code : 5,
                          .samples = w.samples, .interval_us = w.interval_us,
                          .sorting_code = 1, .traces_per_ensemble = (int16_t)nsel,
                          .measurement_system = 1, .text = text };
@@ -544,7 +544,7 @@ int audio_convert(const char *in_path, const char *out_path, const audio_params 
   for (size_t j = 0; j < nsel; j++) {
     segy_trace_header h;
     if ((rc = trace_header(p, field_record, j, first_line_seq, &h, err)) ||
-        (rc = segy_write_trace(wr, &h, rec + j * w.samples, err)))
+        (rc = segy_trace_write(wr, &h, rec + j * w.samples, err)))
       goto done;
   }
   rc = segy_writer_finish(wr, err);

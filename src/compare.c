@@ -119,7 +119,7 @@ static int index_file(segy_file *f, const char *path, struct idx **out, size_t *
     return tz_fail(err, TZ_E_NOMEM, "CMP index of %lld traces", (long long)nt);
   segy_trace_header h;
   for (int64_t i = 0; i < nt; i++) {
-    int rc = segy_read_header(f, i, &h, err);
+    int rc = segy_header_read(f, i, &h, err);
     if (rc) {
       free(ix);
       return tz_err_path(err, path);
@@ -281,11 +281,11 @@ int compare_sections(const char *path_a, const char *path_b, const compare_param
       k++;
       continue;
     }
-    if ((rc = segy_read_trace(fa, ia[i].trace, &h, ta, ns, err))) {
+    if ((rc = segy_trace_read(fa, ia[i].trace, &h, ta, ns, err))) {
       tz_err_path(err, path_a);
       goto done;
     }
-    if ((rc = segy_read_trace(fb, ib[k].trace, &h, tb, ns, err))) {
+    if ((rc = segy_trace_read(fb, ib[k].trace, &h, tb, ns, err))) {
       tz_err_path(err, path_b);
       goto done;
     }

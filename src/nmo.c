@@ -140,7 +140,7 @@ int nmo_top_mute_set(nmo_top_mute *m, const double *offset_m, const double *time
   return TZ_OK;
 }
 
-double nmo_top_mute_time_s(const nmo_top_mute *m, double offset_m)
+double nmo_top_mute_seconds(const nmo_top_mute *m, double offset_m)
 {
   if (!m || m->n == 0)
     return -INFINITY;
@@ -547,7 +547,7 @@ int nmo_apply(nmo_workspace *ws, const nmo_params *p, const nmo_top_mute *mute,
   const float *e = p->use_eta ? eta : NULL;
   float *tsq = ws->tsq, *u = ws->u;
 
-  double tm = nmo_top_mute_time_s(mute, offset_m);
+  double tm = nmo_top_mute_seconds(mute, offset_m);
   double taper_top = mute ? mute->taper_ms * 1e-3 : 0;
   load_input(ws, ax, in, tm, taper_top);
 

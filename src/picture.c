@@ -856,7 +856,7 @@ int picture_load_segy(const char *path, const picture_select *sel, picture_loade
   segy_trace_header h;
   int64_t keep = 0, cmin = INT64_MAX, cmax = INT64_MIN, first_kept = -1;
   for (int64_t i = 0; i < nt; i++) {
-    if ((rc = segy_read_header(f, i, &h, err)))
+    if ((rc = segy_header_read(f, i, &h, err)))
       goto fail;
     cmin = h.cmp < cmin ? h.cmp : cmin;
     cmax = h.cmp > cmax ? h.cmp : cmax;
@@ -879,7 +879,7 @@ int picture_load_segy(const char *path, const picture_select *sel, picture_loade
                  (long long)cmax);
     goto fail;
   }
-  if ((rc = segy_read_header(f, first_kept, &h, err)))
+  if ((rc = segy_header_read(f, first_kept, &h, err)))
     goto fail;
   double dt = fi->interval_us / 1000.0, t0 = h.delay_ms;
   size_t ns = fi->samples, j0 = 0, j1 = ns; /* kept samples [j0, j1) */
@@ -915,12 +915,12 @@ int picture_load_segy(const char *path, const picture_select *sel, picture_loade
   size_t k = 0;
   out->cmps_increase = 1;
   for (int64_t i = first_kept; i < nt && k < (size_t)keep; i++) {
-    if ((rc = segy_read_header(f, i, &h, err)))
+    if ((rc = segy_header_read(f, i, &h, err)))
       goto fail;
     if (!keep_trace(sel, &h))
       continue;
     memset(buf, 0, ns * sizeof *buf);
-    if ((rc = segy_read_trace(f, i, &h, buf, ns, err)))
+    if ((rc = segy_trace_read(f, i, &h, buf, ns, err)))
       goto fail;
     memcpy(out->data + k * nk, buf + j0, nk * sizeof *buf);
     out->cmp[k] = h.cmp;

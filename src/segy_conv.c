@@ -11,7 +11,7 @@
  * shifted fraction. Values outside the IEEE single range go to +-FLT_MAX
  * (counted as out of range) or to 0 (underflow, not counted).
  *
- * Not here: file structure (segy_read.c, segy_write.c), header fields
+ * Not here: file structure (segy_reader.c, segy_writer.c), header fields
  * (segy_map.c).
  */
 #include <float.h>

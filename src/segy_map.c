@@ -6,7 +6,7 @@
  * is described once. A header map overrides the position and width of named
  * fields (and may mark a slot as holding an IEEE float, REFERENCE.md §5.12).
  *
- * Not here: the file structure (segy_read.c), sample conversion (segy_conv.c).
+ * Not here: the file structure (segy_reader.c), sample conversion (segy_conv.c).
  */
 #include <cJSON.h>
 #include <math.h>
@@ -165,7 +165,7 @@ void segy_header_decode(const unsigned char *raw, int order, const segy_header_m
 }
 
 /* Stored integer for a scaled value: the inverse of the scalar rule. */
-static int unscale(double v, int16_t scalar, double *out)
+static int remove_scalar(double v, int16_t scalar, double *out)
 {
   double s = scalar > 0 ? v / scalar : scalar < 0 ? v * -(double)scalar : v;
   s = nearbyint(s);
@@ -196,7 +196,7 @@ int segy_header_encode(const segy_trace_header *h, uint32_t samples, uint32_t in
       break;
     case SEGY_K_TIME:
       memcpy(&i16, m, sizeof i16);
-      unscale(i16, h->time_scalar, &v);
+      remove_scalar(i16, h->time_scalar, &v);
       break;
     case SEGY_K_U16:
       v = !strcmp(fd->name, "samples") ? samples : interval_us;
@@ -206,7 +206,7 @@ int segy_header_encode(const segy_trace_header *h, uint32_t samples, uint32_t in
     case SEGY_K_COORD: {
       double d;
       memcpy(&d, m, sizeof d);
-      if (!unscale(d, fd->kind == SEGY_K_RAW ? 1 : fd->kind == SEGY_K_ELEV ? es : cs, &v))
+      if (!remove_scalar(d, fd->kind == SEGY_K_RAW ? 1 : fd->kind == SEGY_K_ELEV ? es : cs, &v))
         return tz_fail(err, TZ_E_ARG,
                        "%s = %g does not fit trace header bytes %d-%d with scalar %d",
                        fd->name, d, fd->byte, fd->byte + 3,

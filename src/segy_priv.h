@@ -87,7 +87,7 @@ int segy_header_encode(const segy_trace_header *h, uint32_t samples, uint32_t in
 int64_t segy_decode_samples(int code, int order, unsigned char *in, size_t n, float *out);
 
 /* Sample bytes (reordered to big-endian) of the trace the last successful
- * segy_read_trace() returned; borrowed until the next call on the handle. */
+ * segy_trace_read() returned; borrowed until the next call on the handle. */
 const unsigned char *segy_last_sample_bytes(const segy_file *f);
 
 /* EBCDIC (code page 037) <-> ASCII for the textual header. */

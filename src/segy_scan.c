@@ -83,8 +83,8 @@ int segy_scan(segy_file *f, int with_samples, segy_stats *st, tz_err *err)
   int64_t ibm_nonzero = 0, ibm_unnormal = 0;   /* REFERENCE.md §5.3 wrong-format tell */
   for (int64_t i = 0; i < n; i++) {
     segy_trace_header h;
-    rc = with_samples ? segy_read_trace(f, i, &h, s, in->samples, err)
-                      : segy_read_header(f, i, &h, err);
+    rc = with_samples ? segy_trace_read(f, i, &h, s, in->samples, err)
+                      : segy_header_read(f, i, &h, err);
     if (rc)
       goto done;
     for (size_t k = 0; k < nf && k < SEGY_MAX_FIELDS; k++) {

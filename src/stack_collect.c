@@ -253,7 +253,7 @@ int stack_collect(const stack_plan *p, const int32_t *cmps, size_t ncmps, stack_
     size_t nh = 0;
     for (int64_t t = 0; t < nt && !rc; t++) {
       segy_trace_header h;
-      if ((rc = segy_read_header(f, t, &h, err))) {
+      if ((rc = segy_header_read(f, t, &h, err))) {
         tz_err_path(err, p->inputs[fi].path);
         break;
       }
@@ -279,7 +279,7 @@ int stack_collect(const stack_plan *p, const int32_t *cmps, size_t ncmps, stack_
         break;
       size_t j = g->ntraces;
       segy_trace_header *h = &g->headers[j];
-      if ((rc = segy_read_trace(f, hit[k], h, g->samples + j * ns, ns, err))) {
+      if ((rc = segy_trace_read(f, hit[k], h, g->samples + j * ns, ns, err))) {
         tz_err_path(err, p->inputs[fi].path);
         break;
       }
@@ -343,7 +343,7 @@ int stack_section_write(const stack_section *s, const stack_plan *p, const char 
            (int)(s->first_cmp + (int32_t)s->ncmps - 1), li.size_m, li.origin_x_m, li.origin_y_m,
            li.azimuth_deg, j->velocity ? j->velocity : "(given in code)", j->stretch_limit_pct,
            job_interp_name(j->interpolation));
-  segy_write_opts o;
+  segy_writer_opts o;
   memset(&o, 0, sizeof o);
   o.revision = 1;
   o.format_code = format_code == 1 ? 1 : 5;
@@ -381,7 +381,7 @@ int stack_section_write(const stack_section *s, const stack_plan *p, const char 
     h.samples = (uint32_t)s->axis.ns;
     h.interval_us = s->interval_us;
     h.shotpoint = r->cmp;
-    if ((rc = segy_write_trace(w, &h, s->samples + c * s->axis.ns, err))) {
+    if ((rc = segy_trace_write(w, &h, s->samples + c * s->axis.ns, err))) {
       segy_writer_abort(w);
       return rc;
     }
@@ -412,7 +412,7 @@ int stack_write_nmo_gathers(const stack_plan *p, const stack_gathers *G, const s
            j->name && j->name[0] ? j->name : "(unnamed)",
            j->velocity ? j->velocity : "(given in code)", o->nmo.stretch_limit_pct,
            nmo_interp_name(o->nmo.interp));
-  segy_write_opts wo;
+  segy_writer_opts wo;
   memset(&wo, 0, sizeof wo);
   wo.revision = 1;
   wo.format_code = format_code == 1 ? 1 : 5;
@@ -465,7 +465,7 @@ int stack_write_nmo_gathers(const stack_plan *p, const stack_gathers *G, const s
       h.offset = g->offset_signed_m[k];
       h.cmp_x = g->x_m;
       h.cmp_y = g->y_m;
-      rc = segy_write_trace(w, &h, out, err);
+      rc = segy_trace_write(w, &h, out, err);
     }
   }
   if (!rc) {

@@ -1,6 +1,6 @@
 /* stack_plan.c -- the header pass: which trace goes to which CMP, and why not.
  *
- * Reads only trace headers (segy_read_header seeks past the samples), so it
+ * Reads only trace headers (segy_header_read seeks past the samples), so it
  * costs a few hundred bytes per trace and is repeated cheaply on every rerun.
  * Steps: open the geometry source the job names; when the job gives no line
  * (and no layout defines one), a first header scan fits a straight line through
@@ -115,16 +115,16 @@ int stack_plan_nmo(const stack_plan *p, nmo_params *np, nmo_top_mute *mute, tz_e
   np->stretch_taper_ms = j->stretch_taper_ms;
   np->interp = j->interpolation == JOB_INTERP_SINC8 ? NMO_INTERP_SINC8 : NMO_INTERP_LINEAR;
   np->use_eta = j->fourth_order;
-  double off[NMO_MUTE_MAX_POINTS], t[NMO_MUTE_MAX_POINTS];
+  double off[NMO_MUTE_MAX_POINTS], tms[NMO_MUTE_MAX_POINTS];
   size_t n = j->nmute < NMO_MUTE_MAX_POINTS ? j->nmute : NMO_MUTE_MAX_POINTS;
   for (size_t i = 0; i < n; i++) {
     off[i] = j->mute_top[i].offset_m;
-    t[i] = j->mute_top[i].time_ms;
+    tms[i] = j->mute_top[i].time_ms;
   }
   memset(mute, 0, sizeof *mute);
   if (n == 0)
     return TZ_OK;
-  int rc = nmo_top_mute_set(mute, off, t, n, j->mute_taper_ms, err);
+  int rc = nmo_top_mute_set(mute, off, tms, n, j->mute_taper_ms, err);
   if (rc)
     tz_err_path(err, j->path);
   return rc;
@@ -266,7 +266,7 @@ static int set_axis(stack_plan *p, segy_file *f, tz_err *err)
   const segy_info *info = segy_get_info(f);
   segy_trace_header h;
   if (info->trace_count > 0) {
-    int rc = segy_read_header(f, 0, &h, err);
+    int rc = segy_header_read(f, 0, &h, err);
     if (rc)
       return rc;
     p->delay_ms = h.delay_ms;
@@ -327,7 +327,7 @@ static int scan_fit(stack_plan *p, bins_fitter *fit, spacing *sp, stack_progress
       geometry_trace g;
       tz_err e;
       tz_err_init(&e);
-      if (segy_read_header(f, t, &h, &e)) {
+      if (segy_header_read(f, t, &h, &e)) {
         int b = bad_inside(p, i, &e, err);
         if (b < 0)
           rc = err->status;
@@ -556,7 +556,7 @@ static void scan_one(file_scan *s)
     segy_trace_header h;
     tz_err e;
     tz_err_init(&e);
-    if (segy_read_header(f, t, &h, &e)) {
+    if (segy_header_read(f, t, &h, &e)) {
       s->state = bad_inside(p, i, &e, &s->err);
       break;
     }

@@ -215,9 +215,9 @@ static int read_slice(worker *w, const batch *b, int64_t lo, int64_t hi)
       continue;
     }
     if (sh->subset) {
-      if ((rc = segy_read_header(w->f, t, &h, &w->err)))
+      if ((rc = segy_header_read(w->f, t, &h, &w->err)))
         return tz_err_path(&w->err, p->inputs[b->file].path);
-    } else if ((rc = segy_read_trace(w->f, t, &h, buf, sh->ns, &w->err))) {
+    } else if ((rc = segy_trace_read(w->f, t, &h, buf, sh->ns, &w->err))) {
       return tz_err_path(&w->err, p->inputs[b->file].path);
     }
     int32_t cmp;
@@ -231,7 +231,7 @@ static int read_slice(worker *w, const batch *b, int64_t lo, int64_t hi)
       w->skipped[STACK_SKIP_CMP_RANGE]++;
       continue;
     }
-    if (sh->subset && (rc = segy_read_trace(w->f, t, &h, buf, sh->ns, &w->err)))
+    if (sh->subset && (rc = segy_trace_read(w->f, t, &h, buf, sh->ns, &w->err)))
       return tz_err_path(&w->err, p->inputs[b->file].path);
     b->bidx[j] = cmp - sh->first;
     b->boff[j] = off;

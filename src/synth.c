@@ -13,7 +13,7 @@
  * Noise: Gaussian from a per-trace xoshiro256** generator seeded from
  * (seed, field record, channel); no global state.
  *
- * Not here: SEG-Y encoding (segy_write.c), layout enumeration (geometry.c),
+ * Not here: SEG-Y encoding (segy_writer.c), layout enumeration (geometry.c),
  * CMP numbering (bins.c).
  */
 #include "tzero/synth.h"
@@ -570,7 +570,7 @@ int synth_survey(const synth_model *m, const geometry_layout *l, const synth_par
       goto fail;
     }
     card_text(text, sizeof text, m, l, p, &sh);
-    segy_write_opts wo = { .revision = 1, .format_code = p->format_code,
+    segy_writer_opts wo = { .revision = 1, .format_code = p->format_code,
                            .samples = p->samples, .interval_us = p->interval_us,
                            .sorting_code = 1, .traces_per_ensemble = (int16_t)(nch > 32767 ? 32767 : nch),
                            .ensemble_fold = (int16_t)fmin(32767, floor(geometry_layout_nominal_fold(l) + 0.5)),
@@ -619,7 +619,7 @@ int synth_survey(const synth_model *m, const geometry_layout *l, const synth_par
           if (loc.cmp > s.last_cmp) s.last_cmp = loc.cmp;
         }
       }
-      if ((rcode = segy_write_trace(w, &h, buf, err))) {
+      if ((rcode = segy_trace_write(w, &h, buf, err))) {
         segy_writer_abort(w);
         goto fail;
       }

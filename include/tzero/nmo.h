@@ -50,7 +50,7 @@ typedef struct nmo_top_mute {
 int nmo_top_mute_set(nmo_top_mute *m, const double *offset_m, const double *time_ms,
                      size_t n, double taper_ms, tz_err *err);
 /* Mute time in seconds at |offset_m| (-INFINITY when m is NULL or empty). */
-double nmo_top_mute_time_s(const nmo_top_mute *m, double offset_m);
+double nmo_top_mute_seconds(const nmo_top_mute *m, double offset_m);
 
 /* Per-thread scratch: padded input copy, sinc table, index buffers. One per thread;
  * never share a workspace between threads. *out owns it: nmo_workspace_free(). */

@@ -135,17 +135,17 @@ const segy_info *segy_get_info(const segy_file *f);    /* borrowed, valid until 
 int64_t segy_trace_count(const segy_file *f);
 
 /* Header of trace i (0-based) without reading its samples. */
-int segy_read_header(segy_file *f, int64_t i, segy_trace_header *h, tz_err *err);
+int segy_header_read(segy_file *f, int64_t i, segy_trace_header *h, tz_err *err);
 /* Header and samples of trace i. `cap` must be >= the trace's sample count;
  * samples are converted to float. Non-finite values are replaced by 0 and
  * counted (see segy_bad_samples). Sequential access does not seek. */
-int segy_read_trace(segy_file *f, int64_t i, segy_trace_header *h, float *samples,
+int segy_trace_read(segy_file *f, int64_t i, segy_trace_header *h, float *samples,
                     size_t cap, tz_err *err);
 int64_t segy_bad_samples(const segy_file *f);   /* NaN/Inf/out-of-range seen so far */
 
 /* ---- writer ---- */
 
-typedef struct segy_write_opts {
+typedef struct segy_writer_opts {
   int revision;              /* 1 (default when 0) or 2 */
   int format_code;           /* 5 (default when 0) or 1 */
   uint32_t samples;          /* per trace, all traces the same */
@@ -158,13 +158,13 @@ typedef struct segy_write_opts {
   const char *text;          /* card text, lines separated by '\n', at most 38 lines of
                               * 76 characters; tzero adds "C nn " prefixes, the
                               * revision card 39 and the end card 40. NULL = minimal. */
-} segy_write_opts;
+} segy_writer_opts;
 
 typedef struct segy_writer segy_writer;
 
 /* Creates `path` under a temporary name (see fileio.h); nothing appears at
  * `path` until segy_writer_finish() succeeds. On success *out owns the writer. */
-int segy_writer_open(segy_writer **out, const char *path, const segy_write_opts *o,
+int segy_writer_open(segy_writer **out, const char *path, const segy_writer_opts *o,
                      tz_err *err);
 /* Encodes the header fields from `h` (scalars chosen from h->coord_scalar and
  * h->elev_scalar; 0 picks -100, i.e. centimetres), sets the sample count and
@@ -172,7 +172,7 @@ int segy_writer_open(segy_writer **out, const char *path, const segy_write_opts 
  * The 240 bytes start as h->raw (so fields tzero does not decode pass through;
  * zero it for a fresh header), then every decoded field is written big-endian
  * at its standard position. A value that does not fit its slot is TZ_E_ARG. */
-int segy_write_trace(segy_writer *w, const segy_trace_header *h, const float *samples,
+int segy_trace_write(segy_writer *w, const segy_trace_header *h, const float *samples,
                      tz_err *err);
 /* Flushes and renames into place; takes the writer (always freed). */
 int segy_writer_finish(segy_writer *w, tz_err *err);

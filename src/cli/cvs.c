@@ -137,7 +137,7 @@ int cmd_cvs(int argc, char **argv)
                  (size_t)ax.ns, STACK_MAX_SECTION_SAMPLES);
     goto done;
   }
-  segy_write_opts wo = {
+  segy_writer_opts wo = {
     .revision = 1, .format_code = job->sample_format == JOB_FORMAT_IBM ? 1 : 5,
     .samples = (uint32_t)ax.ns, .interval_us = stack_plan_interval_us(plan),
     .sorting_code = 4, .ensemble_fold = (int16_t)lround(stack_plan_nominal_fold(plan)),
@@ -171,7 +171,7 @@ int cmd_cvs(int argc, char **argv)
       h.coord_units = 1;
       h.cmp_x = cr->x_m;
       h.cmp_y = cr->y_m;
-      if ((rc = segy_write_trace(w, &h, sec->samples + i * sec->axis.ns, &err)))
+      if ((rc = segy_trace_write(w, &h, sec->samples + i * sec->axis.ns, &err)))
         goto done;
     }
     traces_per_panel = (int64_t)sec->ncmps;

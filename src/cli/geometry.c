@@ -155,7 +155,7 @@ static int pass(run *r, int which, tz_err *err)
       base = base ? base + 1 : r->files[f];
       snprintf(path, sizeof path, "%s/%s", r->write_dir, base);
       cards(info, text, sizeof text);
-      segy_write_opts wo = { .revision = 1,
+      segy_writer_opts wo = { .revision = 1,
                              .format_code = info->format_code == 1 ? 1 : 5,
                              .samples = info->samples, .interval_us = info->interval_us,
                              .sorting_code = info->sorting_code ? info->sorting_code : 1,
@@ -187,8 +187,8 @@ static int pass(run *r, int which, tz_err *err)
     for (int64_t t = 0; t < n; t++) {
       segy_trace_header h;
       geometry_trace g;
-      rc = writing ? segy_read_trace(sf, t, &h, buf, bufcap, err)
-                   : segy_read_header(sf, t, &h, err);
+      rc = writing ? segy_trace_read(sf, t, &h, buf, bufcap, err)
+                   : segy_header_read(sf, t, &h, err);
       if (rc)
         goto file_done;
       if ((rc = geometry_source_trace(r->src, &h, t, &g, err))) {
@@ -263,7 +263,7 @@ static int pass(run *r, int which, tz_err *err)
             h.cmp_x = loc.centre_x;
             h.cmp_y = loc.centre_y;
           }
-          if ((rc = segy_write_trace(w, &h, buf, err)))
+          if ((rc = segy_trace_write(w, &h, buf, err)))
             goto file_done;
         }
       }

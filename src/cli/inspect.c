@@ -374,7 +374,7 @@ static int extras(segy_file *f, const opts *o, const long *idx, size_t nidx, cJS
       printf("\n");
     }
     for (int64_t i = 0; i < nh; i++) {
-      if (segy_read_header(f, i, &h, err))
+      if (segy_header_read(f, i, &h, err))
         return err->status;
       if (arr) {
         cJSON_AddItemToArray(arr, header_json(&h, i + 1, idx, nidx));
@@ -402,7 +402,7 @@ static int extras(segy_file *f, const opts *o, const long *idx, size_t nidx, cJS
   cJSON *arr = fo ? cJSON_AddArrayToObject(fo, "trace_samples") : NULL;
   int rc = TZ_OK;
   for (int64_t i = first; i < last && !rc; i++) {
-    if ((rc = segy_read_trace(f, i, &h, s, in->samples, err)))
+    if ((rc = segy_trace_read(f, i, &h, s, in->samples, err)))
       break;
     double t0 = h.delay_ms;
     if (arr) {

@@ -207,7 +207,7 @@ static int write_panel(segy_writer *w, const stack_gathers *gs, const struct cmp
       h.cmp_x = g->x_m;
       h.cmp_y = g->y_m;
     }
-    int rc = segy_write_trace(w, &h, panel + k * gs->axis.ns, err);
+    int rc = segy_trace_write(w, &h, panel + k * gs->axis.ns, err);
     if (rc)
       return rc;
   }
@@ -371,7 +371,7 @@ int cmd_semblance(int argc, char **argv)
     goto done;
   }
   if (o.panels) {
-    segy_write_opts wo = {
+    segy_writer_opts wo = {
       .revision = 1, .format_code = 5, .samples = (uint32_t)ax.ns,
       .interval_us = stack_plan_interval_us(plan), .sorting_code = 2,
       .traces_per_ensemble = (int16_t)(nvel > INT16_MAX ? INT16_MAX : nvel),

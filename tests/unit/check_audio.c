@@ -107,7 +107,7 @@ START_TEST(test_copy_exact_channels_polarity)
   float s[801];
   for (int t = 0; t < 2; t++) {
     segy_trace_header h;
-    ck_assert_int_eq(segy_read_trace(f, t, &h, s, 801, &err), TZ_OK);
+    ck_assert_int_eq(segy_trace_read(f, t, &h, s, 801, &err), TZ_OK);
     ck_assert_int_eq(h.field_record, 77);
     ck_assert_int_eq(h.channel, t + 1);
     ck_assert_int_eq(h.line_seq, 1001 + t);
@@ -149,7 +149,7 @@ START_TEST(test_resample_spike_and_dc)
   double ratio = 4000.0 / 44100.0;
   for (int t = 0; t < 3; t++) {
     segy_trace_header h;
-    ck_assert_int_eq(segy_read_trace(f, t, &h, s, 2000, &err), TZ_OK);
+    ck_assert_int_eq(segy_trace_read(f, t, &h, s, 2000, &err), TZ_OK);
     int best = 0;
     for (int k = 1; k < 2000; k++)
       if (fabsf(s[k]) > fabsf(s[best]))
@@ -170,7 +170,7 @@ START_TEST(test_resample_spike_and_dc)
   read_back(out, &f, &info);
   ck_assert_uint_eq(info->samples, 801);
   segy_trace_header h;
-  ck_assert_int_eq(segy_read_trace(f, 0, &h, s, 2000, &err), TZ_OK);
+  ck_assert_int_eq(segy_trace_read(f, 0, &h, s, 2000, &err), TZ_OK);
   int best = 0;
   for (int k = 1; k < 801; k++)
     if (fabsf(s[k]) > fabsf(s[best]))
@@ -184,7 +184,7 @@ START_TEST(test_resample_spike_and_dc)
   p.interval_us = 500;
   ck_assert_int_eq(audio_convert(din, out, &p, 1, 1, &r, &err), TZ_OK);
   read_back(out, &f, &info);
-  ck_assert_int_eq(segy_read_trace(f, 1, &h, s, 2000, &err), TZ_OK);
+  ck_assert_int_eq(segy_trace_read(f, 1, &h, s, 2000, &err), TZ_OK);
   for (int k = 100; k < (int)info->samples - 100; k++)
     ck_assert_float_eq_tol(s[k], 0.25f, 1e-4f);
   segy_close(f);
@@ -212,7 +212,7 @@ START_TEST(test_many_channels)
   float s[800];
   for (int t = 0; t < 200; t++) {
     segy_trace_header h;
-    ck_assert_int_eq(segy_read_trace(f, t, &h, s, 800, &err), TZ_OK);
+    ck_assert_int_eq(segy_trace_read(f, t, &h, s, 800, &err), TZ_OK);
     int best = 0;
     for (int k = 1; k < (int)info->samples; k++)
       if (fabsf(s[k]) > fabsf(s[best]))
@@ -224,7 +224,7 @@ START_TEST(test_many_channels)
 END_TEST
 
 /* NaN and infinities in a float file are counted and replaced by 0, so the
- * resampler never spreads them (common practice, as segy_read_trace does). */
+ * resampler never spreads them (common practice, as segy_trace_read does). */
 START_TEST(test_nonfinite_float)
 {
   const char *in = tmp_path("nan.wav"), *out = tmp_path("nan.sgy");
@@ -254,7 +254,7 @@ START_TEST(test_nonfinite_float)
   float s[400];
   for (int t = 0; t < 2; t++) {
     segy_trace_header h;
-    ck_assert_int_eq(segy_read_trace(f, t, &h, s, 400, &err), TZ_OK);
+    ck_assert_int_eq(segy_trace_read(f, t, &h, s, 400, &err), TZ_OK);
     ck_assert_int_eq(segy_bad_samples(f), 0);
     for (int k = 0; k < (int)info->samples; k++)
       ck_assert(isfinite(s[k]));

@@ -91,7 +91,7 @@ static char *write_section(const struct sec *s)
   int fd = mkstemp(path);
   ck_assert_int_ge(fd, 0);
   close(fd);
-  segy_write_opts o = { .samples = s->ns, .interval_us = s->dt_us, .sorting_code = 4 };
+  segy_writer_opts o = { .samples = s->ns, .interval_us = s->dt_us, .sorting_code = 4 };
   segy_writer *w;
   tz_err e;
   tz_err_init(&e);
@@ -105,7 +105,7 @@ static char *write_section(const struct sec *s)
     h.stacked_traces = 12;
     memset(tr, 0, s->ns * sizeof *tr);
     ricker(tr, s->ns, s->dt_us * 1e-6, 0.1 + 0.001 * i, s->amp * (1 + 0.1 * i));
-    ck_assert_int_eq(segy_write_trace(w, &h, tr, &e), TZ_OK);
+    ck_assert_int_eq(segy_trace_write(w, &h, tr, &e), TZ_OK);
   }
   ck_assert_int_eq(segy_writer_finish(w, &e), TZ_OK);
   free(tr);

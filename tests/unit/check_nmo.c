@@ -217,8 +217,8 @@ START_TEST(test_top_mute_and_trace_end)
   tz_err_init(&e);
   double mx[] = { 0, 1000 }, mt[] = { 100, 500 };
   ck_assert_int_eq(nmo_top_mute_set(&m, mx, mt, 2, 0, &e), TZ_OK);
-  ck_assert_double_eq_tol(nmo_top_mute_time_s(&m, -500), 0.300, 1e-12);
-  ck_assert_double_eq_tol(nmo_top_mute_time_s(&m, 2500), 0.500, 1e-12);
+  ck_assert_double_eq_tol(nmo_top_mute_seconds(&m, -500), 0.300, 1e-12);
+  ck_assert_double_eq_tol(nmo_top_mute_seconds(&m, 2500), 0.500, 1e-12);
   nmo_axis ax = { tf, dt, ns };
   const double x = 500;
   nmo_trace_info info;

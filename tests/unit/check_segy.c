@@ -167,7 +167,7 @@ static float sample_value(int i, int k) { return (float)sin(0.1 * k + i) * (floa
 static const char *write_file(const char *name, int format, int rev, int ntr, uint32_t ns)
 {
   const char *path = tmp_path(name);
-  segy_write_opts o = { .revision = rev, .format_code = format, .samples = ns,
+  segy_writer_opts o = { .revision = rev, .format_code = format, .samples = ns,
                         .interval_us = 2000, .sorting_code = 1, .ensemble_fold = 4,
                         .traces_per_ensemble = 4, .line_no = 17,
                         .text = "CLIENT INVENTED EXPLORATION LTD\nLINE NORTH-7" };
@@ -181,7 +181,7 @@ static const char *write_file(const char *name, int format, int rev, int ntr, ui
     fill_header(&h, i);
     for (uint32_t k = 0; k < ns; k++)
       s[k] = sample_value(i, (int)k);
-    ck_assert_int_eq(segy_write_trace(w, &h, s, &err), TZ_OK);
+    ck_assert_int_eq(segy_trace_write(w, &h, s, &err), TZ_OK);
     if (i == 0)    /* nothing at the final path until finish (fileio contract) */
       ck_assert_int_ne(access(path, F_OK), 0);
   }
@@ -213,7 +213,7 @@ static void check_read_back(const char *path, int format, int rev, int ntr, uint
   for (int i = 0; i < ntr; i++) {
     segy_trace_header h, want;
     fill_header(&want, i);
-    ck_assert_int_eq(segy_read_trace(f, i, &h, s, ns, &err), TZ_OK);
+    ck_assert_int_eq(segy_trace_read(f, i, &h, s, ns, &err), TZ_OK);
     ck_assert_int_eq(h.field_record, want.field_record);
     ck_assert_int_eq(h.channel, want.channel);
     ck_assert_int_eq(h.cmp, want.cmp);
@@ -235,7 +235,7 @@ static void check_read_back(const char *path, int format, int rev, int ntr, uint
         ck_assert(fabsf(s[k] - v) <= fabsf(v) * 4.8e-7f);
     }
     segy_trace_header h2;   /* header-only access gives the same header */
-    ck_assert_int_eq(segy_read_header(f, i, &h2, &err), TZ_OK);
+    ck_assert_int_eq(segy_header_read(f, i, &h2, &err), TZ_OK);
     ck_assert_mem_eq(h2.raw, h.raw, SEGY_TRACE_HEADER_BYTES);
   }
   free(s);
@@ -451,8 +451,8 @@ START_TEST(test_corrupt)
   ck_assert_int_eq(segy_open(&f, p, NULL, &err), TZ_OK);
   segy_trace_header h;
   float s[16];
-  ck_assert_int_eq(segy_read_trace(f, 1, &h, s, 16, &err), TZ_OK);
-  ck_assert_int_eq(segy_read_trace(f, 2, &h, s, 16, &err), TZ_E_FORMAT);
+  ck_assert_int_eq(segy_trace_read(f, 1, &h, s, 16, &err), TZ_OK);
+  ck_assert_int_eq(segy_trace_read(f, 2, &h, s, 16, &err), TZ_E_FORMAT);
   ck_assert_int_eq(err.trace, 2);
   ck_assert_int_eq(err.byte, 3600 + 2 * 280 + 114);
   ck_assert_ptr_nonnull(strstr(err.msg, "trace length changes mid-file"));
@@ -519,7 +519,7 @@ START_TEST(test_writer_errors)
   segy_writer *w = NULL;
   tz_err err;
   tz_err_init(&err);
-  segy_write_opts o = { .samples = 0, .interval_us = 1000 };
+  segy_writer_opts o = { .samples = 0, .interval_us = 1000 };
   ck_assert_int_eq(segy_writer_open(&w, p, &o, &err), TZ_E_ARG);
   o.samples = 4;
   o.format_code = 2;
@@ -532,7 +532,7 @@ START_TEST(test_writer_errors)
   memset(&h, 0, sizeof h);
   h.source_x = 3e7;          /* 3e9 centimetres does not fit 32 bits */
   float s[4] = { 0 };
-  ck_assert_int_eq(segy_write_trace(w, &h, s, &err), TZ_E_ARG);
+  ck_assert_int_eq(segy_trace_write(w, &h, s, &err), TZ_E_ARG);
   ck_assert_ptr_nonnull(strstr(err.msg, "source_x"));
   ck_assert_int_eq(err.trace, 0);
   segy_writer_abort(w);
@@ -622,7 +622,7 @@ START_TEST(test_mutations)
 }
 END_TEST
 
-/* One handle per thread, handles share nothing (segy_read.c thread rule): four
+/* One handle per thread, handles share nothing (segy_reader.c thread rule): four
  * threads reading the same file give the serial run's samples exactly. */
 struct reader_job { const char *path; double sum; int rc; };
 
@@ -636,7 +636,7 @@ static void *reader_thread(void *arg)
   float s[64];
   segy_trace_header h;
   for (int64_t i = 0; !j->rc && i < segy_trace_count(f); i++) {
-    j->rc = segy_read_trace(f, i, &h, s, 64, &err);
+    j->rc = segy_trace_read(f, i, &h, s, 64, &err);
     for (int k = 0; k < 50; k++)
       j->sum += s[k] * (double)(i + 1) + h.receiver_x;
   }

@@ -93,7 +93,7 @@ static void write_survey(void)
   for (int s = 0; s < NSH; s++) {
     char path[400];
     snprintf(path, sizeof path, "%s/shot_%02d.sgy", dir, s + 1);
-    segy_write_opts o;
+    segy_writer_opts o;
     memset(&o, 0, sizeof o);
     o.samples = NS;
     o.interval_us = 2000;
@@ -118,7 +118,7 @@ static void write_survey(void)
       float tr[NS];
       for (int i = 0; i < NS; i++)
         tr[i] = (float)ricker(i * 0.002 - sqrt(0.04 + x * x / (2000.0 * 2000.0)));
-      ck_assert_int_eq(segy_write_trace(w, &h, tr, &e), TZ_OK);
+      ck_assert_int_eq(segy_trace_write(w, &h, tr, &e), TZ_OK);
     }
     ck_assert_int_eq(segy_writer_finish(w, &e), TZ_OK);
   }

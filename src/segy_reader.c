@@ -1,4 +1,4 @@
-/* segy_read.c -- opening SEG-Y rev 0/1/2 files and reading their traces.
+/* segy_reader.c -- opening SEG-Y rev 0/1/2 files and reading their traces.
  *
  * segy_open() reads the 3600 bytes of file headers, detects the textual
  * header's character set and the byte order, parses the revision leniently,
@@ -14,7 +14,7 @@
  *
  * Thread rule: one handle per thread; handles share nothing.
  * Not here: sample conversion (segy_conv.c), header fields (segy_map.c),
- * the writer (segy_write.c).
+ * the writer (segy_writer.c).
  */
 #include <errno.h>
 #include <fcntl.h>
@@ -633,7 +633,7 @@ static int check_index(const segy_file *f, int64_t i, tz_err *err)
   return TZ_OK;
 }
 
-int segy_read_header(segy_file *f, int64_t i, segy_trace_header *h, tz_err *err)
+int segy_header_read(segy_file *f, int64_t i, segy_trace_header *h, tz_err *err)
 {
   if (check_index(f, i, err))
     return tz_err_path(err, f->path);
@@ -652,7 +652,7 @@ int segy_read_header(segy_file *f, int64_t i, segy_trace_header *h, tz_err *err)
   return finish_header(f, i, off, p, h, err);
 }
 
-int segy_read_trace(segy_file *f, int64_t i, segy_trace_header *h, float *samples,
+int segy_trace_read(segy_file *f, int64_t i, segy_trace_header *h, float *samples,
                     size_t cap, tz_err *err)
 {
   if (check_index(f, i, err))

@@ -1,4 +1,4 @@
-/* segy_write.c -- writing SEG-Y rev 1 (rev 2 on request), big-endian,
+/* segy_writer.c -- writing SEG-Y rev 1 (rev 2 on request), big-endian,
  * IEEE (format 5, default) or IBM (format 1) samples.
  *
  * The file is written under a temporary name (fileio.h) and appears at its
@@ -9,7 +9,7 @@
  * fixed-length flag (REFERENCE.md §1.3). Trace headers are encoded from
  * segy_trace_header by segy_header_encode() (segy_map.c).
  *
- * Not here: reading (segy_read.c).
+ * Not here: reading (segy_reader.c).
  */
 #include <stdio.h>
 #include <stdlib.h>
@@ -20,13 +20,13 @@
 
 struct segy_writer {
   fileio_out *out;
-  segy_write_opts o;
+  segy_writer_opts o;
   unsigned char *buf;       /* one trace: header + samples */
   size_t len;
   int64_t traces;
 };
 
-static void text_header(const segy_write_opts *o, unsigned char *text)
+static void text_header(const segy_writer_opts *o, unsigned char *text)
 {
   char card[81];
   const char *p = o->text;
@@ -51,7 +51,7 @@ static void text_header(const segy_write_opts *o, unsigned char *text)
   }
 }
 
-static void binary_header(const segy_write_opts *o, unsigned char *b)
+static void binary_header(const segy_writer_opts *o, unsigned char *b)
 {
   memset(b, 0, SEGY_BINARY_BYTES);
 #define AT(pos) (b + (pos) - 3201)
@@ -79,10 +79,10 @@ static void binary_header(const segy_write_opts *o, unsigned char *b)
 #undef AT
 }
 
-int segy_writer_open(segy_writer **out, const char *path, const segy_write_opts *opts,
+int segy_writer_open(segy_writer **out, const char *path, const segy_writer_opts *opts,
                      tz_err *err)
 {
-  segy_write_opts o = *opts;
+  segy_writer_opts o = *opts;
   if (!o.revision)
     o.revision = 1;
   if (!o.format_code)
@@ -127,7 +127,7 @@ int segy_writer_open(segy_writer **out, const char *path, const segy_write_opts 
   return TZ_OK;
 }
 
-int segy_write_trace(segy_writer *w, const segy_trace_header *h, const float *samples,
+int segy_trace_write(segy_writer *w, const segy_trace_header *h, const float *samples,
                      tz_err *err)
 {
   int rc = segy_header_encode(h, w->o.samples, w->o.interval_us, w->buf, err);
