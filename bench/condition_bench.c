@@ -17,36 +17,11 @@
 #include "tzero/table.h"
 #include "tzero/velocity.h"
 
+#include "bench_util.h"
+
 #define NTR 240
 #define NS 1500
 #define DT 0.002
-
-static double now(void)
-{
-  struct timespec ts;
-  clock_gettime(CLOCK_MONOTONIC, &ts);
-  return ts.tv_sec + ts.tv_nsec * 1e-9;
-}
-
-static int cmp_dbl(const void *a, const void *b)
-{
-  double x = *(const double *)a, y = *(const double *)b;
-  return (x > y) - (x < y);
-}
-
-static double median(double *v, size_t n)
-{
-  qsort(v, n, sizeof *v, cmp_dbl);
-  return n % 2 ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
-}
-
-static int die(const tz_err *e)
-{
-  char buf[1200];
-  tz_err_format(e, buf, sizeof buf);
-  fprintf(stderr, "condition_bench: %s\n", buf);
-  return 1;
-}
 
 enum { BP, SPH_CALLER, SPH_SELF, AGC, CHAIN, NCASE };
 static const char *const names[NCASE] = {
@@ -65,11 +40,11 @@ int main(int argc, char **argv)
   tz_err_init(&e);
   velocity_table *vt;
   if (velocity_table_new(&vt, 0, &e))
-    return die(&e);
+    return bench_die("condition_bench", &e);
   for (int c = 0; c <= 20; c++)
     for (int k = 0; k < 6; k++)
       if (velocity_table_add(vt, 100 + 50 * c, k * 0.6, 1500 + 400 * k + 5 * c, 0, &e))
-        return die(&e);
+        return bench_die("condition_bench", &e);
   float *src = malloc(sizeof(float) * NTR * NS), *x = malloc(sizeof(float) * NTR * NS);
   float *vel = malloc(sizeof(float) * NS);
   double *tm = malloc(sizeof(double) * (size_t)reps);
@@ -96,11 +71,11 @@ int main(int argc, char **argv)
     condition_workspace *ws = NULL;
     if (rc || condition_plan_new(&p, &c, 0.0, DT, NS, vt, &e) ||
         condition_workspace_new(&ws, p, &e))
-      return die(&e);
+      return bench_die("condition_bench", &e);
     for (int64_t r = 0; r < reps; r++) {
       memcpy(x, src, sizeof(float) * NTR * NS);
       int64_t cmp = 100 + r % 1000;
-      double t0 = now();
+      double t0 = bench_now();
       const float *v = NULL;
       if (k != SPH_SELF) {
         velocity_sample(vt, cmp, 0.0, DT, NS, vel, NULL);   /* once per CMP */
@@ -108,11 +83,11 @@ int main(int argc, char **argv)
       }
       for (size_t j = 0; j < NTR; j++)
         if (condition_apply(p, ws, k == SPH_SELF ? cmp + (int64_t)j : cmp, v, x + j * NS, &e))
-          return die(&e);
-      tm[r] = now() - t0;
+          return bench_die("condition_bench", &e);
+      tm[r] = bench_now() - t0;
       sink += x[NS / 2];
     }
-    double t = median(tm, (size_t)reps) / NTR;
+    double t = bench_median(tm, (size_t)reps) / NTR;
     printf("condition %-24s: %9.0f traces/s/core (1500 samples), %6.2f ns/sample\n", names[k],
            1.0 / t, t / NS * 1e9);
     condition_workspace_free(ws);

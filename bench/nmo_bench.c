@@ -18,37 +18,11 @@
 #include "tzero/table.h"
 #include "tzero/velocity.h"
 
+#include "bench_util.h"
+
 #define NTR 240
 #define NS 1500
 #define DT 0.002
-
-static double now(void)
-{
-  struct timespec ts;
-  clock_gettime(CLOCK_MONOTONIC, &ts);
-  return ts.tv_sec + ts.tv_nsec * 1e-9;
-}
-
-static int cmp_dbl(const void *a, const void *b)
-{
-  double x = *(const double *)a, y = *(const double *)b;
-  return (x > y) - (x < y);
-}
-
-/* Median of n times (sorts in place): robust against other load on the machine. */
-static double median(double *v, size_t n)
-{
-  qsort(v, n, sizeof *v, cmp_dbl);
-  return n % 2 ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
-}
-
-static int die(const tz_err *e)
-{
-  char buf[1200];
-  tz_err_format(e, buf, sizeof buf);
-  fprintf(stderr, "nmo_bench: %s\n", buf);
-  return 1;
-}
 
 int main(int argc, char **argv)
 {
@@ -61,11 +35,11 @@ int main(int argc, char **argv)
   tz_err_init(&e);
   velocity_table *vt;
   if (velocity_table_new(&vt, 0, &e))
-    return die(&e);
+    return bench_die("nmo_bench", &e);
   for (int c = 0; c <= 20; c++)
     for (int k = 0; k < 6; k++)
       if (velocity_table_add(vt, 100 + 50 * c, k * 0.6, 1500 + 400 * k + 5 * c, 0, &e))
-        return die(&e);
+        return bench_die("nmo_bench", &e);
   float *in = malloc(sizeof(float) * NTR * NS), *out = malloc(sizeof(float) * NS);
   float *w = malloc(sizeof(float) * NS), *vel = malloc(sizeof(float) * NS);
   if (!in || !out || !w || !vel)
@@ -81,13 +55,13 @@ int main(int argc, char **argv)
                        0.25f * in[j * NS + i + 1];
   nmo_workspace *ws;
   if (nmo_workspace_new(&ws, NS, &e))
-    return die(&e);
+    return bench_die("nmo_bench", &e);
   nmo_params p;
   nmo_params_default(&p);
   nmo_top_mute mute;
   double mx[] = { 0, 3000 }, mt[] = { 20, 900 };
   if (nmo_top_mute_set(&mute, mx, mt, 2, 16, &e))
-    return die(&e);
+    return bench_die("nmo_bench", &e);
   nmo_axis ax = { 0.0, DT, NS };
   double sink = 0, t_lin_trace = 0;
   double *tv = malloc(sizeof(double) * (size_t)reps), *tn = malloc(sizeof(double) * (size_t)reps);
@@ -98,23 +72,23 @@ int main(int argc, char **argv)
     double t_vel = 0, t_correct = 0;
     size_t live = 0;
     for (int64_t r = 0; r < reps; r++) {
-      double t0 = now();
+      double t0 = bench_now();
       velocity_sample(vt, 100 + r % 1000, ax.t_first_s, ax.dt_s, NS, vel, NULL);
-      double t1 = now();
+      double t1 = bench_now();
       for (size_t j = 0; j < NTR; j++) {
         nmo_trace_info info;
         if (nmo_apply(ws, &p, &mute, &ax, 12.5 * (double)(j + 1), in + j * NS, vel, NULL,
                       out, w, &info, &e))
-          return die(&e);
+          return bench_die("nmo_bench", &e);
         live += info.live;
         sink += out[NS / 2];
       }
-      double t2 = now();
+      double t2 = bench_now();
       tv[r] = t1 - t0;
       tn[r] = t2 - t1;
     }
-    t_vel = median(tv, (size_t)reps) * (double)reps;   /* median gather, scaled */
-    t_correct = median(tn, (size_t)reps) * (double)reps;
+    t_vel = bench_median(tv, (size_t)reps) * (double)reps;   /* median gather, scaled */
+    t_correct = bench_median(tn, (size_t)reps) * (double)reps;
     double nsamp = (double)reps * NTR * NS;
     if (interp == NMO_INTERP_LINEAR)
       t_lin_trace = t_correct / ((double)reps * NTR);
@@ -124,13 +98,13 @@ int main(int argc, char **argv)
            t_correct / (double)reps * 1e3, 100 * t_vel / (t_vel + t_correct));
   }
   /* Without a per-CMP cache: velocity sampled for every trace (shot order). */
-  double t0 = now();
+  double t0 = bench_now();
   for (int64_t r = 0; r < reps; r++)
     for (size_t j = 0; j < NTR; j++) {
       velocity_sample(vt, 100 + (int64_t)((r * NTR + j) % 1000), 0.0, DT, NS, vel, NULL);
       sink += vel[7];
     }
-  double t_each = (now() - t0) / ((double)reps * NTR);
+  double t_each = (bench_now() - t0) / ((double)reps * NTR);
   printf("velocity_sample: %.2f us per 1500-sample function (%.1f M samples/s); "
          "sampled per trace instead of per CMP it would cost about %.0f%% of linear NMO\n",
          t_each * 1e6, NS / t_each * 1e-6, 100 * t_each / t_lin_trace);

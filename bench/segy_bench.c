@@ -17,22 +17,9 @@
 #include "segy_priv.h"   /* segy_decode_samples: the converter segy_trace_read uses */
 #include "tzero/segy.h"
 
+#include "bench_util.h"
+
 #define NS 3000u
-
-static double now(void)
-{
-  struct timespec ts;
-  clock_gettime(CLOCK_MONOTONIC, &ts);
-  return (double)ts.tv_sec + ts.tv_nsec * 1e-9;
-}
-
-static int die(const tz_err *e)
-{
-  char buf[1200];
-  tz_err_format(e, buf, sizeof buf);
-  fprintf(stderr, "segy_bench: %s\n", buf);
-  return 1;
-}
 
 static double plain_read(const char *path, double *sink)
 {
@@ -41,12 +28,12 @@ static double plain_read(const char *path, double *sink)
     return -1;
   static const size_t cap = 1u << 20;
   unsigned char *buf = malloc(cap);
-  double t = now();
+  double t = bench_now();
   size_t n;
   unsigned long sum = 0;
   while ((n = fread(buf, 1, cap, fp)) > 0)
     sum += buf[n - 1];
-  t = now() - t;
+  t = bench_now() - t;
   *sink += (double)sum;
   free(buf);
   fclose(fp);
@@ -71,9 +58,9 @@ int main(int argc, char **argv)
                         .sorting_code = 1, .text = "SPEED TEST FILE, INVENTED DATA" };
   segy_writer *w;
   float *s = malloc(NS * sizeof *s);
-  double t = now();
+  double t = bench_now();
   if (segy_writer_open(&w, path, &o, &err))
-    return die(&err);
+    return bench_die("segy_bench", &err);
   for (long i = 0; i < ntr; i++) {
     segy_trace_header h;
     memset(&h, 0, sizeof h);
@@ -85,11 +72,11 @@ int main(int argc, char **argv)
     for (uint32_t k = 0; k < NS; k++)
       s[k] = (float)sin(0.01 * k + (double)i) * 1000.0f;
     if (segy_trace_write(w, &h, s, &err))
-      return die(&err);
+      return bench_die("segy_bench", &err);
   }
   if (segy_writer_finish(w, &err))
-    return die(&err);
-  double twrite = now() - t;
+    return bench_die("segy_bench", &err);
+  double twrite = bench_now() - t;
   double bytes = 3600.0 + (double)ntr * (double)tb;
   printf("file: %.0f MB, %ld traces of %u IBM samples; written in %.2f s (%.0f MB/s, "
          "IEEE->IBM included)\n", bytes / 1e6, ntr, NS, twrite, bytes / 1e6 / twrite);
@@ -103,23 +90,23 @@ int main(int argc, char **argv)
 
     segy_file *f;
     if (segy_open(&f, path, NULL, &err))
-      return die(&err);
+      return bench_die("segy_bench", &err);
     int64_t n = segy_trace_count(f);
     segy_trace_header h;
-    t = now();
+    t = bench_now();
     for (int64_t i = 0; i < n; i++) {
       if (segy_header_read(f, i, &h, &err))
-        return die(&err);
+        return bench_die("segy_bench", &err);
       sink += h.receiver_x;
     }
-    double th = now() - t;
-    t = now();
+    double th = bench_now() - t;
+    t = bench_now();
     for (int64_t i = 0; i < n; i++) {
       if (segy_trace_read(f, i, &h, s, NS, &err))
-        return die(&err);
+        return bench_die("segy_bench", &err);
       sink += s[i % NS];
     }
-    double tf = now() - t;
+    double tf = bench_now() - t;
     segy_close(f);
     if (th < best_hdr)
       best_hdr = th;
@@ -138,12 +125,12 @@ int main(int argc, char **argv)
     words[4 * k + 3] = (unsigned char)wd;
   }
   long reps = 20000;
-  t = now();
+  t = bench_now();
   for (long r = 0; r < reps; r++) {
     segy_decode_samples(1, SEGY_ORDER_BIG, words, NS, s);
     sink += s[r % NS];
   }
-  double tc = now() - t;
+  double tc = bench_now() - t;
   double nw = (double)reps * NS;
 
   printf("plain sequential fread (1 MB blocks): %8.0f MB/s\n", bytes / 1e6 / best_plain);

@@ -18,24 +18,11 @@
 #include "tzero/semblance.h"
 #include "tzero/table.h"
 
+#include "bench_util.h"
+
 #define NTR 300
 #define NS 1500
 #define DT 0.002
-
-static double now(void)
-{
-  struct timespec ts;
-  clock_gettime(CLOCK_MONOTONIC, &ts);
-  return (double)ts.tv_sec + (double)ts.tv_nsec * 1e-9;
-}
-
-static int die(const tz_err *e)
-{
-  char buf[1200];
-  tz_err_format(e, buf, sizeof buf);
-  fprintf(stderr, "semblance_bench: %s\n", buf);
-  return 1;
-}
 
 int main(int argc, char **argv)
 {
@@ -73,7 +60,7 @@ int main(int argc, char **argv)
   tz_err e;
   tz_err_init(&e);
   if (semblance_params_check(&p, &nvel, &e))
-    return die(&e);
+    return bench_die("semblance_bench", &e);
   semblance_gather sg = { .ntraces = NTR, .axis = { 0.0, DT, NS }, .samples = g, .offset_m = off };
   float *pan[2], *pow_[2];
   double best[2];
@@ -85,10 +72,10 @@ int main(int argc, char **argv)
     p.threads = th + 1;
     best[th] = 1e30;
     for (int64_t r = 0; r < reps; r++) {
-      double t = now();
+      double t = bench_now();
       if (semblance_panel(&sg, &p, pan[th], pow_[th], &e))
-        return die(&e);
-      t = now() - t;
+        return bench_die("semblance_bench", &e);
+      t = bench_now() - t;
       best[th] = t < best[th] ? t : best[th];
     }
   }
@@ -96,10 +83,10 @@ int main(int argc, char **argv)
   semblance_pick_params_default(&pp);
   semblance_pick *pk;
   size_t np;
-  double tp = now();
+  double tp = bench_now();
   if (semblance_autopick(pan[0], pow_[0], nvel, &sg.axis, &p, &pp, &pk, &np, &e))
-    return die(&e);
-  tp = now() - tp;
+    return bench_die("semblance_bench", &e);
+  tp = bench_now() - tp;
   int same = memcmp(pan[0], pan[1], nvel * NS * sizeof(float)) == 0 &&
              memcmp(pow_[0], pow_[1], nvel * NS * sizeof(float)) == 0;
   printf("semblance panel: %d traces (5 CMPs x 60), %d samples, %zu trial velocities\n", NTR,

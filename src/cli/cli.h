@@ -34,6 +34,10 @@ int cli_report(const char *cmd, const tz_err *e);
 /* Prints "tzero CMD: MSG" and a hint to stderr; returns EX_USAGE. */
 int cli_usage_error(const char *cmd, const char *fmt, ...)
     __attribute__((format(printf, 2, 3)));
+/* Prints a cJSON tree (passed as void * so cli.h needs no cJSON header) to stdout
+ * and deletes it; takes the tree (NULL is allowed). EX_OK, or EX_OSERR when the
+ * text could not be made. */
+int cli_print_json(void *tree);
 /* Checked option parsers: on failure print a usage error naming the option. */
 int cli_parse_i64(const char *cmd, const char *opt, const char *s, long long *out);
 int cli_parse_f64(const char *cmd, const char *opt, const char *s, double *out);

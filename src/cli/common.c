@@ -5,6 +5,9 @@
 #include <string.h>
 #include <sysexits.h>
 
+#include <cjson/cJSON.h>
+#include <stdlib.h>
+
 #include "tzero/table.h"
 
 int cli_report(const char *cmd, const tz_err *e)
@@ -43,4 +46,16 @@ int cli_parse_f64(const char *cmd, const char *opt, const char *s, double *out)
   if (table_parse_f64(s, out))
     return cli_usage_error(cmd, "%s: expected a number, got '%s'", opt, s);
   return 0;
+}
+
+int cli_print_json(void *tree)
+{
+  cJSON *o = tree;
+  char *s = o ? cJSON_Print(o) : NULL;
+  cJSON_Delete(o);
+  if (!s)
+    return EX_OSERR;
+  printf("%s\n", s);
+  free(s);
+  return EX_OK;
 }

@@ -99,13 +99,7 @@ static int print_json(const char *pa, const char *pb, const compare_result *r,
     cJSON_AddStringToObject(x, "b_is", compare_verdict_name(c->verdict));
     cJSON_AddItemToArray(cm, x);
   }
-  char *s = cJSON_Print(o);
-  cJSON_Delete(o);
-  if (!s)
-    return EX_OSERR;
-  printf("%s\n", s);
-  free(s);
-  return EX_OK;
+  return cli_print_json(o);
 }
 
 static int write_csv(const char *path, const compare_result *r, tz_err *err)

@@ -193,11 +193,7 @@ int cmd_cvs(int argc, char **argv)
       cJSON_AddNumberToObject(o, "last_cmp", last);
       cJSON_AddNumberToObject(o, "traces_per_panel", (double)traces_per_panel);
       cJSON_AddItemToObject(o, "velocities_mps", cJSON_CreateDoubleArray(vels, (int)nvel));
-      char *s = cJSON_Print(o);
-      if (s)
-        printf("%s\n", s);
-      free(s);
-      cJSON_Delete(o);
+      cli_print_json(o);
     }
   } else if (!quiet) {
     printf("%s: %zu panels of CMPs %d-%d (%lld traces each), %g to %g m/s\n", out, nvel,

@@ -60,13 +60,7 @@ static int print_json(const char *path, const fit_result *r, const double *x,
     cJSON_AddNumberToObject(p, "residual_ms", res[i]);
     cJSON_AddItemToArray(arr, p);
   }
-  char *s = cJSON_Print(o);
-  cJSON_Delete(o);
-  if (!s)
-    return EX_OSERR;
-  printf("%s\n", s);
-  free(s);
-  return EX_OK;
+  return cli_print_json(o);
 }
 
 int cmd_fit(int argc, char **argv)

@@ -666,11 +666,7 @@ int cmd_inspect(int argc, char **argv)
     cJSON_AddNumberToObject(to, "failed", (double)t.failed);
     cJSON_AddNumberToObject(to, "traces", (double)t.traces);
     cJSON_AddNumberToObject(to, "bytes", (double)t.bytes);
-    char *s = cJSON_Print(root);
-    if (s)
-      printf("%s\n", s);
-    free(s);
-    cJSON_Delete(root);
+    cli_print_json(root);
   } else if (listed) {
     printf("total: %lld files, %lld traces, %lld bytes, %lld failed\n", t.files, t.traces,
            t.bytes, t.failed);

@@ -112,11 +112,7 @@ int cmd_nmo(int argc, char **argv)
       cJSON_AddNumberToObject(x, "y_m", g->g[i].y_m);
       cJSON_AddItemToArray(a, x);
     }
-    char *s = cJSON_Print(o);
-    cJSON_Delete(o);
-    if (s)
-      printf("%s\n", s);
-    free(s);
+    cli_print_json(o);
   } else if (!rc && !quiet) {
     size_t empty = 0;
     for (size_t i = 0; i < g->n; i++)

@@ -156,11 +156,7 @@ static void print_summary(const char *out, const picture_image *img, const pictu
         cJSON_AddNumberToObject(o, "clip_percentile", in->clip_percentile);
       cJSON_AddStringToObject(o, "style", styles[in->style & 3]);
     }
-    char *s = cJSON_Print(o);
-    cJSON_Delete(o);
-    if (s)
-      printf("%s\n", s);
-    free(s);
+    cli_print_json(o);
     return;
   }
   if (!strcmp(what, "fold"))

@@ -274,13 +274,7 @@ static int print_json(const struct opts *o, const struct cmp_result *res, size_t
     if (x)
       cJSON_AddItemToArray(arr, x);
   }
-  char *s = cJSON_Print(root);
-  cJSON_Delete(root);
-  if (!s)
-    return EX_OSERR;
-  printf("%s\n", s);
-  free(s);
-  return EX_OK;
+  return cli_print_json(root);
 }
 
 static void print_text(const struct cmp_result *res, size_t n)

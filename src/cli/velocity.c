@@ -168,17 +168,6 @@ static void add_warnings_json(cJSON *o, const velocity_warning *w, size_t nw)
   }
 }
 
-static int print_cjson(cJSON *o)
-{
-  char *s = o ? cJSON_Print(o) : NULL;
-  cJSON_Delete(o);
-  if (!s)
-    return EX_OSERR;
-  printf("%s\n", s);
-  free(s);
-  return EX_OK;
-}
-
 static int do_check(const struct opts *op, const velocity_table *t, tz_err *err)
 {
   velocity_warning *w = NULL;
@@ -234,7 +223,7 @@ static int do_check(const struct opts *op, const velocity_table *t, tz_err *err)
       }
       add_warnings_json(o, w, nw);
     }
-    ex = print_cjson(o);
+    ex = cli_print_json(o);
   } else {
     if (!op->quiet) {
       printf("%s: valid velocity table, %zu control CMPs, %zu knots%s\n", op->file, nc, nk,
@@ -334,7 +323,7 @@ static int do_at(const struct opts *op, const velocity_table *t, tz_err *err)
           cJSON_AddItemToArray(te, cJSON_CreateNumber(e[i]));
       }
     }
-    ex = print_cjson(o);
+    ex = cli_print_json(o);
   } else if (emit(op->out, at_fn, t, &c, err)) {
     ex = cli_report(CMD, err);
   }

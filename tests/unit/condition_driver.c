@@ -18,28 +18,12 @@
 #include "tzero/table.h"
 #include "tzero/velocity.h"
 
+#include "driver_io.h"
+
 static int fail(const char *what)
 {
   fprintf(stderr, "condition_driver: %s\n", what);
   return 1;
-}
-
-static float *slurp(const char *path, size_t *n)
-{
-  FILE *fp = fopen(path, "rb");
-  if (!fp)
-    return NULL;
-  fseek(fp, 0, SEEK_END);
-  long sz = ftell(fp);
-  fseek(fp, 0, SEEK_SET);
-  float *b = sz > 0 ? malloc((size_t)sz) : NULL;
-  if (b && fread(b, 1, (size_t)sz, fp) != (size_t)sz) {
-    free(b);
-    b = NULL;
-  }
-  fclose(fp);
-  *n = b ? (size_t)sz / sizeof(float) : 0;
-  return b;
 }
 
 /* Splits "a,b,c" into up to max numbers; returns the count or -1. */
@@ -87,7 +71,7 @@ int main(int argc, char **argv)
       table_parse_f64(argv[4], &dt) || table_parse_i64(argv[5], &ns64) || ns64 < 1)
     return fail("bad numeric argument");
   size_t ns = (size_t)ns64, n;
-  float *x = slurp(argv[6], &n);
+  float *x = driver_slurp(argv[6], &n);
   if (!x || n % ns)
     return fail("cannot read the traces, or their size is not traces x NS");
   tz_err e;

@@ -15,37 +15,12 @@
 #include "tzero/table.h"
 #include "tzero/velocity.h"
 
+#include "driver_io.h"
+
 static int fail(const char *what)
 {
   fprintf(stderr, "nmo_driver: %s\n", what);
   return 1;
-}
-
-static float *slurp(const char *path, size_t *n)
-{
-  FILE *fp = fopen(path, "rb");
-  if (!fp)
-    return NULL;
-  fseek(fp, 0, SEEK_END);
-  long sz = ftell(fp);
-  fseek(fp, 0, SEEK_SET);
-  float *b = sz > 0 ? malloc((size_t)sz) : NULL;
-  if (b && fread(b, 1, (size_t)sz, fp) != (size_t)sz) {
-    free(b);
-    b = NULL;
-  }
-  fclose(fp);
-  *n = b ? (size_t)sz / sizeof(float) : 0;
-  return b;
-}
-
-static int spill(const char *path, const float *b, size_t n)
-{
-  FILE *fp = fopen(path, "wb");
-  if (!fp)
-    return -1;
-  size_t w = fwrite(b, sizeof *b, n, fp);
-  return fclose(fp) == 0 && w == n ? 0 : -1;
 }
 
 int main(int argc, char **argv)
@@ -63,7 +38,7 @@ int main(int argc, char **argv)
   if (interp < 0)
     return fail("interpolation must be linear or sinc8");
   size_t ns = (size_t)ns64, nin, ntr;
-  float *in = slurp(argv[9], &nin), *off = slurp(argv[10], &ntr);
+  float *in = driver_slurp(argv[9], &nin), *off = driver_slurp(argv[10], &ntr);
   if (!in || !off || nin != ntr * ns)
     return fail("cannot read the gather, or its size is not traces x NS");
   tz_err e;
@@ -88,7 +63,7 @@ int main(int argc, char **argv)
     if (nmo_apply(ws, &p, NULL, &ax, off[j], in + j * ns, vel, ep, out + j * ns, w + j * ns,
                   NULL, &e))
       return fail(e.msg);
-  if (spill(argv[11], out, nin) || spill(argv[12], w, nin))
+  if (driver_spill(argv[11], out, nin) || driver_spill(argv[12], w, nin))
     return fail("cannot write the outputs");
   free(vel);
   free(eta);
