@@ -369,7 +369,7 @@ int condition_plan_new(condition_plan **out, const condition_chain *c, double t_
                    CONDITION_MAX_STEPS);
   if (condition_chain_needs_velocity(c) && !table)
     return tz_fail(err, TZ_E_ARG, "conditioning: spherical divergence from the velocity table, "
-                   "but there is no velocity table");
+                   "but there is no velocity table (give the step a velocity_mps)");
   condition_plan *p = calloc(1, sizeof *p);
   if (!p)
     return tz_fail(err, TZ_E_NOMEM, "conditioning plan");

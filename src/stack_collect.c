@@ -323,6 +323,27 @@ int stack_condition_plan(condition_plan **out, const condition_chain *c, const n
   return rc;
 }
 
+int stack_condition_gathers(stack_gathers *G, const condition_chain *c,
+                            const velocity_table *v, tz_err *err)
+{
+  condition_plan *cp = NULL;
+  condition_workspace *cws = NULL;
+  int rc = stack_condition_plan(&cp, c, &G->axis, v, err);
+  if (rc || !cp)
+    return rc;
+  if ((rc = condition_workspace_new(&cws, cp, err)))
+    goto done;
+  for (size_t i = 0; i < G->n && !rc; i++) {
+    stack_gather *g = &G->g[i];
+    for (size_t k = 0; k < g->ntraces && !rc; k++)
+      rc = condition_apply(cp, cws, g->cmp, NULL, g->samples + k * G->axis.ns, err);
+  }
+done:
+  condition_workspace_free(cws);
+  condition_plan_free(cp);
+  return rc;
+}
+
 /* ---------------------------------------------------------------- writing */
 
 int stack_section_write(const stack_section *s, const stack_plan *p, const char *path,

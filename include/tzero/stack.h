@@ -248,6 +248,14 @@ int stack_collect(const stack_plan *p, const int32_t *cmps, size_t ncmps, stack_
                   tz_err *err);
 void stack_gathers_free(stack_gathers *g);   /* NULL is a no-op */
 
+/* Applies conditioning chain `c` in place to every trace of the gathers, as the
+ * stack pass does before NMO (so velocity analysis sees the traces the stack
+ * sums). `v` supplies V_rms for a spherical-divergence step that takes it from the
+ * velocity table; such a step with v = NULL is TZ_E_JOB naming $.conditioning.
+ * An empty chain (or c = NULL) does nothing. Single-threaded (FFTW planner). */
+int stack_condition_gathers(stack_gathers *g, const condition_chain *c,
+                            const velocity_table *v, tz_err *err);
+
 /* Writes the gathers NMO-corrected (conditioning, velocities, NMO parameters and
  * mutes from o; o's CMP range, threads and progress are not used) as SEG-Y rev 1
  * CMP gathers:

@@ -311,7 +311,7 @@ int cmd_semblance(int argc, char **argv)
   struct cmp_result *res = NULL;
   float *panel = NULL, *power = NULL;
   segy_writer *pw = NULL;
-  velocity_table *vt = NULL;
+  velocity_table *vt = NULL, *cond_vt = NULL;
   nmo_top_mute mute;
   size_t ncmp = 0, nvel = 0, nres = 0;
   int rc;
@@ -377,6 +377,19 @@ int cmd_semblance(int argc, char **argv)
     if ((rc = segy_writer_open(&pw, o.panels, &wo, &err)))
       goto done;
   }
+  /* The job's conditioning runs on the gathers as it does in the stack. A
+   * spherical-divergence step that takes V_rms from the table uses the job's
+   * table when it exists already (a revision pass); a first pass has none, and
+   * the step must then give velocity_mps. */
+  if (condition_chain_needs_velocity(&job->conditioning) && job->velocity) {
+    tz_err ve;
+    tz_err_init(&ve);
+    if (velocity_table_load(&cond_vt, job->velocity, &ve) && ve.status != TZ_E_NOINPUT) {
+      err = ve;
+      rc = ve.status;
+      goto done;
+    }
+  }
   if ((rc = velocity_table_new(&vt, 0, &err)))
     goto done;
   size_t with_picks = 0;
@@ -388,7 +401,8 @@ int cmd_semblance(int argc, char **argv)
           need[nneed++] = cmps[b] + d;
       stack_gathers_free(gs);
       gs = NULL;
-      if ((rc = stack_collect(plan, need, nneed, &gs, &err)))
+      if ((rc = stack_collect(plan, need, nneed, &gs, &err)) ||
+          (rc = stack_condition_gathers(gs, &job->conditioning, cond_vt, &err)))
         goto done;
     }
     struct cmp_result *r = &res[nres++];
@@ -455,6 +469,7 @@ done:;
   free(need);
   free(cmps);
   velocity_table_free(vt);
+  velocity_table_free(cond_vt);
   stack_gathers_free(gs);
   stack_plan_free(plan);
   job_free(job);

@@ -83,3 +83,30 @@ expect_status 0 "the docs/conditioning.md example runs" -- "$TZERO" stack --job 
   --out "$D/out/doc.sgy" --report "$D/out/doc.json" --quiet
 grep -q '"step":[[:space:]]*"spherical_divergence"' "$D/out/doc.json" &&
   ok "the docs example's chain is in the report" || notok "the docs example's chain is missing"
+
+# --- tzero semblance scans conditioned gathers, as the stack sums them
+# (docs/conditioning.md "Where it applies"): the panels differ with and without a
+# band-pass; a table-based spherical step uses the job's table when it exists, and
+# without one the scan stops with 65 naming $.conditioning and writes nothing.
+MID=$("$PYTHON" -c 'import json,sys; c=json.load(open(sys.argv[1]))["cmps"]; print(c[len(c)//2]["cmp"])' "$D/out/c1.json")
+"$PYTHON" - "$J" "$D/bp.json" "$D/sph_missing.json" <<'PY'
+import json, sys
+job = json.load(open(sys.argv[1]))
+bp = dict(job, conditioning=[{"step": "bandpass", "corners_hz": [5, 10, 30, 40]}])
+json.dump(bp, open(sys.argv[2], "w"))
+miss = dict(job, velocity="not-written-yet.csv",
+            conditioning=[{"step": "spherical_divergence", "reference_time_ms": 500}])
+json.dump(miss, open(sys.argv[3], "w"))
+PY
+expect_status 0 "semblance on the unconditioned job" -- "$TZERO" semblance --job "$J" --cmps "$MID" \
+  --panels "$D/out/p_plain.sgy" --quiet
+expect_status 0 "semblance on a band-passed job" -- "$TZERO" semblance --job "$D/bp.json" \
+  --cmps "$MID" --panels "$D/out/p_bp.sgy" --quiet
+if cmp -s "$D/out/p_plain.sgy" "$D/out/p_bp.sgy"; then notok "semblance ignores the job's conditioning"
+else ok "semblance panels reflect the job's conditioning"; fi
+expect_status 0 "semblance with a table-based spherical gain and the job's table present" -- \
+  "$TZERO" semblance --job "$D/cond.json" --cmps "$MID" --quiet
+expect_status 65 "semblance with a table-based spherical gain and no table yet" -- \
+  "$TZERO" semblance --job "$D/sph_missing.json" --cmps "$MID" --out "$D/out/never.csv" --quiet
+expect_stderr '\$\.conditioning.*velocity_mps' "the message names \$.conditioning and the way out"
+expect_no_file "$D/out/never.csv" "no velocity table written after the failure"
