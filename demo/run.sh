@@ -4,7 +4,7 @@
 # Two lines: TV-GW-01, a shallow groundwater line (48-channel split spread, 2 m
 # stations) for the (invented) Brindlecote Water Co-operative, and TV-DX-04, a deeper
 # exploration-style line (120-channel trailing spread, 12.5 m stations) with a
-# dipping interface for the (invented) Harnet Ridge Exploration, taken through
+# dipping interface for the (invented) Quarrendine Exploration, taken through
 # velocity analysis (semblance picks), stacking and comparison. Steps run one
 # after another; outputs go to demo/out/ (ignored by git).
 set -eu

@@ -11,7 +11,7 @@
 #include "unit.h"
 
 static const char *const report =
-    "{\"format\": \"tzero-qc/1\", \"line\": \"Fenwick Moor L2\","
+    "{\"format\": \"tzero-qc/1\", \"line\": \"Tarrowvane test L2\","
     " \"inputs\": [{\"path\": \"a.sgy\", \"bytes\": 2000000, \"traces\": 48, \"bad\": false},"
     "              {\"path\": \"b.sgy\", \"bytes\": 10, \"traces\": 0, \"bad\": true,"
     "               \"error\": \"b.sgy: byte 10: too short\"}],"
@@ -51,7 +51,7 @@ START_TEST(test_summary)
   tz_err e;
   tz_err_init(&e);
   ck_assert_int_eq(qc_report_summary(r, &t, &e), TZ_OK);
-  const char *want[] = { "Fenwick Moor L2", "2 shot files", "48 read, 46 stacked",
+  const char *want[] = { "Tarrowvane test L2", "2 shot files", "48 read, 46 stacked",
                          "skipped: dead 2", "b.sgy: byte 10: too short", "CMPs 10-12",
                          "nominal 24.0; min 0, max 23, mean 15.33; 1 zero-fold CMPs",
                          "12.50 % of stacked samples muted", "1 warning",

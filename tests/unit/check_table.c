@@ -1,4 +1,8 @@
-/* check_table.c -- CSV rows, comments, line numbers and checked numbers. */
+/* check_table.c -- CSV rows, comments, line numbers and checked numbers.
+ *
+ * Expected values follow the velocity-table format of DESIGN.md ("#" comments,
+ * comma-separated, header row) and C strtod/strtoll semantics (ISO C11 7.22.1);
+ * CRLF line ends and blank lines are tolerated (common practice). */
 #include <string.h>
 
 #include "tzero/table.h"
