@@ -328,17 +328,27 @@ int stack_condition_gathers(stack_gathers *G, const condition_chain *c,
 {
   condition_plan *cp = NULL;
   condition_workspace *cws = NULL;
+  float *vel = NULL;
+  size_t ns = G->axis.ns;
   int rc = stack_condition_plan(&cp, c, &G->axis, v, err);
   if (rc || !cp)
     return rc;
   if ((rc = condition_workspace_new(&cws, cp, err)))
     goto done;
+  /* V_rms is sampled once per CMP, not once per trace (as the stack's cache does). */
+  if (condition_plan_needs_velocity(cp) && !(vel = malloc(ns * sizeof *vel))) {
+    rc = tz_fail(err, TZ_E_NOMEM, "velocity function of %zu samples", ns);
+    goto done;
+  }
   for (size_t i = 0; i < G->n && !rc; i++) {
     stack_gather *g = &G->g[i];
+    if (vel && g->ntraces)
+      velocity_sample(v, g->cmp, G->axis.t_first_s, G->axis.dt_s, ns, vel, NULL);
     for (size_t k = 0; k < g->ntraces && !rc; k++)
-      rc = condition_apply(cp, cws, g->cmp, NULL, g->samples + k * G->axis.ns, err);
+      rc = condition_apply(cp, cws, g->cmp, vel, g->samples + k * ns, err);
   }
 done:
+  free(vel);
   condition_workspace_free(cws);
   condition_plan_free(cp);
   return rc;
