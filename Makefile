@@ -23,12 +23,18 @@ PKG_LIBS   = $(shell pkg-config --libs $(PKGS) 2>/dev/null)
 CHECK_LIBS = $(shell pkg-config --libs check 2>/dev/null)
 CHECK_CFLAGS = $(shell pkg-config --cflags check 2>/dev/null)
 
+# The library and the tests see src/ (private headers as "stage/name.h"); the
+# front end sees the public headers only.
 ALL_CPPFLAGS = -D_GNU_SOURCE -Iinclude -Isrc $(PKG_CFLAGS) $(CPPFLAGS)
+CLI_CPPFLAGS = -D_GNU_SOURCE -Iinclude $(PKG_CFLAGS) $(CPPFLAGS)
 ALL_CFLAGS   = $(WARN) $(OPT) -pthread $(SANFLAGS) $(CFLAGS)
 ALL_LDFLAGS  = -pthread $(SANFLAGS) $(LDFLAGS)
 LDLIBS_ALL   = $(PKG_LIBS) -lm $(LDLIBS)
 
-LIB_SRC  = $(wildcard src/*.c)
+# One folder per pipeline stage under src/ (util, io, geometry, velocity, signal,
+# moveout, stack, qc, synth, job, ...); src/cli/ is the front end.
+STAGES   = $(filter-out src/cli/,$(sort $(dir $(wildcard src/*/))))
+LIB_SRC  = $(wildcard $(addsuffix *.c,$(STAGES)))
 CLI_SRC  = $(wildcard src/cli/*.c)
 UNIT_SRC = $(wildcard tests/unit/check_*.c)
 BENCH_SRC = $(wildcard bench/*.c)
@@ -55,7 +61,7 @@ $(B)/obj/%.o: src/%.c
 
 $(B)/obj/cli/%.o: src/cli/%.c
 	@mkdir -p $(dir $@)
-	$(CC) $(ALL_CPPFLAGS) $(ALL_CFLAGS) -MMD -MP -c $< -o $@
+	$(CC) $(CLI_CPPFLAGS) $(ALL_CFLAGS) -MMD -MP -c $< -o $@
 
 $(B)/libtzero.a: $(LIB_OBJ)
 	@mkdir -p $(dir $@)

@@ -14,7 +14,7 @@
 #include <string.h>
 #include <time.h>
 
-#include "segy_priv.h"   /* segy_decode_samples: the converter segy_trace_read uses */
+#include "io/segy_priv.h"   /* segy_decode_samples: the converter segy_trace_read uses */
 #include "tzero/segy.h"
 
 #include "bench_util.h"

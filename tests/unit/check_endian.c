@@ -1,5 +1,5 @@
-/* check_endian.c -- src/endian.h byte loads and stores, and the SEG-Y byte-order
- * reordering built on them (src/segy_priv.h).
+/* check_endian.c -- src/util/endian.h byte loads and stores, and the SEG-Y byte-order
+ * reordering built on them (src/io/segy_priv.h).
  *
  * Sources: two's-complement and big-endian (network) byte order as C11 and
  * POSIX define them (common practice); the SEG-Y rev 2 byte-order constant
@@ -10,8 +10,8 @@
 #include <stdint.h>
 #include <string.h>
 
-#include "endian.h"
-#include "segy_priv.h"
+#include "util/endian.h"
+#include "io/segy_priv.h"
 #include "unit.h"
 
 static const struct { unsigned char b[4]; int32_t want; } i32_cases[] = {

@@ -16,7 +16,7 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
-#include "segy_priv.h"
+#include "io/segy_priv.h"
 #include "tzero/segy.h"
 #include "unit.h"
 

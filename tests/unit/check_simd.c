@@ -1,7 +1,7 @@
 /* check_simd.c -- the AVX2 kernels give the same bits as the portable code.
  *
  * Source of the rule: issue #5 and DESIGN.md require the stacked section to be
- * bitwise reproducible; the SIMD paths (src/nmo.c, src/segy_conv.c) are only
+ * bitwise reproducible; the SIMD paths (src/moveout/nmo.c, src/io/segy_conv.c) are only
  * allowed because they perform the portable code's IEEE operations lane by
  * lane. The portable paths themselves are checked against outside references
  * in check_nmo.c, check_segy.c and the segyio/NumPy cross-checks; here each
@@ -14,7 +14,7 @@
 #include <stdio.h>
 #include <string.h>
 
-#include "segy_priv.h"
+#include "io/segy_priv.h"
 #include "tzero/nmo.h"
 #include "unit.h"
 

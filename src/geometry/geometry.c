@@ -18,7 +18,7 @@
 #include <string.h>
 
 #include "tzero/fileio.h"
-#include "json_doc.h"
+#include "util/json_doc.h"
 #include "tzero/job.h"
 #include "tzero/table.h"
 

@@ -31,7 +31,7 @@
 
 #include "tzero/bins.h"
 #include "tzero/fileio.h"
-#include "json_doc.h"
+#include "util/json_doc.h"
 #include "tzero/segy.h"
 
 #define MODEL_MAX_BYTES (4u << 20)

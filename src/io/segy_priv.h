@@ -11,7 +11,7 @@
 #include <stddef.h>
 #include <stdint.h>
 
-#include "endian.h"
+#include "util/endian.h"
 #include "tzero/segy.h"
 
 /* How a trace header field is stored in segy_trace_header. */

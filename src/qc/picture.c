@@ -28,7 +28,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "json_doc.h"
+#include "util/json_doc.h"
 #include "tzero/fileio.h"
 #include "tzero/segy.h"
 
