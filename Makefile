@@ -46,7 +46,7 @@ DRIVER_BIN = $(patsubst tests/unit/%.c,$(B)/tests/%,$(wildcard tests/unit/*_driv
 BENCH_BIN = $(BENCH_SRC:bench/%.c=$(B)/bench/%)
 
 # Every exported symbol of the library carries one of the module prefixes.
-PREFIXES = tz|segy|audio|geometry|bins|velocity|nmo|condition|stack|semblance|synth|qc|picture|job|table|fileio|layout|compare|fit
+PREFIXES = tz|flow|segy|audio|geometry|bins|velocity|nmo|condition|stack|semblance|synth|qc|picture|job|table|fileio|layout|compare|fit
 
 .PHONY: all check check-run unit e2e xcheck check-symbols sanitize demo demo-run bench \
         bench-run install clean deps

@@ -98,7 +98,7 @@ typedef struct job_spec {
 /* Reads, checks and resolves `path`. On success *out owns a new job: release it
  * with job_free(). Errors: TZ_E_NOINPUT (job file, geometry file, header map or
  * a shot pattern that matches nothing; the velocity table need not exist yet,
- * since `tzero semblance` writes it: stack_setup_load checks it), TZ_E_FORMAT (not JSON: line and byte of
+ * since `tzero semblance` writes it: flow_setup_load checks it), TZ_E_FORMAT (not JSON: line and byte of
  * the fault), TZ_E_JOB (valid JSON, invalid job: the message names the path). */
 int job_load(job_spec **out, const char *path, tz_err *err);
 /* As job_load from text in memory; relative paths are taken from `dir`

@@ -127,25 +127,6 @@ int stack_plan_classify(const stack_plan *p, const segy_trace_header *h, int64_t
                         int32_t *cmp, double *offset_abs_m, double *offset_signed_m,
                         int *reason);
 
-/* ---- everything a command needs from a job file, in one call ---- */
-
-/* A job resolved into what processing needs: the job (overrides applied), its
- * velocity table and the plan. All three are owned: stack_setup_free(). */
-typedef struct stack_setup {
-  job_spec *job;
-  velocity_table *velocity;        /* NULL when the job names none and it is optional */
-  stack_plan *plan;
-  double header_pass_s;            /* wall time of the plan build */
-} stack_setup;
-
-/* Loads the job file, applies `ov` (may be NULL), loads the velocity table
- * (required when need_velocity: a job without one is then TZ_E_JOB and a
- * table that does not exist TZ_E_NOINPUT, both naming $.velocity; otherwise a
- * table not written yet is left out) and builds the plan. On failure nothing is left to free. */
-int stack_setup_load(stack_setup *s, const char *job_path, const job_overrides *ov,
-                     int need_velocity, stack_progress_fn progress, void *ctx, tz_err *err);
-void stack_setup_free(stack_setup *s);     /* frees the members; NULL members are fine */
-
 /* ---- the data pass ---- */
 
 typedef struct stack_run_opts {

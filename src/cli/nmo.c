@@ -1,5 +1,5 @@
 /* nmo.c -- `tzero nmo --job FILE --cmps LIST --out FILE.sgy`: NMO-corrected CMP gathers
- * for checking velocities by eye or in other software. Thin: stack_setup_load,
+ * for checking velocities by eye or in other software. Thin: flow_setup_load,
  * stack_collect, stack_write_nmo_gathers. */
 #include <cjson/cJSON.h>
 #include <getopt.h>
@@ -10,6 +10,7 @@
 #include "cli.h"
 #include "jobopts.h"
 #include "tzero/fileio.h"
+#include "tzero/flow.h"
 #include "tzero/stack.h"
 
 static void help(void)
@@ -84,11 +85,11 @@ int cmd_nmo(int argc, char **argv)
   if (stack_parse_cmp_list(list, &cmps, &ncmps, &e))
     return cli_usage_error("nmo", "--cmps: %s", e.msg);
 
-  stack_setup su;
+  flow_setup su;
   stack_gathers *g = NULL;
   cli_progress pg;
   cli_progress_init(&pg, "header pass", quiet || json);
-  int rc = stack_setup_load(&su, jobpath, &ov, 1, cli_progress_show, &pg, &e);
+  int rc = flow_setup_load(&su, jobpath, &ov, 1, cli_progress_show, &pg, &e);
   cli_progress_end(&pg);
   if (rc) {
     free(cmps);
@@ -127,7 +128,7 @@ int cmd_nmo(int argc, char **argv)
     rc = cli_report("nmo", &e);
   }
   stack_gathers_free(g);
-  stack_setup_free(&su);
+  flow_setup_free(&su);
   free(cmps);
   return rc;
 }

@@ -14,6 +14,7 @@
 #include "jobopts.h"
 #include "tzero/fileio.h"
 #include "tzero/qc.h"
+#include "tzero/flow.h"
 #include "tzero/stack.h"
 
 static void help(void)
@@ -131,13 +132,13 @@ int cmd_stack(int argc, char **argv)
   double t_start = cli_now_s();
   tz_err e;
   tz_err_init(&e);
-  stack_setup su;
+  flow_setup su;
   stack_section *sec = NULL;
   char *report = NULL;
   fileio_out *rep_out = NULL;
   cli_progress pg;
   cli_progress_init(&pg, "header pass", quiet || json);
-  int rc = stack_setup_load(&su, jobpath, &ov, 1, cli_progress_show, &pg, &e);
+  int rc = flow_setup_load(&su, jobpath, &ov, 1, cli_progress_show, &pg, &e);
   cli_progress_end(&pg);
   if (rc)
     return cli_report("stack", &e);
@@ -205,6 +206,6 @@ done:
   }
   free(report);
   stack_section_free(sec);
-  stack_setup_free(&su);
+  flow_setup_free(&su);
   return rc;
 }

@@ -745,7 +745,7 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
   if ((e = ITEM(root, "bins")) && (rc = parse_bins(j, e, err)))
     return rc;
   /* Not checked to exist: semblance writes the table a job names. Commands that
-   * read it check at load time (stack_setup_load). */
+   * read it check at load time (flow_setup_load). */
   if ((e = ITEM(root, "velocity")) && (rc = get_path(e, "$.velocity", dir, 0, &j->velocity, err)))
     return rc;
   if ((e = ITEM(root, "moveout")) && (rc = parse_moveout(j, e, err)))
