@@ -3,7 +3,7 @@
 #
 # Flavours get their own build folder: make SANITIZE=address,undefined B=build/san
 
-PKGS      = libcjson fftw3f sndfile libpng samplerate
+PKGS      = libcjson fftw3f sndfile libpng samplerate libcrypto
 B        ?= build
 CC       ?= cc
 PREFIX   ?= /usr/local
@@ -46,7 +46,34 @@ DRIVER_BIN = $(patsubst tests/unit/%.c,$(B)/tests/%,$(wildcard tests/unit/*_driv
 BENCH_BIN = $(BENCH_SRC:bench/%.c=$(B)/bench/%)
 
 # Every exported symbol of the library carries one of the module prefixes.
-PREFIXES = tz|flow|segy|audio|geometry|bins|velocity|nmo|condition|stack|semblance|synth|qc|picture|job|table|fileio|layout|compare|fit
+# (one per line, sorted: add yours in its place)
+PREFIX_LIST = \
+  audio \
+  bins \
+  compare \
+  condition \
+  digest \
+  fileio \
+  fit \
+  flow \
+  geometry \
+  job \
+  layout \
+  merge \
+  nmo \
+  picture \
+  qc \
+  segy \
+  semblance \
+  stack \
+  synth \
+  table \
+  tz \
+  velocity \
+
+empty :=
+space := $(empty) $(empty)
+PREFIXES = $(subst $(space),|,$(strip $(PREFIX_LIST)))
 
 .PHONY: all check check-run unit e2e xcheck check-symbols sanitize demo demo-run bench \
         bench-run install clean deps
