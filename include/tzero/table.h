@@ -15,6 +15,8 @@ int table_open(table_reader **out, const char *path, tz_err *err);
 int table_open_mem(table_reader **out, const char *name, const char *text, size_t len,
                    tz_err *err);
 void table_close(table_reader *t);                 /* NULL is a no-op */
+/* SHA-256 (64 hex characters) of every byte of the table as read; borrowed. */
+const char *table_sha256(const table_reader *t);
 
 /* Advances to the next row that is neither blank nor a '#' comment. Fields are
  * split on commas and trimmed of blanks. *nfields is 0 at end of input.

@@ -70,6 +70,9 @@ int velocity_table_has_eta(const velocity_table *t);
 int64_t velocity_table_knot_line(const velocity_table *t, size_t i, size_t k);
 /* The path or name the table came from ("" if built in code); borrowed. */
 const char *velocity_table_source(const velocity_table *t);
+/* SHA-256 (64 hex characters) of the table's bytes as read, "" for a table not
+ * read from text (velocity_table_constant); borrowed. */
+const char *velocity_table_sha256(const velocity_table *t);
 
 /* Samples the function of `cmp` onto the regular axis t_i = t_first_s + i dt_s,
  * i = 0..ns-1, writing vel_mps[i] (and eta[i] when eta is not NULL; 0 without an

@@ -65,8 +65,14 @@ static void add_inputs(cJSON *r, const stack_plan *p)
   }
 }
 
+/* Fractions for people, and the sample counts they come from, so that reports
+ * of parts of a line can be joined exactly (tzero merge). */
 static void add_mute_counts(cJSON *o, int64_t samples, int64_t stretch, int64_t top, int64_t end)
 {
+  cJSON_AddNumberToObject(o, "samples", (double)samples);
+  cJSON_AddNumberToObject(o, "stretch_muted_samples", (double)stretch);
+  cJSON_AddNumberToObject(o, "top_muted_samples", (double)top);
+  cJSON_AddNumberToObject(o, "beyond_trace_end_samples", (double)end);
   cJSON_AddNumberToObject(o, "muted_fraction", round_to(frac(stretch + top, samples), 1e-6));
   cJSON_AddNumberToObject(o, "stretch_muted_fraction", round_to(frac(stretch, samples), 1e-6));
   cJSON_AddNumberToObject(o, "top_muted_fraction", round_to(frac(top, samples), 1e-6));
@@ -78,6 +84,10 @@ static int add_velocity(cJSON *r, const qc_build_args *a, tz_err *err)
   cJSON *v = cJSON_AddObjectToObject(r, "velocity");
   cJSON_AddItemToObject(v, "file", a->job && a->job->velocity ? cJSON_CreateString(a->job->velocity)
                                                                : cJSON_CreateNull());
+  if (a->velocity && velocity_table_sha256(a->velocity)[0])
+    cJSON_AddStringToObject(v, "sha256", velocity_table_sha256(a->velocity));
+  else
+    cJSON_AddNullToObject(v, "sha256");
   cJSON *w = cJSON_AddArrayToObject(v, "warnings");
   if (!a->velocity) {
     cJSON_AddNumberToObject(v, "control_cmps", 0);

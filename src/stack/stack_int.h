@@ -24,6 +24,8 @@ struct stack_plan {
   size_t ncmps;
   stack_cmp_plan *cmps;           /* ncmps, owned */
   int has_range;                  /* the job restricts the CMP range */
+  double line_offset_max_m;       /* largest |offset| stacked on the whole line, whatever
+                                   * the CMP range (mute statistics classes) */
   double nominal_fold;
 
   size_t ninputs;

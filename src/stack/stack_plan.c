@@ -162,14 +162,17 @@ static int classify(const stack_plan *p, const segy_trace_header *h, int64_t tra
     *reason = STACK_SKIP_OFFSET;
     return 0;
   }
-  if (p->has_range && (loc.cmp < p->first_cmp || loc.cmp > p->last_cmp)) {
-    *reason = STACK_SKIP_CMP_RANGE;
-    return 0;
-  }
+  /* filled for a trace outside the CMP range too: the header pass measures the
+   * whole line's offsets, so that every part of a line uses the same mute
+   * statistics classes */
   *cmp = loc.cmp;
   *offset_abs_m = g.offset_abs;
   if (offset_signed_m)
     *offset_signed_m = g.offset;
+  if (p->has_range && (loc.cmp < p->first_cmp || loc.cmp > p->last_cmp)) {
+    *reason = STACK_SKIP_CMP_RANGE;
+    return 0;
+  }
   return 1;
 }
 
@@ -507,6 +510,8 @@ typedef struct file_scan {
   double *off;
   size_t n, cap;
   int64_t counts[STACK_SKIP__COUNT];
+  double off_max;             /* largest |offset| of any trace that would be stacked
+                               * but for the CMP range */
   int64_t traces;
   int state;                  /* 0 scanned, 1 bad (skipped), -1 failed (err) */
   tz_err err;
@@ -519,6 +524,7 @@ static void scan_one(file_scan *s)
   segy_file *f = NULL;
   s->n = 0;
   s->traces = 0;
+  s->off_max = 0;
   memset(s->counts, 0, sizeof s->counts);
   tz_err_init(&s->err);
   int o = open_or_skip(p, i, &f, &s->err);
@@ -573,8 +579,12 @@ static void scan_one(file_scan *s)
     }
     if (!k) {
       s->counts[reason]++;
+      if (reason == STACK_SKIP_CMP_RANGE && off > s->off_max)
+        s->off_max = off;
       continue;
     }
+    if (off > s->off_max)
+      s->off_max = off;
     if (!p->has_range && (cmp < -STACK_MAX_CMPS * 100 || cmp > STACK_MAX_CMPS * 100)) {
       tz_err_path(&s->err, p->inputs[i].path);
       tz_fail_at(&s->err, TZ_E_FORMAT, t, -1, "CMP %d is implausibly far along the line",
@@ -640,6 +650,8 @@ static int scan_bins(stack_plan *p, bins_fold *fold, int threads, stack_progress
       p->traces += s->traces;
       for (int r = 0; r < STACK_SKIP__COUNT; r++)
         p->skipped[r] += s->counts[r];
+      if (s->off_max > p->line_offset_max_m)
+        p->line_offset_max_m = s->off_max;
       p->stackable += (int64_t)s->n;
       done += s->traces;
     }

@@ -177,10 +177,7 @@ int stack_run_opts_init(stack_run_opts *o, const stack_plan *p, const velocity_t
   o->threads = p->job->threads;
   o->first_cmp = p->first_cmp;
   o->last_cmp = p->last_cmp;
-  double maxoff = 0;
-  for (size_t c = 0; c < p->ncmps; c++)
-    if (p->cmps[c].offset_max_m > maxoff)
-      maxoff = p->cmps[c].offset_max_m;
+  double maxoff = p->line_offset_max_m;
   o->offset_class_m = maxoff / 8 >= 1 ? ceil(maxoff / 8) : 1;
   o->conditioning = p->job->conditioning.n ? &p->job->conditioning : NULL;
   return stack_plan_nmo(p, &o->nmo, &o->mute, err);
@@ -555,10 +552,7 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
   sh.subset = o->first_cmp != p->first_cmp || o->last_cmp != p->last_cmp;
   sh.use_eta = o->nmo.use_eta && velocity_table_has_eta(o->velocity);
   sh.class_m = o->offset_class_m > 0 ? o->offset_class_m : 1;
-  double maxoff = 0;
-  for (size_t c = 0; c < p->ncmps; c++)
-    if (p->cmps[c].offset_max_m > maxoff)
-      maxoff = p->cmps[c].offset_max_m;
+  double maxoff = p->line_offset_max_m;
   sh.nclasses = (size_t)(maxoff / sh.class_m) + 1;
   if (sh.nclasses > STACK_MUTE_CLASSES)
     sh.nclasses = STACK_MUTE_CLASSES;

@@ -6,6 +6,7 @@
  * No quoting: fields never contain commas in tzero's own formats.
  */
 #include "tzero/table.h"
+#include "tzero/digest.h"
 
 #include "tzero/fileio.h"
 
@@ -17,6 +18,7 @@
 #include <string.h>
 
 struct table_reader {
+  char sha256[DIGEST_HEX_LEN + 1]; /* of the bytes as read */
   char *name;
   char *text;        /* whole input, NUL-terminated; rows are cut in place */
   size_t len, pos;
@@ -42,6 +44,11 @@ static int make(table_reader **out, const char *name, char *text, size_t len, tz
   t->text = text;
   t->len = len;
   t->next_line = 1;
+  int rc = digest_buffer(text, len, t->sha256, err);
+  if (rc) {
+    table_close(t);
+    return rc;
+  }
   *out = t;
   return TZ_OK;
 }
@@ -65,6 +72,11 @@ int table_open_mem(table_reader **out, const char *name, const char *text, size_
   memcpy(buf, text, len);
   buf[len] = '\0';
   return make(out, name, buf, len, err);
+}
+
+const char *table_sha256(const table_reader *t)
+{
+  return t->sha256;
 }
 
 void table_close(table_reader *t)

@@ -27,6 +27,7 @@ struct vt_cmp {
 
 struct velocity_table {
   char *source;
+  char sha256[65];        /* of the file as read; "" when not read from text */
   int with_eta;
   size_t ncmp, cap_cmp;
   struct vt_cmp *cmps;
@@ -260,6 +261,8 @@ static int parse_named(velocity_table **out, table_reader *r, tz_err *err)
   int rc = parse_reader(out, r, err);
   if (rc)
     tz_err_path(err, table_name(r));
+  else
+    snprintf((*out)->sha256, sizeof (*out)->sha256, "%s", table_sha256(r));
   table_close(r);
   return rc;
 }
@@ -337,6 +340,11 @@ size_t velocity_table_ncmps(const velocity_table *t) { return t->ncmp; }
 int64_t velocity_table_cmp(const velocity_table *t, size_t i) { return t->cmps[i].cmp; }
 size_t velocity_table_nknots(const velocity_table *t, size_t i) { return t->cmps[i].n; }
 int velocity_table_has_eta(const velocity_table *t) { return t->with_eta; }
+const char *velocity_table_sha256(const velocity_table *t)
+{
+  return t->sha256;
+}
+
 const char *velocity_table_source(const velocity_table *t) { return t->source; }
 
 void velocity_table_knot(const velocity_table *t, size_t i, size_t k, double *time_s,
