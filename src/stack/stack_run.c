@@ -190,8 +190,6 @@ static int read_slice(worker *w, const batch *b, int64_t lo, int64_t hi)
   if (lo >= hi)
     return TZ_OK;
   if (!w->f || w->fcur != b->file) {
-    if (w->f)
-      w->bad_samples += segy_bad_samples(w->f);
     segy_close(w->f);
     w->f = NULL;
     int rc = stack_open_input(p, b->file, &w->f, &w->err);
@@ -207,6 +205,7 @@ static int read_slice(worker *w, const batch *b, int64_t lo, int64_t hi)
     int rc;
     b->bidx[j] = -1;
     w->read++;
+    int64_t bad0 = segy_bad_samples(w->f);   /* counted for the stacked traces only */
     if (!axis_ok) {
       w->skipped[STACK_SKIP_SAMPLE_AXIS]++;
       continue;
@@ -232,6 +231,7 @@ static int read_slice(worker *w, const batch *b, int64_t lo, int64_t hi)
       return tz_err_path(&w->err, p->inputs[b->file].path);
     b->bidx[j] = cmp - sh->first;
     b->boff[j] = off;
+    w->bad_samples += segy_bad_samples(w->f) - bad0;
   }
   return TZ_OK;
 }
@@ -470,8 +470,6 @@ static void *work(void *arg)
     nxt = t;
     have = more;
   }
-  if (w->f)
-    w->bad_samples += segy_bad_samples(w->f);
   segy_close(w->f);
   w->f = NULL;
   return NULL;
