@@ -66,6 +66,7 @@ PREFIX_LIST = \
   segy \
   semblance \
   stack \
+  survey \
   synth \
   table \
   tz \

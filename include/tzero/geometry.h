@@ -123,6 +123,15 @@ typedef struct geometry_trace {
   int live;             /* 0 for dead/dummy traces (trace kinds 2 and 3), else 1 */
 } geometry_trace;
 
+/* What a trace kind (SEG-Y rev 1 (2002), trace header bytes 29-30) is for the
+ * geometry: 0 unknown and 1 seismic are data (common practice: unknown is live),
+ * and so are 11-17 (sensor data: pressure, multicomponent, rotated); 2 dead and 3
+ * dummy are dead channels; everything else (time break, uphole, sweep, timing,
+ * water break, gun signatures, vibrator signals, -1 other, optional codes) is
+ * auxiliary, not a receiver channel. */
+enum geometry_trace_class { GEOMETRY_TRACE_DATA = 0, GEOMETRY_TRACE_DEAD, GEOMETRY_TRACE_AUXILIARY };
+int geometry_trace_class(int kind);
+
 /* Recorded shots (shot_count minus skipped ones) and channels per shot. */
 size_t geometry_layout_shots(const geometry_layout *l);
 size_t geometry_layout_channels(const geometry_layout *l);

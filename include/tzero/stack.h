@@ -31,6 +31,7 @@
 #include "tzero/job.h"
 #include "tzero/nmo.h"
 #include "tzero/segy.h"
+#include "tzero/survey.h"
 #include "tzero/velocity.h"
 
 #define STACK_MAX_CMPS 2000000          /* CMPs one section may span */
@@ -109,9 +110,12 @@ typedef struct stack_cmp_plan {
   double offset_min_m, offset_max_m;   /* |offset| range; 0 when fold is 0 */
 } stack_cmp_plan;
 void stack_plan_cmp(const stack_plan *p, int32_t cmp, stack_cmp_plan *out);
-/* Nominal fold N dg / (2 ds) (REFERENCE.md §3.9): from the layout, else estimated
- * from the headers (median channels per shot, receiver and shot spacing). */
+/* Nominal fold N dg / (2 ds) of the acquisition (survey.h): from the layout, else
+ * from the headers (channels per record, dead ones included; receiver and
+ * source interval); 0 when the intervals are unknown. */
 double stack_plan_nominal_fold(const stack_plan *p);
+/* Every acquisition figure of the survey inference (the same as `tzero geometry`). */
+survey_figures stack_plan_survey(const stack_plan *p);
 stack_line_info stack_plan_line(const stack_plan *p);
 size_t stack_plan_ninputs(const stack_plan *p);
 const stack_input *stack_plan_input(const stack_plan *p, size_t i);

@@ -1,10 +1,11 @@
 /* geometry.c -- `tzero geometry`: assign geometry, bin CMPs, report offsets and fold.
  *
  * Two header passes over the shot files (never the samples, except for
- * --write): the first finds the midpoints for a fitted line, the receiver and
- * source intervals and the shooting direction; the second bins every trace and
- * counts fold. Memory grows with the CMP count and the shot count (the per-shot
- * summary), never with the trace count.
+ * --write): the first feeds the survey inference (survey.h, the one `tzero
+ * stack` makes: intervals, channels per record, nominal fold, shooting
+ * direction, fitted line); the second bins every trace and counts fold.
+ * Memory grows with the CMP count and the shot count (the per-shot summary),
+ * never with the trace count.
  */
 #include <cjson/cJSON.h>
 #include <errno.h>
@@ -22,6 +23,7 @@
 #include "tzero/geometry.h"
 #include "tzero/job.h"
 #include "tzero/segy.h"
+#include "tzero/survey.h"
 #include "tzero/table.h"
 
 static void help(void)
@@ -61,8 +63,6 @@ static void help(void)
          "\n%s", CLI_CAUTION);
 }
 
-#define SPACING_SAMPLES 65536   /* spacings kept to estimate the intervals */
-
 typedef struct shot_sum {
   int file;
   int32_t field_record;
@@ -79,19 +79,13 @@ typedef struct run {
   geometry_source *src;
   segy_open_opts oo;
   segy_header_map map;
-  /* pass 1 */
-  bins_fitter *fit;
-  double *dgs, *dss;             /* samples of receiver / source spacings (for medians) */
-  size_t ndg, nds;
-  int have_first_src;
-  double src0x, src0y, src1x, src1y; /* first and last source */
-  int64_t max_live_per_shot;
+  survey *survey;                /* pass 1 */
   /* pass 2 */
   bins_line *line;
   bins_fold *fold;
   shot_sum *shots;
   size_t nshots, capshots;
-  int64_t read, binned, dead, off_line;
+  int64_t read, binned, dead, auxiliary, off_line;
   const char *write_dir;
 } run;
 
@@ -182,8 +176,6 @@ static int pass(run *r, int which, tz_err *err)
     }
     int32_t last_ffid = 0;
     int have_last = 0;
-    double lrx = 0, lry = 0;
-    int64_t live_this = 0;
     for (int64_t t = 0; t < n; t++) {
       segy_trace_header h;
       geometry_trace g;
@@ -197,33 +189,8 @@ static int pass(run *r, int which, tz_err *err)
       }
       int new_shot = !have_last || g.field_record != last_ffid;
       if (which == 1) {
-        if (new_shot) {
-          if (have_last && live_this > r->max_live_per_shot)
-            r->max_live_per_shot = live_this;
-          live_this = 0;
-          if (r->have_first_src) {
-            double d = hypot(g.source_x - r->src1x, g.source_y - r->src1y);
-            if (d > 0.005 && r->nds < SPACING_SAMPLES)
-              r->dss[r->nds++] = d;
-          } else {
-            r->src0x = g.source_x;
-            r->src0y = g.source_y;
-            r->have_first_src = 1;
-          }
-          r->src1x = g.source_x;
-          r->src1y = g.source_y;
-        } else {
-          double d = hypot(g.receiver_x - lrx, g.receiver_y - lry);
-          if (d > 0.005 && r->ndg < SPACING_SAMPLES)
-            r->dgs[r->ndg++] = d;
-        }
-        lrx = g.receiver_x;
-        lry = g.receiver_y;
-        if (g.live) {
-          live_this++;
-          if (r->fit && (rc = bins_fitter_add(r->fit, g.midpoint_x, g.midpoint_y, err)))
-            goto file_done;
-        }
+        if ((rc = survey_add(r->survey, f, &h, &g, err)))
+          goto file_done;
       } else {
         if (new_shot && (rc = add_shot(r, (int)f, &g, err)))
           goto file_done;
@@ -239,7 +206,10 @@ static int pass(run *r, int which, tz_err *err)
                           g.midpoint_x, g.midpoint_y, loc.along_m);
           goto file_done;
         }
-        if (!g.live) {
+        int cls = geometry_trace_class(h.kind);
+        if (cls == GEOMETRY_TRACE_AUXILIARY) {
+          r->auxiliary++;
+        } else if (cls == GEOMETRY_TRACE_DEAD) {
           r->dead++;
         } else if (st != BINS_IN) {
           r->off_line++;
@@ -270,8 +240,6 @@ static int pass(run *r, int which, tz_err *err)
       last_ffid = g.field_record;
       have_last = 1;
     }
-    if (which == 1 && live_this > r->max_live_per_shot)
-      r->max_live_per_shot = live_this;
   file_done:
     if (rc)
       tz_err_path(err, r->files[f]);
@@ -287,23 +255,6 @@ static int pass(run *r, int which, tz_err *err)
   }
   free(buf);
   return rc;
-}
-
-static int cmp_double(const void *a, const void *b)
-{
-  double x = *(const double *)a, y = *(const double *)b;
-  return (x > y) - (x < y);
-}
-
-/* Median spacing, rounded to the centimetre when above 10 cm (header
- * coordinates carry centimetres at best; common practice for station intervals). */
-static double median_spacing(double *v, size_t n)
-{
-  if (!n)
-    return 0;
-  qsort(v, n, sizeof *v, cmp_double);
-  double m = v[n / 2];
-  return m > 0.1 ? round(m * 100.0) / 100.0 : m;
 }
 
 static const char *base_of(const char *path)
@@ -410,8 +361,7 @@ static int write_fold_table(const run *r, const bins_fold *pred, const char *pat
 }
 
 static cJSON *json_summary(const run *r, const bins_fold *pred, const char *kind,
-                           const char *gfile, int fitted, const bins_fit_report *fr,
-                           double nominal, double dg, double ds, double dir)
+                           const char *gfile, const survey_figures *fig)
 {
   cJSON *o = cJSON_CreateObject();
   if (!o)
@@ -423,27 +373,30 @@ static cJSON *json_summary(const run *r, const bins_fold *pred, const char *kind
   bins_params p = bins_line_get_params(r->line);
   cJSON *ln = cJSON_AddObjectToObject(o, "line");
   cJSON_AddStringToObject(ln, "kind", bins_line_is_crooked(r->line) ? "crooked" : "straight");
-  cJSON_AddBoolToObject(ln, "fitted", fitted);
+  cJSON_AddBoolToObject(ln, "fitted", fig->fitted);
   cJSON_AddNumberToObject(ln, "origin_x_m", p.origin_x);
   cJSON_AddNumberToObject(ln, "origin_y_m", p.origin_y);
   cJSON_AddNumberToObject(ln, "azimuth_deg", p.azimuth_deg);
   cJSON_AddNumberToObject(ln, "bin_size_m", p.size_m);
   cJSON_AddNumberToObject(ln, "first_cmp", p.first_cmp);
   cJSON_AddNumberToObject(ln, "max_off_line_m", p.max_off_line_m);
-  if (fitted) {
-    cJSON_AddNumberToObject(ln, "fit_rms_off_line_m", fr->rms_off_line_m);
-    cJSON_AddNumberToObject(ln, "fit_max_off_line_m", fr->max_off_line_m);
-    cJSON_AddNumberToObject(ln, "fit_length_m", fr->length_m);
+  if (fig->fitted) {
+    cJSON_AddNumberToObject(ln, "fit_rms_off_line_m", fig->fit.rms_off_line_m);
+    cJSON_AddNumberToObject(ln, "fit_max_off_line_m", fig->fit.max_off_line_m);
+    cJSON_AddNumberToObject(ln, "fit_length_m", fig->fit.length_m);
   }
-  cJSON_AddNumberToObject(o, "receiver_interval_m", dg);
-  cJSON_AddNumberToObject(o, "source_interval_m", ds);
-  if (isfinite(dir))
-    cJSON_AddNumberToObject(o, "shooting_azimuth_deg", dir);
+  cJSON_AddNumberToObject(o, "receiver_interval_m", fig->receiver_interval_m);
+  cJSON_AddNumberToObject(o, "source_interval_m", fig->source_interval_m);
+  cJSON_AddNumberToObject(o, "channels_per_record", fig->channels_per_record);
+  cJSON_AddNumberToObject(o, "records", (double)fig->records);
+  if (isfinite(fig->shooting_azimuth_deg))
+    cJSON_AddNumberToObject(o, "shooting_azimuth_deg", fig->shooting_azimuth_deg);
   cJSON *tr = cJSON_AddObjectToObject(o, "traces");
   cJSON_AddNumberToObject(tr, "read", (double)r->read);
   cJSON_AddNumberToObject(tr, "binned", (double)r->binned);
   cJSON *sk = cJSON_AddObjectToObject(tr, "skipped");
   cJSON_AddNumberToObject(sk, "dead", (double)r->dead);
+  cJSON_AddNumberToObject(sk, "auxiliary", (double)r->auxiliary);
   cJSON_AddNumberToObject(sk, "off_line", (double)r->off_line);
   bins_fold_summary s;
   bins_fold_summarise(r->fold, &s);
@@ -451,7 +404,7 @@ static cJSON *json_summary(const run *r, const bins_fold *pred, const char *kind
   cJSON_AddNumberToObject(cr, "first", s.first_cmp);
   cJSON_AddNumberToObject(cr, "last", s.last_cmp);
   cJSON *fo = cJSON_AddObjectToObject(o, "fold");
-  cJSON_AddNumberToObject(fo, "nominal", nominal);
+  cJSON_AddNumberToObject(fo, "nominal", fig->nominal_fold);
   cJSON_AddNumberToObject(fo, "min", (double)s.min);
   cJSON_AddNumberToObject(fo, "max", (double)s.max);
   cJSON_AddNumberToObject(fo, "mean", s.mean);
@@ -514,26 +467,28 @@ static cJSON *json_summary(const run *r, const bins_fold *pred, const char *kind
   return o;
 }
 
-static void print_text(const run *r, const bins_fold *pred, const char *kind, int fitted,
-                       const bins_fit_report *fr, double nominal, double dg, double ds)
+static void print_text(const run *r, const bins_fold *pred, const char *kind,
+                       const survey_figures *fig)
 {
   bins_params p = bins_line_get_params(r->line);
   bins_fold_summary s;
   bins_fold_summarise(r->fold, &s);
-  printf("geometry from %s; %zu files, %lld traces (%lld binned, %lld dead, %lld off the line)\n",
-         kind, r->nfiles, (long long)r->read, (long long)r->binned, (long long)r->dead,
-         (long long)r->off_line);
+  printf("geometry from %s; %zu files, %lld traces (%lld binned, %lld dead, %lld auxiliary, "
+         "%lld off the line)\n", kind, r->nfiles, (long long)r->read, (long long)r->binned,
+         (long long)r->dead, (long long)r->auxiliary, (long long)r->off_line);
   printf("processing line: %s%s, origin %.2f %.2f m, azimuth %.4f deg\n",
-         bins_line_is_crooked(r->line) ? "crooked" : "straight", fitted ? " (fitted)" : "",
+         bins_line_is_crooked(r->line) ? "crooked" : "straight", fig->fitted ? " (fitted)" : "",
          p.origin_x, p.origin_y, p.azimuth_deg);
-  if (fitted)
+  if (fig->fitted)
     printf("  fit: RMS distance off the line %.3f m, largest %.3f m, length %.2f m\n",
-           fr->rms_off_line_m, fr->max_off_line_m, fr->length_m);
-  printf("bin size %.3f m; receiver interval %.3f m; source interval %.3f m\n", p.size_m, dg,
-         ds);
+           fig->fit.rms_off_line_m, fig->fit.max_off_line_m, fig->fit.length_m);
+  printf("bin size %.3f m; receiver interval %.3f m; source interval %.3f m\n", p.size_m,
+         fig->receiver_interval_m, fig->source_interval_m);
+  printf("%lld records, %.1f channels per record; shooting azimuth %.4f deg\n",
+         (long long)fig->records, fig->channels_per_record, fig->shooting_azimuth_deg);
   printf("CMPs %d to %d (%lld with traces)\n", (int)s.first_cmp, (int)s.last_cmp,
          (long long)s.cmps_live);
-  printf("fold: nominal %.2f, min %lld, max %lld, mean %.2f\n", nominal, (long long)s.min,
+  printf("fold: nominal %.2f, min %lld, max %lld, mean %.2f\n", fig->nominal_fold, (long long)s.min,
          (long long)s.max, s.mean);
   if (pred) {
     bins_fold_summary ps;
@@ -643,10 +598,11 @@ int cmd_geometry(int argc, char **argv)
   job_spec *job = NULL;
   geometry_layout lay;
   geometry_layout_init(&lay);
-  int have_layout = 0, rc = TZ_OK, fitted = 0;
+  int have_layout = 0, rc = TZ_OK;
   double *nx = NULL, *ny = NULL;
   size_t nn = 0;
-  bins_fit_report fr = { 0 };
+  survey_figures fig;
+  memset(&fig, 0, sizeof fig);
   bins_fold *pred = NULL;
   const char *kind = "headers", *gfile = NULL;
   cJSON *out = NULL;
@@ -699,56 +655,20 @@ int cmd_geometry(int argc, char **argv)
   } else if ((rc = geometry_source_headers(&r.src, &err))) {
     goto done;
   }
-  r.dgs = malloc(SPACING_SAMPLES * sizeof *r.dgs);
-  r.dss = malloc(SPACING_SAMPLES * sizeof *r.dss);
-  if (!r.dgs || !r.dss) {
-    rc = tz_fail(&err, TZ_E_NOMEM, "spacing samples");
+  if (crooked && (rc = load_crooked(crooked, &nx, &ny, &nn, &err)))
     goto done;
-  }
-  int need_fit = !crooked && isnan(az) && !have_layout;
-  if (need_fit && (rc = bins_fitter_new(&r.fit, &err)))
+  survey_line_spec ls = { .bin_size_m = bin > 0 ? bin : 0, .has_line = !isnan(az),
+                          .origin_x_m = ox, .origin_y_m = oy, .azimuth_deg = az,
+                          .node_x = nx, .node_y = ny, .nnodes = nn,
+                          .first_cmp = (int32_t)first, .max_off_line_m = maxoff };
+  if ((rc = survey_new(&r.survey, r.src, &ls, &err)))
     goto done;
-  if ((rc = pass(&r, 1, &err)))
+  if (survey_wants_traces(r.survey) && (rc = pass(&r, 1, &err)))
     goto done;
-  double dg = have_layout ? lay.receiver_interval_m : median_spacing(r.dgs, r.ndg);
-  double ds = have_layout ? lay.source_interval_m : median_spacing(r.dss, r.nds);
-  if (bin <= 0) {
-    if (!(dg > 0)) {
-      rc = tz_fail(&err, TZ_E_FORMAT, "cannot find the receiver interval from the headers: "
-                   "give --bin-size");
-      goto done;
-    }
-    bin = dg / 2.0;
-  }
-  if (crooked) {
-    if ((rc = load_crooked(crooked, &nx, &ny, &nn, &err)) ||
-        (rc = bins_line_crooked(&r.line, nx, ny, nn, bin, (int32_t)first, maxoff, &err)))
-      goto done;
-  } else {
-    bins_params p;
-    if (!isnan(az)) {
-      p = (bins_params){ ox, oy, az, bin, (int32_t)first, maxoff };
-    } else if (have_layout) {
-      if ((rc = bins_params_from_layout(&lay, bin, (int32_t)first, &p, &err)))
-        goto done;
-      p.max_off_line_m = maxoff;
-    } else {
-      if ((rc = bins_fitter_solve(r.fit, bin, (int32_t)first, maxoff, &p, &fr, &err)))
-        goto done;
-      fitted = 1;
-    }
-    if ((rc = bins_line_straight(&r.line, &p, &err)))
-      goto done;
-  }
-  /* Shooting direction for the offset sign: along the line, the way the sources move. */
-  if (!have_layout) {
-    bins_params p = bins_line_get_params(r.line);
-    double su, cu, dir = p.azimuth_deg;
-    geometry_sincos_deg(dir, &su, &cu);
-    if ((r.src1x - r.src0x) * su + (r.src1y - r.src0y) * cu < 0)
-      dir = fmod(dir + 180.0, 360.0);
-    geometry_source_set_direction(r.src, dir);
-  }
+  if ((rc = survey_finish(r.survey, r.src, &r.line, &fig, &err)))
+    goto done;
+  double dg = fig.receiver_interval_m;
+  bin = bins_line_get_params(r.line).size_m;
   if (oclass <= 0)
     oclass = 8 * (dg > 0 ? dg : 2 * bin);
   if ((rc = bins_fold_new(&r.fold, r.line, oclass, &err)))
@@ -763,15 +683,9 @@ int cmd_geometry(int argc, char **argv)
   }
   if ((rc = pass(&r, 2, &err)))
     goto done;
-  double nominal;
-  if (have_layout) {
-    nominal = geometry_layout_nominal_fold(&lay);
-    if ((rc = bins_fold_new(&pred, r.line, oclass, &err)) ||
-        (rc = bins_fold_predict(pred, r.line, &lay, NULL, &err)))
-      goto done;
-  } else {
-    nominal = ds > 0 && dg > 0 ? (double)r.max_live_per_shot * dg / (2.0 * ds) : 0;
-  }
+  if (have_layout && ((rc = bins_fold_new(&pred, r.line, oclass, &err)) ||
+                      (rc = bins_fold_predict(pred, r.line, &lay, NULL, &err))))
+    goto done;
   if (fold_path) {
     const char *given[] = { job_path, layout_path, table_path, crooked, map_path };
     for (size_t i = 0; !rc && i < sizeof given / sizeof given[0]; i++)
@@ -783,8 +697,7 @@ int cmd_geometry(int argc, char **argv)
   }
   if (json) {
     char *txt = NULL;
-    out = json_summary(&r, pred, kind, gfile, fitted, &fr, nominal, dg, ds,
-                       geometry_source_direction(r.src));
+    out = json_summary(&r, pred, kind, gfile, &fig);
     if (!out || !(txt = cJSON_Print(out))) {
       rc = tz_fail(&err, TZ_E_NOMEM, "JSON summary");
       goto done;
@@ -792,19 +705,17 @@ int cmd_geometry(int argc, char **argv)
     printf("%s\n", txt);
     free(txt);
   } else if (!quiet) {
-    print_text(&r, pred, kind, fitted, &fr, nominal, dg, ds);
+    print_text(&r, pred, kind, &fig);
   }
 done:
   cJSON_Delete(out);
   free(nx);
   free(ny);
   free(r.shots);
-  free(r.dgs);
-  free(r.dss);
   bins_fold_free(pred);
   bins_fold_free(r.fold);
   bins_line_free(r.line);
-  bins_fitter_free(r.fit);
+  survey_free(r.survey);
   geometry_source_free(r.src);
   geometry_layout_free(&lay);
   job_free(job);

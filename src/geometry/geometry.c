@@ -366,6 +366,15 @@ size_t geometry_layout_channels(const geometry_layout *l)
   return l->channels > 0 ? (size_t)l->channels : 0;
 }
 
+int geometry_trace_class(int kind)
+{
+  if (kind == SEGY_KIND_UNKNOWN || kind == SEGY_KIND_SEISMIC || (kind >= 11 && kind <= 17))
+    return GEOMETRY_TRACE_DATA;
+  if (kind == SEGY_KIND_DEAD || kind == SEGY_KIND_DUMMY)
+    return GEOMETRY_TRACE_DEAD;
+  return GEOMETRY_TRACE_AUXILIARY;
+}
+
 double geometry_layout_nominal_fold(const geometry_layout *l)
 {
   return l->channels * l->receiver_interval_m / (2.0 * l->source_interval_m);

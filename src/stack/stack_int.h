@@ -6,6 +6,7 @@
 #include "tzero/bins.h"
 #include "tzero/geometry.h"
 #include "tzero/stack.h"
+#include "tzero/survey.h"
 
 struct stack_plan {
   const job_spec *job;            /* borrowed */
@@ -27,6 +28,7 @@ struct stack_plan {
   double line_offset_max_m;       /* largest |offset| stacked on the whole line, whatever
                                    * the CMP range (mute statistics classes) */
   double nominal_fold;
+  survey_figures survey;          /* the acquisition as inferred (survey.h) */
 
   size_t ninputs;
   stack_input *inputs;            /* owned */

@@ -2,11 +2,13 @@
  *
  * Reads only trace headers (segy_header_read seeks past the samples), so it
  * costs a few hundred bytes per trace and is repeated cheaply on every rerun.
- * Steps: open the geometry source the job names; when the job gives no line
- * (and no layout defines one), a first header scan fits a straight line through
- * the live midpoints (bins.h) and estimates receiver and shot spacing; a second
- * scan classifies every trace (trace kind, geometry, off the line, offset
- * limits, CMP range) and accumulates fold and offsets per CMP (bins_fold).
+ * Steps: open the geometry source the job names; unless a layout defines
+ * everything, a first header scan feeds the survey inference (survey.h: the
+ * intervals, channels per record, nominal fold, shooting direction and, when
+ * the job gives no line, a line fitted through the live midpoints), the same
+ * inference `tzero geometry` makes; a second scan classifies every trace
+ * (trace kind, geometry, off the line, offset limits, CMP range) and
+ * accumulates fold and offsets per CMP (bins_fold).
  *
  * The per-trace classification is stack_plan_classify(), which the data pass
  * and stack_collect() call again on the headers they read, so all three agree
@@ -42,18 +44,14 @@ const char *stack_skip_name(int reason)
   return skip_names[reason];
 }
 
-/* Trace identification codes (SEG-Y rev 1, bytes 29-30; REFERENCE.md §1.5):
- * 0 unknown and 1 seismic are data (common practice: unknown is live); 11-17
- * are sensor data (pressure, multicomponent, rotated); 2 dead and 3 dummy are
- * dead; everything else (time break, uphole, sweep, timing, water break, gun
- * signatures, vibrator signals, -1 other, optional codes) is auxiliary. */
+/* The skip reason of a trace kind (geometry_trace_class), or -1 for data. */
 int stack_kind_reason(int kind)
 {
-  if (kind == 0 || kind == 1 || (kind >= 11 && kind <= 17))
-    return -1;
-  if (kind == SEGY_KIND_DEAD || kind == SEGY_KIND_DUMMY)
-    return STACK_SKIP_DEAD;
-  return STACK_SKIP_AUXILIARY;
+  switch (geometry_trace_class(kind)) {
+  case GEOMETRY_TRACE_DATA: return -1;
+  case GEOMETRY_TRACE_DEAD: return STACK_SKIP_DEAD;
+  default: return STACK_SKIP_AUXILIARY;
+  }
 }
 
 int stack_open_input(const stack_plan *p, size_t i, segy_file **f, tz_err *err)
@@ -81,6 +79,7 @@ int32_t stack_plan_first_cmp(const stack_plan *p) { return p->first_cmp; }
 int32_t stack_plan_last_cmp(const stack_plan *p) { return p->last_cmp; }
 size_t stack_plan_ncmps(const stack_plan *p) { return p->ncmps; }
 double stack_plan_nominal_fold(const stack_plan *p) { return p->nominal_fold; }
+survey_figures stack_plan_survey(const stack_plan *p) { return p->survey; }
 stack_line_info stack_plan_line(const stack_plan *p) { return p->line_info; }
 size_t stack_plan_ninputs(const stack_plan *p) { return p->ninputs; }
 const stack_input *stack_plan_input(const stack_plan *p, size_t i)
@@ -185,36 +184,6 @@ int stack_plan_classify(const stack_plan *p, const segy_trace_header *h, int64_t
 
 /* ---------------------------------------------------------------- build */
 
-static int cmp_dbl(const void *a, const void *b)
-{
-  double x = *(const double *)a, y = *(const double *)b;
-  return (x > y) - (x < y);
-}
-
-static double median(double *v, size_t n)
-{
-  if (!n)
-    return NAN;
-  qsort(v, n, sizeof *v, cmp_dbl);
-  return n % 2 ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
-}
-
-/* Spacing statistics from the first scan (headers and tables only). */
-typedef struct spacing {
-  double *rx;        /* per-file median receiver spacing */
-  double *sx, *sy;   /* per-file source position (first live trace) */
-  double *ch;        /* per-file live channels */
-  size_t n;
-} spacing;
-
-static void spacing_free(spacing *s)
-{
-  free(s->rx);
-  free(s->sx);
-  free(s->sy);
-  free(s->ch);
-}
-
 /* Marks an input bad with the formatted error; returns 1, or -1 out of memory. */
 static int mark_bad(stack_input *in, const tz_err *e, tz_err *err)
 {
@@ -282,28 +251,18 @@ static int set_axis(stack_plan *p, segy_file *f, tz_err *err)
   return TZ_OK;
 }
 
-/* First scan: line fit and spacing estimates (geometry from headers or table). */
-static int scan_fit(stack_plan *p, bins_fitter *fit, spacing *sp, stack_progress_fn progress,
-                    void *ctx, tz_err *err)
+/* First scan (headers and tables only): every trace's header and geometry go
+ * to the survey inference, which finds the intervals, the channels per record
+ * and, when the job gives no line, fits one. A trace without geometry is left
+ * out here; the second scan stops on it. */
+static int scan_survey(stack_plan *p, survey *sv, tz_err *err)
 {
-  size_t cap = p->ninputs ? p->ninputs : 1;
-  sp->rx = malloc(cap * sizeof *sp->rx);
-  sp->sx = malloc(cap * sizeof *sp->sx);
-  sp->sy = malloc(cap * sizeof *sp->sy);
-  sp->ch = malloc(cap * sizeof *sp->ch);
-  double *d = NULL;
-  size_t dcap = 0;
-  if (!sp->rx || !sp->sx || !sp->sy || !sp->ch)
-    return tz_fail(err, TZ_E_NOMEM, "spacing statistics");
   int rc = TZ_OK;
-  int64_t done = 0;
   for (size_t i = 0; i < p->ninputs && !rc; i++) {
     segy_file *f = NULL;
     int o = open_or_skip(p, i, &f, err);
-    if (o < 0) {
-      rc = err->status;
-      break;
-    }
+    if (o < 0)
+      return err->status;
     if (o > 0)
       continue;
     if ((rc = set_axis(p, f, err))) {
@@ -312,158 +271,49 @@ static int scan_fit(stack_plan *p, bins_fitter *fit, spacing *sp, stack_progress
       break;
     }
     int64_t n = segy_trace_count(f);
-    if ((size_t)n > dcap) {
-      free(d);
-      dcap = (size_t)n;
-      if (!(d = malloc(dcap * sizeof *d))) {
-        segy_close(f);
-        rc = tz_fail(err, TZ_E_NOMEM, "spacing statistics");
-        break;
-      }
-    }
-    size_t nd = 0, live = 0;
-    double prx = 0, pry = 0;
-    for (int64_t t = 0; t < n; t++) {
+    for (int64_t t = 0; t < n && !rc; t++) {
       segy_trace_header h;
       geometry_trace g;
       tz_err e;
       tz_err_init(&e);
       if (segy_header_read(f, t, &h, &e)) {
-        int b = bad_inside(p, i, &e, err);
-        if (b < 0)
+        if (bad_inside(p, i, &e, err) < 0)
           rc = err->status;
         break;
       }
-      if (stack_kind_reason(h.kind) >= 0 || geometry_source_trace(p->geo, &h, t, &g, &e))
-        continue;
-      if ((rc = bins_fitter_add(fit, g.midpoint_x, g.midpoint_y, err)))
-        break;
-      if (live == 0) {
-        sp->sx[sp->n] = g.source_x;
-        sp->sy[sp->n] = g.source_y;
-      } else {
-        double dd = hypot(g.receiver_x - prx, g.receiver_y - pry);
-        if (dd > 1e-6)
-          d[nd++] = dd;
-      }
-      prx = g.receiver_x;
-      pry = g.receiver_y;
-      live++;
+      if (!geometry_source_trace(p->geo, &h, t, &g, &e))
+        rc = survey_add(sv, i, &h, &g, err);
     }
     segy_close(f);
-    if (!p->inputs[i].bad && live) {
-      sp->rx[sp->n] = nd ? median(d, nd) : NAN;
-      sp->ch[sp->n] = (double)live;
-      sp->n++;
-    }
-    done += p->inputs[i].traces;
-    if (progress)
-      progress(ctx, done, -1);
   }
-  free(d);
   return rc;
-}
-
-static double spacing_receiver(spacing *sp)
-{
-  size_t k = 0;
-  for (size_t i = 0; i < sp->n; i++)
-    if (isfinite(sp->rx[i]))
-      sp->rx[k++] = sp->rx[i];
-  return median(sp->rx, k);
-}
-
-/* Nominal fold N dg / (2 ds) (REFERENCE.md §3.9) from header statistics. */
-static double spacing_nominal(spacing *sp, double dg)
-{
-  if (sp->n == 0)
-    return 0;
-  double *ds = malloc(sp->n * sizeof *ds);
-  if (!ds)
-    return 0;
-  size_t k = 0;
-  for (size_t i = 1; i < sp->n; i++) {
-    double d = hypot(sp->sx[i] - sp->sx[i - 1], sp->sy[i] - sp->sy[i - 1]);
-    if (d > 1e-6)
-      ds[k++] = d;
-  }
-  double shot = median(ds, k);
-  double ch = median(sp->ch, sp->n);
-  free(ds);
-  if (!(shot > 0) || !(dg > 0))
-    return ch;   /* fixed shot position: every trace of a shot is its own CMP */
-  double f = ch * dg / (2 * shot);
-  return f < ch ? f : ch;
 }
 
 static int make_line(stack_plan *p, tz_err *err)
 {
   const job_spec *j = p->job;
-  const geometry_layout *lay = geometry_source_get_layout(p->geo);
-  bins_params bp;
-  memset(&bp, 0, sizeof bp);
-  spacing sp;
-  memset(&sp, 0, sizeof sp);
-  int rc = TZ_OK;
-  double size = j->bins.has_size ? j->bins.size_m : 0;
-  int32_t first = (int32_t)j->bins.first_cmp;
-  if (lay) {
-    p->nominal_fold = geometry_layout_nominal_fold(lay);
-    if (!size)
-      size = geometry_layout_default_bin(lay);
-    if (j->bins.has_origin) {
-      bp.origin_x = j->bins.origin_x_m;
-      bp.origin_y = j->bins.origin_y_m;
-      bp.azimuth_deg = j->bins.azimuth_deg;
-    } else {
-      if ((rc = bins_params_from_layout(lay, size, first, &bp, err)))
-        return rc;
-      p->line_info.from_layout = 1;
-    }
-  } else {
-    bins_fitter *fit = NULL;
-    if ((rc = bins_fitter_new(&fit, err)))
-      return rc;
-    rc = scan_fit(p, fit, &sp, NULL, NULL, err);
-    if (!rc && !size) {
-      double dg = spacing_receiver(&sp);
-      if (!(dg > 0))
-        rc = tz_fail(err, TZ_E_FORMAT, "cannot derive a bin size: no receiver spacing in "
-                     "the headers; give bins.size_m in the job");
-      size = 0.5 * dg;   /* default bin: half the receiver interval (common practice) */
-    }
-    if (!rc && j->bins.has_origin) {
-      bp.origin_x = j->bins.origin_x_m;
-      bp.origin_y = j->bins.origin_y_m;
-      bp.azimuth_deg = j->bins.azimuth_deg;
-    } else if (!rc) {
-      bins_fit_report rep;
-      rc = bins_fitter_solve(fit, size, first, j->bins.max_distance_m, &bp, &rep, err);
-      if (rc)
-        tz_err_path(err, j->path);
-      p->line_info.fitted = 1;
-      p->line_info.fit_rms_off_line_m = rep.rms_off_line_m;
-    }
-    bins_fitter_free(fit);
-    if (!rc) {
-      /* nominal from the same statistics; dg as measured */
-      double dg = 2 * size;
-      double meas = spacing_receiver(&sp);
-      if (meas > 0)
-        dg = meas;
-      p->nominal_fold = spacing_nominal(&sp, dg);
-    }
-    spacing_free(&sp);
-    if (rc)
-      return rc;
-  }
-  bp.size_m = size;
-  bp.first_cmp = first;
-  bp.max_off_line_m = j->bins.max_distance_m;
-  if ((rc = bins_line_straight(&p->line, &bp, err)))
+  survey_line_spec ls = {
+    .bin_size_m = j->bins.has_size ? j->bins.size_m : 0,
+    .has_line = j->bins.has_origin,
+    .origin_x_m = j->bins.origin_x_m, .origin_y_m = j->bins.origin_y_m,
+    .azimuth_deg = j->bins.azimuth_deg,
+    .first_cmp = (int32_t)j->bins.first_cmp,
+    .max_off_line_m = j->bins.max_distance_m,
+  };
+  survey *sv = NULL;
+  int rc = survey_new(&sv, p->geo, &ls, err);
+  if (!rc && survey_wants_traces(sv))
+    rc = scan_survey(p, sv, err);
+  if (!rc && (rc = survey_finish(sv, p->geo, &p->line, &p->survey, err)))
+    tz_err_path(err, j->path);
+  survey_free(sv);
+  if (rc)
     return rc;
-  if (!lay)
-    geometry_source_set_direction(p->geo, bp.azimuth_deg);
+  bins_params bp = bins_line_get_params(p->line);
+  p->nominal_fold = p->survey.nominal_fold;
+  p->line_info.fitted = p->survey.fitted;
+  p->line_info.from_layout = p->survey.from_layout && !ls.has_line;
+  p->line_info.fit_rms_off_line_m = p->survey.fit.rms_off_line_m;
   p->line_info.origin_x_m = bp.origin_x;
   p->line_info.origin_y_m = bp.origin_y;
   p->line_info.azimuth_deg = bp.azimuth_deg;
