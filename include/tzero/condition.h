@@ -130,6 +130,31 @@ void condition_workspace_free(condition_workspace *ws);   /* NULL is a no-op */
 int condition_apply(const condition_plan *p, condition_workspace *ws, int64_t cmp,
                     const float *vel_mps, float *trace, tz_err *err);
 
+/* ---- per record ---- */
+
+/* What the record-level call knows about each trace of a record. */
+typedef struct condition_trace_info {
+  int64_t cmp;              /* the trace's CMP (velocity-table spherical gain) */
+  const float *vel_mps;     /* ns V_rms samples of that CMP, or NULL (as condition_apply) */
+  double offset_m;          /* signed source-receiver offset, SEG-Y sign rule (bytes 37-40) */
+  int live;                 /* 0: killed, not read or not data; left untouched and
+                             * never used by record-wide steps */
+} condition_trace_info;
+
+/* Conditions one whole record (the traces of one field record, in recorded
+ * order) in place: samples holds ntraces x condition_plan_ns() floats,
+ * trace-major; info[k] describes trace k. Per-trace steps run on each live
+ * trace exactly as condition_apply() would (same bits); record-wide steps
+ * (those of condition_plan_record_wide()) see every live trace of the record
+ * together. Dead traces are left as they are. On failure err->trace is the
+ * index of the trace within the record (the caller turns it into a file
+ * trace number). Allocates nothing; one workspace per thread. */
+int condition_apply_record(const condition_plan *p, condition_workspace *ws, float *samples,
+                           size_t ntraces, const condition_trace_info *info, tz_err *err);
+/* 1 when some step of the plan needs the whole record at once (so a run that
+ * produces only some CMPs must still read every trace of each record it uses). */
+int condition_plan_record_wide(const condition_plan *p);
+
 /* ---- formulas (REFERENCE.md §3.11, §3.14), exposed for tests and docs ---- */
 
 /* Trapezoid amplitude A(|f|) for corners f[0..3] (REFERENCE.md §3.14). */

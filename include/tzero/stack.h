@@ -215,6 +215,7 @@ typedef struct stack_gather {
   size_t ntraces;                /* sorted by |offset|, then input order */
   double *offset_m;              /* |offset| per trace */
   double *offset_signed_m;       /* SEG-Y signed offset per trace */
+  double *static_ms;             /* total static applied per trace (ms) */
   segy_trace_header *headers;    /* as read, per trace */
   float *samples;                /* ntraces * axis.ns */
 } stack_gather;
@@ -226,23 +227,23 @@ typedef struct stack_gathers {
   stack_gather *g;
 } stack_gathers;
 
-/* Collects the traces of `cmps` (any order; duplicates ignored). CMPs without
- * traces give empty gathers. On success *out owns the gathers:
- * stack_gathers_free(). */
-int stack_collect(const stack_plan *p, const int32_t *cmps, size_t ncmps, stack_gathers **out,
+/* Collects the traces of `cmps` (any order; duplicates ignored) after the
+ * pre-NMO chain the stack applies (edits and statics of the plan's job, then
+ * conditioning chain `c`, NULL = none; `v` supplies V_rms for a spherical
+ * gain that takes it from the velocity table: such a step with v = NULL is
+ * TZ_E_JOB naming $.conditioning). Each record holding a wanted trace goes
+ * through the chain as the stack's data pass does it (whole, when the chain
+ * has record-wide steps), so a gather holds exactly what the stack sums before
+ * NMO. CMPs without traces give empty gathers. Single-threaded (FFTW planner).
+ * On success *out owns the gathers: stack_gathers_free(). */
+int stack_collect(const stack_plan *p, const int32_t *cmps, size_t ncmps,
+                  const condition_chain *c, const velocity_table *v, stack_gathers **out,
                   tz_err *err);
 void stack_gathers_free(stack_gathers *g);   /* NULL is a no-op */
 
-/* Applies conditioning chain `c` in place to every trace of the gathers, as the
- * stack pass does before NMO (so velocity analysis sees the traces the stack
- * sums). `v` supplies V_rms for a spherical-divergence step that takes it from the
- * velocity table; such a step with v = NULL is TZ_E_JOB naming $.conditioning.
- * An empty chain (or c = NULL) does nothing. Single-threaded (FFTW planner). */
-int stack_condition_gathers(stack_gathers *g, const condition_chain *c,
-                            const velocity_table *v, tz_err *err);
-
-/* Writes the gathers NMO-corrected (conditioning, velocities, NMO parameters and
- * mutes from o; o's CMP range, threads and progress are not used) as SEG-Y rev 1
+/* Writes the gathers (as stack_collect made them) NMO-corrected (velocities, NMO
+ * parameters and mutes from o; o's conditioning, CMP range, threads and progress
+ * are not used: the gathers are already conditioned) as SEG-Y rev 1
  * CMP gathers:
  * CMPs in order, traces by |offset|, each trace's own header kept, with CMP
  * number (21-24), trace number within the CMP (25-28), signed offset (37-40)

@@ -99,7 +99,7 @@ int cmd_nmo(int argc, char **argv)
   int64_t written = 0;
   if (!(rc = job_check_output(su.job, out, "--out", 1, &e)) && !(rc = fileio_probe(out, &e)) &&
       !(rc = stack_run_opts_init(&ro, su.plan, su.velocity, &e)) &&
-      !(rc = stack_collect(su.plan, cmps, ncmps, &g, &e)))
+      !(rc = stack_collect(su.plan, cmps, ncmps, ro.conditioning, su.velocity, &g, &e)))
     rc = stack_write_nmo_gathers(su.plan, g, &ro, out, su.job->sample_format, &written, &e);
   if (!rc && json) {
     cJSON *o = cJSON_CreateObject(), *a = cJSON_AddArrayToObject(o, "gathers");

@@ -401,8 +401,7 @@ int cmd_semblance(int argc, char **argv)
           need[nneed++] = cmps[b] + d;
       stack_gathers_free(gs);
       gs = NULL;
-      if ((rc = stack_collect(plan, need, nneed, &gs, &err)) ||
-          (rc = stack_condition_gathers(gs, &job->conditioning, cond_vt, &err)))
+      if ((rc = stack_collect(plan, need, nneed, &job->conditioning, cond_vt, &gs, &err)))
         goto done;
     }
     struct cmp_result *r = &res[nres++];

@@ -580,3 +580,28 @@ int condition_apply(const condition_plan *p, condition_workspace *ws, int64_t cm
   }
   return TZ_OK;
 }
+
+int condition_apply_record(const condition_plan *p, condition_workspace *ws, float *samples,
+                           size_t ntraces, const condition_trace_info *info, tz_err *err)
+{
+  if (ws->plan != p)
+    return tz_fail(err, TZ_E_ARG, "conditioning workspace was made for another plan");
+  if (!p->chain.n)
+    return TZ_OK;
+  for (size_t k = 0; k < ntraces; k++) {
+    if (!info[k].live)
+      continue;
+    int rc = condition_apply(p, ws, info[k].cmp, info[k].vel_mps, samples + k * p->ns, err);
+    if (rc) {
+      err->trace = (int64_t)k;
+      return rc;
+    }
+  }
+  return TZ_OK;
+}
+
+int condition_plan_record_wide(const condition_plan *p)
+{
+  (void)p;      /* every step so far works trace by trace */
+  return 0;
+}

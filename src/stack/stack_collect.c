@@ -116,6 +116,7 @@ void stack_gathers_free(stack_gathers *g)
   for (size_t i = 0; i < g->n; i++) {
     free(g->g[i].offset_m);
     free(g->g[i].offset_signed_m);
+    free(g->g[i].static_ms);
     free(g->g[i].headers);
     free(g->g[i].samples);
   }
@@ -134,13 +135,16 @@ static int grow(stack_gather *g, size_t *cap, size_t ns, tz_err *err)
   double *os = realloc(g->offset_signed_m, nc * sizeof *os);
   if (os)
     g->offset_signed_m = os;
+  double *st = realloc(g->static_ms, nc * sizeof *st);
+  if (st)
+    g->static_ms = st;
   segy_trace_header *h = realloc(g->headers, nc * sizeof *h);
   if (h)
     g->headers = h;
   float *s = realloc(g->samples, nc * ns * sizeof *s);
   if (s)
     g->samples = s;
-  if (!o || !os || !h || !s)
+  if (!o || !os || !st || !h || !s)
     return tz_fail(err, TZ_E_NOMEM, "gather of CMP %d", (int)g->cmp);
   *cap = nc;
   return TZ_OK;
@@ -165,11 +169,11 @@ static int sort_gather(stack_gather *g, size_t ns, tz_err *err)
   if (n < 2)
     return TZ_OK;
   okey *k = malloc(n * sizeof *k);
-  double *o = malloc(n * sizeof *o), *os = malloc(n * sizeof *os);
+  double *o = malloc(n * sizeof *o), *os = malloc(n * sizeof *os), *st = malloc(n * sizeof *st);
   segy_trace_header *h = malloc(n * sizeof *h);
   float *s = malloc(n * ns * sizeof *s);
-  if (!k || !o || !os || !h || !s) {
-    free(k); free(o); free(os); free(h); free(s);
+  if (!k || !o || !os || !st || !h || !s) {
+    free(k); free(o); free(os); free(st); free(h); free(s);
     return tz_fail(err, TZ_E_NOMEM, "sorting gather of CMP %d", (int)g->cmp);
   }
   for (size_t i = 0; i < n; i++) {
@@ -181,31 +185,40 @@ static int sort_gather(stack_gather *g, size_t ns, tz_err *err)
     size_t j = k[i].idx;
     o[i] = g->offset_m[j];
     os[i] = g->offset_signed_m[j];
+    st[i] = g->static_ms[j];
     h[i] = g->headers[j];
     memcpy(s + i * ns, g->samples + j * ns, ns * sizeof *s);
   }
   free(k);
   free(g->offset_m);
   free(g->offset_signed_m);
+  free(g->static_ms);
   free(g->headers);
   free(g->samples);
   g->offset_m = o;
   g->offset_signed_m = os;
+  g->static_ms = st;
   g->headers = h;
   g->samples = s;
   return TZ_OK;
 }
 
-int stack_collect(const stack_plan *p, const int32_t *cmps, size_t ncmps, stack_gathers **out,
+int stack_collect(const stack_plan *p, const int32_t *cmps, size_t ncmps,
+                  const condition_chain *c, const velocity_table *v, stack_gathers **out,
                   tz_err *err)
 {
   stack_gathers *G = calloc(1, sizeof *G);
   int32_t *want = ncmps ? malloc(ncmps * sizeof *want) : NULL;
   size_t *cap = ncmps ? calloc(ncmps, sizeof *cap) : NULL;
-  int64_t *hit = NULL;
-  size_t *hitg = NULL;
+  size_t rmax = p->max_record > 0 ? (size_t)p->max_record : 1, ns = p->axis.ns;
+  float *rs = malloc(rmax * ns * sizeof *rs);          /* one record's samples */
+  stack_tinfo *ti = malloc(rmax * sizeof *ti);
+  segy_trace_header *rh = malloc(rmax * sizeof *rh);
+  ptrdiff_t *rg = malloc(rmax * sizeof *rg);           /* gather of each trace, or -1 */
+  stack_chain *ch = NULL;
+  stack_chain_ws *cws = NULL;
   int rc = TZ_OK;
-  if (!G || (ncmps && (!want || !cap))) {
+  if (!G || (ncmps && (!want || !cap)) || !rs || !ti || !rh || !rg) {
     rc = tz_fail(err, TZ_E_NOMEM, "gathers");
     goto done;
   }
@@ -229,9 +242,13 @@ int stack_collect(const stack_plan *p, const int32_t *cmps, size_t ncmps, stack_
     G->g[i].x_m = cp.x_m;
     G->g[i].y_m = cp.y_m;
   }
-  size_t ns = p->axis.ns, total = 0;
+  if (n && ((rc = stack_chain_new(&ch, p, c, v, err)) ||
+            (rc = stack_chain_ws_new(&cws, ch, rmax, err))))
+    goto done;
+  int whole = n ? stack_chain_whole_records(ch) : 0;
+  size_t total = 0;
   for (size_t fi = 0; fi < p->ninputs && n && !rc; fi++) {
-    if (p->inputs[fi].bad)
+    if (p->inputs[fi].bad || !p->records[fi].n)
       continue;
     segy_file *f = NULL;
     if ((rc = stack_open_input(p, fi, &f, err)))
@@ -240,53 +257,60 @@ int stack_collect(const stack_plan *p, const int32_t *cmps, size_t ncmps, stack_
       segy_close(f);
       continue;
     }
-    int64_t nt = segy_trace_count(f);
-    free(hit);
-    free(hitg);
-    hit = malloc((size_t)(nt ? nt : 1) * sizeof *hit);
-    hitg = malloc((size_t)(nt ? nt : 1) * sizeof *hitg);
-    if (!hit || !hitg) {
-      segy_close(f);
-      rc = tz_fail(err, TZ_E_NOMEM, "gather scan");
-      break;
-    }
-    size_t nh = 0;
-    for (int64_t t = 0; t < nt && !rc; t++) {
-      segy_trace_header h;
-      if ((rc = segy_header_read(f, t, &h, err))) {
-        tz_err_path(err, p->inputs[fi].path);
-        break;
+    /* record by record: headers first; a record with a wanted trace is read
+     * (whole when the chain has record-wide steps) and goes through the chain */
+    for (size_t k = 0; k < p->records[fi].n && !rc; k++) {
+      int64_t a, m;
+      stack_record_span(p, fi, k, &a, &m);
+      size_t hits = 0;
+      for (int64_t t = a; t < a + m; t++) {
+        size_t j = (size_t)(t - a);
+        int reason;
+        rg[j] = -1;
+        ti[j].read = 0;
+        if ((rc = segy_header_read(f, t, &rh[j], err))) {
+          tz_err_path(err, p->inputs[fi].path);
+          break;
+        }
+        ti[j].stackable = stack_locate(p, &rh[j], t, &ti[j].cmp, &ti[j].off_abs,
+                                       &ti[j].off_signed, &ti[j].g, &reason);
+        if (!ti[j].stackable || !stack_plan_in_range(p, ti[j].cmp))
+          continue;
+        int32_t *at = bsearch(&ti[j].cmp, want, n, sizeof *want, cmp_i32);
+        if (at) {
+          rg[j] = at - want;
+          hits++;
+        }
       }
-      int32_t cmp;
-      double off, offs;
-      int reason;
-      if (!stack_plan_classify(p, &h, t, &cmp, &off, &offs, &reason))
+      if (rc || !hits)
         continue;
-      int32_t *at = bsearch(&cmp, want, n, sizeof *want, cmp_i32);
-      if (!at)
-        continue;
-      hit[nh] = t;
-      hitg[nh++] = (size_t)(at - want);
-    }
-    for (size_t k = 0; k < nh && !rc; k++) {
-      stack_gather *g = &G->g[hitg[k]];
-      if (++total > STACK_MAX_GATHER_TRACES) {
-        rc = tz_fail(err, TZ_E_ARG, "more than %d traces in the requested gathers",
-                     STACK_MAX_GATHER_TRACES);
-        break;
+      for (size_t j = 0; j < (size_t)m && !rc; j++) {
+        if (!ti[j].stackable || (rg[j] < 0 && !whole))
+          continue;
+        if ((rc = segy_trace_read(f, a + (int64_t)j, &rh[j], rs + j * ns, ns, err)))
+          tz_err_path(err, p->inputs[fi].path);
+        ti[j].read = 1;
       }
-      if ((rc = grow(g, &cap[hitg[k]], ns, err)))
+      if (rc || (rc = stack_chain_record(ch, cws, fi, a, (size_t)m, rs, ti, err)))
         break;
-      size_t j = g->ntraces;
-      segy_trace_header *h = &g->headers[j];
-      if ((rc = segy_trace_read(f, hit[k], h, g->samples + j * ns, ns, err))) {
-        tz_err_path(err, p->inputs[fi].path);
-        break;
+      for (size_t j = 0; j < (size_t)m && !rc; j++) {
+        if (rg[j] < 0 || ti[j].killed)
+          continue;
+        stack_gather *g = &G->g[rg[j]];
+        if (++total > STACK_MAX_GATHER_TRACES) {
+          rc = tz_fail(err, TZ_E_ARG, "more than %d traces in the requested gathers",
+                       STACK_MAX_GATHER_TRACES);
+          break;
+        }
+        if ((rc = grow(g, &cap[rg[j]], ns, err)))
+          break;
+        size_t q = g->ntraces++;
+        g->headers[q] = rh[j];
+        memcpy(g->samples + q * ns, rs + j * ns, ns * sizeof *rs);
+        g->offset_m[q] = ti[j].off_abs;
+        g->offset_signed_m[q] = ti[j].off_signed;
+        g->static_ms[q] = ti[j].static_ms;
       }
-      int32_t cmp;
-      int reason;
-      stack_plan_classify(p, h, hit[k], &cmp, &g->offset_m[j], &g->offset_signed_m[j], &reason);
-      g->ntraces++;
     }
     segy_close(f);
   }
@@ -295,8 +319,12 @@ int stack_collect(const stack_plan *p, const int32_t *cmps, size_t ncmps, stack_
 done:
   free(want);
   free(cap);
-  free(hit);
-  free(hitg);
+  free(rs);
+  free(ti);
+  free(rh);
+  free(rg);
+  stack_chain_ws_free(cws);
+  stack_chain_free(ch);
   if (rc) {
     stack_gathers_free(G);
     return rc;
@@ -320,37 +348,6 @@ int stack_condition_plan(condition_plan **out, const condition_chain *c, const n
     return tz_fail(err, TZ_E_JOB, "$.%s", why.msg);
   if (rc)
     *err = why;
-  return rc;
-}
-
-int stack_condition_gathers(stack_gathers *G, const condition_chain *c,
-                            const velocity_table *v, tz_err *err)
-{
-  condition_plan *cp = NULL;
-  condition_workspace *cws = NULL;
-  float *vel = NULL;
-  size_t ns = G->axis.ns;
-  int rc = stack_condition_plan(&cp, c, &G->axis, v, err);
-  if (rc || !cp)
-    return rc;
-  if ((rc = condition_workspace_new(&cws, cp, err)))
-    goto done;
-  /* V_rms is sampled once per CMP, not once per trace (as the stack's cache does). */
-  if (condition_plan_needs_velocity(cp) && !(vel = malloc(ns * sizeof *vel))) {
-    rc = tz_fail(err, TZ_E_NOMEM, "velocity function of %zu samples", ns);
-    goto done;
-  }
-  for (size_t i = 0; i < G->n && !rc; i++) {
-    stack_gather *g = &G->g[i];
-    if (vel && g->ntraces)
-      velocity_sample(v, g->cmp, G->axis.t_first_s, G->axis.dt_s, ns, vel, NULL);
-    for (size_t k = 0; k < g->ntraces && !rc; k++)
-      rc = condition_apply(cp, cws, g->cmp, vel, g->samples + k * ns, err);
-  }
-done:
-  free(vel);
-  condition_workspace_free(cws);
-  condition_plan_free(cp);
   return rc;
 }
 
@@ -456,22 +453,16 @@ int stack_write_nmo_gathers(const stack_plan *p, const stack_gathers *G, const s
   wo.measurement_system = 1;
   wo.text = text;
   float *vel = malloc(ns * sizeof *vel), *eta = NULL, *out = malloc(ns * sizeof *out);
-  float *in = malloc(ns * sizeof *in);     /* a trace's copy, conditioned */
   int use_eta = o->nmo.use_eta && velocity_table_has_eta(o->velocity);
   if (use_eta)
     eta = malloc(ns * sizeof *eta);
   nmo_workspace *ws = NULL;
-  condition_plan *cp = NULL;
-  condition_workspace *cws = NULL;
   segy_writer *w = NULL;
   int rc = TZ_OK;
-  if (!vel || !out || !in || (use_eta && !eta)) {
+  if (!vel || !out || (use_eta && !eta)) {
     rc = tz_fail(err, TZ_E_NOMEM, "gather buffers");
     goto done;
   }
-  if ((rc = stack_condition_plan(&cp, o->conditioning, &G->axis, o->velocity, err)) ||
-      (cp && (rc = condition_workspace_new(&cws, cp, err))))
-    goto done;
   if ((rc = nmo_workspace_new(&ws, ns, err)) || (rc = segy_writer_open(&w, path, &wo, err)))
     goto done;
   int64_t seq = 0;
@@ -481,10 +472,8 @@ int stack_write_nmo_gathers(const stack_plan *p, const stack_gathers *G, const s
       continue;
     velocity_sample(o->velocity, g->cmp, G->axis.t_first_s, G->axis.dt_s, ns, vel, eta);
     for (size_t k = 0; k < g->ntraces && !rc; k++) {
-      memcpy(in, g->samples + k * ns, ns * sizeof *in);
-      if (cp && (rc = condition_apply(cp, cws, g->cmp, vel, in, err)))
-        break;
-      rc = nmo_apply(ws, &o->nmo, o->mute.n ? &o->mute : NULL, &G->axis, g->offset_m[k], in,
+      rc = nmo_apply(ws, &o->nmo, o->mute.n ? &o->mute : NULL, &G->axis, g->offset_m[k],
+                     g->samples + k * ns,
                      vel, use_eta ? eta : NULL, out, NULL, NULL, err);
       if (rc)
         break;
@@ -508,11 +497,8 @@ int stack_write_nmo_gathers(const stack_plan *p, const stack_gathers *G, const s
 done:
   segy_writer_abort(w);
   nmo_workspace_free(ws);
-  condition_workspace_free(cws);
-  condition_plan_free(cp);
   free(vel);
   free(eta);
   free(out);
-  free(in);
   return rc;
 }

@@ -8,6 +8,18 @@
 #include "tzero/stack.h"
 #include "tzero/survey.h"
 
+/* A shot file's field records: runs of consecutive traces with the same field
+ * record number (bytes 9-12), at most STACK_MAX_RECORD_TRACES each (a longer run
+ * is cut into pieces of that size). start[k] is the first trace of record k;
+ * record k ends where record k + 1 starts (the last at the file's end). n = 0
+ * for a file skipped whole (bad, or another sample axis). */
+typedef struct stack_records {
+  int64_t *start;
+  size_t n;
+} stack_records;
+
+#define STACK_MAX_RECORD_TRACES 100000
+
 struct stack_plan {
   const job_spec *job;            /* borrowed */
   segy_header_map map;
@@ -32,6 +44,8 @@ struct stack_plan {
 
   size_t ninputs;
   stack_input *inputs;            /* owned */
+  stack_records *records;         /* ninputs, owned: field records of each input */
+  int64_t max_record;             /* most traces in one record */
   int64_t traces, stackable;
   int64_t skipped[STACK_SKIP__COUNT];
 };
@@ -48,5 +62,55 @@ int stack_kind_reason(int kind);
  * (FFTW planner). *out owns the plan: condition_plan_free(). */
 int stack_condition_plan(condition_plan **out, const condition_chain *c, const nmo_axis *ax,
                          const velocity_table *v, tz_err *err);
+
+/* As stack_plan_classify, but without the CMP-range test (a trace outside the
+ * range is still part of its record for record-wide steps: a part run and a
+ * full run must condition the same record the same way), and with the trace's
+ * geometry in *g (may be NULL). */
+int stack_locate(const stack_plan *p, const segy_trace_header *h, int64_t trace, int32_t *cmp,
+                 double *offset_abs_m, double *offset_signed_m, geometry_trace *g, int *reason);
+/* 1 when cmp lies in the plan's CMP range (always, without a range). */
+int stack_plan_in_range(const stack_plan *p, int32_t cmp);
+/* Record k of input i: traces [*a, *a + *n). */
+void stack_record_span(const stack_plan *p, size_t i, size_t k, int64_t *a, int64_t *n);
+
+/* ---- the pre-NMO chain, record by record (stack_chain.c) ----
+ *
+ * For each record, in input order: edits (kill, reverse), statics (sub-sample
+ * time shift), conditioning (condition_apply_record). The same code serves the
+ * stack, nmo, semblance and cvs, so what a gather shows is what the stack sums. */
+
+/* What the chain knows about one trace of a record (filled by the reader). */
+typedef struct stack_tinfo {
+  int read;                  /* samples were read */
+  int stackable;             /* data with geometry, on the line, within offset limits */
+  int32_t cmp;               /* when stackable */
+  double off_abs, off_signed;
+  geometry_trace g;          /* when stackable */
+  int killed;                /* set by the chain: an edit removed the trace */
+  double static_ms;          /* set by the chain: total static applied */
+} stack_tinfo;
+
+typedef struct stack_chain stack_chain;
+typedef struct stack_chain_ws stack_chain_ws;
+
+/* Builds the chain of the plan's job with conditioning chain `c` (NULL = none)
+ * and velocity table v (for a table-based spherical gain; may be NULL when the
+ * chain needs none). Single-threaded (FFTW planner). *out owns the chain. */
+int stack_chain_new(stack_chain **out, const stack_plan *p, const condition_chain *c,
+                    const velocity_table *v, tz_err *err);
+void stack_chain_free(stack_chain *ch);
+/* 1 when a run must read every stackable trace of a record it uses (record-wide
+ * steps: automatic kills, record-wide conditioning). */
+int stack_chain_whole_records(const stack_chain *ch);
+/* Per-thread scratch for records of up to max_traces traces. */
+int stack_chain_ws_new(stack_chain_ws **out, const stack_chain *ch, size_t max_traces,
+                       tz_err *err);
+void stack_chain_ws_free(stack_chain_ws *ws);
+/* Runs the chain on one record: traces [a, a + n) of input `file`, samples
+ * n x ns trace-major, ti[k] for trace a + k. Only traces with read && stackable
+ * are processed; errors name the file and trace. */
+int stack_chain_record(const stack_chain *ch, stack_chain_ws *ws, size_t file, int64_t a,
+                       size_t n, float *samples, stack_tinfo *ti, tz_err *err);
 
 #endif

@@ -133,7 +133,7 @@ int stack_plan_nmo(const stack_plan *p, nmo_params *np, nmo_top_mute *mute, tz_e
  * with the geometry module's message in *gerr instead of being a skip. */
 static int classify(const stack_plan *p, const segy_trace_header *h, int64_t trace,
                     int32_t *cmp, double *offset_abs_m, double *offset_signed_m, int *reason,
-                    tz_err *gerr)
+                    tz_err *gerr, int use_range, geometry_trace *gout)
 {
   int r = stack_kind_reason(h->kind);
   if (r >= 0) {
@@ -164,11 +164,13 @@ static int classify(const stack_plan *p, const segy_trace_header *h, int64_t tra
   /* filled for a trace outside the CMP range too: the header pass measures the
    * whole line's offsets, so that every part of a line uses the same mute
    * statistics classes */
+  if (gout)
+    *gout = g;
   *cmp = loc.cmp;
   *offset_abs_m = g.offset_abs;
   if (offset_signed_m)
     *offset_signed_m = g.offset;
-  if (p->has_range && (loc.cmp < p->first_cmp || loc.cmp > p->last_cmp)) {
+  if (use_range && p->has_range && (loc.cmp < p->first_cmp || loc.cmp > p->last_cmp)) {
     *reason = STACK_SKIP_CMP_RANGE;
     return 0;
   }
@@ -179,7 +181,25 @@ int stack_plan_classify(const stack_plan *p, const segy_trace_header *h, int64_t
                         int32_t *cmp, double *offset_abs_m, double *offset_signed_m,
                         int *reason)
 {
-  return classify(p, h, trace, cmp, offset_abs_m, offset_signed_m, reason, NULL);
+  return classify(p, h, trace, cmp, offset_abs_m, offset_signed_m, reason, NULL, 1, NULL);
+}
+
+int stack_locate(const stack_plan *p, const segy_trace_header *h, int64_t trace, int32_t *cmp,
+                 double *offset_abs_m, double *offset_signed_m, geometry_trace *g, int *reason)
+{
+  return classify(p, h, trace, cmp, offset_abs_m, offset_signed_m, reason, NULL, 0, g);
+}
+
+int stack_plan_in_range(const stack_plan *p, int32_t cmp)
+{
+  return !p->has_range || (cmp >= p->first_cmp && cmp <= p->last_cmp);
+}
+
+void stack_record_span(const stack_plan *p, size_t i, size_t k, int64_t *a, int64_t *n)
+{
+  const stack_records *r = &p->records[i];
+  *a = r->start[k];
+  *n = (k + 1 < r->n ? r->start[k + 1] : p->inputs[i].traces) - *a;
 }
 
 /* ---------------------------------------------------------------- build */
@@ -406,18 +426,33 @@ static void scan_one(file_scan *s)
     }
     s->cap = nc;
   }
+  stack_records *rec = &p->records[i];
+  free(rec->start);
+  rec->n = 0;
+  if (!(rec->start = malloc((size_t)(n ? n : 1) * sizeof *rec->start))) {
+    segy_close(f);
+    s->state = -1;
+    tz_fail(&s->err, TZ_E_NOMEM, "record list of %lld traces", (long long)n);
+    return;
+  }
+  int32_t rec_no = 0;
   for (int64_t t = 0; t < n; t++) {
     segy_trace_header h;
     tz_err e;
     tz_err_init(&e);
     if (segy_header_read(f, t, &h, &e)) {
       s->state = bad_inside(p, i, &e, &s->err);
+      rec->n = 0;
       break;
     }
     int32_t cmp;
     double off;
     int reason;
-    int k = classify(p, &h, t, &cmp, &off, NULL, &reason, &s->err);
+    if (t == 0 || h.field_record != rec_no || t - rec->start[rec->n - 1] >= STACK_MAX_RECORD_TRACES) {
+      rec->start[rec->n++] = t;
+      rec_no = h.field_record;
+    }
+    int k = classify(p, &h, t, &cmp, &off, NULL, &reason, &s->err, 1, NULL);
     if (k < 0) {
       /* no geometry for this trace (not in the layout or table, coordinates in
        * degrees...): an error naming the file and trace, as docs/geometry-table.md says */
@@ -446,6 +481,9 @@ static void scan_one(file_scan *s)
     s->off[s->n++] = off;
   }
   segy_close(f);
+  int64_t *shrunk = rec->n ? realloc(rec->start, rec->n * sizeof *rec->start) : NULL;
+  if (shrunk)
+    rec->start = shrunk;
 }
 
 static void *scan_thread(void *arg)
@@ -545,6 +583,9 @@ void stack_plan_free(stack_plan *p)
   free(p->cmps);
   for (size_t i = 0; p->inputs && i < p->ninputs; i++)
     free((char *)p->inputs[i].error);
+  for (size_t i = 0; p->records && i < p->ninputs; i++)
+    free(p->records[i].start);
+  free(p->records);
   free(p->inputs);
   free(p);
 }
@@ -563,7 +604,8 @@ int stack_plan_build(stack_plan **out, const job_spec *job, stack_progress_fn pr
     goto fail;
   }
   p->ninputs = job->nshots;
-  if (!(p->inputs = calloc(p->ninputs, sizeof *p->inputs))) {
+  if (!(p->inputs = calloc(p->ninputs, sizeof *p->inputs)) ||
+      !(p->records = calloc(p->ninputs, sizeof *p->records))) {
     rc = tz_fail(err, TZ_E_NOMEM, "stack inputs");
     goto fail;
   }
@@ -598,6 +640,14 @@ int stack_plan_build(stack_plan **out, const job_spec *job, stack_progress_fn pr
     if (p->inputs[i].bad) {
       p->traces += p->inputs[i].traces;
       p->skipped[STACK_SKIP_BAD_FILE] += p->inputs[i].traces;
+      p->records[i].n = 0;
+    } else {
+      for (size_t k = 0; k < p->records[i].n; k++) {
+        int64_t a, n;
+        stack_record_span(p, i, k, &a, &n);
+        if (n > p->max_record)
+          p->max_record = n;
+      }
     }
   if (!p->have_axis) {
     rc = tz_fail(err, TZ_E_NOINPUT, "none of the %zu shot files could be read", p->ninputs);

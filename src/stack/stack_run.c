@@ -1,18 +1,20 @@
 /* stack_run.c -- the data pass: NMO, mutes and live-weighted sums, one CMP per thread.
  *
- * The traces are read in input order, file by file, in batches of up to
- * BATCH_TRACES. Each batch goes through two phases:
+ * The traces are read in input order, file by file, in batches of whole field
+ * records (up to BATCH_TRACES, or one record when it is longer). Each batch
+ * goes through three phases:
  *   A. reading: thread t reads its contiguous slice of the batch (each thread
  *      keeps its own segy_file handle, so reading and sample conversion run in
- *      parallel) and classifies each trace with stack_plan_classify();
- *   B. stacking: thread t takes, in batch order, the traces of the CMPs it
- *      owns in this batch: conditioning in place (condition_apply, when the job
- *      has steps: one plan shared, a workspace per thread), NMO (nmo_apply)
- *      with the CMP's velocity function, then sum[i] += out[i],
- *      weight[i] += w[i] over the live span.
- * The two phases are pipelined over two batch buffers: in one step every
- * thread reads its slice of batch k+1 and stacks its CMPs of batch k, then all
- * meet at one barrier (a short spin before sleeping: a futex wake-up costs
+ *      parallel) and locates each trace (stack_locate());
+ *   B. the pre-NMO chain: record r of the batch goes to thread r mod T, which
+ *      runs edits, statics and conditioning on the whole record in place
+ *      (stack_chain_record(): one chain shared, a workspace per thread);
+ *   C. stacking: thread t takes, in batch order, the traces of the CMPs it
+ *      owns in this batch: NMO (nmo_apply) with the CMP's velocity function,
+ *      then sum[i] += out[i], weight[i] += w[i] over the live span.
+ * The phases are pipelined over three batch buffers: in one step every
+ * thread reads its slice of batch k+2, runs the chain on its records of batch
+ * k+1 and stacks its CMPs of batch k, then all meet at one barrier (a short spin before sleeping: a futex wake-up costs
  * hundreds of microseconds on a virtual machine, as long as a phase).
  * Ownership is decided per batch from the batch's own CMPs: their traces are
  * split into T contiguous CMP ranges of about equal trace counts, so a shot
@@ -34,7 +36,7 @@
  * (each its share), on transparent huge pages where the system offers them:
  * otherwise the thread owning the leading CMPs of a roll-along line takes
  * nearly all the page faults, one per 4 KB. Memory: sum and weight
- * (2 x section), the cache (at most the section, capped at CACHE_BYTES), two
+ * (2 x section), the cache (at most the section, capped at CACHE_BYTES), three
  * batches of input traces.
  *
  * Stack trace (REFERENCE.md §3.10): s(t0) = sum_i w_i f_i(t0) / sum_i w_i, where
@@ -108,12 +110,15 @@ static int barrier_wait(run_barrier *b, int failed)
   return atomic_load(&b->stop);
 }
 
-/* One batch: traces [a, a + n) of input file `file`, decoded into `in`. */
+/* One batch: traces [a, a + n) of input file `file` (whole records
+ * rec0 .. rec0 + nrec - 1 of it), decoded into `in`. */
 typedef struct batch {
   size_t file;
   int64_t a, n;
-  float *in;                 /* BATCH_TRACES * ns */
-  int32_t *bidx;             /* CMP index or -1 */
+  size_t rec0, nrec;
+  float *in;                 /* cap * ns */
+  stack_tinfo *ti;           /* cap: what the reader found, then the chain */
+  int32_t *bidx;             /* CMP index or -1 (set after the chain) */
   double *boff;
 } batch;
 
@@ -125,7 +130,7 @@ typedef struct worker {
   pthread_t th;
   int started;
   nmo_workspace *ws;
-  condition_workspace *cws;  /* NULL without conditioning */
+  stack_chain_ws *cws;       /* the pre-NMO chain's scratch */
   float *out, *w;
   segy_file *f;
   size_t fcur;
@@ -133,6 +138,7 @@ typedef struct worker {
   int failed;
   int64_t skipped[STACK_SKIP__COUNT];
   int64_t read, stacked;
+  int64_t killed;            /* stackable traces in the run range removed by edits */
   int64_t bad_samples;       /* NaN/Inf/out-of-range samples the reader replaced by 0 */
   int64_t muted_stretch, muted_top, muted_end, samples;
   stack_mute_class cls[STACK_MUTE_CLASSES];
@@ -162,8 +168,10 @@ struct run_shared {
   int32_t *tag;
   float *cvel, *ceta;
   int use_eta;
-  condition_plan *cond;      /* NULL without conditioning; made before the threads start */
-  batch bt[2];               /* batch k in bt[k % 2] */
+  stack_chain *chain;        /* edits, statics, conditioning; made before the threads start */
+  int whole;                 /* the chain needs every stackable trace of a record */
+  size_t cap;                /* traces one batch buffer holds */
+  batch bt[3];               /* read, chain and stack stages */
   size_t nclasses;
   double class_m;
   worker *wk;
@@ -203,7 +211,9 @@ static int read_slice(worker *w, const batch *b, int64_t lo, int64_t hi)
     float *buf = b->in + j * sh->ns;
     segy_trace_header h;
     int rc;
+    stack_tinfo *ti = &b->ti[j];
     b->bidx[j] = -1;
+    ti->read = ti->stackable = 0;
     w->read++;
     int64_t bad0 = segy_bad_samples(w->f);   /* counted for the stacked traces only */
     if (!axis_ok) {
@@ -216,22 +226,51 @@ static int read_slice(worker *w, const batch *b, int64_t lo, int64_t hi)
     } else if ((rc = segy_trace_read(w->f, t, &h, buf, sh->ns, &w->err))) {
       return tz_err_path(&w->err, p->inputs[b->file].path);
     }
-    int32_t cmp;
-    double off;
     int reason;
-    if (!stack_plan_classify(p, &h, t, &cmp, &off, NULL, &reason)) {
+    if (!stack_locate(p, &h, t, &ti->cmp, &ti->off_abs, &ti->off_signed, &ti->g, &reason)) {
       w->skipped[reason]++;
       continue;
     }
-    if (cmp < sh->first || (int64_t)cmp >= sh->first + (int64_t)sh->ncmps) {
+    ti->stackable = 1;
+    int in_run = ti->cmp >= sh->first && (int64_t)ti->cmp < sh->first + (int64_t)sh->ncmps;
+    if (!in_run)
       w->skipped[STACK_SKIP_CMP_RANGE]++;
-      continue;
-    }
-    if (sh->subset && (rc = segy_trace_read(w->f, t, &h, buf, sh->ns, &w->err)))
+    if (sh->subset && (in_run || sh->whole) &&
+        (rc = segy_trace_read(w->f, t, &h, buf, sh->ns, &w->err)))
       return tz_err_path(&w->err, p->inputs[b->file].path);
-    b->bidx[j] = cmp - sh->first;
-    b->boff[j] = off;
-    w->bad_samples += segy_bad_samples(w->f) - bad0;
+    ti->read = !sh->subset || in_run || sh->whole;
+    if (in_run)
+      w->bad_samples += segy_bad_samples(w->f) - bad0;
+  }
+  return TZ_OK;
+}
+
+/* The chain on this thread's records of batch b (record r goes to thread
+ * r mod T), then the stacking index of each trace. */
+static int chain_share(worker *w, batch *b)
+{
+  run_shared *sh = w->sh;
+  const stack_plan *p = sh->p;
+  for (size_t r = (size_t)w->id; r < b->nrec; r += (size_t)sh->T) {
+    int64_t a, n;
+    stack_record_span(p, b->file, b->rec0 + r, &a, &n);
+    size_t j0 = (size_t)(a - b->a);
+    int rc = stack_chain_record(sh->chain, w->cws, b->file, a, (size_t)n, b->in + j0 * sh->ns,
+                                b->ti + j0, &w->err);
+    if (rc)
+      return rc;
+    for (size_t j = j0; j < j0 + (size_t)n; j++) {
+      const stack_tinfo *ti = &b->ti[j];
+      if (!ti->read || !ti->stackable || ti->cmp < sh->first ||
+          (int64_t)ti->cmp >= sh->first + (int64_t)sh->ncmps)
+        continue;
+      if (ti->killed) {
+        w->killed++;
+        continue;
+      }
+      b->bidx[j] = ti->cmp - sh->first;
+      b->boff[j] = ti->off_abs;
+    }
   }
   return TZ_OK;
 }
@@ -345,12 +384,8 @@ static int stack_slice(worker *w, const batch *b)
     const float *vel, *eta;
     velocity_of(sh, ci, &vel, &eta);
     nmo_trace_info info;
-    float *in = b->in + j * sh->ns;    /* this thread's trace: conditioned in place */
-    int rc = sh->cond ? condition_apply(sh->cond, w->cws, (int64_t)sh->first + ci, vel, in,
-                                        &w->err)
-                      : TZ_OK;
-    if (!rc)
-      rc = nmo_apply(w->ws, &sh->o->nmo, mute, ax, b->boff[j], in, vel, eta, w->out, w->w,
+    const float *in = b->in + j * sh->ns;    /* after the chain (chain_share) */
+    int rc = nmo_apply(w->ws, &sh->o->nmo, mute, ax, b->boff[j], in, vel, eta, w->out, w->w,
                      &info, &w->err);
     if (rc) {
       tz_err_path(&w->err, sh->p->inputs[b->file].path);
@@ -413,9 +448,33 @@ static int next_batch(const stack_plan *p, batch *b, size_t fi, int64_t a)
     if (p->inputs[fi].bad || a >= p->inputs[fi].traces)
       continue;
     int64_t ntr = p->inputs[fi].traces;
+    const stack_records *rec = &p->records[fi];
     b->file = fi;
     b->a = a;
-    b->n = ntr - a < BATCH_TRACES ? ntr - a : BATCH_TRACES;
+    b->nrec = 0;
+    if (!rec->n) {             /* skipped whole (sample axis): plain chunks */
+      b->n = ntr - a < BATCH_TRACES ? ntr - a : BATCH_TRACES;
+      return 1;
+    }
+    /* whole records from the one starting at a, up to BATCH_TRACES (at least one) */
+    size_t lo = 0, hi = rec->n;
+    while (lo + 1 < hi) {
+      size_t mid = (lo + hi) / 2;
+      if (rec->start[mid] <= a)
+        lo = mid;
+      else
+        hi = mid;
+    }
+    b->rec0 = lo;
+    b->n = 0;
+    for (size_t k = lo; k < rec->n; k++) {
+      int64_t ra, rn;
+      stack_record_span(p, fi, k, &ra, &rn);
+      if (b->nrec && b->n + rn > BATCH_TRACES)
+        break;
+      b->n += rn;
+      b->nrec++;
+    }
     return 1;
   }
   b->n = 0;
@@ -450,25 +509,30 @@ static void *work(void *arg)
   prefault_share(sh->wsum, fn, w->id, sh->T);
   prefault_share(sh->cvel, cn, w->id, sh->T);
   prefault_share(sh->ceta, cn, w->id, sh->T);
-  batch cur = sh->bt[0], nxt = sh->bt[1];
-  int have = next_batch(p, &cur, 0, 0);
-  if (have)
-    read_share(w, &cur);
-  int stop = barrier_wait(&sh->bar, w->failed);   /* batch 0 read */
-  while (have && !stop) {
-    int more = next_batch(p, &nxt, cur.file, cur.a + cur.n);
-    if (more)
-      read_share(w, &nxt);
-    if (stack_slice(w, &cur))
+  /* Step k reads batch k, runs the chain on the records of batch k - 1 and
+   * stacks batch k - 2, each stage in its own buffer; one barrier per step. */
+  batch rd = sh->bt[0], ch = sh->bt[1], st = sh->bt[2];
+  int have_rd = next_batch(p, &rd, 0, 0), have_ch = 0, have_st = 0, stop = 0;
+  while ((have_rd || have_ch || have_st) && !stop) {
+    if (have_rd)
+      read_share(w, &rd);
+    if (have_ch && chain_share(w, &ch))
       w->failed = 1;
-    stop = barrier_wait(&sh->bar, w->failed);     /* batch k stacked, k + 1 read */
-    done += cur.n;
-    if (w->id == 0 && sh->o->progress && !stop)
-      sh->o->progress(sh->o->progress_ctx, done, p->traces);
-    batch t = cur;                        /* swap buffers */
-    cur = nxt;
-    nxt = t;
-    have = more;
+    if (have_st && stack_slice(w, &st))
+      w->failed = 1;
+    stop = barrier_wait(&sh->bar, w->failed);
+    if (have_st) {
+      done += st.n;
+      if (w->id == 0 && sh->o->progress && !stop)
+        sh->o->progress(sh->o->progress_ctx, done, p->traces);
+    }
+    batch t = st;                         /* rotate the buffers */
+    st = ch;
+    have_st = have_ch;
+    ch = rd;
+    have_ch = have_rd;
+    rd = t;
+    have_rd = have_ch ? next_batch(p, &rd, ch.file, ch.a + ch.n) : 0;
   }
   segy_close(w->f);
   w->f = NULL;
@@ -511,8 +575,9 @@ static void free_shared(run_shared *sh)
   free(sh->tag);
   free(sh->cvel);
   free(sh->ceta);
-  for (int k = 0; k < 2; k++) {
+  for (int k = 0; k < 3; k++) {
     free(sh->bt[k].in);
+    free(sh->bt[k].ti);
     free(sh->bt[k].bidx);
     free(sh->bt[k].boff);
   }
@@ -520,12 +585,12 @@ static void free_shared(run_shared *sh)
     for (int t = 0; t < sh->T; t++) {
       free(sh->wk[t].hist);
       nmo_workspace_free(sh->wk[t].ws);
-      condition_workspace_free(sh->wk[t].cws);
+      stack_chain_ws_free(sh->wk[t].cws);
       free(sh->wk[t].out);
       free(sh->wk[t].w);
     }
   free(sh->wk);
-  condition_plan_free(sh->cond);
+  stack_chain_free(sh->chain);
 }
 
 int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out, tz_err *err)
@@ -572,12 +637,14 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
   sh.cvel = big_alloc(sh.cache_n * sh.ns * sizeof *sh.cvel);
   sh.ceta = sh.use_eta ? big_alloc(sh.cache_n * sh.ns * sizeof *sh.ceta) : NULL;
   int bt_ok = 1;
-  for (int k = 0; k < 2; k++) {
+  sh.cap = p->max_record > BATCH_TRACES ? (size_t)p->max_record : BATCH_TRACES;
+  for (int k = 0; k < 3; k++) {
     batch *b = &sh.bt[k];
-    b->in = malloc((size_t)BATCH_TRACES * sh.ns * sizeof *b->in);
-    b->bidx = malloc(BATCH_TRACES * sizeof *b->bidx);
-    b->boff = malloc(BATCH_TRACES * sizeof *b->boff);
-    bt_ok = bt_ok && b->in && b->bidx && b->boff;
+    b->in = malloc(sh.cap * sh.ns * sizeof *b->in);
+    b->ti = malloc(sh.cap * sizeof *b->ti);
+    b->bidx = malloc(sh.cap * sizeof *b->bidx);
+    b->boff = malloc(sh.cap * sizeof *b->boff);
+    bt_ok = bt_ok && b->in && b->ti && b->bidx && b->boff;
   }
   sh.wk = calloc((size_t)sh.T, sizeof *sh.wk);
   if (!sh.sum || !sh.wsum || !sh.fold || !sh.live || !sh.maxfirst || !sh.tag || !sh.cvel ||
@@ -587,7 +654,9 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
   }
   for (size_t c = 0; c < sh.cache_n; c++)
     sh.tag[c] = -1;
-  int rc = stack_condition_plan(&sh.cond, o->conditioning, &p->axis, o->velocity, err);
+  int rc = stack_chain_new(&sh.chain, p, o->conditioning, o->velocity, err);
+  if (!rc)
+    sh.whole = stack_chain_whole_records(sh.chain);
   for (int t = 0; t < sh.T && !rc; t++) {
     worker *w = &sh.wk[t];
     w->id = t;
@@ -600,8 +669,8 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
       rc = tz_fail(err, TZ_E_NOMEM, "trace buffers");
     else
       rc = nmo_workspace_new(&w->ws, sh.ns, err);
-    if (!rc && sh.cond)
-      rc = condition_workspace_new(&w->cws, sh.cond, err);
+    if (!rc)
+      rc = stack_chain_ws_new(&w->cws, sh.chain, sh.cap, err);
   }
   if (rc) {
     free_shared(&sh);

@@ -420,6 +420,51 @@ START_TEST(test_chain_rules)
 }
 END_TEST
 
+/* The record-level call: every live trace conditioned exactly as one
+ * condition_apply() call would (consistency check), dead traces untouched, and an
+ * error names the trace's index within the record. */
+START_TEST(test_apply_record)
+{
+  velocity_table *vt = linear_table();
+  condition_chain c;
+  condition_chain_init(&c);
+  tz_err e;
+  tz_err_init(&e);
+  const double f[4] = { 4, 8, 60, 90 };
+  ck_assert_int_eq(condition_chain_add_spherical(&c, 1.0, 0, &e), TZ_OK);
+  ck_assert_int_eq(condition_chain_add_bandpass(&c, f, &e), TZ_OK);
+  ck_assert_int_eq(condition_chain_add_agc(&c, 0.3, CONDITION_AGC_RMS, &e), TZ_OK);
+  condition_plan *p = plan_of(&c, 0, 0.002, 500, vt);
+  ck_assert_int_eq(condition_plan_record_wide(p), 0);
+  condition_workspace *ws = ws_of(p);
+  enum { NT = 6, NS = 500 };
+  static float rec[NT * NS], ref[NT * NS];
+  condition_trace_info info[NT];
+  unsigned s = 777;
+  for (size_t i = 0; i < NT * NS; i++) {
+    s = s * 1103515245u + 12345u;
+    rec[i] = ref[i] = (float)((double)(s >> 8) / (1 << 24) - 0.5);
+  }
+  for (size_t k = 0; k < NT; k++) {
+    info[k].cmp = 10 + (int64_t)k;
+    info[k].vel_mps = NULL;
+    info[k].offset_m = 25.0 * (double)k - 50;
+    info[k].live = k != 2;
+    if (info[k].live)
+      apply_ok(p, ws, info[k].cmp, NULL, ref + k * NS);
+  }
+  ck_assert_int_eq(condition_apply_record(p, ws, rec, NT, info, &e), TZ_OK);
+  ck_assert(memcmp(rec, ref, sizeof rec) == 0);
+  rec[4 * NS + 7] = NAN;
+  tz_err_init(&e);
+  ck_assert_int_eq(condition_apply_record(p, ws, rec, NT, info, &e), TZ_E_FORMAT);
+  ck_assert_int_eq(e.trace, 4);
+  condition_workspace_free(ws);
+  condition_plan_free(p);
+  velocity_table_free(vt);
+}
+END_TEST
+
 /* Threads: one plan, a workspace per thread; the same traces come out bitwise the same
  * as a serial run (DESIGN.md: identical output for any thread count). */
 #define TNS 1500
@@ -497,6 +542,7 @@ static Suite *condition_suite(void)
   tcase_add_test(tc, test_agc);
   tcase_add_test(tc, test_chain_rules);
   tcase_add_test(tc, test_threads_bitwise);
+  tcase_add_test(tc, test_apply_record);
   suite_add_tcase(s, tc);
   return s;
 }

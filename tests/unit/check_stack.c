@@ -300,7 +300,7 @@ START_TEST(test_collect)
   ck_assert_int_eq(stack_plan_build(&p, j, NULL, NULL, &e), TZ_OK);
   int32_t want[] = { 12, 9, 12, 500 };
   stack_gathers *g = NULL;
-  ck_assert_msg(stack_collect(p, want, 4, &g, &e) == TZ_OK, "%s", e.msg);
+  ck_assert_msg(stack_collect(p, want, 4, NULL, NULL, &g, &e) == TZ_OK, "%s", e.msg);
   ck_assert_uint_eq(g->n, 3);                     /* sorted, duplicates removed */
   ck_assert_int_eq(g->g[0].cmp, 9);
   ck_assert_int_eq(g->g[1].cmp, 12);
