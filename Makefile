@@ -54,15 +54,19 @@ PREFIX_LIST = \
   condition \
   digest \
   fileio \
+  firstbreak \
   fit \
   flow \
   geometry \
   job \
   layout \
+  lsq \
   merge \
   nmo \
   picture \
   qc \
+  refraction \
+  residual \
   segy \
   semblance \
   stack \

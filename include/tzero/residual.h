@@ -1,0 +1,100 @@
+/* residual.h -- surface-consistent residual statics from NMO-corrected traces.
+ *
+ * Each iteration: shift every trace by its current source + receiver static
+ * (8-point Kaiser-windowed sinc), stack each CMP (the pilot: the CMP, or the
+ * CMPs within pilot_half_width of it, without the trace itself), cross-
+ * correlate trace and pilot in the window within +-max_shift_ms (parabolic
+ * interpolation of the peak), and decompose the picked lags as
+ *   lag = source term + receiver term + CMP structure term
+ * by Gauss-Seidel iterations of least squares (Taner, Koehler and Alhilali 1974,
+ * Geophysics 39(4) 441-463; Wiggins, Larner and Wisecup 1976, Geophysics 41(5)
+ * 922-938). The mean of the source and of the receiver terms (and, optionally,
+ * their linear trend along the line) is removed, since the data cannot tell it
+ * from structure, and each update is limited to max_shift_ms. Stack power (sum
+ * of squared CMP-stack samples in the window) is measured before and after
+ * every iteration.
+ *
+ * Sign: a static is the time added to the trace's time axis (negative moves
+ * data earlier); a trace whose event arrives tau late gets -tau.
+ *
+ * The whole computation is serial and in a fixed order: same input, same bits.
+ */
+#ifndef TZERO_RESIDUAL_H
+#define TZERO_RESIDUAL_H
+
+#include <stddef.h>
+#include <stdint.h>
+#include "tzero/error.h"
+
+#define RESIDUAL_MAX_TRACES 100000000u
+#define RESIDUAL_MAX_TERMS 10000000u        /* sources, receivers or CMPs */
+#define RESIDUAL_MAX_ITERATIONS 100
+
+/* The traces, NMO-corrected with the statics already applied, each stored
+ * over `nsamp` samples of which the correlation window is [first, first+nwin);
+ * the samples around the window are margin for shifting and lags (at least
+ * max_shift_ms x (iterations + 1) / dt + 4 on each side is needed). */
+typedef struct residual_input {
+  size_t ntraces;
+  size_t nsources, nreceivers, ncmps;
+  const uint32_t *source, *receiver, *cmp;   /* per trace, 0-based terms; cmp in order
+                                              * along the line */
+  const float *samples;                       /* ntraces * nsamp */
+  size_t nsamp, first, nwin;
+  double dt_ms;
+  const double *source_along_m, *receiver_along_m;  /* for the trend (may be NULL
+                                                     * when remove_trend is 0) */
+} residual_input;
+
+typedef struct residual_params {
+  double max_shift_ms;       /* largest lag picked and largest update (default 10) */
+  int iterations;            /* pick-and-decompose rounds (default 3) */
+  int sweeps;                /* Gauss-Seidel sweeps per decomposition (default 30) */
+  int pilot_half_width;      /* CMPs on each side in the pilot (default 2) */
+  double min_correlation;    /* picks of lower normalised correlation are left out
+                              * (default 0.3) */
+  int remove_trend;          /* 1 = remove the linear trend of the source and of the
+                              * receiver terms along the line (default 1) */
+} residual_params;
+
+void residual_params_init(residual_params *p);
+
+typedef struct residual_iteration {
+  double power_before, power_after;   /* stack power in the window */
+  size_t picks;                        /* traces whose lag was used */
+  double pick_rms_ms;                  /* RMS of the lags picked */
+  double fit_rms_ms;                   /* RMS misfit of the decomposition */
+  double update_rms_ms;                /* RMS change of the trace statics */
+} residual_iteration;
+
+typedef struct residual_result {
+  size_t nsources, nreceivers, ncmps;
+  double *source_ms, *receiver_ms;     /* owned: statics found (sum over iterations) */
+  double *cmp_ms;                      /* structure term of the last decomposition */
+  int iterations;
+  residual_iteration it[RESIDUAL_MAX_ITERATIONS];
+} residual_result;
+
+/* Progress callback between iterations (may be NULL). */
+typedef void (*residual_progress_fn)(void *ctx, int iteration, const residual_iteration *it);
+
+/* On success r owns its arrays: residual_result_free(). */
+int residual_solve(const residual_params *p, const residual_input *in, residual_result *r,
+                   residual_progress_fn progress, void *ctx, tz_err *err);
+void residual_result_free(residual_result *r);
+
+/* Margin samples needed on each side of the window for these parameters. */
+size_t residual_margin(const residual_params *p, double dt_ms);
+
+/* Gauss-Seidel decomposition alone: lags[i] (weights w[i] >= 0, 0 = unused) into
+ * source, receiver and CMP terms (arrays zeroed first), `sweeps` sweeps.
+ * Returns the RMS misfit. Exposed for tests. */
+double residual_decompose(const residual_input *in, const double *lags, const double *w,
+                          int sweeps, double *src, double *rec, double *cmp);
+
+/* Shifts x (n samples) by shift_samples (out(t) = x(t - shift)) with the
+ * 8-point Kaiser-windowed sinc (beta 5, unit DC gain); samples that need input
+ * beyond the trace are 0. */
+void residual_shift(const float *x, size_t n, double shift_samples, float *out);
+
+#endif
