@@ -60,6 +60,7 @@ PREFIX_LIST = \
   geometry \
   job \
   layout \
+  limits \
   lsq \
   merge \
   nmo \

@@ -19,6 +19,7 @@
 #include <stdint.h>
 #include "tzero/condition.h"
 #include "tzero/error.h"
+#include "tzero/limits.h"
 
 #define JOB_MAX_BYTES (16u << 20)    /* a job file larger than this is refused */
 #define JOB_MAX_SHOTS 1000000u       /* expanded shot files */
@@ -90,6 +91,11 @@ typedef struct job_spec {
    * here; Nyquist and the AGC window against the sample interval when the stack
    * makes its plan. */
   condition_chain conditioning;
+
+  /* "limits": QC limits (docs/qc-report.md), inline or from a file; recorded in
+   * the QC report and applied by `tzero stack --check`. limits.given = 0: none. */
+  limits_set limits;
+  char *limits_file;          /* the limits file when "limits" named one, else NULL */
 
   int threads;                /* 0 = the machine's online cores */
   int skip_bad_files;         /* 0 = a missing or corrupt shot file stops the run */

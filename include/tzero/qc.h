@@ -44,6 +44,11 @@ int qc_report_parse(qc_report **out, const char *text, size_t len, const char *n
                     tz_err *err);
 int qc_report_load(qc_report **out, const char *path, tz_err *err);
 void qc_report_free(qc_report *r);          /* NULL is a no-op */
+/* The report's line name ("" when unnamed); borrowed from r. */
+const char *qc_report_line(const qc_report *r);
+/* 1 when text (len bytes) is a JSON object with a "format" key, as reports
+ * are and limits files are not. */
+int qc_text_is_report(const char *text, size_t len);
 
 /* The human summary (several lines, '\n'-terminated). *text owns a string. */
 int qc_report_summary(const qc_report *r, char **text, tz_err *err);

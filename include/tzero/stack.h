@@ -81,6 +81,7 @@ typedef struct stack_line_info {
   int from_layout;                 /* 1 = from the layout (tzero synth numbering) */
   double fit_rms_off_line_m;       /* when fitted */
   double max_off_line_m;           /* 0 = no limit */
+  double largest_off_line_m;       /* largest distance of a trace's midpoint from the line */
 } stack_line_info;
 
 /* Builds the plan from a resolved job: opens the geometry source (headers, layout
@@ -108,6 +109,8 @@ typedef struct stack_cmp_plan {
   double x_m, y_m;           /* bin centre */
   int64_t fold;              /* traces that will be stacked */
   double offset_min_m, offset_max_m;   /* |offset| range; 0 when fold is 0 */
+  int64_t acquired_fold;     /* traces the acquisition put here with every channel live:
+                              * from the layout, else the seismic and dead traces recorded */
 } stack_cmp_plan;
 void stack_plan_cmp(const stack_plan *p, int32_t cmp, stack_cmp_plan *out);
 /* Nominal fold N dg / (2 ds) of the acquisition (survey.h): from the layout, else
@@ -116,6 +119,10 @@ void stack_plan_cmp(const stack_plan *p, int32_t cmp, stack_cmp_plan *out);
 double stack_plan_nominal_fold(const stack_plan *p);
 /* Every acquisition figure of the survey inference (the same as `tzero geometry`). */
 survey_figures stack_plan_survey(const stack_plan *p);
+/* The full-fold part of the section: the first and last CMP whose acquisition
+ * fold (stack_cmp_plan.acquired_fold) reaches the whole nominal fold. Returns 0
+ * when no CMP does (a line shorter than its spread). */
+int stack_plan_full_fold(const stack_plan *p, int32_t *first, int32_t *last);
 stack_line_info stack_plan_line(const stack_plan *p);
 size_t stack_plan_ninputs(const stack_plan *p);
 const stack_input *stack_plan_input(const stack_plan *p, size_t i);

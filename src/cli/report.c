@@ -1,5 +1,6 @@
 /* report.c -- `tzero report QC.json`: the summary of a saved QC report, one CMP, or
  * the per-CMP fold table as CSV. All formatting is in the qc module. */
+#include <cjson/cJSON.h>
 #include <getopt.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -8,11 +9,13 @@
 
 #include "cli.h"
 #include "tzero/fileio.h"
+#include "tzero/limits.h"
 #include "tzero/qc.h"
 
 static void help(void)
 {
   printf("usage: tzero report [OPTIONS] QC.json\n"
+         "       tzero report --check [LIMITS.json] QC.json [QC.json...]\n"
          "\n"
          "Prints the summary of a QC report written by `tzero stack` (format\n"
          "tzero-qc/1, docs/qc-report.md): inputs, trace counts and skip reasons,\n"
@@ -25,10 +28,136 @@ static void help(void)
          "  --fold-csv FILE    write the per-CMP table (cmp,x_m,y_m,fold,offset_min_m,\n"
          "                     offset_max_m,live_fraction,full_fold_ms) as CSV;\n"
          "                     '-' writes it to stdout\n"
-         "  --json             print the report itself (re-formatted JSON)\n"
+         "  --check            hold each report to the limits of LIMITS.json (the\n"
+         "                     first file, when it is not a report) or, without it, to\n"
+         "                     the limits recorded in each report (its job's \"limits\");\n"
+         "                     for one report one line per limit (limit, measured\n"
+         "                     value, held or broken, CMP ranges where a per-CMP\n"
+         "                     limit broke), for several one line per report and a\n"
+         "                     count (docs/qc-report.md \"Limits\")\n"
+         "  --json             print the report itself (re-formatted JSON); with\n"
+         "                     --check, the outcomes as JSON\n"
          "  --quiet            print nothing (with --fold-csv: only write the file)\n"
          "  -h, --help         this text\n"
+         "\n"
+         "Exit status: 0 success (with --check: every limit held in every report),\n"
+         "1 a limit broke (an answer, not an error), 64 bad option, 65 bad limits\n"
+         "file or a report of another format or version, 66 unreadable report.\n"
          "\n%s", CLI_CAUTION);
+}
+
+/* The limits to use for report r: the file's, else the report's own. */
+static int check_one(const limits_set *file_limits, const qc_report *r, limits_result **res,
+                     tz_err *e)
+{
+  limits_set own;
+  limits_init(&own);
+  int rc = TZ_OK;
+  if (!file_limits && (rc = limits_from_report(&own, r, e)))
+    return rc;
+  rc = limits_check(file_limits ? file_limits : &own, r, res, e);
+  limits_clear(&own);
+  return rc;
+}
+
+static int print_outcomes(const limits_result *res, int json, tz_err *e)
+{
+  char *t = NULL;
+  int rc = json ? limits_result_json(res, &t, e) : limits_result_text(res, &t, e);
+  if (!rc)
+    fputs(t, stdout);
+  if (!rc && json)
+    fputc('\n', stdout);
+  free(t);
+  return rc;
+}
+
+/* `--check`: exit 0 all held, 1 any broken; errors keep their own status (the
+ * first one wins) after every report has been looked at. */
+static int run_check(int nfiles, char **files, int json, int quiet)
+{
+  tz_err e;
+  tz_err_init(&e);
+  limits_set lim;
+  limits_init(&lim);
+  const limits_set *use = NULL;
+  char *text = NULL;
+  size_t len = 0;
+  /* the first file is the limits file unless it is a report */
+  if (fileio_read_all(files[0], QC_MAX_BYTES, &text, &len, &e) == TZ_OK &&
+      !qc_text_is_report(text, len)) {
+    if (nfiles < 2) {
+      free(text);
+      return cli_usage_error("report", "--check %s: a QC report is required after the limits "
+                             "file", files[0]);
+    }
+    int rc = limits_parse(&lim, text, len, files[0], "$", &e);
+    free(text);
+    if (rc)
+      return cli_report("report", &e);
+    use = &lim;
+    files++;
+    nfiles--;
+  } else {
+    free(text);
+    tz_err_init(&e);
+  }
+  int ex = EX_OK, broken_reports = 0, held_reports = 0, bad_reports = 0;
+  cJSON *all = json && nfiles > 1 ? cJSON_CreateArray() : NULL;
+  for (int i = 0; i < nfiles; i++) {
+    qc_report *r = NULL;
+    limits_result *res = NULL;
+    tz_err_init(&e);
+    int rc = qc_report_load(&r, files[i], &e);
+    if (!rc)
+      rc = check_one(use, r, &res, &e);
+    if (rc) {
+      int x = cli_report("report", &e);
+      if (ex == EX_OK || ex == 1)
+        ex = x;
+      bad_reports++;
+      if (nfiles > 1 && !quiet && !json)
+        printf("%s  %s  not checked (%s)\n", files[i], r ? qc_report_line(r) : "-",
+               tz_strstatus(e.status));
+    } else {
+      if (res->broken)
+        broken_reports++;
+      else
+        held_reports++;
+      if (res->broken && ex == EX_OK)
+        ex = 1;
+      if (quiet) {
+      } else if (nfiles == 1) {
+        if ((rc = print_outcomes(res, json, &e)))
+          ex = cli_report("report", &e);
+      } else if (json) {
+        char *t = NULL;
+        cJSON *o = cJSON_CreateObject();
+        cJSON_AddStringToObject(o, "report", files[i]);
+        cJSON_AddStringToObject(o, "line", qc_report_line(r));
+        cJSON_AddBoolToObject(o, "held", res->broken == 0);
+        if (!limits_result_json(res, &t, &e))
+          cJSON_AddItemToObject(o, "limits", cJSON_Parse(t));
+        free(t);
+        cJSON_AddItemToArray(all, o);
+      } else {
+        char *t = NULL;
+        if (!limits_result_brief(res, &t, &e))
+          printf("%s  %s  %s%s\n", files[i], qc_report_line(r)[0] ? qc_report_line(r) : "-",
+                 res->broken ? "broken: " : "held", res->broken ? t : "");
+        free(t);
+      }
+    }
+    limits_result_free(res);
+    qc_report_free(r);
+  }
+  if (all)
+    cli_print_json(all);
+  else if (nfiles > 1 && !quiet && !json)
+    printf("%d reports: %d held, %d broken%s\n", nfiles, held_reports, broken_reports,
+           bad_reports ? (bad_reports == 1 ? ", 1 not checked" : ", some not checked") : "");
+  limits_clear(&lim);
+  return ex;
 }
 
 int cmd_report(int argc, char **argv)
@@ -37,12 +166,13 @@ int cmd_report(int argc, char **argv)
     { "cmp", required_argument, NULL, 'c' },
     { "fold-csv", required_argument, NULL, 'f' },
     { "json", no_argument, NULL, 'j' },
+    { "check", no_argument, NULL, 'k' },
     { "quiet", no_argument, NULL, 'q' },
     { "help", no_argument, NULL, 'h' },
     { NULL, 0, NULL, 0 },
   };
   long long cmp = 0;
-  int has_cmp = 0, json = 0, quiet = 0, c;
+  int has_cmp = 0, json = 0, quiet = 0, check = 0, c;
   const char *csv = NULL;
   optind = 1;
   opterr = 0;
@@ -55,11 +185,19 @@ int cmd_report(int argc, char **argv)
       break;
     case 'f': csv = optarg; break;
     case 'j': json = 1; break;
+    case 'k': check = 1; break;
     case 'q': quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
       return cli_usage_error("report", "unknown or incomplete option '%s'", argv[optind - 1]);
     }
+  }
+  if (check) {
+    if (optind >= argc)
+      return cli_usage_error("report", "--check: a QC report file is required");
+    if (has_cmp || csv)
+      return cli_usage_error("report", "--check does not combine with --cmp or --fold-csv");
+    return run_check(argc - optind, argv + optind, json, quiet);
   }
   if (optind + 1 != argc)
     return cli_usage_error("report", optind >= argc ? "a QC report file is required"

@@ -699,8 +699,29 @@ static int parse_conditioning(job_spec *j, const cJSON *v, tz_err *err)
   return TZ_OK;
 }
 
+/* "limits": a limits file (relative to the job's folder) or the object inline. */
+static int parse_limits(job_spec *j, const cJSON *v, const char *dir, tz_err *err)
+{
+  int rc;
+  if (cJSON_IsString(v)) {
+    if ((rc = get_path(v, "$.limits", dir, 1, &j->limits_file, err)))
+      return rc;
+    return limits_load(&j->limits, j->limits_file, err);
+  }
+  if (!cJSON_IsObject(v))
+    return tz_fail(err, TZ_E_JOB, "$.limits: expected a limits file name or an object of "
+                   "limits, got %s", kind_name(v));
+  char *text = cJSON_PrintUnformatted(v);
+  if (!text)
+    return tz_fail(err, TZ_E_NOMEM, "job limits");
+  rc = limits_parse(&j->limits, text, strlen(text), NULL, "$.limits", err);
+  free(text);
+  return rc;
+}
+
 static void set_defaults(job_spec *j)
 {
+  limits_init(&j->limits);
   j->geometry = JOB_GEOMETRY_HEADERS;
   j->bins.first_cmp = 1;
   j->stretch_limit_pct = 50;           /* within the 50-100 % of Sheriff's dictionary */
@@ -717,7 +738,8 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
 {
   static const char *const keys[] = { "name", "shots", "geometry", "header_map", "bins",
                                       "velocity", "moveout", "mute", "selection", "output",
-                                      "conditioning", "threads", "skip_bad_files", NULL };
+                                      "conditioning", "limits", "threads", "skip_bad_files",
+                                      NULL };
   int rc;
   if (!cJSON_IsObject(root))
     return tz_fail(err, TZ_E_JOB, "$: expected an object, got %s", kind_name(root));
@@ -757,6 +779,8 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
   if ((e = ITEM(root, "output")) && (rc = parse_output(j, e, dir, err)))
     return rc;
   if ((e = ITEM(root, "conditioning")) && (rc = parse_conditioning(j, e, err)))
+    return rc;
+  if ((e = ITEM(root, "limits")) && (rc = parse_limits(j, e, dir, err)))
     return rc;
   if ((e = ITEM(root, "threads"))) {
     int64_t t;
@@ -872,6 +896,8 @@ void job_free(job_spec *j)
   free(j->mute_top);
   free(j->section);
   free(j->report);
+  free(j->limits_file);
+  limits_clear(&j->limits);
   free(j);
 }
 
@@ -1079,6 +1105,15 @@ int job_to_json(const job_spec *j, char **out, tz_err *err)
     o = cJSON_AddArrayToObject(r, "conditioning");
     for (size_t i = 0; o && i < j->conditioning.n; i++)
       bad |= !cJSON_AddItemToArray(o, condition_step_json(&j->conditioning.step[i]));
+    if (j->limits.given) {
+      char *lt = NULL;
+      tz_err le;
+      tz_err_init(&le);
+      cJSON *lo = limits_to_json(&j->limits, &lt, &le) ? NULL : cJSON_Parse(lt);
+      free(lt);
+      bad |= !lo || !cJSON_AddItemToObject(r, "limits", lo);
+      bad |= add_str(r, "limits_file", j->limits_file);
+    }
     cJSON_AddNumberToObject(r, "threads", j->threads);
     cJSON_AddBoolToObject(r, "skip_bad_files", j->skip_bad_files);
   }

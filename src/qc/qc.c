@@ -20,6 +20,7 @@
 #include <time.h>
 
 #include "tzero/fileio.h"
+#include "qc/qc_int.h"
 
 struct qc_report {
   cJSON *root;
@@ -27,6 +28,7 @@ struct qc_report {
 };
 
 /* ---------------------------------------------------------------- build */
+
 
 static cJSON *num_or_null(double v)
 {
@@ -167,6 +169,7 @@ int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
   if (li.fitted)
     cJSON_AddNumberToObject(ln, "fit_rms_off_line_m", round_to(li.fit_rms_off_line_m, 1e-4));
   cJSON_AddNumberToObject(ln, "max_off_line_m", li.max_off_line_m);
+  cJSON_AddNumberToObject(ln, "largest_off_line_m", round_to(li.largest_off_line_m, 1e-4));
   cJSON_AddNumberToObject(g, "nominal_fold", round_to(stack_plan_nominal_fold(p), 1e-3));
   survey_figures sf = stack_plan_survey(p);
   cJSON_AddNumberToObject(g, "receiver_interval_m", sf.receiver_interval_m);
@@ -208,6 +211,9 @@ int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
     cJSON_AddNumberToObject(o, "x_m", round_to(x->x_m, 1e-3));
     cJSON_AddNumberToObject(o, "y_m", round_to(x->y_m, 1e-3));
     cJSON_AddNumberToObject(o, "fold", x->fold);
+    stack_cmp_plan cp;
+    stack_plan_cmp(p, x->cmp, &cp);
+    cJSON_AddNumberToObject(o, "acquired_fold", (double)cp.acquired_fold);
     cJSON_AddNumberToObject(o, "offset_min_m", round_to(x->offset_min_m, 1e-3));
     cJSON_AddNumberToObject(o, "offset_max_m", round_to(x->offset_max_m, 1e-3));
     cJSON_AddNumberToObject(o, "live_fraction", round_to(x->live_fraction, 1e-6));
@@ -226,6 +232,20 @@ int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
   cJSON_AddNumberToObject(fo, "max", (double)fmax);
   cJSON_AddNumberToObject(fo, "mean", round_to(s->ncmps ? (double)fsum / (double)s->ncmps : 0, 1e-4));
   cJSON_AddNumberToObject(fo, "zero_fold_cmps", (double)zero);
+  {
+    /* the full-fold part of the section, from the acquisition */
+    int32_t f0, f1;
+    int has = stack_plan_full_fold(p, &f0, &f1);
+    int32_t s0 = s->first_cmp, s1 = s->first_cmp + (int32_t)s->ncmps - 1;
+    if (has && f0 < s0)
+      f0 = s0;
+    if (has && f1 > s1)
+      f1 = s1;
+    has = has && s->ncmps && f0 <= f1;
+    cJSON_AddItemToObject(fo, "full_fold_cmp_first", has ? cJSON_CreateNumber(f0) : cJSON_CreateNull());
+    cJSON_AddItemToObject(fo, "full_fold_cmp_last", has ? cJSON_CreateNumber(f1) : cJSON_CreateNull());
+    cJSON_AddStringToObject(fo, "nominal_from", stack_plan_survey(p).from_layout ? "layout" : "records");
+  }
 
   cJSON *mu = cJSON_AddObjectToObject(r, "mute");
   cJSON_AddNumberToObject(mu, "stretch_limit_pct", j ? j->stretch_limit_pct : 0);
@@ -245,6 +265,20 @@ int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
 
   if ((rc = add_velocity(r, a, err)))
     goto fail;
+  if (j && j->limits.given) {
+    char *lt = NULL;
+    if ((rc = limits_to_json(&j->limits, &lt, err)))
+      goto fail;
+    cJSON *lo = cJSON_Parse(lt);
+    free(lt);
+    if (!lo) {
+      rc = tz_fail(err, TZ_E_NOMEM, "QC report limits");
+      goto fail;
+    }
+    cJSON_AddItemToObject(r, "limits", lo);
+    cJSON_AddItemToObject(r, "limits_file", j->limits_file ? cJSON_CreateString(j->limits_file)
+                                                           : cJSON_CreateNull());
+  }
 
   cJSON *ti = cJSON_AddObjectToObject(r, "timing_s");
   cJSON_AddNumberToObject(ti, "header_pass", round_to(a->header_pass_s, 1e-4));
@@ -287,6 +321,28 @@ int qc_write_text(const char *path, const char *text, tz_err *err)
 }
 
 /* ---------------------------------------------------------------- read back */
+
+const cJSON *qc_report_root(const qc_report *r) { return r->root; }
+const char *qc_report_name(const qc_report *r) { return r->name; }
+const char *qc_report_line(const qc_report *r)
+{
+  const cJSON *l = cJSON_GetObjectItemCaseSensitive(r->root, "line");
+  return cJSON_IsString(l) ? l->valuestring : "";
+}
+
+int qc_text_is_report(const char *text, size_t len)
+{
+  char *copy = malloc(len + 1);
+  if (!copy)
+    return 0;
+  memcpy(copy, text, len);
+  copy[len] = '\0';
+  cJSON *root = cJSON_ParseWithOpts(copy, NULL, 1);
+  free(copy);
+  int yes = cJSON_IsObject(root) && cJSON_GetObjectItemCaseSensitive(root, "format") != NULL;
+  cJSON_Delete(root);
+  return yes;
+}
 
 void qc_report_free(qc_report *r)
 {

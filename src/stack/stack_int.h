@@ -41,6 +41,8 @@ struct stack_plan {
                                    * the CMP range (mute statistics classes) */
   double nominal_fold;
   survey_figures survey;          /* the acquisition as inferred (survey.h) */
+  int has_full_fold;              /* CMPs full_fold_first..last reach the nominal fold */
+  int32_t full_fold_first, full_fold_last;
 
   size_t ninputs;
   stack_input *inputs;            /* owned */

@@ -80,6 +80,12 @@ int32_t stack_plan_last_cmp(const stack_plan *p) { return p->last_cmp; }
 size_t stack_plan_ncmps(const stack_plan *p) { return p->ncmps; }
 double stack_plan_nominal_fold(const stack_plan *p) { return p->nominal_fold; }
 survey_figures stack_plan_survey(const stack_plan *p) { return p->survey; }
+int stack_plan_full_fold(const stack_plan *p, int32_t *first, int32_t *last)
+{
+  *first = p->full_fold_first;
+  *last = p->full_fold_last;
+  return p->has_full_fold;
+}
 stack_line_info stack_plan_line(const stack_plan *p) { return p->line_info; }
 size_t stack_plan_ninputs(const stack_plan *p) { return p->ninputs; }
 const stack_input *stack_plan_input(const stack_plan *p, size_t i)
@@ -131,29 +137,53 @@ int stack_plan_nmo(const stack_plan *p, nmo_params *np, nmo_top_mute *mute, tz_e
 
 /* As stack_plan_classify; when `gerr` is not NULL a geometry failure returns -1
  * with the geometry module's message in *gerr instead of being a skip. */
+/* Where the acquisition put a trace, whatever its processing fate: filled by
+ * classify() for every seismic or dead trace with a geometry. */
+typedef struct acq_loc {
+  int located;            /* 1 when the fields below are set */
+  int in;                 /* 1 inside the line's bins (not off the line) */
+  int32_t cmp;
+  double off_line_m;      /* |distance| of the midpoint from the line */
+} acq_loc;
+
 static int classify(const stack_plan *p, const segy_trace_header *h, int64_t trace,
                     int32_t *cmp, double *offset_abs_m, double *offset_signed_m, int *reason,
-                    tz_err *gerr, int use_range, geometry_trace *gout)
+                    tz_err *gerr, int use_range, geometry_trace *gout, acq_loc *acq)
 {
   int r = stack_kind_reason(h->kind);
-  if (r >= 0) {
+  if (acq)
+    acq->located = 0;
+  /* a dead trace is still a channel of the acquisition: locate it for the
+   * acquisition fold (acq), then skip it */
+  if (r >= 0 && !(acq && r == STACK_SKIP_DEAD)) {
     *reason = r;
     return 0;
   }
   if ((h->samples && h->samples != p->axis.ns) || (h->interval_us && h->interval_us != p->interval_us) ||
       h->delay_ms != p->delay_ms) {
-    *reason = STACK_SKIP_SAMPLE_AXIS;
+    *reason = r >= 0 ? r : STACK_SKIP_SAMPLE_AXIS;
     return 0;
   }
   geometry_trace g;
   tz_err e;
   tz_err_init(&e);
-  if (geometry_source_trace(p->geo, h, trace, &g, gerr ? gerr : &e)) {
-    *reason = STACK_SKIP_UNREADABLE;
-    return gerr ? -1 : 0;
+  if (geometry_source_trace(p->geo, h, trace, &g, r < 0 && gerr ? gerr : &e)) {
+    *reason = r >= 0 ? r : STACK_SKIP_UNREADABLE;
+    return r < 0 && gerr ? -1 : 0;
   }
   bins_loc loc;
-  if (bins_locate(p->line, g.midpoint_x, g.midpoint_y, &loc) != BINS_IN) {
+  int st = bins_locate(p->line, g.midpoint_x, g.midpoint_y, &loc);
+  if (acq && st != BINS_OUT_OF_RANGE) {
+    acq->located = 1;
+    acq->in = st == BINS_IN;
+    acq->cmp = loc.cmp;
+    acq->off_line_m = fabs(loc.off_line_m);
+  }
+  if (r >= 0) {
+    *reason = r;
+    return 0;
+  }
+  if (st != BINS_IN) {
     *reason = STACK_SKIP_OFF_LINE;
     return 0;
   }
@@ -181,13 +211,13 @@ int stack_plan_classify(const stack_plan *p, const segy_trace_header *h, int64_t
                         int32_t *cmp, double *offset_abs_m, double *offset_signed_m,
                         int *reason)
 {
-  return classify(p, h, trace, cmp, offset_abs_m, offset_signed_m, reason, NULL, 1, NULL);
+  return classify(p, h, trace, cmp, offset_abs_m, offset_signed_m, reason, NULL, 1, NULL, NULL);
 }
 
 int stack_locate(const stack_plan *p, const segy_trace_header *h, int64_t trace, int32_t *cmp,
                  double *offset_abs_m, double *offset_signed_m, geometry_trace *g, int *reason)
 {
-  return classify(p, h, trace, cmp, offset_abs_m, offset_signed_m, reason, NULL, 0, g);
+  return classify(p, h, trace, cmp, offset_abs_m, offset_signed_m, reason, NULL, 0, g, NULL);
 }
 
 int stack_plan_in_range(const stack_plan *p, int32_t cmp)
@@ -379,6 +409,9 @@ typedef struct file_scan {
   int32_t *cmp;               /* stackable traces: CMP and |offset| */
   double *off;
   size_t n, cap;
+  int32_t *acmp;              /* CMPs of the acquisition (seismic and dead traces on the line) */
+  size_t na;
+  double off_line_max_m;      /* largest midpoint distance from the line */
   int64_t counts[STACK_SKIP__COUNT];
   double off_max;             /* largest |offset| of any trace that would be stacked
                                * but for the CMP range */
@@ -393,6 +426,8 @@ static void scan_one(file_scan *s)
   size_t i = s->file;
   segy_file *f = NULL;
   s->n = 0;
+  s->na = 0;
+  s->off_line_max_m = 0;
   s->traces = 0;
   s->off_max = 0;
   memset(s->counts, 0, sizeof s->counts);
@@ -418,7 +453,10 @@ static void scan_one(file_scan *s)
     double *d = realloc(s->off, nc * sizeof *d);
     if (d)
       s->off = d;
-    if (!c || !d) {
+    int32_t *a = realloc(s->acmp, nc * sizeof *a);
+    if (a)
+      s->acmp = a;
+    if (!c || !d || !a) {
       segy_close(f);
       s->state = -1;
       tz_fail(&s->err, TZ_E_NOMEM, "header pass buffers");
@@ -452,7 +490,14 @@ static void scan_one(file_scan *s)
       rec->start[rec->n++] = t;
       rec_no = h.field_record;
     }
-    int k = classify(p, &h, t, &cmp, &off, NULL, &reason, &s->err, 1, NULL);
+    acq_loc acq;
+    int k = classify(p, &h, t, &cmp, &off, NULL, &reason, &s->err, 1, NULL, &acq);
+    if (k >= 0 && acq.located) {
+      if (acq.in)
+        s->acmp[s->na++] = acq.cmp;
+      if (acq.off_line_m > s->off_line_max_m)
+        s->off_line_max_m = acq.off_line_m;
+    }
     if (k < 0) {
       /* no geometry for this trace (not in the layout or table, coordinates in
        * degrees...): an error naming the file and trace, as docs/geometry-table.md says */
@@ -493,7 +538,7 @@ static void *scan_thread(void *arg)
 }
 
 /* The header pass proper: files in rounds of T, one file per thread. */
-static int scan_bins(stack_plan *p, bins_fold *fold, int threads, stack_progress_fn progress,
+static int scan_bins(stack_plan *p, bins_fold *fold, bins_fold *acq, int threads, stack_progress_fn progress,
                      void *ctx, tz_err *err)
 {
   size_t T = threads > 0 ? (size_t)threads : 1;
@@ -535,6 +580,11 @@ static int scan_bins(stack_plan *p, bins_fold *fold, int threads, stack_progress
       for (size_t t = 0; t < s->n && !rc; t++)
         if ((rc = bins_fold_add(fold, s->cmp[t], s->off[t], err)))
           tz_err_path(err, p->inputs[s->file].path);
+      for (size_t t = 0; acq && t < s->na && !rc; t++)
+        if ((rc = bins_fold_add(acq, s->acmp[t], 0, err)))
+          tz_err_path(err, p->inputs[s->file].path);
+      if (s->off_line_max_m > p->line_info.largest_off_line_m)
+        p->line_info.largest_off_line_m = s->off_line_max_m;
       p->traces += s->traces;
       for (int r = 0; r < STACK_SKIP__COUNT; r++)
         p->skipped[r] += s->counts[r];
@@ -549,6 +599,7 @@ static int scan_bins(stack_plan *p, bins_fold *fold, int threads, stack_progress
   for (size_t k = 0; k < T; k++) {
     free(fs[k].cmp);
     free(fs[k].off);
+    free(fs[k].acmp);
   }
   free(fs);
   free(th);
@@ -598,7 +649,7 @@ int stack_plan_build(stack_plan **out, const job_spec *job, stack_progress_fn pr
     return tz_fail(err, TZ_E_NOMEM, "stack plan");
   p->job = job;
   int rc = TZ_OK;
-  bins_fold *fold = NULL;
+  bins_fold *fold = NULL, *acq = NULL;
   if (!job->nshots) {
     rc = tz_fail(err, TZ_E_JOB, "$.shots: no shot files");
     goto fail;
@@ -628,12 +679,19 @@ int stack_plan_build(stack_plan **out, const job_spec *job, stack_progress_fn pr
     p->first_cmp = (int32_t)job->cmp_first;
     p->last_cmp = (int32_t)job->cmp_last;
   }
-  if ((rc = first_axis(p, err)) || (rc = bins_fold_new(&fold, p->line, 1.0, err)))
+  if ((rc = first_axis(p, err)) || (rc = bins_fold_new(&fold, p->line, 1.0, err)) ||
+      (rc = bins_fold_new(&acq, p->line, 1.0, err)))
+    goto fail;
+  /* The acquisition fold (every channel live) behind the full-fold part: from
+   * the layout when there is one (it knows the channels a file lacks), else
+   * from the recorded seismic and dead traces of the headers. */
+  const geometry_layout *lay = geometry_source_get_layout(p->geo);
+  if (lay && (rc = bins_fold_predict(acq, p->line, lay, NULL, err)))
     goto fail;
   {
     long cores = sysconf(_SC_NPROCESSORS_ONLN);
     int T = job->threads > 0 ? job->threads : (cores > 0 ? (int)cores : 1);
-    if ((rc = scan_bins(p, fold, T, progress, ctx, err)))
+    if ((rc = scan_bins(p, fold, lay ? NULL : acq, T, progress, ctx, err)))
       goto fail;
   }
   for (size_t i = 0; i < p->ninputs; i++)
@@ -697,12 +755,24 @@ int stack_plan_build(stack_plan **out, const job_spec *job, stack_progress_fn pr
     cp->fold = st.fold;
     cp->offset_min_m = st.fold ? st.offset_min_m : 0;
     cp->offset_max_m = st.fold ? st.offset_max_m : 0;
+    bins_fold_get(acq, cmp, &st);
+    cp->acquired_fold = st.fold;
+    /* full-fold part: the CMPs from the first to the last whose acquisition
+     * fold reaches the (whole) nominal fold */
+    if (p->nominal_fold >= 1 && (double)st.fold >= floor(p->nominal_fold + 1e-9)) {
+      if (!p->has_full_fold)
+        p->full_fold_first = cmp;
+      p->full_fold_last = cmp;
+      p->has_full_fold = 1;
+    }
   }
   bins_fold_free(fold);
+  bins_fold_free(acq);
   *out = p;
   return TZ_OK;
 fail:
   bins_fold_free(fold);
+  bins_fold_free(acq);
   stack_plan_free(p);
   return rc;
 }

@@ -1,0 +1,13 @@
+/* qc_int.h -- the QC report's parsed tree, for the other QC modules (limits.c).
+ * Private to the library; never included by the front end. */
+#ifndef TZERO_QC_INT_H
+#define TZERO_QC_INT_H
+
+#include <cjson/cJSON.h>
+#include "tzero/qc.h"
+
+/* The report's JSON tree and the name it was read under; borrowed from r. */
+const cJSON *qc_report_root(const qc_report *r);
+const char *qc_report_name(const qc_report *r);
+
+#endif
