@@ -13,6 +13,7 @@
 #include "cli.h"
 #include "jobopts.h"
 #include "tzero/fileio.h"
+#include "tzero/limits.h"
 #include "tzero/qc.h"
 #include "tzero/flow.h"
 #include "tzero/stack.h"
@@ -39,13 +40,18 @@ static void help(void)
          "                         the output is bitwise identical for any N\n"
          "  --skip-bad-files       list missing or corrupt shot files in the report\n"
          "                         instead of stopping\n"
+         "  --check                after the section and report are written, hold\n"
+         "                         the report to the job's \"limits\" (docs/qc-report.md\n"
+         "                         \"Limits\"): one line per limit, exit 1 when one broke\n"
          "  --json                 print the QC report instead of the summary\n"
          "  --quiet                print nothing on success\n"
          "  -h, --help             this text\n"
          "\n"
          "A progress line goes to stderr when it is a terminal. Outputs appear only\n"
-         "when complete. Exit status: 0 success, 64 bad option, 65 bad job, table or\n"
-         "shot data, 66 missing input, 73 cannot create output, 74 I/O error.\n"
+         "when complete. Exit status: 0 success, 1 a limit broke (--check; the outputs\n"
+         "are complete), 64 bad option, 65 bad job, table or shot data (or --check\n"
+         "with no limits in the job), 66 missing input, 73 cannot create output, 74\n"
+         "I/O error.\n"
          "\n%s", CLI_CAUTION);
 }
 
@@ -64,6 +70,36 @@ static int parse_range(const char *s, job_overrides *o)
   o->cmp_last = v[n - 1];
   free(v);
   return 0;
+}
+
+/* `--check`: the finished report against the job's limits. Returns 0 when all
+ * held, 1 when one broke, or the error's status. */
+static int gate(const char *report, const job_spec *job, int print, int quiet, tz_err *e)
+{
+  qc_report *qr = NULL;
+  limits_result *res = NULL;
+  char *text = NULL, *brief = NULL;
+  int rc = qc_report_parse(&qr, report, strlen(report), job->report ? job->report : "report", e);
+  if (!rc)
+    rc = limits_check(&job->limits, qr, &res, e);
+  if (!rc && print)
+    rc = limits_result_text(res, &text, e);
+  if (!rc && res->broken)
+    rc = limits_result_brief(res, &brief, e);
+  if (!rc) {
+    if (text)
+      fputs(text, stdout);
+    if (res->broken && !quiet)
+      fprintf(stderr, "tzero stack: %s: %zu limit%s broken: %s\n",
+              job->name && job->name[0] ? job->name : job->path, res->broken,
+              res->broken == 1 ? "" : "s", brief);
+  }
+  int out = rc ? rc : res->broken ? -1 : 0;
+  free(text);
+  free(brief);
+  limits_result_free(res);
+  qc_report_free(qr);
+  return out;
 }
 
 /* Prints the summary of the report text (the same code path as tzero report). */
@@ -92,13 +128,14 @@ int cmd_stack(int argc, char **argv)
     { "report", required_argument, NULL, 'r' },
     { "cmp-range", required_argument, NULL, 'c' },
     { "json", no_argument, NULL, 'j' },
+    { "check", no_argument, NULL, 'C' },
     { "quiet", no_argument, NULL, 'q' },
     { "help", no_argument, NULL, 'h' },
     JOBOPTS_LONG,
     { NULL, 0, NULL, 0 },
   };
   const char *jobpath = NULL;
-  int json = 0, quiet = 0, c;
+  int json = 0, quiet = 0, check = 0, c;
   job_overrides ov;
   job_overrides_init(&ov);
   optind = 1;
@@ -118,6 +155,7 @@ int cmd_stack(int argc, char **argv)
         return EX_USAGE;
       break;
     case 'j': json = 1; break;
+    case 'C': check = 1; break;
     case 'q': quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
@@ -146,6 +184,12 @@ int cmd_stack(int argc, char **argv)
   if (!job->section) {
     rc = tz_fail(&e, TZ_E_JOB, "$.output.section: no output section (give it in the job or "
                  "with --out)");
+    tz_err_path(&e, jobpath);
+    goto done;
+  }
+  if (check && !job->limits.given) {
+    rc = tz_fail(&e, TZ_E_JOB, "$.limits: --check needs limits in the job (a limits file "
+                 "name or an object of limits)");
     tz_err_path(&e, jobpath);
     goto done;
   }
@@ -198,6 +242,18 @@ int cmd_stack(int argc, char **argv)
     printf("%s\n", report);
   else if (!quiet)
     rc = print_summary(report, job->report, &e);
+  int broken = 0;
+  if (!rc && check) {
+    int g = gate(report, job, !quiet && !json, quiet, &e);
+    broken = g < 0;
+    rc = g > 0 ? g : 0;
+  }
+  if (!rc && broken) {
+    free(report);
+    stack_section_free(sec);
+    flow_setup_free(&su);
+    return 1;   /* a broken limit is an answer: the outputs are complete */
+  }
 done:
   fileio_abort(rep_out);
   if (rc) {

@@ -606,6 +606,37 @@ static int scan_bins(stack_plan *p, bins_fold *fold, bins_fold *acq, int threads
   return rc;
 }
 
+/* The full-fold part of a roll-along line: the acquired CMPs (acquisition fold
+ * above 0) less the end tapers, where fold builds up from 1 over one record's
+ * midpoint span (N dg / 2) less one shot step (ds): (N dg / 2 - ds) / bin CMPs
+ * at each end (stacking-chart geometry; Sheriff & Geldart 1995, common
+ * practice). It depends only on the end records and the survey figures, so
+ * dead channels, kills and missing shots inside the line show as low fold in
+ * it instead of moving it. */
+static void full_fold_part(stack_plan *p, const bins_fold *acq)
+{
+  const survey_figures *sf = &p->survey;
+  double bin = p->line_info.size_m;
+  p->has_full_fold = 0;
+  if (!(p->nominal_fold >= 1) || !(sf->source_interval_m > 0) || !(sf->receiver_interval_m > 0) ||
+      !(bin > 0))
+    return;
+  bins_fold_summary s;
+  bins_fold_summarise(acq, &s);
+  if (s.last_cmp < s.first_cmp)
+    return;
+  double half_spread = sf->channels_per_record * sf->receiver_interval_m / 2.0;
+  double taper = floor((half_spread - sf->source_interval_m) / bin + 0.5);
+  if (taper < 0)
+    taper = 0;
+  double a = (double)s.first_cmp + taper, b = (double)s.last_cmp - taper;
+  if (a > b)
+    return;
+  p->full_fold_first = (int32_t)a;
+  p->full_fold_last = (int32_t)b;
+  p->has_full_fold = 1;
+}
+
 /* The section's sample axis from the first readable file (before the
  * parallel scan, so that every thread compares with the same axis). */
 static int first_axis(stack_plan *p, tz_err *err)
@@ -757,15 +788,8 @@ int stack_plan_build(stack_plan **out, const job_spec *job, stack_progress_fn pr
     cp->offset_max_m = st.fold ? st.offset_max_m : 0;
     bins_fold_get(acq, cmp, &st);
     cp->acquired_fold = st.fold;
-    /* full-fold part: the CMPs from the first to the last whose acquisition
-     * fold reaches the (whole) nominal fold */
-    if (p->nominal_fold >= 1 && (double)st.fold >= floor(p->nominal_fold + 1e-9)) {
-      if (!p->has_full_fold)
-        p->full_fold_first = cmp;
-      p->full_fold_last = cmp;
-      p->has_full_fold = 1;
-    }
   }
+  full_fold_part(p, acq);
   bins_fold_free(fold);
   bins_fold_free(acq);
   *out = p;
