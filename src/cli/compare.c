@@ -9,6 +9,7 @@
 #include "cli.h"
 #include "tzero/compare.h"
 #include "tzero/fileio.h"
+#include "tzero/stack.h"
 
 static void help(void)
 {
@@ -27,6 +28,12 @@ static void help(void)
          "  --max-lag MS      cross-correlation lags searched, +-MS (default 20)\n"
          "  --threshold DB    energy ratio beyond +-DB calls B stronger or weaker\n"
          "                    (default 0.5 dB)\n"
+         "  --check           exit 1 when any compared CMP outside --cmps changed by\n"
+         "                    more than --max-change-db (|energy ratio B/A| in dB), or\n"
+         "                    a CMP is in one section only; prints the changed ranges\n"
+         "  --max-change-db D the largest change allowed by --check, dB (required)\n"
+         "  --cmps RANGE      CMPs the revision meant to change, left out of --check:\n"
+         "                    200-300 | 200-300,410-440 (commas combine items)\n"
          "  --csv FILE        write one row per CMP to FILE\n"
          "  --per-cmp         also print the per-CMP table\n"
          "  --json            print the summary and every CMP as JSON\n"
@@ -34,6 +41,9 @@ static void help(void)
          "  -h, --help        this text\n"
          "\n"
          "Both sections must share one sample axis (sample count, interval, delay).\n"
+         "Exit status: 0 success (with --check: no change beyond the limit), 1 a\n"
+         "change beyond --max-change-db outside --cmps (an answer, not an error), 64\n"
+         "bad option, 65 bad or mismatched sections, 66 unreadable section.\n"
          "\n%s", CLI_CAUTION);
 }
 
@@ -150,9 +160,70 @@ static void print_text(const char *pa, const char *pb, const compare_result *r,
   }
 }
 
+static int in_list(const int32_t *v, size_t n, int32_t c)
+{
+  for (size_t i = 0; i < n; i++)
+    if (v[i] == c)
+      return 1;
+  return 0;
+}
+
+/* --check: the compared CMPs outside the allowed list whose energy ratio moved by
+ * more than max_db. Prints one line (ranges of changed CMPs); returns 1 when any
+ * changed, else 0. */
+static int check_changes(const compare_result *r, double max_db, const int32_t *allow,
+                         size_t nallow, const char *cmps_text, int quiet)
+{
+  size_t changed = 0;
+  double worst = 0;
+  int32_t run0 = 0, run1 = 0;
+  int open = 0;
+  char buf[4096];
+  size_t n = 0;
+  buf[0] = '\0';
+  for (size_t i = 0; i <= r->n; i++) {
+    int hit = 0;
+    if (i < r->n) {
+      const compare_cmp *c = &r->cmps[i];
+      double db = fabs(c->energy_ratio_db);
+      hit = !in_list(allow, nallow, c->cmp) && (db > max_db || isnan(c->energy_ratio_db));
+      if (hit) {
+        changed++;
+        if (!(db <= worst))
+          worst = db;
+        if (open && c->cmp == run1 + 1) {
+          run1 = c->cmp;
+          continue;
+        }
+      }
+    }
+    if (open && n < sizeof buf - 32)
+      n += (size_t)snprintf(buf + n, sizeof buf - n, run0 == run1 ? "%s%d" : "%s%d-%d",
+                            n ? ", " : "CMP ", run0, run1);
+    open = hit;
+    if (hit)
+      run0 = run1 = r->cmps[i].cmp;
+  }
+  int broken = changed > 0 || r->only_a > 0 || r->only_b > 0;
+  if (!quiet) {
+    printf("check: %s: ", broken ? "broken" : "held");
+    const char *where = cmps_text ? " outside " : "";
+    if (changed)
+      printf("%zu CMP%s%s%s changed by more than %g dB (largest %.3f dB): %s", changed,
+             changed == 1 ? "" : "s", where, cmps_text ? cmps_text : "", max_db, worst, buf);
+    else
+      printf("no CMP%s%s changed by more than %g dB", where, cmps_text ? cmps_text : "", max_db);
+    if (r->only_a || r->only_b)
+      printf("; %zu CMPs only in A, %zu only in B", r->only_a, r->only_b);
+    printf("\n");
+  }
+  return broken;
+}
+
 int cmd_compare(int argc, char **argv)
 {
-  enum { O_TMIN = 256, O_TMAX, O_LAG, O_THR, O_CSV, O_PER, O_JSON, O_QUIET };
+  enum { O_TMIN = 256, O_TMAX, O_LAG, O_THR, O_CSV, O_PER, O_JSON, O_QUIET, O_CHECK, O_MAXDB,
+         O_CMPS };
   static const struct option opts[] = {
     { "time-min", required_argument, NULL, O_TMIN },
     { "time-max", required_argument, NULL, O_TMAX },
@@ -160,6 +231,9 @@ int cmd_compare(int argc, char **argv)
     { "threshold", required_argument, NULL, O_THR },
     { "csv", required_argument, NULL, O_CSV },
     { "per-cmp", no_argument, NULL, O_PER },
+    { "check", no_argument, NULL, O_CHECK },
+    { "max-change-db", required_argument, NULL, O_MAXDB },
+    { "cmps", required_argument, NULL, O_CMPS },
     { "json", no_argument, NULL, O_JSON },
     { "quiet", no_argument, NULL, O_QUIET },
     { "help", no_argument, NULL, 'h' },
@@ -168,7 +242,9 @@ int cmd_compare(int argc, char **argv)
   compare_params p;
   compare_params_default(&p);
   const char *csv = NULL;
-  int json = 0, quiet = 0, per = 0, c;
+  int json = 0, quiet = 0, per = 0, check = 0, c;
+  double max_db = NAN;
+  const char *cmps_text = NULL;
   optind = 1;
   opterr = 0;
   while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
@@ -180,6 +256,9 @@ int cmd_compare(int argc, char **argv)
     case O_THR: bad = cli_parse_f64("compare", "--threshold", optarg, &p.threshold_db); break;
     case O_CSV: csv = optarg; break;
     case O_PER: per = 1; break;
+    case O_CHECK: check = 1; break;
+    case O_MAXDB: bad = cli_parse_f64("compare", "--max-change-db", optarg, &max_db); break;
+    case O_CMPS: cmps_text = optarg; break;
     case O_JSON: json = 1; break;
     case O_QUIET: quiet = 1; break;
     case 'h': help(); return EX_OK;
@@ -197,9 +276,17 @@ int cmd_compare(int argc, char **argv)
   if (p.time_max_ms <= p.time_min_ms)
     return cli_usage_error("compare", "--time-max %g ms must be later than --time-min %g ms",
                            p.time_max_ms, p.time_min_ms);
+  if (check && !(max_db >= 0))
+    return cli_usage_error("compare", "--check needs --max-change-db D (dB, 0 or more)");
+  if (!check && (!isnan(max_db) || cmps_text))
+    return cli_usage_error("compare", "--max-change-db and --cmps go with --check");
   const char *pa = argv[optind], *pb = argv[optind + 1];
   tz_err err;
   tz_err_init(&err);
+  int32_t *allow = NULL;
+  size_t nallow = 0;
+  if (cmps_text && stack_parse_cmp_list(cmps_text, &allow, &nallow, &err))
+    return cli_usage_error("compare", "--cmps '%s': %s", cmps_text, err.msg);
   compare_result *r = NULL;
   int rc = fileio_check_not_input(csv, pa, "--csv", &err);
   if (!rc)
@@ -209,6 +296,7 @@ int cmd_compare(int argc, char **argv)
   if (!rc && csv)
     rc = write_csv(csv, r, &err);
   if (rc) {
+    free(allow);
     compare_result_free(r);
     return cli_report("compare", &err);
   }
@@ -217,6 +305,9 @@ int cmd_compare(int argc, char **argv)
     ex = print_json(pa, pb, r, &p);
   else if (!quiet)
     print_text(pa, pb, r, &p, per);
+  if (check && check_changes(r, max_db, allow, nallow, cmps_text, quiet || json) && ex == EX_OK)
+    ex = 1;
+  free(allow);
   compare_result_free(r);
   return ex;
 }

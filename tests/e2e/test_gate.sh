@@ -55,3 +55,21 @@ expect_stderr '\$\.limits\.max_mutedpct: unknown limit; did you mean "max_muted_
 expect_no_file "$D/out/b.sgy" "no section from a job with bad limits"
 sed 's/"output"/"limits": "nowhere.json", "output"/' "$D/line.json" >"$D/nolim.json"
 expect_status 66 "job naming a missing limits file" -- "$TZERO" stack --job "$D/nolim.json" --out "$D/out/c.sgy"
+
+# compare --check: a revision at control CMP 280 changes only CMPs 271-289, between
+# its neighbours 270 and 290 (velocity linear in CMP number between control CMPs,
+# docs/velocity-table.md); traces of the other CMPs are bitwise the same (0 dB).
+for c in 216 270 280 290 355; do
+  for tv in 0,1800 300,1800 550,2100 800,2400; do echo "$c,$tv"; done
+done | sed '1i cmp,time_ms,velocity_mps' >"$D/v1.csv"
+sed 's/^280,550,2100$/280,550,2300/' "$D/v1.csv" >"$D/v2.csv"
+"$TZERO" stack --job "$D/line.json" --velocity "$D/v1.csv" --out "$D/out/v1.sgy" --quiet
+"$TZERO" stack --job "$D/line.json" --velocity "$D/v2.csv" --out "$D/out/v2.sgy" --quiet
+expect_status 0 "compare --check: only the revised CMPs changed" -- "$TZERO" compare --check \
+  --max-change-db 0 --cmps 271-289 --quiet "$D/out/v1.sgy" "$D/out/v2.sgy"
+expect_status 1 "compare --check: changes outside --cmps exit 1" -- "$TZERO" compare --check \
+  --max-change-db 0 --cmps 275-285 "$D/out/v1.sgy" "$D/out/v2.sgy"
+expect_stdout '^check: broken: 8 CMPs outside 275-285 changed by more than 0 dB .*: CMP 271-274, 286-289$' \
+  "compare --check names the changed CMP ranges"
+expect_status 64 "compare --check needs --max-change-db" -- "$TZERO" compare --check \
+  "$D/out/v1.sgy" "$D/out/v2.sgy"
