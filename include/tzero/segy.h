@@ -179,7 +179,7 @@ int segy_writer_finish(segy_writer *w, tz_err *err);
 void segy_writer_abort(segy_writer *w);               /* takes the writer; NULL ok */
 
 /* ---- sample conversion (exposed for tests and benchmarks) ---- */
-float segy_ibm_to_float(uint32_t ibm);              /* out of float range: +-FLT_MAX or 0 */
+float segy_ibm_to_float(uint32_t ibm);              /* beyond float range (bad sample): 0 */
 uint32_t segy_float_to_ibm(float v);                /* round to nearest */
 int segy_format_bytes(int format_code);             /* 0 for undefined codes */
 const char *segy_format_name(int format_code);      /* e.g. "IBM hexadecimal float" */

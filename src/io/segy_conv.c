@@ -8,8 +8,10 @@
  * IBM System/360 hexadecimal floats (format 1) are converted by bit
  * manipulation (REFERENCE.md §1.7): normalise the 24-bit fraction with a
  * count-leading-zeros, rebuild an IEEE single from sign, exponent and the
- * shifted fraction. Values outside the IEEE single range go to +-FLT_MAX
- * (counted as out of range) or to 0 (underflow, not counted).
+ * shifted fraction. Values beyond the IEEE single range become 0 and are
+ * counted as bad samples, as NaN and infinite IEEE values are, so that no
+ * huge value reaches a stack; values below it become 0 (underflow, not
+ * counted).
  *
  * Not here: file structure (segy_reader.c, segy_writer.c), header fields
  * (segy_map.c).
@@ -65,8 +67,8 @@ static inline float ibm_to_float(uint32_t w, int *bad)
     *bad = 0;
     return 0.0f;
   }
-  *bad = 1;
-  return sign ? -FLT_MAX : FLT_MAX;
+  *bad = 1;                       /* beyond float: counted, and 0 like a NaN */
+  return 0.0f;
 }
 
 float segy_ibm_to_float(uint32_t ibm)
@@ -262,7 +264,7 @@ int64_t segy_decode_samples(int code, int order, unsigned char *in, size_t n, fl
       double d = bits_f64(be64_load(p));
       int bad = !(fabs(d) <= FLT_MAX);       /* NaN, Inf, beyond float */
       nbad += bad;
-      out[i] = bad ? (isnan(d) ? 0.0f : (d > 0 ? FLT_MAX : -FLT_MAX)) : (float)d;
+      out[i] = bad ? 0.0f : (float)d;
     }
     break;
   case 7:
@@ -384,9 +386,9 @@ const char *segy_format_name(int code)
 
 int64_t segy_binary_value(const segy_info *in, int pos, int width)
 {
-  if (pos < 3201 || pos + width - 1 > 3600)
+  if (pos < 3201 || pos > 3600 || width < 1 || width > 3601 - pos)
     return 0;
-  const unsigned char *p = in->binary + pos - 3201;
+  const unsigned char *p = in->binary + (pos - 3201);
   switch (width) {
   case 2: return u16_to_i16(segy_ld16(in->byte_order, p));
   case 4: return u32_to_i32(segy_ld32(in->byte_order, p));

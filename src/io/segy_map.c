@@ -143,7 +143,9 @@ void segy_header_decode(const unsigned char *raw, int order, const segy_header_m
       continue;
     int byte = fd->byte, width = fd->width, is_float = 0;
     for (int k = 0; map && k < map->n; k++)
-      if (!strcmp(map->f[k].field, fd->name)) {
+      if (!strcmp(map->f[k].field, fd->name) && map->f[k].byte >= 1 &&
+          (map->f[k].width == 2 || map->f[k].width == 4) &&
+          map->f[k].byte <= SEGY_TRACE_HEADER_BYTES - map->f[k].width + 1) {
         byte = map->f[k].byte;
         width = map->f[k].width;
         is_float = map->f[k].is_float;
@@ -261,13 +263,15 @@ int segy_header_map_parse(segy_header_map *map, const char *json, const char *na
     }
     segy_field_override *o = &map->f[map->n];
     snprintf(o->field, sizeof o->field, "%s", fd->name);
-    o->byte = 0;
-    o->width = fd->width;
+    /* Numbers are range-checked as doubles before any conversion to int: a
+     * value beyond int's range (or a byte near INT_MAX, whose end position
+     * would overflow) never reaches the conversion. */
+    double byte = 0, width = fd->width;
     for (const cJSON *k = it->child; k; k = k->next) {
       if (!strcmp(k->string, "byte") && cJSON_IsNumber(k) && k->valuedouble == floor(k->valuedouble))
-        o->byte = (int)k->valuedouble;
+        byte = k->valuedouble;
       else if (!strcmp(k->string, "width") && cJSON_IsNumber(k))
-        o->width = (int)k->valuedouble;
+        width = k->valuedouble;
       else if (!strcmp(k->string, "float") && cJSON_IsBool(k))
         o->is_float = cJSON_IsTrue(k);
       else {
@@ -277,20 +281,22 @@ int segy_header_map_parse(segy_header_map *map, const char *json, const char *na
         goto done;
       }
     }
-    if (o->width != 2 && o->width != 4) {
+    if (width != 2 && width != 4) {
       rc = tz_fail(err, TZ_E_FORMAT, "header map: $.%s.width: must be 2 or 4", it->string);
       goto done;
     }
+    o->width = (int)width;
     if (o->is_float && o->width != 4) {
       rc = tz_fail(err, TZ_E_FORMAT, "header map: $.%s: a float slot is 4 bytes wide",
                    it->string);
       goto done;
     }
-    if (o->byte < 1 || o->byte + o->width - 1 > SEGY_TRACE_HEADER_BYTES) {
+    if (!(byte >= 1 && byte <= SEGY_TRACE_HEADER_BYTES - o->width + 1)) {
       rc = tz_fail(err, TZ_E_FORMAT, "header map: $.%s.byte: must be 1..%d for width %d",
                    it->string, SEGY_TRACE_HEADER_BYTES - o->width + 1, o->width);
       goto done;
     }
+    o->byte = (int)byte;
     map->n++;
   }
 done:

@@ -148,10 +148,10 @@ static void parse_revision(segy_info *in, int order)
   }
 }
 
-static int16_t bin16(const segy_file *f, int pos) { return u16_to_i16(segy_ld16(f->order, f->info.binary + pos - 3201)); }
-static uint16_t binu16(const segy_file *f, int pos) { return segy_ld16(f->order, f->info.binary + pos - 3201); }
-static int32_t bin32(const segy_file *f, int pos) { return u32_to_i32(segy_ld32(f->order, f->info.binary + pos - 3201)); }
-static uint64_t bin64(const segy_file *f, int pos) { return segy_ld64(f->order, f->info.binary + pos - 3201); }
+static int16_t bin16(const segy_file *f, int pos) { return u16_to_i16(segy_ld16(f->order, f->info.binary + (pos - 3201))); }
+static uint16_t binu16(const segy_file *f, int pos) { return segy_ld16(f->order, f->info.binary + (pos - 3201)); }
+static int32_t bin32(const segy_file *f, int pos) { return u32_to_i32(segy_ld32(f->order, f->info.binary + (pos - 3201))); }
+static uint64_t bin64(const segy_file *f, int pos) { return segy_ld64(f->order, f->info.binary + (pos - 3201)); }
 
 /* Extended textual headers: returns the count, or -1 after filling err. */
 static int extended_text(segy_file *f, tz_err *err)

@@ -47,7 +47,8 @@ static const struct { uint32_t ibm; float want; } ibm_cases[] = {
   { 0x40800000u, 0.5f },
   { 0x41A00000u, 10.0f },
   { 0x3F800000u, 0.03125f },    /* #3: IEEE 1.0 read as IBM */
-  { 0x7FFFFFFFu, FLT_MAX },     /* #5: 7.237e75 overflows float: clamped (our policy) */
+  { 0x7FFFFFFFu, 0.0f },        /* #5: 7.237e75 overflows float: a bad sample, read as 0 */
+  { 0xFFFFFFFFu, 0.0f },        /* -7.237e75 likewise */
   { 0x00100000u, 0.0f },        /* #5: 5.4e-79 underflows float to 0 */
   { 0x80000000u, 0.0f },        /* #5: negative zero reads as 0 */
   { 0x00000000u, 0.0f },
@@ -477,6 +478,146 @@ START_TEST(test_nan_counted)
 }
 END_TEST
 
+/* IBM words beyond the float range (largest IBM single 0x7FFFFFFF =
+ * (1 - 16^-6) * 16^63, about 7.2e75; SEG-Y rev 1 (2002) format 1 definition)
+ * are bad samples: counted, and delivered as 0 as NaN and Inf are, so a stack
+ * sums 0 and not FLT_MAX (common practice: a bad sample must not dominate).
+ * Also through the SIMD block paths (eight and four words at a time). */
+START_TEST(test_ibm_overflow_is_zero)
+{
+  enum { N = 19 };
+  unsigned char b[4 * N];
+  float v[N];
+  for (int i = 0; i < N; i++) {
+    uint32_t w = i == 3 ? 0x7FFFFFFFu : i == 12 ? 0xFFFFFFFFu : i == 17 ? 0x61100000u
+                                                                        : 0x41100000u;
+    be32_store(b + 4 * i, w);     /* 0x61100000 = 16^32, beyond float; 0x41100000 = 1.0 */
+  }
+  ck_assert_int_eq(segy_decode_samples(1, SEGY_ORDER_BIG, b, N, v), 3);
+  for (int i = 0; i < N; i++)
+    ck_assert_float_eq(v[i], i == 3 || i == 12 || i == 17 ? 0.0f : 1.0f);
+  /* IEEE doubles beyond the float range (format 6) are handled the same way */
+  unsigned char d[16];
+  be64_store(d, f64_bits(1e300));
+  be64_store(d + 8, f64_bits(-2.5));
+  float dv[2];
+  ck_assert_int_eq(segy_decode_samples(6, SEGY_ORDER_BIG, d, 2, dv), 1);
+  ck_assert_float_eq(dv[0], 0.0f);
+  ck_assert_float_eq(dv[1], -2.5f);
+}
+END_TEST
+
+/* Every binary header field (1-based bytes 3201-3600, SEG-Y rev 1 (2002) and
+ * rev 2.0 (2017) binary file header) read at every position and width through
+ * segy_binary_value, and a file opened in each byte order, so that pointer
+ * arithmetic on the 400-byte block is checked by UBSan's bounds checks
+ * (`make sanitize`; clang reports an out-of-bounds index for a pointer formed
+ * as binary + pos before subtracting 3201). Values are compared with the
+ * bytes read by hand: big-endian is the rev 1 byte order. */
+START_TEST(test_binary_fields_every_position)
+{
+  segy_info in;
+  memset(&in, 0, sizeof in);
+  for (int i = 0; i < SEGY_BINARY_BYTES; i++)
+    in.binary[i] = (unsigned char)(i * 7 + 3);
+  in.byte_order = SEGY_ORDER_BIG;
+  for (int pos = 3201; pos <= 3600; pos++) {
+    const unsigned char *p = in.binary + (pos - 3201);
+    if (pos <= 3599)
+      ck_assert_int_eq(segy_binary_value(&in, pos, 2), (int16_t)(p[0] << 8 | p[1]));
+    if (pos <= 3597)
+      ck_assert_int_eq(segy_binary_value(&in, pos, 4),
+                       (int32_t)((uint32_t)p[0] << 24 | (uint32_t)p[1] << 16 |
+                                 (uint32_t)p[2] << 8 | p[3]));
+    if (pos <= 3593)
+      ck_assert_uint_eq((uint64_t)segy_binary_value(&in, pos, 8), be64_load(p));
+    if (pos > 3593)                   /* a width running past the block: 0 */
+      ck_assert_int_eq(segy_binary_value(&in, pos, 8), 0);
+  }
+  ck_assert_int_eq(segy_binary_value(&in, 3200, 2), 0);
+  ck_assert_int_eq(segy_binary_value(&in, 3600, 2), 0);
+  ck_assert_int_eq(segy_binary_value(&in, 3599, 4), 0);
+  /* segy_open reads the binary header fields of a rev 2 file (the reader's own
+   * bin16/bin32/bin64 helpers), big- and little-endian */
+  const char *path = write_file("every_field.sgy", 5, 2, 3, 8);
+  size_t n;
+  unsigned char *raw = copy_file(path, &n);
+  for (int order = 0; order < 2; order++) {
+    if (order) {                      /* the same file, every binary field byte-reversed */
+      static const int w4[] = { 3201, 3205, 3209, 3261, 3265, 3269, 3289, 3293, 3297, 3529 };
+      static const int w8[] = { 3273, 3281, 3513, 3521 };
+      unsigned char t[8];
+      for (int pos = 3213; pos < 3261; pos += 2) {
+        memcpy(t, raw + pos - 1, 2);
+        raw[pos - 1] = t[1];
+        raw[pos] = t[0];
+      }
+      for (size_t k = 0; k < sizeof w4 / sizeof w4[0]; k++) {
+        memcpy(t, raw + w4[k] - 1, 4);
+        for (int j = 0; j < 4; j++)
+          raw[w4[k] - 1 + j] = t[3 - j];
+      }
+      for (size_t k = 0; k < sizeof w8 / sizeof w8[0]; k++) {
+        memcpy(t, raw + w8[k] - 1, 8);
+        for (int j = 0; j < 8; j++)
+          raw[w8[k] - 1 + j] = t[7 - j];
+      }
+      for (int pos = 3503; pos < 3513; pos += 2) {
+        memcpy(t, raw + pos - 1, 2);
+        raw[pos - 1] = t[1];
+        raw[pos] = t[0];
+      }
+      for (size_t off = 3600; off + 240 + 32 <= n; off += 240 + 32) {
+        for (int pos = 1; pos < 240; pos += 2) {     /* 2-byte trace header fields */
+          if ((pos >= 1 && pos < 29) || (pos >= 37 && pos < 69) || (pos >= 73 && pos < 89) ||
+              (pos >= 181 && pos < 201))
+            continue;
+          memcpy(t, raw + off + (size_t)pos - 1, 2);
+          raw[off + (size_t)pos - 1] = t[1];
+          raw[off + (size_t)pos] = t[0];
+        }
+        for (int pos = 1; pos < 240; pos += 4) {     /* 4-byte trace header fields */
+          if (!((pos >= 1 && pos < 29) || (pos >= 37 && pos < 69) || (pos >= 73 && pos < 89) ||
+                (pos >= 181 && pos < 201)))
+            continue;
+          memcpy(t, raw + off + (size_t)pos - 1, 4);
+          for (int j = 0; j < 4; j++)
+            raw[off + (size_t)pos - 1 + (size_t)j] = t[3 - j];
+        }
+        for (size_t k = 0; k < 8; k++) {             /* IEEE samples */
+          memcpy(t, raw + off + 240 + 4 * k, 4);
+          for (int j = 0; j < 4; j++)
+            raw[off + 240 + 4 * k + (size_t)j] = t[3 - j];
+        }
+      }
+      path = tmp_path("every_field_le.sgy");
+      write_bytes(path, raw, n);
+    }
+    segy_file *f = NULL;
+    tz_err err;
+    tz_err_init(&err);
+    ck_assert_msg(segy_open(&f, path, NULL, &err) == TZ_OK, "%s", err.msg);
+    const segy_info *fi = segy_get_info(f);
+    ck_assert_int_eq(fi->byte_order, order ? SEGY_ORDER_LITTLE : SEGY_ORDER_BIG);
+    ck_assert_int_eq(fi->line_no, 17);
+    ck_assert_int_eq(fi->ensemble_fold, 4);
+    ck_assert_int_eq(fi->traces_per_ensemble, 4);
+    ck_assert_int_eq(fi->samples, 8);
+    ck_assert_int_eq(fi->interval_us, 2000);
+    ck_assert_int_eq(fi->trace_count, 3);
+    for (int pos = 3201; pos <= 3600; pos++)
+      for (int w = 2; w <= 8; w *= 2)
+        (void)segy_binary_value(fi, pos, w);
+    segy_trace_header h;
+    float s[8];
+    ck_assert_int_eq(segy_trace_read(f, 2, &h, s, 8, &err), TZ_OK);
+    ck_assert_float_eq(s[5], sample_value(2, 5));
+    segy_close(f);
+  }
+  free(raw);
+}
+END_TEST
+
 /* Rev 2 writer: byte-order constant 01 02 03 04 at 3297-3300, revision bytes
  * 02 00 at 3501-3502, trace count at 3513-3520, first trace at 3521-3528
  * (REFERENCE.md §1.3, §4 #6 and #7). Rev 1: 01 00 and no constant. */
@@ -569,12 +710,37 @@ START_TEST(test_header_map)
     "{\"source_x\": {\"byte\": 239, \"width\": 4}}", "{\"source_x\": {\"width\": 3, \"byte\": 1}}",
     "{\"cmp\": {\"byte\": 9, \"width\": 2, \"float\": true}}", "[1, 2]",
     "{\"cmp\": {\"byte\": 9, \"colour\": 1}}",
+    /* positions whose end (byte + width - 1) overflows int, and numbers beyond
+     * int's range: refused before any conversion (no wrap-around accepted) */
+    "{\"cmp\": {\"byte\": 2147483647, \"width\": 4}}",
+    "{\"cmp\": {\"byte\": 2147483646, \"width\": 4}}",
+    "{\"cmp\": {\"byte\": 2147483645, \"width\": 4}}",
+    "{\"cmp\": {\"byte\": 7.7e110, \"width\": 4}}",
+    "{\"cmp\": {\"byte\": -7.7e110, \"width\": 4}}",
+    "{\"cmp\": {\"byte\": 9, \"width\": 4294967298}}",
+    "{\"cmp\": {\"byte\": 9, \"width\": 7.7e110}}",
+    "{\"cmp\": {\"byte\": 0, \"width\": 2}}",
   };
   for (size_t i = 0; i < sizeof bad / sizeof bad[0]; i++) {
     tz_err_init(&err);
     ck_assert_int_eq(segy_header_map_parse(&m, bad[i], "m.json", &err), TZ_E_FORMAT);
     ck_assert_str_eq(err.path, "m.json");
   }
+  /* the message names the field and the allowed byte range */
+  tz_err_init(&err);
+  ck_assert_int_eq(segy_header_map_parse(&m, "{\"cmp\": {\"byte\": 2147483647, \"width\": 4}}",
+                                         "m.json", &err), TZ_E_FORMAT);
+  ck_assert_str_eq(err.msg, "header map: $.cmp.byte: must be 1..237 for width 4");
+  /* a map built by hand with an impossible position is not followed out of
+   * the 240 bytes: the standard position is used */
+  segy_header_map hand = { .n = 1 };
+  snprintf(hand.f[0].field, sizeof hand.f[0].field, "cmp");
+  hand.f[0].byte = 2147483647;
+  hand.f[0].width = 4;
+  memset(raw, 0, sizeof raw);
+  be32_store(raw + 20, 4321);
+  segy_header_decode(raw, SEGY_ORDER_BIG, &hand, &h);
+  ck_assert_int_eq(h.cmp, 4321);
 }
 END_TEST
 
@@ -681,6 +847,8 @@ static Suite *segy_suite(void)
   tcase_add_test(tc, test_short_file);
   tcase_add_test(tc, test_corrupt);
   tcase_add_test(tc, test_nan_counted);
+  tcase_add_test(tc, test_ibm_overflow_is_zero);
+  tcase_add_test(tc, test_binary_fields_every_position);
   tcase_add_test(tc, test_writer_binary_header);
   tcase_add_test(tc, test_writer_errors);
   tcase_add_test(tc, test_header_map);
