@@ -59,6 +59,7 @@ PREFIX_LIST = \
   flow \
   geometry \
   job \
+  json \
   layout \
   limits \
   lsq \

@@ -157,9 +157,6 @@ void geometry_derive(geometry_trace *g, double dir_az_deg, double hint_offset);
 /* sin and cos of an angle in degrees, exact at multiples of 90 degrees. */
 void geometry_sincos_deg(double deg, double *s, double *c);
 
-/* The entry of keys[0..n-1] nearest to k by edit distance (for "did you mean"). */
-const char *geometry_nearest_key(const char *k, const char *const *keys, size_t n);
-
 /* ---- geometry table (CSV; docs/geometry-table.md) ----
  * Header row of column names, any order: field_record, channel, source_x_m,
  * source_y_m, receiver_x_m, receiver_y_m (required), source_z_m, receiver_z_m,

@@ -146,7 +146,4 @@ int job_to_json(const job_spec *j, char **out, tz_err *err);
 
 const char *job_interp_name(int interp);     /* "linear" / "sinc8" */
 
-/* Edit distance (Levenshtein) between two strings; exposed for tests. */
-size_t job_edit_distance(const char *a, const char *b);
-
 #endif

@@ -19,7 +19,6 @@
 
 #include "tzero/fileio.h"
 #include "util/json_doc.h"
-#include "tzero/job.h"
 #include "tzero/table.h"
 
 #define LAYOUT_MAX_BYTES (16u << 20)
@@ -152,41 +151,26 @@ static const char *const layout_keys[] = {
   "source_interval_m", "first_source_m", "shot_count", "spread", "channels",
   "channels_behind", "near_offset_m", "source_offset_m", "source_depth_m", "fixed_spread",
   "first_field_record", "field_record_step", "first_channel", "channel_order",
-  "first_shot_point", "skipped_shot_points", "station_elevations_m", "description",
+  "first_shot_point", "skipped_shot_points", "station_elevations_m", "description", NULL,
 };
-#define NLAYOUT_KEYS (sizeof layout_keys / sizeof layout_keys[0])
 
-const char *geometry_nearest_key(const char *k, const char *const *keys, size_t n)
-{
-  const char *best = keys[0];
-  size_t bd = (size_t)-1;
-  for (size_t i = 0; i < n; i++) {
-    size_t d = job_edit_distance(k, keys[i]);
-    if (d < bd) {
-      bd = d;
-      best = keys[i];
-    }
-  }
-  return best;
-}
-
+/* A layout number or whole number at "$.key" (json_doc getters). */
 static int json_number(const cJSON *it, const char *key, double *out, tz_err *err)
 {
-  if (!cJSON_IsNumber(it) || !isfinite(it->valuedouble))
-    return tz_fail(err, TZ_E_FORMAT, "%s: expected a number", key);
-  *out = it->valuedouble;
-  return TZ_OK;
+  char path[96];
+  snprintf(path, sizeof path, "$.%s", key);
+  return json_doc_number(it, path, -HUGE_VAL, HUGE_VAL, out, TZ_E_FORMAT, err);
 }
 
 static int json_int32(const cJSON *it, const char *key, int32_t *out, tz_err *err)
 {
-  double v = 0;
-  if (json_number(it, key, &v, err))
-    return err->status;
-  if (v != floor(v) || v < INT32_MIN || v > INT32_MAX)
-    return tz_fail(err, TZ_E_FORMAT, "%s: expected a whole number, got %g", key, v);
-  *out = (int32_t)v;
-  return TZ_OK;
+  char path[96];
+  int64_t v = 0;
+  snprintf(path, sizeof path, "$.%s", key);
+  int rc = json_doc_int(it, path, INT32_MIN, INT32_MAX, &v, TZ_E_FORMAT, err);
+  if (!rc)
+    *out = (int32_t)v;
+  return rc;
 }
 
 static int cmp_i32(const void *a, const void *b)
@@ -220,35 +204,29 @@ static int layout_key(geometry_layout *l, const cJSON *it, tz_err *err)
   if (!strcmp(k, "first_channel")) return json_int32(it, k, &l->first_channel, err);
   if (!strcmp(k, "first_shot_point")) return json_int32(it, k, &l->first_shot_point, err);
   if (!strcmp(k, "description")) {
-    if (!cJSON_IsString(it))
-      return tz_fail(err, TZ_E_FORMAT, "description: expected a string");
-    return TZ_OK;
+    const char *d;
+    return cJSON_IsString(it) && !it->valuestring[0]
+               ? TZ_OK : json_doc_string(it, "$.description", &d, TZ_E_FORMAT, err);
   }
-  if (!strcmp(k, "fixed_spread")) {
-    if (!cJSON_IsBool(it))
-      return tz_fail(err, TZ_E_FORMAT, "fixed_spread: expected true or false");
-    l->fixed_spread = cJSON_IsTrue(it);
-    return TZ_OK;
-  }
+  if (!strcmp(k, "fixed_spread"))
+    return json_doc_bool(it, "$.fixed_spread", &l->fixed_spread, TZ_E_FORMAT, err);
   if (!strcmp(k, "spread")) {
-    const char *s = cJSON_IsString(it) ? it->valuestring : "";
-    if (!strcmp(s, "ahead")) l->spread = GEOMETRY_SPREAD_AHEAD;
-    else if (!strcmp(s, "behind")) l->spread = GEOMETRY_SPREAD_BEHIND;
-    else if (!strcmp(s, "split")) l->spread = GEOMETRY_SPREAD_SPLIT;
-    else return tz_fail(err, TZ_E_FORMAT, "spread: expected \"ahead\", \"behind\" or \"split\"");
-    return TZ_OK;
+    static const char *const names[] = { "ahead", "behind", "split", NULL };
+    static const int values[] = { GEOMETRY_SPREAD_AHEAD, GEOMETRY_SPREAD_BEHIND,
+                                  GEOMETRY_SPREAD_SPLIT };
+    return json_doc_choice(it, "$.spread", names, values, &l->spread, TZ_E_FORMAT, err);
   }
   if (!strcmp(k, "channel_order")) {
-    const char *s = cJSON_IsString(it) ? it->valuestring : "";
-    if (!strcmp(s, "forward")) l->channel_order = GEOMETRY_CHANNELS_FORWARD;
-    else if (!strcmp(s, "reverse")) l->channel_order = GEOMETRY_CHANNELS_REVERSE;
-    else return tz_fail(err, TZ_E_FORMAT, "channel_order: expected \"forward\" or \"reverse\"");
-    return TZ_OK;
+    static const char *const names[] = { "forward", "reverse", NULL };
+    static const int values[] = { GEOMETRY_CHANNELS_FORWARD, GEOMETRY_CHANNELS_REVERSE };
+    return json_doc_choice(it, "$.channel_order", names, values, &l->channel_order,
+                           TZ_E_FORMAT, err);
   }
   if (!strcmp(k, "skipped_shot_points") || !strcmp(k, "station_elevations_m")) {
     int elev = k[0] == 's' && k[1] == 't';
     if (!cJSON_IsArray(it))
-      return tz_fail(err, TZ_E_FORMAT, "%s: expected an array", k);
+      return tz_fail(err, TZ_E_FORMAT, "$.%s: expected an array, got %s", k,
+                     json_doc_kind_name(it));
     int n = cJSON_GetArraySize(it);
     if (n > GEOMETRY_MAX_SHOTS)
       return tz_fail(err, TZ_E_FORMAT, "%s: more than %d values", k, GEOMETRY_MAX_SHOTS);
@@ -286,8 +264,7 @@ static int layout_key(geometry_layout *l, const cJSON *it, tz_err *err)
     }
     return TZ_OK;
   }
-  return tz_fail(err, TZ_E_FORMAT, "unknown key \"%s\" (did you mean \"%s\"?)", k,
-                 geometry_nearest_key(k, layout_keys, NLAYOUT_KEYS));
+  return tz_fail(err, TZ_E_INTERNAL, "$.%s: key not handled", k);   /* listed, not read */
 }
 
 int geometry_layout_parse(geometry_layout *l, const char *json, size_t len, const char *name,
@@ -295,13 +272,15 @@ int geometry_layout_parse(geometry_layout *l, const char *json, size_t len, cons
 {
   geometry_layout_init(l);
   cJSON *root;
-  if (json_doc_parse(&root, json, len, name, "layout", err))
+  if (json_doc_parse(&root, json, len, name, "layout", TZ_E_FORMAT, err))
     return err->status;
   int rc = TZ_OK;
   if (!cJSON_IsObject(root)) {
     rc = tz_fail(err, TZ_E_FORMAT, "layout: expected a JSON object");
     goto done;
   }
+  if ((rc = json_doc_check_keys(root, "$", layout_keys, TZ_E_FORMAT, err)))
+    goto done;
   static const char *const required[] = { "receiver_interval_m", "source_interval_m",
                                           "shot_count", "channels" };
   for (size_t i = 0; i < sizeof required / sizeof required[0]; i++)
@@ -562,7 +541,7 @@ static int table_read(geometry_table *gt, table_reader *tr, tz_err *err)
     if (found < 0)
       return tz_fail_line(err, TZ_E_FORMAT, hline,
                           "unknown column \"%s\" (did you mean \"%s\"?)", h,
-                          geometry_nearest_key(h, col_names, NCOLS));
+                          json_doc_nearest(h, col_names, NCOLS));
     if (col[found] >= 0)
       return tz_fail_line(err, TZ_E_FORMAT, hline, "column \"%s\" appears twice", h);
     col[found] = (int)f;

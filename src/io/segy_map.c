@@ -16,6 +16,7 @@
 
 #include "segy_priv.h"
 #include "tzero/fileio.h"
+#include "util/json_doc.h"
 
 #define F(name, byte, width, kind) \
   { #name, byte, width, kind, offsetof(segy_trace_header, name) }
@@ -232,15 +233,11 @@ int segy_header_encode(const segy_trace_header *h, uint32_t samples, uint32_t in
 int segy_header_map_parse(segy_header_map *map, const char *json, const char *name,
                           tz_err *err)
 {
-  const char *end = NULL;
   memset(map, 0, sizeof *map);
-  cJSON *root = cJSON_ParseWithOpts(json, &end, 1);
+  cJSON *root = NULL;
+  if (json_doc_parse(&root, json, strlen(json), name, "header map", TZ_E_FORMAT, err))
+    return err->status;
   int rc = TZ_OK;
-  if (!root) {
-    tz_err_path(err, name);
-    return tz_fail_at(err, TZ_E_FORMAT, -1, end ? (int64_t)(end - json) : -1,
-                      "header map is not valid JSON");
-  }
   if (!cJSON_IsObject(root)) {
     rc = tz_fail(err, TZ_E_FORMAT, "header map: expected a JSON object of fields");
     goto done;

@@ -1,15 +1,16 @@
 /* job.c -- the job file: JSON in, a checked and resolved job_spec out.
  *
- * This is the only processing-side file that touches cJSON for jobs: it walks
- * the tree object by object, checks each object's keys against a fixed list
- * (an unknown key is reported with the nearest known key by Levenshtein edit
- * distance), converts every value with a message naming its JSON path, fills
- * the defaults and frees the tree. Shot patterns are expanded with glob(3)
- * (each pattern's matches sorted, patterns kept in the order written, a file
- * named twice is kept once) relative to the job file's folder.
+ * The document is read with the library's JSON helper (util/json_doc.h: line
+ * and byte of a syntax fault, duplicate keys and deep nesting refused); this
+ * file walks the tree object by object, checks each object's keys against a
+ * fixed list (an unknown key is reported with the nearest known key),
+ * converts every value with a message naming its JSON path, fills the
+ * defaults and frees the tree. Shot patterns are expanded with glob(3) (each
+ * pattern's matches sorted, patterns kept in the order written, a file named
+ * twice is kept once) relative to the job file's folder.
  *
- * Not here: what the values mean to geometry, NMO or stacking (stack.c), and
- * reading the files they name (velocity.c, geometry.c, segy.c).
+ * Not here: what the values mean to geometry, NMO or stacking (src/stack/),
+ * and reading the files they name (velocity.c, geometry.c, src/io/segy_*.c).
  */
 #include "tzero/job.h"
 
@@ -23,154 +24,15 @@
 #include <sys/stat.h>
 
 #include "tzero/fileio.h"
+#include "util/json_doc.h"
 
 #define PATHBUF 640
 
 /* ---------------------------------------------------------------- helpers */
 
-size_t job_edit_distance(const char *a, const char *b)
-{
-  size_t na = strlen(a), nb = strlen(b);
-  if (na > 256 || nb > 256)
-    return na > nb ? na : nb;
-  size_t row[257];
-  for (size_t j = 0; j <= nb; j++)
-    row[j] = j;
-  for (size_t i = 1; i <= na; i++) {
-    size_t diag = row[0];
-    row[0] = i;
-    for (size_t j = 1; j <= nb; j++) {
-      size_t up = row[j];
-      size_t best = diag + (a[i - 1] != b[j - 1]);
-      if (up + 1 < best)
-        best = up + 1;
-      if (row[j - 1] + 1 < best)
-        best = row[j - 1] + 1;
-      row[j] = best;
-      diag = up;
-    }
-  }
-  return row[nb];
-}
-
 const char *job_interp_name(int interp)
 {
   return interp == JOB_INTERP_SINC8 ? "sinc8" : "linear";
-}
-
-/* Checks that every key of `obj` is in `known` (NULL-terminated). */
-static int check_keys(const cJSON *obj, const char *path, const char *const *known, tz_err *err)
-{
-  for (const cJSON *c = obj->child; c; c = c->next) {
-    const char *k = c->string ? c->string : "";
-    int found = 0;
-    const char *best = NULL;
-    size_t bestd = (size_t)-1;
-    for (size_t i = 0; known[i]; i++) {
-      if (!strcmp(k, known[i])) {
-        found = 1;
-        break;
-      }
-      size_t d = job_edit_distance(k, known[i]);
-      if (d < bestd) {
-        bestd = d;
-        best = known[i];
-      }
-    }
-    if (found)
-      continue;
-    /* a duplicate key is caught too: cJSON keeps both, the second is "unknown"
-     * only if misspelt, so check duplicates separately below */
-    if (best)
-      return tz_fail(err, TZ_E_JOB, "%s.%s: unknown key; did you mean \"%s\"?", path, k, best);
-    return tz_fail(err, TZ_E_JOB, "%s.%s: unknown key", path, k);
-  }
-  for (const cJSON *c = obj->child; c; c = c->next)
-    for (const cJSON *d = c->next; d; d = d->next)
-      if (c->string && d->string && !strcmp(c->string, d->string))
-        return tz_fail(err, TZ_E_JOB, "%s.%s: key given twice", path, c->string);
-  return TZ_OK;
-}
-
-static const char *kind_name(const cJSON *v)
-{
-  if (cJSON_IsString(v)) return "a string";
-  if (cJSON_IsNumber(v)) return "a number";
-  if (cJSON_IsBool(v)) return "a boolean";
-  if (cJSON_IsNull(v)) return "null";
-  if (cJSON_IsArray(v)) return "an array";
-  if (cJSON_IsObject(v)) return "an object";
-  return "something else";
-}
-
-static int get_number(const cJSON *v, const char *path, double lo, double hi, double *out,
-                      tz_err *err)
-{
-  if (!cJSON_IsNumber(v) || !isfinite(v->valuedouble) || v->valuedouble < lo ||
-      v->valuedouble > hi) {
-    char los[32], his[32];
-    snprintf(los, sizeof los, "%g", lo);
-    snprintf(his, sizeof his, "%g", hi);
-    if (cJSON_IsNumber(v))
-      return tz_fail(err, TZ_E_JOB, "%s: expected a number between %s and %s, got %g", path, los,
-                   his, v->valuedouble);
-    return tz_fail(err, TZ_E_JOB, "%s: expected a number between %s and %s, got %s", path, los,
-                 his, kind_name(v));
-  }
-  *out = v->valuedouble;
-  return TZ_OK;
-}
-
-static int get_int(const cJSON *v, const char *path, int64_t lo, int64_t hi, int64_t *out,
-                   tz_err *err)
-{
-  if (!cJSON_IsNumber(v) || v->valuedouble != floor(v->valuedouble) ||
-      v->valuedouble < (double)lo || v->valuedouble > (double)hi) {
-    if (cJSON_IsNumber(v))
-      return tz_fail(err, TZ_E_JOB, "%s: expected an integer between %lld and %lld, got %g", path,
-                   (long long)lo, (long long)hi, v->valuedouble);
-    return tz_fail(err, TZ_E_JOB, "%s: expected an integer between %lld and %lld, got %s", path,
-                 (long long)lo, (long long)hi, kind_name(v));
-  }
-  *out = (int64_t)v->valuedouble;
-  return TZ_OK;
-}
-
-static int get_bool(const cJSON *v, const char *path, int *out, tz_err *err)
-{
-  if (!cJSON_IsBool(v))
-    return tz_fail(err, TZ_E_JOB, "%s: expected true or false, got %s", path, kind_name(v));
-  *out = cJSON_IsTrue(v) ? 1 : 0;
-  return TZ_OK;
-}
-
-static int get_string(const cJSON *v, const char *path, const char **out, tz_err *err)
-{
-  if (!cJSON_IsString(v) || !v->valuestring)
-    return tz_fail(err, TZ_E_JOB, "%s: expected a string, got %s", path, kind_name(v));
-  if (!v->valuestring[0])
-    return tz_fail(err, TZ_E_JOB, "%s: expected a non-empty string", path);
-  *out = v->valuestring;
-  return TZ_OK;
-}
-
-static int get_choice(const cJSON *v, const char *path, const char *const *names,
-                      const int *values, int *out, tz_err *err)
-{
-  const char *s;
-  int rc = get_string(v, path, &s, err);
-  if (rc)
-    return rc;
-  char list[200] = "";
-  for (size_t i = 0; names[i]; i++) {
-    if (!strcmp(s, names[i])) {
-      *out = values[i];
-      return TZ_OK;
-    }
-    size_t n = strlen(list);
-    snprintf(list + n, sizeof list - n, "%s\"%s\"", i ? " or " : "", names[i]);
-  }
-  return tz_fail(err, TZ_E_JOB, "%s: expected %s, got \"%s\"", path, list, s);
 }
 
 static char *dupstr(const char *s)
@@ -208,7 +70,7 @@ static int get_path(const cJSON *v, const char *jpath, const char *dir, int must
                     char **out, tz_err *err)
 {
   const char *s;
-  int rc = get_string(v, jpath, &s, err);
+  int rc = json_doc_string(v, jpath, &s, TZ_E_JOB, err);
   if (rc)
     return rc;
   char *p = resolve(dir, s);
@@ -296,7 +158,7 @@ static int parse_shots(job_spec *j, const cJSON *v, const char *dir, tz_err *err
     /* a single pattern is accepted as a one-element list */
   } else if (!cJSON_IsArray(v)) {
     return tz_fail(err, TZ_E_JOB, "$.shots: expected an array of file patterns, got %s",
-                 kind_name(v));
+                 json_doc_kind_name(v));
   }
   size_t n = cJSON_IsArray(v) ? (size_t)cJSON_GetArraySize(v) : 1;
   if (n == 0)
@@ -310,7 +172,7 @@ static int parse_shots(job_spec *j, const cJSON *v, const char *dir, tz_err *err
     char jp[64];
     snprintf(jp, sizeof jp, "$.shots[%zu]", i);
     const char *pat;
-    int rc = get_string(e, jp, &pat, err);
+    int rc = json_doc_string(e, jp, &pat, TZ_E_JOB, err);
     if (rc)
       return rc;
     if (!(j->patterns[i] = strdup(pat)))
@@ -366,9 +228,9 @@ static int parse_geometry(job_spec *j, const cJSON *v, const char *dir, tz_err *
   if (!cJSON_IsObject(v))
     return tz_fail(err, TZ_E_JOB,
                  "$.geometry: expected \"headers\", {\"layout\": FILE} or {\"table\": FILE}, "
-                 "got %s", kind_name(v));
+                 "got %s", json_doc_kind_name(v));
   static const char *const keys[] = { "layout", "table", NULL };
-  int rc = check_keys(v, "$.geometry", keys, err);
+  int rc = json_doc_check_keys(v, "$.geometry", keys, TZ_E_JOB, err);
   if (rc)
     return rc;
   const cJSON *lay = cJSON_GetObjectItemCaseSensitive(v, "layout");
@@ -383,7 +245,7 @@ static int parse_geometry(job_spec *j, const cJSON *v, const char *dir, tz_err *
 static int want_object(const cJSON *v, const char *path, tz_err *err)
 {
   if (!cJSON_IsObject(v))
-    return tz_fail(err, TZ_E_JOB, "%s: expected an object, got %s", path, kind_name(v));
+    return tz_fail(err, TZ_E_JOB, "%s: expected an object, got %s", path, json_doc_kind_name(v));
   return TZ_OK;
 }
 
@@ -395,13 +257,13 @@ static int parse_bins(job_spec *j, const cJSON *v, tz_err *err)
                                       "first_cmp", "max_distance_m", NULL };
   int rc = want_object(v, "$.bins", err);
   if (!rc)
-    rc = check_keys(v, "$.bins", keys, err);
+    rc = json_doc_check_keys(v, "$.bins", keys, TZ_E_JOB, err);
   if (rc)
     return rc;
   job_bins *b = &j->bins;
   const cJSON *e;
   if ((e = ITEM(v, "size_m"))) {
-    if ((rc = get_number(e, "$.bins.size_m", 1e-3, 1e5, &b->size_m, err)))
+    if ((rc = json_doc_number(e, "$.bins.size_m", 1e-3, 1e5, &b->size_m, TZ_E_JOB, err)))
       return rc;
     b->has_size = 1;
   }
@@ -409,13 +271,13 @@ static int parse_bins(job_spec *j, const cJSON *v, tz_err *err)
   if (ox || oy) {
     if (!ox || !oy)
       return tz_fail(err, TZ_E_JOB, "$.bins: origin_x_m and origin_y_m go together");
-    if ((rc = get_number(ox, "$.bins.origin_x_m", -1e12, 1e12, &b->origin_x_m, err)) ||
-        (rc = get_number(oy, "$.bins.origin_y_m", -1e12, 1e12, &b->origin_y_m, err)))
+    if ((rc = json_doc_number(ox, "$.bins.origin_x_m", -1e12, 1e12, &b->origin_x_m, TZ_E_JOB, err)) ||
+        (rc = json_doc_number(oy, "$.bins.origin_y_m", -1e12, 1e12, &b->origin_y_m, TZ_E_JOB, err)))
       return rc;
     b->has_origin = 1;
   }
   if ((e = ITEM(v, "azimuth_deg"))) {
-    if ((rc = get_number(e, "$.bins.azimuth_deg", -360, 360, &b->azimuth_deg, err)))
+    if ((rc = json_doc_number(e, "$.bins.azimuth_deg", -360, 360, &b->azimuth_deg, TZ_E_JOB, err)))
       return rc;
     b->has_azimuth = 1;
   }
@@ -424,10 +286,10 @@ static int parse_bins(job_spec *j, const cJSON *v, tz_err *err)
                  "$.bins: origin_x_m, origin_y_m and azimuth_deg define the line together; "
                  "give all three or none");
   if ((e = ITEM(v, "first_cmp")) &&
-      (rc = get_int(e, "$.bins.first_cmp", -1000000000, 1000000000, &b->first_cmp, err)))
+      (rc = json_doc_int(e, "$.bins.first_cmp", -1000000000, 1000000000, &b->first_cmp, TZ_E_JOB, err)))
     return rc;
   if ((e = ITEM(v, "max_distance_m")) &&
-      (rc = get_number(e, "$.bins.max_distance_m", 0, 1e9, &b->max_distance_m, err)))
+      (rc = json_doc_number(e, "$.bins.max_distance_m", 0, 1e9, &b->max_distance_m, TZ_E_JOB, err)))
     return rc;
   return TZ_OK;
 }
@@ -440,21 +302,21 @@ static int parse_moveout(job_spec *j, const cJSON *v, tz_err *err)
   static const int ivals[] = { JOB_INTERP_LINEAR, JOB_INTERP_SINC8 };
   int rc = want_object(v, "$.moveout", err);
   if (!rc)
-    rc = check_keys(v, "$.moveout", keys, err);
+    rc = json_doc_check_keys(v, "$.moveout", keys, TZ_E_JOB, err);
   if (rc)
     return rc;
   const cJSON *e;
   if ((e = ITEM(v, "stretch_limit_pct")) &&
-      (rc = get_number(e, "$.moveout.stretch_limit_pct", 0, 1000, &j->stretch_limit_pct, err)))
+      (rc = json_doc_number(e, "$.moveout.stretch_limit_pct", 0, 1000, &j->stretch_limit_pct, TZ_E_JOB, err)))
     return rc;
   if ((e = ITEM(v, "interpolation")) &&
-      (rc = get_choice(e, "$.moveout.interpolation", inames, ivals, &j->interpolation, err)))
+      (rc = json_doc_choice(e, "$.moveout.interpolation", inames, ivals, &j->interpolation, TZ_E_JOB, err)))
     return rc;
   if ((e = ITEM(v, "fourth_order")) &&
-      (rc = get_bool(e, "$.moveout.fourth_order", &j->fourth_order, err)))
+      (rc = json_doc_bool(e, "$.moveout.fourth_order", &j->fourth_order, TZ_E_JOB, err)))
     return rc;
   if ((e = ITEM(v, "stretch_taper_ms")) &&
-      (rc = get_number(e, "$.moveout.stretch_taper_ms", 0, 1000, &j->stretch_taper_ms, err)))
+      (rc = json_doc_number(e, "$.moveout.stretch_taper_ms", 0, 1000, &j->stretch_taper_ms, TZ_E_JOB, err)))
     return rc;
   return TZ_OK;
 }
@@ -470,19 +332,19 @@ static int parse_mute(job_spec *j, const cJSON *v, tz_err *err)
   static const char *const keys[] = { "top", "taper_ms", NULL };
   int rc = want_object(v, "$.mute", err);
   if (!rc)
-    rc = check_keys(v, "$.mute", keys, err);
+    rc = json_doc_check_keys(v, "$.mute", keys, TZ_E_JOB, err);
   if (rc)
     return rc;
   const cJSON *e;
   if ((e = ITEM(v, "taper_ms")) &&
-      (rc = get_number(e, "$.mute.taper_ms", 0, 1000, &j->mute_taper_ms, err)))
+      (rc = json_doc_number(e, "$.mute.taper_ms", 0, 1000, &j->mute_taper_ms, TZ_E_JOB, err)))
     return rc;
   const cJSON *top = ITEM(v, "top");
   if (!top)
     return TZ_OK;
   if (!cJSON_IsArray(top))
     return tz_fail(err, TZ_E_JOB, "$.mute.top: expected an array of [offset_m, time_ms] pairs, "
-                 "got %s", kind_name(top));
+                 "got %s", json_doc_kind_name(top));
   size_t n = (size_t)cJSON_GetArraySize(top);
   if (n == 0)
     return TZ_OK;
@@ -497,12 +359,12 @@ static int parse_mute(job_spec *j, const cJSON *v, tz_err *err)
     snprintf(jp, sizeof jp, "$.mute.top[%zu]", i);
     if (!cJSON_IsArray(p) || cJSON_GetArraySize(p) != 2)
       return tz_fail(err, TZ_E_JOB, "%s: expected a pair [offset_m, time_ms], got %s", jp,
-                   kind_name(p));
+                   json_doc_kind_name(p));
     char jp0[80], jp1[80];
     snprintf(jp0, sizeof jp0, "%s[0]", jp);
     snprintf(jp1, sizeof jp1, "%s[1]", jp);
-    if ((rc = get_number(p->child, jp0, 0, 1e6, &j->mute_top[i].offset_m, err)) ||
-        (rc = get_number(p->child->next, jp1, -1e5, 1e6, &j->mute_top[i].time_ms, err)))
+    if ((rc = json_doc_number(p->child, jp0, 0, 1e6, &j->mute_top[i].offset_m, TZ_E_JOB, err)) ||
+        (rc = json_doc_number(p->child->next, jp1, -1e5, 1e6, &j->mute_top[i].time_ms, TZ_E_JOB, err)))
       return rc;
   }
   j->nmute = n;
@@ -519,15 +381,15 @@ static int parse_selection(job_spec *j, const cJSON *v, tz_err *err)
                                       NULL };
   int rc = want_object(v, "$.selection", err);
   if (!rc)
-    rc = check_keys(v, "$.selection", keys, err);
+    rc = json_doc_check_keys(v, "$.selection", keys, TZ_E_JOB, err);
   if (rc)
     return rc;
   const cJSON *a = ITEM(v, "cmp_first"), *b = ITEM(v, "cmp_last"), *e;
   if (a || b) {
     if (!a || !b)
       return tz_fail(err, TZ_E_JOB, "$.selection: cmp_first and cmp_last go together");
-    if ((rc = get_int(a, "$.selection.cmp_first", -1000000000, 1000000000, &j->cmp_first, err)) ||
-        (rc = get_int(b, "$.selection.cmp_last", -1000000000, 1000000000, &j->cmp_last, err)))
+    if ((rc = json_doc_int(a, "$.selection.cmp_first", -1000000000, 1000000000, &j->cmp_first, TZ_E_JOB, err)) ||
+        (rc = json_doc_int(b, "$.selection.cmp_last", -1000000000, 1000000000, &j->cmp_last, TZ_E_JOB, err)))
       return rc;
     if (j->cmp_last < j->cmp_first)
       return tz_fail(err, TZ_E_JOB, "$.selection.cmp_last: %lld is before cmp_first %lld",
@@ -535,10 +397,10 @@ static int parse_selection(job_spec *j, const cJSON *v, tz_err *err)
     j->has_cmp_range = 1;
   }
   if ((e = ITEM(v, "offset_min_m")) &&
-      (rc = get_number(e, "$.selection.offset_min_m", 0, 1e7, &j->offset_min_m, err)))
+      (rc = json_doc_number(e, "$.selection.offset_min_m", 0, 1e7, &j->offset_min_m, TZ_E_JOB, err)))
     return rc;
   if ((e = ITEM(v, "offset_max_m")) &&
-      (rc = get_number(e, "$.selection.offset_max_m", 0, 1e7, &j->offset_max_m, err)))
+      (rc = json_doc_number(e, "$.selection.offset_max_m", 0, 1e7, &j->offset_max_m, TZ_E_JOB, err)))
     return rc;
   if (j->offset_max_m < j->offset_min_m)
     return tz_fail(err, TZ_E_JOB, "$.selection.offset_max_m: %g is below offset_min_m %g",
@@ -553,7 +415,7 @@ static int parse_output(job_spec *j, const cJSON *v, const char *dir, tz_err *er
   static const int fvals[] = { JOB_FORMAT_IEEE, JOB_FORMAT_IBM };
   int rc = want_object(v, "$.output", err);
   if (!rc)
-    rc = check_keys(v, "$.output", keys, err);
+    rc = json_doc_check_keys(v, "$.output", keys, TZ_E_JOB, err);
   if (rc)
     return rc;
   const cJSON *e;
@@ -562,7 +424,7 @@ static int parse_output(job_spec *j, const cJSON *v, const char *dir, tz_err *er
   if ((e = ITEM(v, "report")) && (rc = get_path(e, "$.output.report", dir, 0, &j->report, err)))
     return rc;
   if ((e = ITEM(v, "sample_format")) &&
-      (rc = get_choice(e, "$.output.sample_format", fnames, fvals, &j->sample_format, err)))
+      (rc = json_doc_choice(e, "$.output.sample_format", fnames, fvals, &j->sample_format, TZ_E_JOB, err)))
     return rc;
   return TZ_OK;
 }
@@ -587,7 +449,7 @@ static int get_ms(const cJSON *step, const char *key, const char *jp, int requir
     return TZ_OK;
   }
   double ms;
-  int rc = get_number(v, kp, 1e-3, CONDITION_MAX_WINDOW_MS, &ms, err);
+  int rc = json_doc_number(v, kp, 1e-3, CONDITION_MAX_WINDOW_MS, &ms, TZ_E_JOB, err);
   if (!rc)
     *out_s = ms * 1e-3;
   return rc;
@@ -614,11 +476,11 @@ static int parse_condition_step(job_spec *j, const cJSON *st, const char *jp, tz
   if (!e)
     return tz_fail(err, TZ_E_JOB, "%s: required key missing (\"bandpass\", "
                    "\"spherical_divergence\", \"power_gain\" or \"agc\")", kp);
-  if ((rc = get_choice(e, kp, snames, svals, &kind, err)))
+  if ((rc = json_doc_choice(e, kp, snames, svals, &kind, TZ_E_JOB, err)))
     return rc;
   const char *const *keys = kind == CONDITION_BANDPASS ? k_bp : kind == CONDITION_SPHERICAL
                                 ? k_sph : kind == CONDITION_POWER ? k_pow : k_agc;
-  if ((rc = check_keys(st, jp, keys, err)))
+  if ((rc = json_doc_check_keys(st, jp, keys, TZ_E_JOB, err)))
     return rc;
   condition_chain *c = &j->conditioning;
   tz_err why;
@@ -632,13 +494,13 @@ static int parse_condition_step(job_spec *j, const cJSON *st, const char *jp, tz
       return tz_fail(err, TZ_E_JOB, "%s: required key missing ([f1, f2, f3, f4] in Hz)", kp);
     if (!cJSON_IsArray(a) || cJSON_GetArraySize(a) != 4)
       return tz_fail(err, TZ_E_JOB, "%s: expected an array of four frequencies [f1, f2, f3, "
-                     "f4] in Hz, got %s", kp, kind_name(a));
+                     "f4] in Hz, got %s", kp, json_doc_kind_name(a));
     double f[4];
     int i = 0;
     for (const cJSON *x = a->child; x; x = x->next, i++) {
       char ip[112];
       snprintf(ip, sizeof ip, "%s[%d]", kp, i);
-      if ((rc = get_number(x, ip, 0, 1e6, &f[i], err)))
+      if ((rc = json_doc_number(x, ip, 0, 1e6, &f[i], TZ_E_JOB, err)))
         return rc;
     }
     if (condition_chain_add_bandpass(c, f, &why))
@@ -650,7 +512,7 @@ static int parse_condition_step(job_spec *j, const cJSON *st, const char *jp, tz
       return rc;
     snprintf(kp, sizeof kp, "%s.velocity_mps", jp);
     if ((e = ITEM(st, "velocity_mps")) &&
-        (rc = get_number(e, kp, VELOCITY_MIN_MPS, VELOCITY_MAX_MPS, &v, err)))
+        (rc = json_doc_number(e, kp, VELOCITY_MIN_MPS, VELOCITY_MAX_MPS, &v, TZ_E_JOB, err)))
       return rc;
     if (condition_chain_add_spherical(c, t_s, v, &why))
       return cond_fail(err, jp, &why);
@@ -661,7 +523,7 @@ static int parse_condition_step(job_spec *j, const cJSON *st, const char *jp, tz
     snprintf(kp, sizeof kp, "%s.exponent", jp);
     if (!(e = ITEM(st, "exponent")))
       return tz_fail(err, TZ_E_JOB, "%s: required key missing (power of time, e.g. 2)", kp);
-    if ((rc = get_number(e, kp, -CONDITION_MAX_POWER, CONDITION_MAX_POWER, &v, err)))
+    if ((rc = json_doc_number(e, kp, -CONDITION_MAX_POWER, CONDITION_MAX_POWER, &v, TZ_E_JOB, err)))
       return rc;
     if (condition_chain_add_power(c, v, t_s, &why))
       return cond_fail(err, jp, &why);
@@ -671,7 +533,7 @@ static int parse_condition_step(job_spec *j, const cJSON *st, const char *jp, tz
     if ((rc = get_ms(st, "window_ms", jp, 1, 0, &t_s, err)))
       return rc;
     snprintf(kp, sizeof kp, "%s.measure", jp);
-    if ((e = ITEM(st, "measure")) && (rc = get_choice(e, kp, mnames, mvals, &measure, err)))
+    if ((e = ITEM(st, "measure")) && (rc = json_doc_choice(e, kp, mnames, mvals, &measure, TZ_E_JOB, err)))
       return rc;
     if (condition_chain_add_agc(c, t_s, measure, &why))
       return cond_fail(err, jp, &why);
@@ -684,7 +546,7 @@ static int parse_conditioning(job_spec *j, const cJSON *v, tz_err *err)
 {
   if (!cJSON_IsArray(v))
     return tz_fail(err, TZ_E_JOB, "$.conditioning: expected an array of steps, got %s",
-                   kind_name(v));
+                   json_doc_kind_name(v));
   size_t n = (size_t)cJSON_GetArraySize(v), i = 0;
   if (n > CONDITION_MAX_STEPS)
     return tz_fail(err, TZ_E_JOB, "$.conditioning: %zu steps, at most %d", n, CONDITION_MAX_STEPS);
@@ -742,13 +604,13 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
                                       NULL };
   int rc;
   if (!cJSON_IsObject(root))
-    return tz_fail(err, TZ_E_JOB, "$: expected an object, got %s", kind_name(root));
-  if ((rc = check_keys(root, "$", keys, err)))
+    return tz_fail(err, TZ_E_JOB, "$: expected an object, got %s", json_doc_kind_name(root));
+  if ((rc = json_doc_check_keys(root, "$", keys, TZ_E_JOB, err)))
     return rc;
   const cJSON *e;
   if ((e = ITEM(root, "name"))) {
     const char *s;
-    if ((rc = get_string(e, "$.name", &s, err)))
+    if ((rc = json_doc_string(e, "$.name", &s, TZ_E_JOB, err)))
       return rc;
     free(j->name);
     if (!(j->name = strdup(s)))
@@ -784,24 +646,14 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
     return rc;
   if ((e = ITEM(root, "threads"))) {
     int64_t t;
-    if ((rc = get_int(e, "$.threads", 0, JOB_MAX_THREADS, &t, err)))
+    if ((rc = json_doc_int(e, "$.threads", 0, JOB_MAX_THREADS, &t, TZ_E_JOB, err)))
       return rc;
     j->threads = (int)t;
   }
   if ((e = ITEM(root, "skip_bad_files")) &&
-      (rc = get_bool(e, "$.skip_bad_files", &j->skip_bad_files, err)))
+      (rc = json_doc_bool(e, "$.skip_bad_files", &j->skip_bad_files, TZ_E_JOB, err)))
     return rc;
   return TZ_OK;
-}
-
-/* Line (1-based) and byte offset of position `at` in text. */
-static void locate(const char *text, size_t at, int64_t *line)
-{
-  int64_t ln = 1;
-  for (size_t i = 0; i < at; i++)
-    if (text[i] == '\n')
-      ln++;
-  *line = ln;
 }
 
 int job_parse(job_spec **out, const char *text, size_t len, const char *name, const char *dir,
@@ -815,32 +667,10 @@ int job_parse(job_spec **out, const char *text, size_t len, const char *name, co
     job_free(j);
     return tz_fail(err, TZ_E_NOMEM, "job");
   }
-  if (memchr(text, '\0', len)) {
+  cJSON *root = NULL;
+  if (json_doc_parse(&root, text, len, name, NULL, TZ_E_JOB, err)) {
     job_free(j);
-    tz_err_path(err, name);
-    return tz_fail_at(err, TZ_E_FORMAT, -1, (int64_t)((const char *)memchr(text, '\0', len) - text),
-                      "NUL byte in job file");
-  }
-  /* cJSON reads to the NUL: parse a terminated copy of exactly len bytes */
-  char *copy = malloc(len + 1);
-  if (!copy) {
-    job_free(j);
-    return tz_fail(err, TZ_E_NOMEM, "job text");
-  }
-  memcpy(copy, text, len);
-  copy[len] = '\0';
-  const char *end = NULL;
-  cJSON *root = cJSON_ParseWithOpts(copy, &end, 1);
-  size_t at = end && end >= copy && end <= copy + len ? (size_t)(end - copy) : len;
-  free(copy);
-  if (!root) {
-    int64_t line;
-    locate(text, at, &line);
-    job_free(j);
-    tz_err_path(err, name);
-    tz_fail_at(err, TZ_E_FORMAT, -1, (int64_t)at, "not valid JSON");
-    err->line = line;
-    return TZ_E_FORMAT;
+    return err->status;
   }
   int rc = parse_tree(j, root, dir, err);
   cJSON_Delete(root);

@@ -632,14 +632,13 @@ void picture_fold_free(picture_fold *f)
 static int json_num(const cJSON *o, const char *key, double *out, const char *where, size_t i,
                     tz_err *err)
 {
-  const cJSON *v = cJSON_GetObjectItemCaseSensitive(o, key);
-  if (!cJSON_IsNumber(v) || !isfinite(v->valuedouble)) {
-    if (i == (size_t)-1)
-      return tz_fail(err, TZ_E_FORMAT, "%s.%s: expected a number", where, key);
-    return tz_fail(err, TZ_E_FORMAT, "%s[%zu].%s: expected a number", where, i, key);
-  }
-  *out = v->valuedouble;
-  return TZ_OK;
+  char path[96];
+  if (i == (size_t)-1)
+    snprintf(path, sizeof path, "%s.%s", where, key);
+  else
+    snprintf(path, sizeof path, "%s[%zu].%s", where, i, key);
+  return json_doc_number(cJSON_GetObjectItemCaseSensitive(o, key), path, -HUGE_VAL, HUGE_VAL,
+                         out, TZ_E_FORMAT, err);
 }
 
 static int fold_from_tree(picture_fold *out, const cJSON *root, tz_err *err)
@@ -707,7 +706,7 @@ int picture_fold_parse(picture_fold *out, const char *json, size_t len, const ch
 {
   memset(out, 0, sizeof *out);
   cJSON *root = NULL;
-  int rc = json_doc_parse(&root, json, len, name, "QC report", err);
+  int rc = json_doc_parse(&root, json, len, name, "QC report", TZ_E_FORMAT, err);
   if (rc)
     return rc;
   rc = fold_from_tree(out, root, err);

@@ -21,6 +21,7 @@
 
 #include "tzero/fileio.h"
 #include "qc/qc_int.h"
+#include "util/json_doc.h"
 
 struct qc_report {
   cJSON *root;
@@ -384,19 +385,9 @@ static int check_numbers(const cJSON *root, tz_err *err)
 
 int qc_report_parse(qc_report **out, const char *text, size_t len, const char *name, tz_err *err)
 {
-  char *copy = malloc(len + 1);   /* cJSON reads to the NUL: terminate exactly len bytes */
-  if (!copy)
-    return tz_fail(err, TZ_E_NOMEM, "QC report text");
-  memcpy(copy, text, len);
-  copy[len] = '\0';
-  const char *end = NULL;
-  cJSON *root = cJSON_ParseWithOpts(copy, &end, 1);
-  int64_t at = end && end >= copy && end <= copy + len ? (int64_t)(end - copy) : (int64_t)len;
-  free(copy);
-  if (!root) {
-    tz_err_path(err, name);
-    return tz_fail_at(err, TZ_E_FORMAT, -1, at, "not valid JSON");
-  }
+  cJSON *root = NULL;
+  if (json_doc_parse(&root, text, len, name, NULL, TZ_E_FORMAT, err))
+    return err->status;
   const cJSON *f = cJSON_GetObjectItemCaseSensitive(root, "format");
   int rc = TZ_OK;
   if (!cJSON_IsString(f) || strcmp(f->valuestring, QC_FORMAT))

@@ -38,60 +38,40 @@
 
 /* ---- model JSON ---- */
 
-static const char *const model_keys[] = { "layers", "dipping_interface", "description" };
-static const char *const layer_keys[] = { "thickness_m", "velocity_mps", "density_kgm3" };
+static const char *const model_keys[] = { "layers", "dipping_interface", "description", NULL };
+static const char *const layer_keys[] = { "thickness_m", "velocity_mps", "density_kgm3", NULL };
 static const char *const dip_keys[] = {
   "depth_m", "along_m", "dip_deg", "velocity_above_mps", "density_above_kgm3",
-  "velocity_below_mps", "density_below_kgm3",
+  "velocity_below_mps", "density_below_kgm3", NULL,
 };
 #define NKEYS(a) (sizeof a / sizeof a[0])
 
 static int num(const cJSON *it, const char *path, double lo, double hi, double *out,
                tz_err *err)
 {
-  if (!cJSON_IsNumber(it) || !isfinite(it->valuedouble))
-    return tz_fail(err, TZ_E_FORMAT, "%s: expected a number", path);
-  if (!(it->valuedouble >= lo && it->valuedouble <= hi))
-    return tz_fail(err, TZ_E_FORMAT, "%s: %g is outside %g..%g", path, it->valuedouble, lo, hi);
-  *out = it->valuedouble;
-  return TZ_OK;
-}
-
-static int known(const cJSON *obj, const char *path, const char *const *keys, size_t n,
-                 tz_err *err)
-{
-  const cJSON *it;
-  cJSON_ArrayForEach(it, obj) {
-    size_t i = 0;
-    while (i < n && strcmp(it->string, keys[i]))
-      i++;
-    if (i == n)
-      return tz_fail(err, TZ_E_FORMAT, "%s: unknown key \"%s\" (did you mean \"%s\"?)", path,
-                     it->string, geometry_nearest_key(it->string, keys, n));
-  }
-  return TZ_OK;
+  return json_doc_number(it, path, lo, hi, out, TZ_E_FORMAT, err);
 }
 
 static int model_from_json(synth_model *m, const cJSON *root, tz_err *err)
 {
   if (!cJSON_IsObject(root))
     return tz_fail(err, TZ_E_FORMAT, "model: expected a JSON object");
-  if (known(root, "model", model_keys, NKEYS(model_keys), err))
+  if (json_doc_check_keys(root, "$", model_keys, TZ_E_FORMAT, err))
     return err->status;
   const cJSON *layers = cJSON_GetObjectItemCaseSensitive(root, "layers");
   if (!cJSON_IsArray(layers) || cJSON_GetArraySize(layers) < 1)
-    return tz_fail(err, TZ_E_FORMAT, "layers: expected an array of at least one layer");
+    return tz_fail(err, TZ_E_FORMAT, "$.layers: expected an array of at least one layer");
   int n = cJSON_GetArraySize(layers);
   if (n > SYNTH_MAX_LAYERS)
-    return tz_fail(err, TZ_E_FORMAT, "layers: more than %d layers", SYNTH_MAX_LAYERS);
+    return tz_fail(err, TZ_E_FORMAT, "$.layers: more than %d layers", SYNTH_MAX_LAYERS);
   int i = 0;
   const cJSON *ly;
   cJSON_ArrayForEach(ly, layers) {
     char path[64];
-    snprintf(path, sizeof path, "layers[%d]", i);
+    snprintf(path, sizeof path, "$.layers[%d]", i);
     if (!cJSON_IsObject(ly))
       return tz_fail(err, TZ_E_FORMAT, "%s: expected an object", path);
-    if (known(ly, path, layer_keys, NKEYS(layer_keys), err))
+    if (json_doc_check_keys(ly, path, layer_keys, TZ_E_FORMAT, err))
       return err->status;
     synth_layer *L = &m->layer[i];
     const cJSON *h = cJSON_GetObjectItemCaseSensitive(ly, "thickness_m");
@@ -124,8 +104,8 @@ static int model_from_json(synth_model *m, const cJSON *root, tz_err *err)
   const cJSON *dp = cJSON_GetObjectItemCaseSensitive(root, "dipping_interface");
   if (dp) {
     if (!cJSON_IsObject(dp))
-      return tz_fail(err, TZ_E_FORMAT, "dipping_interface: expected an object");
-    if (known(dp, "dipping_interface", dip_keys, NKEYS(dip_keys), err))
+      return tz_fail(err, TZ_E_FORMAT, "$.dipping_interface: expected an object");
+    if (json_doc_check_keys(dp, "$.dipping_interface", dip_keys, TZ_E_FORMAT, err))
       return err->status;
     synth_dip *D = &m->dip;
     D->present = 1;
@@ -144,7 +124,7 @@ static int model_from_json(synth_model *m, const cJSON *root, tz_err *err)
     for (size_t k = 0; k < NKEYS(f); k++) {
       const cJSON *it = cJSON_GetObjectItemCaseSensitive(dp, f[k].k);
       char sub[96];
-      snprintf(sub, sizeof sub, "dipping_interface.%s", f[k].k);
+      snprintf(sub, sizeof sub, "$.dipping_interface.%s", f[k].k);
       if (!it) {
         if (f[k].req)
           return tz_fail(err, TZ_E_FORMAT, "%s: missing", sub);
@@ -162,7 +142,7 @@ int synth_model_parse(synth_model *m, const char *json, size_t len, const char *
 {
   memset(m, 0, sizeof *m);
   cJSON *root;
-  if (json_doc_parse(&root, json, len, name, "model", err))
+  if (json_doc_parse(&root, json, len, name, "model", TZ_E_FORMAT, err))
     return err->status;
   int rc = model_from_json(m, root, err);
   cJSON_Delete(root);

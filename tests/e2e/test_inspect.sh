@@ -70,7 +70,7 @@ corrupt 65 varlong.sgy "varlong.sgy: trace 3: byte 4176: truncated last trace: 2
 expect_status 66 "a folder with no SEG-Y files" -- "$TZERO" inspect "$D/empty"
 expect_stderr "empty: no \*.sgy or \*.segy files in the folder \(cannot open input\)" "empty folder named"
 expect_status 65 "header map that is not JSON" -- "$TZERO" inspect --header-map "$D/map_bad.json" "$D/good.sgy"
-expect_stderr "map_bad.json: byte 40: header map is not valid JSON" "bad map: byte offset"
+expect_stderr "map_bad.json: line [0-9]+: byte 40: header map is not valid JSON" "bad map: byte offset"
 expect_status 65 "header map with an unknown field" -- "$TZERO" inspect --header-map "$D/map_field.json" "$D/good.sgy"
 expect_stderr "map_field.json: header map: \\$.sourcex: unknown trace header field" "bad map: field named"
 

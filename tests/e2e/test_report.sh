@@ -31,7 +31,7 @@ expect_status 65 "not a tzero-qc/1 report" -- "$TZERO" report "$T/x.json"
 expect_stderr 'format: expected "tzero-qc/1"' "wrong format: message"
 printf '{"format": "tzero-qc/1", ' >"$T/y.json"
 expect_status 65 "truncated report" -- "$TZERO" report "$T/y.json"
-expect_stderr 'y.json: byte [0-9]+: not valid JSON' "truncated report: message with byte offset"
+expect_stderr 'y.json: line 1: byte [0-9]+: not valid JSON' "truncated report: message with byte offset"
 expect_status 66 "missing report" -- "$TZERO" report "$T/none.json"
 expect_status 64 "no report given" -- "$TZERO" report
 expect_status 0 "--help" -- "$TZERO" report --help

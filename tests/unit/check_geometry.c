@@ -163,8 +163,9 @@ START_TEST(test_layout_errors)
     "{\"receiver_interval_m\": 5, ",
   };
   const char *want[] = { "did you mean \"channels_behind\"", "missing key \"channels\"",
-                         "receiver_interval_m must be > 0", "whole number", "spread",
-                         "invalid JSON" };
+                         "receiver_interval_m must be > 0",
+                         "$.shot_count: expected an integer", "$.spread: expected",
+                         "layout is not valid JSON" };
   for (size_t i = 0; i < sizeof bad / sizeof bad[0]; i++) {
     tz_err_init(&e);
     ck_assert_int_eq(geometry_layout_parse(&l, bad[i], strlen(bad[i]), "bad.json", &e),

@@ -57,16 +57,6 @@ static int parse(const char *text, job_spec **j, tz_err *e)
   return job_parse(j, text, strlen(text), "line.json", dir, e);
 }
 
-START_TEST(test_edit_distance)
-{
-  /* Levenshtein worked example (from memory): kitten -> sitting = 3 */
-  ck_assert_uint_eq(job_edit_distance("kitten", "sitting"), 3);
-  ck_assert_uint_eq(job_edit_distance("", "abc"), 3);
-  ck_assert_uint_eq(job_edit_distance("same", "same"), 0);
-  ck_assert_uint_eq(job_edit_distance("strech_limit_pct", "stretch_limit_pct"), 1);
-}
-END_TEST
-
 START_TEST(test_minimal_defaults)
 {
   job_spec *j = NULL;
@@ -307,7 +297,6 @@ static Suite *job_suite(void)
   Suite *s = suite_create("job");
   TCase *tc = tcase_create("job");
   tcase_add_checked_fixture(tc, setup, teardown);
-  tcase_add_test(tc, test_edit_distance);
   tcase_add_test(tc, test_minimal_defaults);
   tcase_add_test(tc, test_full_job);
   tcase_add_test(tc, test_velocity_not_written_yet);

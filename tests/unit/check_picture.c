@@ -263,7 +263,7 @@ START_TEST(test_fold_parse)
       "\"fold\": 1, \"live_fraction\": 1}, {\"cmp\": 2, \"fold\": 1, \"live_fraction\": 1}]}",
       "does not follow" },
     { "{\"format\": \"tzero-qc/1\", \"fold\": {\"nominal\": 1}, \"cmps\": []}", "no CMPs" },
-    { "{\"format\": \"tzero-qc/1\",", "invalid JSON" },
+    { "{\"format\": \"tzero-qc/1\",", "QC report is not valid JSON" },
   };
   for (size_t i = 0; i < sizeof bad / sizeof bad[0]; i++) {
     tz_err_init(&e);

@@ -232,12 +232,12 @@ START_TEST(test_model_errors)
     { "{\"layer\": []}", "did you mean \"layers\"" },
     { "{\"layers\": [{\"velocity_mps\": 1500, \"thickness_m\": 10}]}", "half-space" },
     { "{\"layers\": [{\"thickness_m\": 10, \"velocity_mps\": 1500}, {\"densty_kgm3\": 2}]}",
-      "layers[1]: unknown key \"densty_kgm3\"" },
+      "$.layers[1].densty_kgm3: unknown key; did you mean \"density_kgm3\"?" },
     { "{\"layers\": [{\"thickness_m\": 10}, {\"velocity_mps\": 1500}]}",
       "layers[0].velocity_mps: missing" },
     { "{\"layers\": [{\"velocity_mps\": 1500}], \"dipping_interface\": {\"depth_m\": 5, "
       "\"dip_deg\": 95, \"velocity_below_mps\": 2000}}", "dipping_interface.dip_deg" },
-    { "{\"layers\": [", "invalid JSON" },
+    { "{\"layers\": [", "model is not valid JSON" },
   };
   for (size_t i = 0; i < sizeof c / sizeof c[0]; i++) {
     synth_model m;
