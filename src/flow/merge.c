@@ -127,7 +127,7 @@ static int load_part(part *pt, tz_err *err)
   int rc = fileio_read_all(pt->report, QC_MAX_BYTES, &text, &len, err);
   if (rc)
     return rc;
-  rc = json_doc_parse(&pt->root, text, len, pt->report, "QC report", err);
+  rc = json_doc_parse(&pt->root, text, len, pt->report, "QC report", TZ_E_FORMAT, err);
   free(text);
   if (rc)
     return rc;

@@ -572,7 +572,7 @@ static int parse_limits(job_spec *j, const cJSON *v, const char *dir, tz_err *er
   }
   if (!cJSON_IsObject(v))
     return tz_fail(err, TZ_E_JOB, "$.limits: expected a limits file name or an object of "
-                   "limits, got %s", kind_name(v));
+                   "limits, got %s", json_doc_kind_name(v));
   char *text = cJSON_PrintUnformatted(v);
   if (!text)
     return tz_fail(err, TZ_E_NOMEM, "job limits");

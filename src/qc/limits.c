@@ -22,7 +22,7 @@
 
 #include "qc/qc_int.h"
 #include "tzero/fileio.h"
-#include "tzero/job.h"
+#include "util/json_doc.h"
 
 #define BY_OFFSET "max_muted_pct_by_offset"
 
@@ -82,17 +82,6 @@ int limits_copy(limits_set *dst, const limits_set *src, tz_err *err)
 
 /* ---------------------------------------------------------------- parsing */
 
-static const char *kind_name(const cJSON *v)
-{
-  if (cJSON_IsString(v)) return "a string";
-  if (cJSON_IsNumber(v)) return "a number";
-  if (cJSON_IsBool(v)) return "a boolean";
-  if (cJSON_IsNull(v)) return "null";
-  if (cJSON_IsArray(v)) return "an array";
-  if (cJSON_IsObject(v)) return "an object";
-  return "something else";
-}
-
 /* The known key nearest to `k`, or NULL. */
 static const char *nearest(const char *k)
 {
@@ -100,7 +89,7 @@ static const char *nearest(const char *k)
   size_t bd = (size_t)-1;
   for (int i = 0; i <= LIMITS__COUNT; i++) {
     const char *name = i < LIMITS__COUNT ? keys[i].name : BY_OFFSET;
-    size_t d = job_edit_distance(k, name);
+    size_t d = json_doc_edit_distance(k, name);
     if (d < bd) {
       bd = d;
       best = name;
@@ -113,7 +102,7 @@ static int parse_value(limits_set *l, int k, const cJSON *v, const char *jp, tz_
 {
   const char *name = keys[k].name;
   if (!cJSON_IsNumber(v) || !isfinite(v->valuedouble))
-    return tz_fail(err, TZ_E_JOB, "%s.%s: expected a number, got %s", jp, name, kind_name(v));
+    return tz_fail(err, TZ_E_JOB, "%s.%s: expected a number, got %s", jp, name, json_doc_kind_name(v));
   double x = v->valuedouble;
   if (x < 0)
     return tz_fail(err, TZ_E_JOB, "%s.%s: expected a value of 0 or more, got %g", jp, name, x);
@@ -130,7 +119,7 @@ static int parse_bands(limits_set *l, const cJSON *v, const char *jp, tz_err *er
 {
   if (!cJSON_IsArray(v))
     return tz_fail(err, TZ_E_JOB, "%s.%s: expected an array of [offset_from_m, offset_to_m, "
-                   "pct], got %s", jp, BY_OFFSET, kind_name(v));
+                   "pct], got %s", jp, BY_OFFSET, json_doc_kind_name(v));
   int n = cJSON_GetArraySize(v);
   if (n > (int)LIMITS_MAX_BANDS)
     return tz_fail(err, TZ_E_JOB, "%s.%s: %d entries, at most %u", jp, BY_OFFSET, n,
@@ -143,7 +132,7 @@ static int parse_bands(limits_set *l, const cJSON *v, const char *jp, tz_err *er
   for (const cJSON *e = v->child; e; e = e->next, i++) {
     if (!cJSON_IsArray(e) || cJSON_GetArraySize(e) != 3)
       return tz_fail(err, TZ_E_JOB, "%s.%s[%d]: expected [offset_from_m, offset_to_m, pct], "
-                     "got %s", jp, BY_OFFSET, i, kind_name(e));
+                     "got %s", jp, BY_OFFSET, i, json_doc_kind_name(e));
     const cJSON *a = cJSON_GetArrayItem(e, 0), *b = cJSON_GetArrayItem(e, 1),
                 *c = cJSON_GetArrayItem(e, 2);
     const char *what[3] = { "offset_from_m", "offset_to_m", "pct" };
@@ -153,7 +142,7 @@ static int parse_bands(limits_set *l, const cJSON *v, const char *jp, tz_err *er
         continue;   /* an open band: offsets from offset_from_m up */
       if (!cJSON_IsNumber(x[q]) || !isfinite(x[q]->valuedouble))
         return tz_fail(err, TZ_E_JOB, "%s.%s[%d][%d] (%s): expected a number, got %s", jp,
-                       BY_OFFSET, i, q, what[q], kind_name(x[q]));
+                       BY_OFFSET, i, q, what[q], json_doc_kind_name(x[q]));
       if (x[q]->valuedouble < 0)
         return tz_fail(err, TZ_E_JOB, "%s.%s[%d][%d] (%s): expected a value of 0 or more, "
                        "got %g", jp, BY_OFFSET, i, q, what[q], x[q]->valuedouble);
@@ -177,7 +166,7 @@ static int parse_tree(limits_set *l, const cJSON *root, const char *jp, tz_err *
 {
   if (!cJSON_IsObject(root))
     return tz_fail(err, TZ_E_JOB, "%s: expected an object of limits, got %s", jp,
-                   kind_name(root));
+                   json_doc_kind_name(root));
   for (const cJSON *c = root->child; c; c = c->next) {
     const char *k = c->string ? c->string : "";
     for (const cJSON *d = c->next; d; d = d->next)
@@ -187,7 +176,7 @@ static int parse_tree(limits_set *l, const cJSON *root, const char *jp, tz_err *
     if (!strcmp(k, "description")) {
       if (!cJSON_IsString(c))
         return tz_fail(err, TZ_E_JOB, "%s.description: expected a string, got %s", jp,
-                       kind_name(c));
+                       json_doc_kind_name(c));
       continue;
     }
     if (!strcmp(k, BY_OFFSET)) {
@@ -221,25 +210,9 @@ int limits_parse(limits_set *l, const char *text, size_t len, const char *name, 
                  tz_err *err)
 {
   limits_init(l);
-  char *copy = malloc(len + 1);
-  if (!copy)
-    return tz_fail(err, TZ_E_NOMEM, "limits text");
-  memcpy(copy, text, len);
-  copy[len] = '\0';
-  const char *end = NULL;
-  cJSON *root = cJSON_ParseWithOpts(copy, &end, 1);
-  if (!root) {
-    size_t off = end && end >= copy && end <= copy + len ? (size_t)(end - copy) : len;
-    int64_t line = 1;
-    for (size_t i = 0; i < off; i++)
-      line += copy[i] == '\n';
-    free(copy);
-    tz_err_path(err, name);
-    tz_fail_at(err, TZ_E_FORMAT, -1, (int64_t)off, "limits: not valid JSON");
-    err->line = line;
+  cJSON *root = NULL;
+  if (json_doc_parse(&root, text, len, name, "limits", TZ_E_JOB, err))
     return err->status;
-  }
-  free(copy);
   int rc = parse_tree(l, root, jpath ? jpath : "$", err);
   cJSON_Delete(root);
   if (rc) {
