@@ -130,6 +130,23 @@ void job_overrides_init(job_overrides *o);
 /* Applies and re-checks the overridden values (missing velocity file etc.). */
 int job_apply_overrides(job_spec *j, const job_overrides *o, tz_err *err);
 
+/* Every file the job reads, in a fixed order (job file, velocity table, geometry
+ * file, header map, limits file, then the shot files): fn(ctx, path, kind) for
+ * each; a non-zero return stops the walk and is returned. Dependency lists
+ * (tzero stack --depfile) and the output-over-input checks use this one list. */
+enum job_input_kind { JOB_INPUT_JOB = 0, JOB_INPUT_VELOCITY, JOB_INPUT_GEOMETRY,
+                      JOB_INPUT_HEADER_MAP, JOB_INPUT_LIMITS, JOB_INPUT_SHOT,
+                      JOB_INPUT_TABLE };
+typedef int (*job_input_fn)(void *ctx, const char *path, int kind);
+int job_foreach_input(const job_spec *j, job_input_fn fn, void *ctx);
+
+/* Writes a make(1) dependency file: "TARGET...: INPUT..." with every input of
+ * job_foreach_input(), then an empty rule per input (so a deleted input does not
+ * stop make), as compilers write with -MD -MP. Spaces, '#' and '$' in paths are
+ * escaped for make. Written under a temporary name, renamed on success. */
+int job_write_depfile(const job_spec *j, const char *const *targets, size_t ntargets,
+                      const char *path, tz_err *err);
+
 /* TZ_E_CREATE when writing `out` would replace one of the job's inputs (the job
  * file, a shot file, the geometry file, the header map and, when `reads_velocity`,
  * the velocity table): outputs are renamed into place, so the input would be

@@ -50,6 +50,11 @@ const char *qc_report_line(const qc_report *r);
  * are and limits files are not. */
 int qc_text_is_report(const char *text, size_t len);
 
+/* One line for batch logs: line name, the run's exit status, CMP range, fold
+ * min/mean/max and nominal, muted percentage, skipped traces, velocity
+ * warnings; with json, the same as one JSON object on one line (no newline).
+ * *text owns a string. */
+int qc_report_brief(const qc_report *r, int exit_status, int json, char **text, tz_err *err);
 /* The human summary (several lines, '\n'-terminated). *text owns a string. */
 int qc_report_summary(const qc_report *r, char **text, tz_err *err);
 /* One CMP in detail; TZ_E_ARG when the report has no such CMP. */

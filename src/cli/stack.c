@@ -9,6 +9,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include <sysexits.h>
+#include <cjson/cJSON.h>
 
 #include "cli.h"
 #include "jobopts.h"
@@ -35,7 +36,8 @@ static void help(void)
          "  --report FILE          QC report (JSON)\n"
          "  --stretch-limit PCT    stretch mute limit, percent of (t - t0)/t0 (0 = off)\n"
          "  --interpolation NAME   linear or sinc8\n"
-         "  --cmp-range FIRST-LAST stack only these CMPs\n"
+         "  --cmp-range FIRST-LAST stack only these CMPs (a part of the line: parts\n"
+         "                         are joined by tzero merge)\n"
          "  --threads N            threads (default: the machine's online cores);\n"
          "                         the output is bitwise identical for any N\n"
          "  --skip-bad-files       list missing or corrupt shot files in the report\n"
@@ -44,6 +46,12 @@ static void help(void)
          "                         the report to the job's \"limits\" (docs/qc-report.md\n"
          "                         \"Limits\"): one line per limit, exit 1 when one broke\n"
          "  --json                 print the QC report instead of the summary\n"
+         "  --brief                print one line instead: line, exit status, CMPs,\n"
+         "                         fold, muted %%, skipped traces, velocity warnings\n"
+         "                         (also after a failure); with --json, one JSON object\n"
+         "  --depfile FILE         write a make(1) dependency file: the section and\n"
+         "                         report depend on the job, its shot files, velocity\n"
+         "                         table and every other input (docs/batch.md)\n"
          "  --quiet                print nothing on success\n"
          "  -h, --help             this text\n"
          "\n"
@@ -102,6 +110,46 @@ static int gate(const char *report, const job_spec *job, int print, int quiet, t
   return out;
 }
 
+/* --brief: the run's one-line result (qc_report_brief) on stdout. */
+static int print_brief(const char *report, int broken, int json, tz_err *e)
+{
+  qc_report *qr = NULL;
+  char *text = NULL;
+  int rc = qc_report_parse(&qr, report, strlen(report), "report", e);
+  if (!rc)
+    rc = qc_report_brief(qr, broken ? 1 : 0, json, &text, e);
+  if (!rc)
+    printf(json ? "%s\n" : "%s", text);
+  free(text);
+  qc_report_free(qr);
+  return rc;
+}
+
+/* --brief after a failure: the line (or the job), the exit status and the reason,
+ * on stdout, so a batch log has one line per run whatever happened (the full
+ * message is on stderr as usual). */
+static void print_brief_failure(const char *jobpath, const char *line, int status,
+                                const tz_err *e, int json)
+{
+  const char *name = line && line[0] ? line : jobpath;
+  if (!json) {
+    printf("%s  exit %d  failed: %s\n", name, status, e->msg);
+    return;
+  }
+  cJSON *o = cJSON_CreateObject();
+  if (!o)
+    return;
+  cJSON_AddStringToObject(o, "line", name);
+  cJSON_AddStringToObject(o, "job", jobpath);
+  cJSON_AddNumberToObject(o, "exit_status", status);
+  cJSON_AddStringToObject(o, "error", e->msg);
+  char *s = cJSON_PrintUnformatted(o);
+  cJSON_Delete(o);
+  if (s)
+    printf("%s\n", s);
+  free(s);
+}
+
 /* Prints the summary of the report text (the same code path as tzero report). */
 static int print_summary(const char *report, const char *report_path, tz_err *e)
 {
@@ -129,13 +177,15 @@ int cmd_stack(int argc, char **argv)
     { "cmp-range", required_argument, NULL, 'c' },
     { "json", no_argument, NULL, 'j' },
     { "check", no_argument, NULL, 'C' },
+    { "brief", no_argument, NULL, 'B' },
+    { "depfile", required_argument, NULL, 'D' },
     { "quiet", no_argument, NULL, 'q' },
     { "help", no_argument, NULL, 'h' },
     JOBOPTS_LONG,
     { NULL, 0, NULL, 0 },
   };
-  const char *jobpath = NULL;
-  int json = 0, quiet = 0, check = 0, c;
+  const char *jobpath = NULL, *depfile = NULL;
+  int json = 0, quiet = 0, check = 0, brief = 0, c;
   job_overrides ov;
   job_overrides_init(&ov);
   optind = 1;
@@ -156,6 +206,8 @@ int cmd_stack(int argc, char **argv)
       break;
     case 'j': json = 1; break;
     case 'C': check = 1; break;
+    case 'B': brief = 1; break;
+    case 'D': depfile = optarg; break;
     case 'q': quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
@@ -178,8 +230,12 @@ int cmd_stack(int argc, char **argv)
   cli_progress_init(&pg, "header pass", quiet || json);
   int rc = flow_setup_load(&su, jobpath, &ov, 1, cli_progress_show, &pg, &e);
   cli_progress_end(&pg);
-  if (rc)
-    return cli_report("stack", &e);
+  if (rc) {
+    rc = cli_report("stack", &e);
+    if (brief)
+      print_brief_failure(jobpath, NULL, rc, &e, json);
+    return rc;
+  }
   const job_spec *job = su.job;
   if (!job->section) {
     rc = tz_fail(&e, TZ_E_JOB, "$.output.section: no output section (give it in the job or "
@@ -238,16 +294,23 @@ int cmd_stack(int argc, char **argv)
       goto done;
     }
   }
-  if (json)
+  if (depfile) {
+    const char *targets[2] = { job->section, job->report };
+    if ((rc = job_write_depfile(job, targets, job->report ? 2 : 1, depfile, &e)))
+      goto done;
+  }
+  if (json && !brief)
     printf("%s\n", report);
-  else if (!quiet)
+  else if (!quiet && !brief)
     rc = print_summary(report, job->report, &e);
   int broken = 0;
   if (!rc && check) {
-    int g = gate(report, job, !quiet && !json, quiet, &e);
+    int g = gate(report, job, !quiet && !json && !brief, quiet, &e);
     broken = g < 0;
     rc = g > 0 ? g : 0;
   }
+  if (!rc && brief)
+    rc = print_brief(report, broken, json, &e);
   if (!rc && broken) {
     free(report);
     stack_section_free(sec);
@@ -259,6 +322,8 @@ done:
   if (rc) {
     tz_err_path(&e, jobpath);   /* an error of no particular file belongs to the job */
     rc = cli_report("stack", &e);
+    if (brief)
+      print_brief_failure(jobpath, job->name, rc, &e, json);
   }
   free(report);
   stack_section_free(sec);

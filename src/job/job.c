@@ -799,21 +799,44 @@ static int add_str(cJSON *o, const char *k, const char *v)
 
 /* ---------------------------------------------------------------- outputs */
 
+int job_foreach_input(const job_spec *j, job_input_fn fn, void *ctx)
+{
+  const struct { const char *path; int kind; } one[] = {
+    { j->path, JOB_INPUT_JOB }, { j->velocity, JOB_INPUT_VELOCITY },
+    { j->geometry_file, JOB_INPUT_GEOMETRY }, { j->header_map, JOB_INPUT_HEADER_MAP },
+    { j->limits_file, JOB_INPUT_LIMITS },
+  };
+  int rc = 0;
+  for (size_t i = 0; !rc && i < sizeof one / sizeof one[0]; i++)
+    if (one[i].path && one[i].path[0])
+      rc = fn(ctx, one[i].path, one[i].kind);
+  for (size_t i = 0; !rc && i < j->nshots; i++)
+    rc = fn(ctx, j->shots[i], JOB_INPUT_SHOT);
+  return rc;
+}
+
+struct output_check {
+  const char *out, *what;
+  int reads_velocity;
+  tz_err *err;
+};
+
+static int check_one_input(void *ctx, const char *path, int kind)
+{
+  struct output_check *c = ctx;
+  if (kind == JOB_INPUT_VELOCITY && !c->reads_velocity)
+    return 0;
+  return fileio_check_not_input(c->out, path, c->what, c->err);
+}
+
 int job_check_output(const job_spec *j, const char *out, const char *what, int reads_velocity,
                      tz_err *err)
 {
   struct stat st;
   if (!out || stat(out, &st) != 0)
     return TZ_OK;                        /* not there yet: nothing to overwrite */
-  const char *one[] = { j->path, reads_velocity ? j->velocity : NULL, j->geometry_file,
-                        j->header_map };
-  int rc = TZ_OK;
-  for (size_t i = 0; !rc && i < sizeof one / sizeof one[0]; i++)
-    if (one[i] && one[i][0])
-      rc = fileio_check_not_input(out, one[i], what, err);
-  for (size_t i = 0; !rc && i < j->nshots; i++)
-    rc = fileio_check_not_input(out, j->shots[i], what, err);
-  return rc;
+  struct output_check c = { out, what, reads_velocity, err };
+  return job_foreach_input(j, check_one_input, &c);
 }
 
 int job_check_outputs(const job_spec *j, tz_err *err)
@@ -953,4 +976,57 @@ int job_to_json(const job_spec *j, char **out, tz_err *err)
     return tz_fail(err, TZ_E_NOMEM, "resolved job JSON");
   *out = s;
   return TZ_OK;
+}
+
+/* ---------------------------------------------------------------- dependency files */
+
+static int put_make_path(FILE *fp, const char *s)
+{
+  for (; *s; s++) {
+    int ok = 1;
+    if (*s == ' ' || *s == '#' || *s == '\\')
+      ok = fputc('\\', fp) != EOF;
+    if (*s == '$')
+      ok = fputc('$', fp) != EOF;
+    if (!ok || fputc(*s, fp) == EOF)
+      return -1;
+  }
+  return 0;
+}
+
+struct dep_writer {
+  FILE *fp;
+  int pass;               /* 0: the dependency list, 1: the empty rules */
+};
+
+static int put_dep(void *ctx, const char *path, int kind)
+{
+  struct dep_writer *d = ctx;
+  (void)kind;
+  if (d->pass == 0)
+    return fputs(" \\\n  ", d->fp) == EOF || put_make_path(d->fp, path);
+  return put_make_path(d->fp, path) || fputs(":\n", d->fp) == EOF;
+}
+
+int job_write_depfile(const job_spec *j, const char *const *targets, size_t ntargets,
+                      const char *path, tz_err *err)
+{
+  fileio_out *o = NULL;
+  int rc = fileio_create(&o, path, err);
+  if (rc)
+    return rc;
+  struct dep_writer d = { fileio_stream(o), 0 };
+  int bad = 0;
+  for (size_t i = 0; !bad && i < ntargets; i++)
+    bad = (i && fputc(' ', d.fp) == EOF) || put_make_path(d.fp, targets[i]);
+  bad = bad || fputc(':', d.fp) == EOF || job_foreach_input(j, put_dep, &d) ||
+        fputs("\n\n", d.fp) == EOF;
+  d.pass = 1;
+  bad = bad || job_foreach_input(j, put_dep, &d);
+  if (bad) {
+    fileio_abort(o);
+    tz_fail(err, TZ_E_IO, "write failed");
+    return tz_err_path(err, path);
+  }
+  return fileio_commit(o, err);
 }

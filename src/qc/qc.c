@@ -510,6 +510,48 @@ static void fmt_bytes(double b, char *buf, size_t cap)
     snprintf(buf, cap, "%.1f kB", b / 1e3);
 }
 
+static int finish(sbuf *b, char **text, tz_err *err);
+
+int qc_report_brief(const qc_report *r, int exit_status, int json, char **text, tz_err *err)
+{
+  const cJSON *R = r->root;
+  const char *line = strv(R, "line", "");
+  double skipped = numv(R, "traces.skipped_total"), read = numv(R, "traces.read");
+  const cJSON *w = at(R, "velocity.warnings");
+  int warnings = cJSON_GetArraySize(w);
+  if (json) {
+    cJSON *o = cJSON_CreateObject();
+    if (o) {
+      cJSON_AddStringToObject(o, "line", line);
+      cJSON_AddNumberToObject(o, "exit_status", exit_status);
+      cJSON_AddNumberToObject(o, "cmp_first", numv(R, "section.cmp_first"));
+      cJSON_AddNumberToObject(o, "cmp_last", numv(R, "section.cmp_last"));
+      cJSON_AddNumberToObject(o, "cmps", numv(R, "section.cmps"));
+      cJSON_AddNumberToObject(o, "fold_nominal", numv(R, "fold.nominal"));
+      cJSON_AddNumberToObject(o, "fold_min", numv(R, "fold.min"));
+      cJSON_AddNumberToObject(o, "fold_mean", numv(R, "fold.mean"));
+      cJSON_AddNumberToObject(o, "fold_max", numv(R, "fold.max"));
+      cJSON_AddNumberToObject(o, "muted_pct", round_to(100 * numv(R, "mute.muted_fraction"), 1e-4));
+      cJSON_AddNumberToObject(o, "skipped_traces", skipped);
+      cJSON_AddNumberToObject(o, "velocity_warnings", warnings);
+      cJSON_AddStringToObject(o, "section", strv(R, "section.path", ""));
+    }
+    char *s = o ? cJSON_PrintUnformatted(o) : NULL;
+    cJSON_Delete(o);
+    if (!s)
+      return tz_fail(err, TZ_E_NOMEM, "brief result");
+    *text = s;
+    return TZ_OK;
+  }
+  sbuf b = { 0 };
+  put(&b, "%s  exit %d  CMPs %.0f-%.0f  fold %.0f/%.2f/%.0f (nominal %.1f)  muted %.2f %%  "
+      "skipped %.0f of %.0f  warnings %d\n", line[0] ? line : "(unnamed)", exit_status,
+      numv(R, "section.cmp_first"), numv(R, "section.cmp_last"), numv(R, "fold.min"),
+      numv(R, "fold.mean"), numv(R, "fold.max"), numv(R, "fold.nominal"),
+      100 * numv(R, "mute.muted_fraction"), skipped, read, warnings);
+  return finish(&b, text, err);
+}
+
 int qc_report_summary(const qc_report *r, char **text, tz_err *err)
 {
   const cJSON *R = r->root;
