@@ -676,15 +676,25 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
     free_shared(&sh);
     return rc;
   }
-  pthread_mutex_init(&sh.bar.mu, NULL);
-  pthread_cond_init(&sh.bar.cv, NULL);
+  /* The barrier's and the start gate's locks; on a failure, those made so far
+   * are destroyed and nothing has started. */
+  int made = 0;
+  if (!pthread_mutex_init(&sh.bar.mu, NULL) && ++made && !pthread_cond_init(&sh.bar.cv, NULL) &&
+      ++made && !pthread_mutex_init(&sh.gate_mu, NULL) && ++made &&
+      !pthread_cond_init(&sh.gate_cv, NULL))
+    made++;
+  if (made < 4) {
+    if (made > 2) pthread_mutex_destroy(&sh.gate_mu);
+    if (made > 1) pthread_cond_destroy(&sh.bar.cv);
+    if (made > 0) pthread_mutex_destroy(&sh.bar.mu);
+    free_shared(&sh);
+    return tz_fail(err, TZ_E_INTERNAL, "cannot make the data pass's thread locks");
+  }
   atomic_init(&sh.bar.count, 0);
   atomic_init(&sh.bar.gen, 0);
   atomic_init(&sh.bar.failed, 0);
   atomic_init(&sh.bar.stop, 0);
   sh.bar.n = (unsigned)sh.T;
-  pthread_mutex_init(&sh.gate_mu, NULL);
-  pthread_cond_init(&sh.gate_cv, NULL);
   for (int t = 1; t < sh.T && !rc; t++) {
     if (pthread_create(&sh.wk[t].th, NULL, work, &sh.wk[t]))
       rc = tz_fail(err, TZ_E_INTERNAL, "cannot start thread %d of %d", t + 1, sh.T);

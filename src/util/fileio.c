@@ -7,9 +7,14 @@
 #include "tzero/fileio.h"
 
 #include <errno.h>
+#include <fcntl.h>
+#include <stdint.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/random.h>
 #include <sys/stat.h>
+#include <time.h>
 #include <unistd.h>
 
 struct fileio_out {
@@ -18,6 +23,25 @@ struct fileio_out {
   char *target;   /* what the rename replaces: path, or the file a symbolic link names */
   char *tmp;
 };
+
+/* Creates the temporary ".NAME.tmp-XXXXXXXX" beside the target with a random
+ * suffix, O_EXCL, mode 0666: the kernel applies the process umask itself, so
+ * outputs get the usual umask-governed mode without anyone changing the umask
+ * (a umask(0) round trip would race with files other threads create). */
+static int open_unique(char *tmp, size_t dirlen, size_t cap, const char *base)
+{
+  for (int attempt = 0; attempt < 100; attempt++) {
+    uint32_t r = 0;
+    if (getrandom(&r, sizeof r, 0) != (ssize_t)sizeof r)
+      r = (uint32_t)getpid() * 2654435761u + (uint32_t)attempt * 40503u + (uint32_t)clock();
+    snprintf(tmp + dirlen, cap, ".%s.tmp-%08x", base, (unsigned)r);
+    int fd = open(tmp, O_RDWR | O_CREAT | O_EXCL | O_CLOEXEC, 0666);
+    if (fd >= 0 || errno != EEXIST)
+      return fd;
+  }
+  errno = EEXIST;
+  return -1;
+}
 
 int fileio_create(fileio_out **out, const char *path, tz_err *err)
 {
@@ -62,8 +86,7 @@ int fileio_create(fileio_out **out, const char *path, tz_err *err)
   const char *slash = strrchr(target, '/');
   size_t dirlen = slash ? (size_t)(slash - target) + 1 : 0;
   memcpy(o->tmp, target, dirlen);
-  snprintf(o->tmp + dirlen, n + 32 - dirlen, ".%s.tmp-XXXXXX", target + dirlen);
-  int fd = mkstemp(o->tmp);
+  int fd = open_unique(o->tmp, dirlen, n + 32 - dirlen, target + dirlen);
   if (fd < 0) {
     int e = errno;
     free(o->tmp);
@@ -72,12 +95,6 @@ int fileio_create(fileio_out **out, const char *path, tz_err *err)
     free(o);
     tz_err_path(err, path);
     return tz_fail_os(err, TZ_E_CREATE, e, "cannot create output");
-  }
-  /* mkstemp makes 0600; outputs get the usual umask-governed mode. */
-  mode_t um = umask(0);
-  umask(um);
-  if (fchmod(fd, 0666 & ~um) != 0) {
-    /* not fatal: the file is still usable by its owner */
   }
   o->fp = fdopen(fd, "wb");
   if (!o->fp) {
