@@ -1,4 +1,5 @@
-/* condition.c -- trace conditioning: zero-phase trapezoid band-pass, gains, AGC.
+/* condition.c -- trace conditioning: zero-phase trapezoid band-pass, gains, AGC,
+ * and the record-wide steps (Wiener deconvolution, decon.c; f-k fan, fk.c).
  *
  * A chain of steps (condition.h) is bound once to a trace time axis by
  * condition_plan_new(): band-pass corners are checked against Nyquist, the
@@ -25,9 +26,16 @@
  * or the first sample) take the gain of the first positive sample time, so a
  * gain is never zero, negative or infinite.
  *
+ *   deconvolution, f-k   whole records through condition_apply_record(): the
+ *               design-window autocorrelation per trace or averaged over the record
+ *               (each trace's normalised to a zero lag of 1, dead traces left out),
+ *               a prediction error filter by Levinson's recursion, applied to the
+ *               whole trace; the f-k fan on the record's offset grid (fk.c).
+ *
  * Not here: reading traces, JSON (job.c fills a condition_chain), stacking.
  */
 #include "tzero/condition.h"
+#include "signal/signal_int.h"
 
 #include <fftw3.h>
 #include <float.h>
@@ -50,6 +58,10 @@ struct condition_plan {
   float *curve[CONDITION_MAX_STEPS];
   size_t klo[CONDITION_MAX_STEPS], khi[CONDITION_MAX_STEPS];  /* bins with A > 0 */
   size_t half[CONDITION_MAX_STEPS];                           /* AGC half window */
+  size_t gap[CONDITION_MAX_STEPS], nco[CONDITION_MAX_STEPS];  /* DECON, in samples */
+  size_t max_lag;                                             /* DECON: largest gap + nco */
+  int has_fk;
+  condition_fk *fk[CONDITION_MAX_STEPS];                      /* FK, after set_offsets */
 };
 
 struct condition_workspace {
@@ -64,6 +76,9 @@ struct condition_workspace {
   int64_t vref_cmp[CONDITION_MAX_STEPS];
   int vref_valid[CONDITION_MAX_STEPS];
   float vref_scale[CONDITION_MAX_STEPS];   /* 1 / V_rms(t_ref)^2 */
+  double *acf, *acf1, *pef, *lev;          /* DECON: max_lag each; Levinson 4 max_lag */
+  float *coef, *tmp;                       /* DECON: max_lag coefficients, ns samples */
+  condition_fk_work *fkw[CONDITION_MAX_STEPS];
 };
 
 /* ---- names ---- */
@@ -73,6 +88,8 @@ static const char *const kind_names[] = {
   [CONDITION_SPHERICAL] = "spherical_divergence",
   [CONDITION_POWER] = "power_gain",
   [CONDITION_AGC] = "agc",
+  [CONDITION_DECON] = "deconvolution",
+  [CONDITION_FK] = "fk_filter",
 };
 static const char *const measure_names[] = {
   [CONDITION_AGC_RMS] = "rms",
@@ -80,6 +97,24 @@ static const char *const measure_names[] = {
 };
 #define NKIND (sizeof kind_names / sizeof kind_names[0])
 #define NMEASURE (sizeof measure_names / sizeof measure_names[0])
+static const char *const ensemble_names[] = {
+  [CONDITION_ENSEMBLE_TRACE] = "trace",
+  [CONDITION_ENSEMBLE_RECORD] = "record",
+};
+#define NENSEMBLE (sizeof ensemble_names / sizeof ensemble_names[0])
+
+const char *condition_ensemble_name(int e)
+{
+  return e >= 0 && (size_t)e < NENSEMBLE ? ensemble_names[e] : "unknown";
+}
+
+int condition_ensemble_parse(const char *s)
+{
+  for (size_t k = 0; s && k < NENSEMBLE; k++)
+    if (!strcmp(s, ensemble_names[k]))
+      return (int)k;
+  return -1;
+}
 
 const char *condition_kind_name(int kind)
 {
@@ -241,6 +276,90 @@ int condition_chain_add_agc(condition_chain *c, double window_s, int measure, tz
   return TZ_OK;
 }
 
+int condition_chain_add_decon(condition_chain *c, double op_s, double gap_s, double pct,
+                              const double (*w)[3], size_t nw, int ensemble, tz_err *err)
+{
+  double max_s = CONDITION_MAX_OPERATOR_MS * 1e-3;
+  if (!isfinite(op_s) || op_s <= 0 || op_s > max_s)
+    return tz_fail(err, TZ_E_ARG, "operator_ms %.10g is not between 0 (exclusive) and %g",
+                   op_s * 1e3, CONDITION_MAX_OPERATOR_MS);
+  if (!isfinite(gap_s) || gap_s < 0)
+    return tz_fail(err, TZ_E_ARG, "gap_ms %.10g is not 0 (spiking) or more", gap_s * 1e3);
+  if (gap_s >= op_s)
+    return tz_fail(err, TZ_E_ARG, "gap_ms %.10g is not shorter than operator_ms %.10g",
+                   gap_s * 1e3, op_s * 1e3);
+  if (!isfinite(pct) || pct < 0 || pct > 100)
+    return tz_fail(err, TZ_E_ARG, "prewhitening_pct %.10g is not between 0 and 100", pct);
+  if (ensemble < 0 || (size_t)ensemble >= NENSEMBLE)
+    return tz_fail(err, TZ_E_ARG, "ensemble %d is not trace (0) or record (1)", ensemble);
+  if (nw < 1 || nw > CONDITION_MAX_WINDOW_POINTS)
+    return tz_fail(err, TZ_E_ARG, "window: %zu knots, expected 1 to %d", nw,
+                   CONDITION_MAX_WINDOW_POINTS);
+  for (size_t i = 0; i < nw; i++) {
+    double x = w[i][0], t0 = w[i][1], t1 = w[i][2];
+    if (!isfinite(x) || !isfinite(t0) || !isfinite(t1) || t0 < 0 ||
+        t1 * 1e3 > CONDITION_MAX_WINDOW_MS)
+      return tz_fail(err, TZ_E_ARG, "window[%zu]: [%.10g m, %.10g ms, %.10g ms] is not an "
+                     "offset and two times between 0 and %g ms", i, x, t0 * 1e3, t1 * 1e3,
+                     CONDITION_MAX_WINDOW_MS);
+    if (i && !(fabs(x) > fabs(w[i - 1][0])))
+      return tz_fail(err, TZ_E_ARG, "window[%zu]: |offset| %.10g m does not increase from "
+                     "window[%zu] (%.10g m)", i, fabs(x), i - 1, fabs(w[i - 1][0]));
+    if (!(t1 > t0))
+      return tz_fail(err, TZ_E_ARG, "window[%zu]: end %.10g ms is not after start %.10g ms", i,
+                     t1 * 1e3, t0 * 1e3);
+    if (t1 - t0 < op_s)
+      return tz_fail(err, TZ_E_ARG, "window[%zu]: the design window (%.10g ms) is shorter than "
+                     "the operator (%.10g ms)", i, (t1 - t0) * 1e3, op_s * 1e3);
+  }
+  condition_step *s = next_step(c, CONDITION_DECON, err);
+  if (!s)
+    return err->status;
+  s->operator_s = op_s;
+  s->gap_s = gap_s;
+  s->prewhitening_pct = pct;
+  s->ensemble = ensemble;
+  s->nwindow = nw;
+  memcpy(s->window, w, nw * sizeof *w);
+  c->n++;
+  return TZ_OK;
+}
+
+int condition_chain_add_fk(condition_chain *c, const double v[2], int pass, double taper_pct,
+                           double min_hz, tz_err *err)
+{
+  const char *key = pass ? "pass_mps" : "reject_mps";
+  for (int k = 0; k < 2; k++)
+    if (!isfinite(v[k]) || v[k] < 0 || v[k] > CONDITION_MAX_FK_MPS)
+      return tz_fail(err, TZ_E_ARG, "%s[%d] = %.10g m/s is not between 0 and %g", key, k, v[k],
+                     CONDITION_MAX_FK_MPS);
+  if (!(v[1] > v[0]))
+    return tz_fail(err, TZ_E_ARG, "%s: the fan's velocities are reversed or equal (%.10g, "
+                   "%.10g m/s): give [slower, faster]", key, v[0], v[1]);
+  if (!isfinite(taper_pct) || taper_pct < 0 || taper_pct > 100)
+    return tz_fail(err, TZ_E_ARG, "taper_pct %.10g is not between 0 and 100", taper_pct);
+  if (!isfinite(min_hz) || min_hz < 0)
+    return tz_fail(err, TZ_E_ARG, "min_hz %.10g is not a frequency >= 0", min_hz);
+  condition_step *s = next_step(c, CONDITION_FK, err);
+  if (!s)
+    return err->status;
+  s->fan_mps[0] = v[0];
+  s->fan_mps[1] = v[1];
+  s->fan_pass = pass ? 1 : 0;
+  s->taper_pct = taper_pct;
+  s->min_hz = min_hz;
+  c->n++;
+  return TZ_OK;
+}
+
+int condition_chain_has_record_steps(const condition_chain *c)
+{
+  for (size_t k = 0; k < c->n; k++)
+    if (c->step[k].kind == CONDITION_DECON || c->step[k].kind == CONDITION_FK)
+      return 1;
+  return 0;
+}
+
 int condition_chain_needs_velocity(const condition_chain *c)
 {
   for (size_t k = 0; k < c->n; k++)
@@ -251,8 +370,7 @@ int condition_chain_needs_velocity(const condition_chain *c)
 
 /* ---- the plan ---- */
 
-/* Smallest 2^a 3^b 5^c >= n (FFTW is fastest on such sizes). */
-static size_t fast_size(size_t n)
+size_t condition_fast_size(size_t n)
 {
   for (;; n++) {
     size_t m = n;
@@ -275,14 +393,16 @@ void condition_plan_free(condition_plan *p)
     fftwf_destroy_plan(p->fwd);
   if (p->inv)
     fftwf_destroy_plan(p->inv);
-  for (size_t k = 0; k < CONDITION_MAX_STEPS; k++)
+  for (size_t k = 0; k < CONDITION_MAX_STEPS; k++) {
     free(p->curve[k]);
+    condition_fk_free(p->fk[k]);
+  }
   free(p);
 }
 
 static int make_fft(condition_plan *p, tz_err *err)
 {
-  p->nfft = fast_size(2 * p->ns);
+  p->nfft = condition_fast_size(2 * p->ns);
   p->nspec = p->nfft / 2 + 1;
   if (p->nfft > (size_t)INT32_MAX)
     return tz_fail(err, TZ_E_ARG, "trace of %zu samples is too long to filter", p->ns);
@@ -332,6 +452,45 @@ static int plan_bandpass(condition_plan *p, size_t k, tz_err *err)
     lo = hi = 0;
   p->klo[k] = lo;
   p->khi[k] = hi;
+  return TZ_OK;
+}
+
+/* Deconvolution in samples; every knot's window, clipped to the trace, must hold the
+ * lags the operator needs (the window length is concave in offset between knots, so
+ * the knots are its shortest places). */
+static int plan_decon(condition_plan *p, size_t k, tz_err *err)
+{
+  const condition_step *s = &p->chain.step[k];
+  double nop = floor(s->operator_s / p->dt_s + 0.5), ngap = floor(s->gap_s / p->dt_s + 0.5);
+  if (s->gap_s > 0 && ngap < 1)
+    return tz_fail(err, TZ_E_ARG, "conditioning[%zu].gap_ms (deconvolution): %.10g ms is less "
+                   "than one sample (%.10g ms)", k, s->gap_s * 1e3, p->dt_s * 1e3);
+  if (s->gap_s == 0 && nop < 2)
+    return tz_fail(err, TZ_E_ARG, "conditioning[%zu].operator_ms (deconvolution): %.10g ms is "
+                   "fewer than two samples at %.10g ms", k, s->operator_s * 1e3, p->dt_s * 1e3);
+  if (nop < 1)
+    return tz_fail(err, TZ_E_ARG, "conditioning[%zu].operator_ms (deconvolution): %.10g ms is "
+                   "less than one sample (%.10g ms)", k, s->operator_s * 1e3, p->dt_s * 1e3);
+  /* The operator is the whole prediction error filter: gap samples (1 for spiking)
+   * then operator - gap prediction coefficients. */
+  p->gap[k] = s->gap_s == 0 ? 1 : (size_t)ngap;
+  if ((size_t)nop <= p->gap[k])
+    return tz_fail(err, TZ_E_ARG, "conditioning[%zu].gap_ms (deconvolution): the gap (%zu "
+                   "samples) leaves no prediction coefficients in the %.0f-sample operator",
+                   k, p->gap[k], nop);
+  p->nco[k] = (size_t)nop - p->gap[k];
+  size_t nlag = p->gap[k] + p->nco[k];
+  for (size_t i = 0; i < s->nwindow; i++) {
+    size_t i0, i1;
+    condition_decon_window(s, s->window[i][0], p->t_first_s, p->dt_s, p->ns, &i0, &i1);
+    if (i1 - i0 <= nlag)
+      return tz_fail(err, TZ_E_ARG, "conditioning[%zu].window[%zu] (deconvolution): the "
+                     "record (%zu samples from %.10g ms) holds %zu samples of the design "
+                     "window, fewer than the %zu + 1 the operator needs", k, i, p->ns,
+                     p->t_first_s * 1e3, i1 - i0, nlag);
+  }
+  if (nlag > p->max_lag)
+    p->max_lag = nlag;
   return TZ_OK;
 }
 
@@ -397,6 +556,12 @@ int condition_plan_new(condition_plan **out, const condition_chain *c, double t_
                      "three samples at the %.10g ms sample interval", k, s->window_s * 1e3,
                      dt_s * 1e3);
       break;
+    case CONDITION_DECON:
+      rc = plan_decon(p, k, err);
+      break;
+    case CONDITION_FK:
+      p->has_fk = 1;   /* grid and transforms: condition_plan_set_offsets() */
+      break;
     default:
       rc = tz_fail(err, TZ_E_ARG, "conditioning[%zu]: unknown step kind %d", k, s->kind);
     }
@@ -406,6 +571,23 @@ int condition_plan_new(condition_plan **out, const condition_chain *c, double t_
     return rc;
   }
   *out = p;
+  return TZ_OK;
+}
+
+int condition_plan_set_offsets(condition_plan *p, double spacing_m, double omin, double omax,
+                               tz_err *err)
+{
+  for (size_t k = 0; k < p->chain.n; k++) {
+    if (p->chain.step[k].kind != CONDITION_FK)
+      continue;
+    condition_fk *fk = NULL;
+    int rc = condition_fk_new(&fk, &p->chain.step[k], k, p->ns, p->dt_s, spacing_m, omin, omax,
+                              err);
+    if (rc)
+      return rc;
+    condition_fk_free(p->fk[k]);
+    p->fk[k] = fk;
+  }
   return TZ_OK;
 }
 
@@ -423,6 +605,14 @@ void condition_workspace_free(condition_workspace *ws)
   fftwf_free(ws->spec);
   free(ws->prefix);
   free(ws->vel);
+  free(ws->acf);
+  free(ws->acf1);
+  free(ws->pef);
+  free(ws->lev);
+  free(ws->coef);
+  free(ws->tmp);
+  for (size_t k = 0; k < CONDITION_MAX_STEPS; k++)
+    condition_fk_work_free(ws->fkw[k]);
   free(ws);
 }
 
@@ -445,6 +635,29 @@ int condition_workspace_new(condition_workspace **out, const condition_plan *p, 
   if (p->needs_vel) {
     ws->vel = malloc(p->ns * sizeof *ws->vel);
     bad |= !ws->vel;
+  }
+  if (p->max_lag) {
+    size_t m = p->max_lag;
+    ws->acf = malloc(m * sizeof *ws->acf);
+    ws->acf1 = malloc(m * sizeof *ws->acf1);
+    ws->pef = malloc(m * sizeof *ws->pef);
+    ws->lev = malloc(4 * m * sizeof *ws->lev);
+    ws->coef = malloc(m * sizeof *ws->coef);
+    ws->tmp = malloc(p->ns * sizeof *ws->tmp);
+    bad |= !ws->acf || !ws->acf1 || !ws->pef || !ws->lev || !ws->coef || !ws->tmp;
+  }
+  for (size_t k = 0; k < p->chain.n && !bad; k++) {
+    if (p->chain.step[k].kind != CONDITION_FK)
+      continue;
+    if (!p->fk[k]) {
+      condition_workspace_free(ws);
+      return tz_fail(err, TZ_E_ARG, "conditioning[%zu] (fk_filter): the line's trace spacing "
+                     "and offsets were never given (condition_plan_set_offsets)", k);
+    }
+    if (condition_fk_work_new(&ws->fkw[k], p->fk[k], err)) {
+      condition_workspace_free(ws);
+      return err->status;
+    }
   }
   if (bad) {
     condition_workspace_free(ws);
@@ -548,6 +761,39 @@ static void apply_agc(const condition_plan *p, size_t k, condition_workspace *ws
     x[i] = (float)(x[i] / (agc_level(P, i - h, ns, rms) + eps));
 }
 
+/* Step k (a per-trace kind) on one trace. */
+static void apply_trace_step(const condition_plan *p, size_t k, condition_workspace *ws,
+                             int64_t cmp, const float *vel_mps, float *x)
+{
+  switch (p->chain.step[k].kind) {
+  case CONDITION_BANDPASS:
+    apply_bandpass(p, k, ws, x);
+    break;
+  case CONDITION_SPHERICAL:
+    apply_spherical(p, k, ws, cmp, vel_mps, x);
+    break;
+  case CONDITION_POWER:
+    apply_curve(p->curve[k], x, p->ns);
+    break;
+  case CONDITION_AGC:
+    apply_agc(p, k, ws, x);
+    break;
+  }
+}
+
+/* TZ_E_FORMAT naming the first non-finite sample of x. */
+static int check_finite(const float *x, size_t ns, tz_err *err)
+{
+  double sum = 0;   /* one branch-free pass: any NaN or infinity makes the sum non-finite */
+  for (size_t i = 0; i < ns; i++)
+    sum += x[i];
+  if (!isfinite(sum))
+    for (size_t i = 0; i < ns; i++)
+      if (!isfinite(x[i]))
+        return tz_fail(err, TZ_E_FORMAT, "conditioning: sample %zu is not a finite number", i);
+  return TZ_OK;
+}
+
 int condition_apply(const condition_plan *p, condition_workspace *ws, int64_t cmp,
                     const float *vel_mps, float *x, tz_err *err)
 {
@@ -555,53 +801,121 @@ int condition_apply(const condition_plan *p, condition_workspace *ws, int64_t cm
     return tz_fail(err, TZ_E_ARG, "conditioning workspace was made for another plan");
   if (!p->chain.n)
     return TZ_OK;
-  double sum = 0;   /* one branch-free pass: any NaN or infinity makes the sum non-finite */
-  for (size_t i = 0; i < p->ns; i++)
-    sum += x[i];
-  if (!isfinite(sum))
-    for (size_t i = 0; i < p->ns; i++)
-      if (!isfinite(x[i]))
-        return tz_fail(err, TZ_E_FORMAT, "conditioning: sample %zu is not a finite number", i);
-  for (size_t k = 0; k < p->chain.n; k++) {
-    switch (p->chain.step[k].kind) {
-    case CONDITION_BANDPASS:
-      apply_bandpass(p, k, ws, x);
-      break;
-    case CONDITION_SPHERICAL:
-      apply_spherical(p, k, ws, cmp, vel_mps, x);
-      break;
-    case CONDITION_POWER:
-      apply_curve(p->curve[k], x, p->ns);
-      break;
-    case CONDITION_AGC:
-      apply_agc(p, k, ws, x);
-      break;
+  if (condition_chain_has_record_steps(&p->chain))
+    return tz_fail(err, TZ_E_ARG, "conditioning: the chain has record-wide steps "
+                   "(deconvolution, fk_filter): condition whole records");
+  if (check_finite(x, p->ns, err))
+    return err->status;
+  for (size_t k = 0; k < p->chain.n; k++)
+    apply_trace_step(p, k, ws, cmp, vel_mps, x);
+  return TZ_OK;
+}
+
+/* Autocorrelation of trace x in its design window into r[0 .. nlag), normalised to
+ * r[0] = 1; 0 for a trace with no energy there (left out of averages, not filtered). */
+static int trace_acf(const condition_plan *p, const condition_step *s, double offset_m,
+                     const float *x, size_t nlag, double *r)
+{
+  size_t i0, i1;
+  condition_decon_window(s, offset_m, p->t_first_s, p->dt_s, p->ns, &i0, &i1);
+  memset(r, 0, nlag * sizeof *r);
+  condition_decon_acf_add(x, i0, i1, nlag, r);
+  if (!(r[0] > 0))
+    return 0;
+  double inv = 1.0 / r[0];
+  for (size_t l = 0; l < nlag; l++)
+    r[l] *= inv;
+  return 1;
+}
+
+/* Prediction error filter from acf into ws->coef (the coefficients after the gap). */
+static int decon_operator(const condition_plan *p, size_t k, condition_workspace *ws,
+                          const double *acf, tz_err *err)
+{
+  const condition_step *s = &p->chain.step[k];
+  size_t g = p->gap[k], n = p->nco[k];
+  tz_err why;
+  tz_err_init(&why);
+  if (condition_wiener_pef(acf, g, n, s->prewhitening_pct, ws->pef, ws->lev, &why))
+    return tz_fail(err, TZ_E_FORMAT, "conditioning[%zu] (deconvolution): %s; raise "
+                   "prewhitening_pct", k, why.msg);
+  for (size_t j = 0; j < n; j++)
+    ws->coef[j] = (float)ws->pef[g + j];
+  return TZ_OK;
+}
+
+static int apply_decon(const condition_plan *p, size_t k, condition_workspace *ws,
+                       float *samples, size_t ntr, const condition_trace_info *info,
+                       tz_err *err)
+{
+  const condition_step *s = &p->chain.step[k];
+  size_t ns = p->ns, g = p->gap[k], n = p->nco[k], nlag = g + n;
+  if (s->ensemble == CONDITION_ENSEMBLE_RECORD) {
+    size_t nlive = 0;
+    memset(ws->acf, 0, nlag * sizeof *ws->acf);
+    for (size_t j = 0; j < ntr; j++)
+      if (info[j].live && trace_acf(p, s, info[j].offset_m, samples + j * ns, nlag, ws->acf1)) {
+        nlive++;
+        for (size_t l = 0; l < nlag; l++)
+          ws->acf[l] += ws->acf1[l];
+      }
+    if (!nlive)
+      return TZ_OK;   /* a dead record stays dead */
+    if (decon_operator(p, k, ws, ws->acf, err))
+      return err->status;
+    for (size_t j = 0; j < ntr; j++)
+      if (info[j].live)
+        condition_decon_filter(ws->coef, g, n, samples + j * ns, ws->tmp, ns);
+    return TZ_OK;
+  }
+  for (size_t j = 0; j < ntr; j++) {
+    float *x = samples + j * ns;
+    if (!info[j].live || !trace_acf(p, s, info[j].offset_m, x, nlag, ws->acf))
+      continue;
+    if (decon_operator(p, k, ws, ws->acf, err)) {
+      err->trace = (int64_t)j;
+      return err->status;
     }
+    condition_decon_filter(ws->coef, g, n, x, ws->tmp, ns);
   }
   return TZ_OK;
 }
 
 int condition_apply_record(const condition_plan *p, condition_workspace *ws, float *samples,
-                           size_t ntraces, const condition_trace_info *info, tz_err *err)
+                           size_t ntr, const condition_trace_info *info, tz_err *err)
 {
   if (ws->plan != p)
     return tz_fail(err, TZ_E_ARG, "conditioning workspace was made for another plan");
   if (!p->chain.n)
     return TZ_OK;
-  for (size_t k = 0; k < ntraces; k++) {
-    if (!info[k].live)
-      continue;
-    int rc = condition_apply(p, ws, info[k].cmp, info[k].vel_mps, samples + k * p->ns, err);
-    if (rc) {
-      err->trace = (int64_t)k;
-      return rc;
+  size_t ns = p->ns;
+  for (size_t j = 0; j < ntr; j++)
+    if (info[j].live && check_finite(samples + j * ns, ns, err)) {
+      err->trace = (int64_t)j;
+      return err->status;
     }
+  for (size_t k = 0; k < p->chain.n; k++) {
+    int kind = p->chain.step[k].kind, rc = TZ_OK;
+    if (kind == CONDITION_DECON)
+      rc = apply_decon(p, k, ws, samples, ntr, info, err);
+    else if (kind == CONDITION_FK)
+      rc = condition_fk_apply(p->fk[k], ws->fkw[k], samples, ntr, info, err);
+    else
+      for (size_t j = 0; j < ntr; j++)
+        if (info[j].live)
+          apply_trace_step(p, k, ws, info[j].cmp, info[j].vel_mps, samples + j * ns);
+    if (rc)
+      return rc;
   }
   return TZ_OK;
 }
 
 int condition_plan_record_wide(const condition_plan *p)
 {
-  (void)p;      /* every step so far works trace by trace */
-  return 0;
+  return condition_chain_has_record_steps(&p->chain);
+}
+
+int condition_plan_has_fk(const condition_plan *p)
+{
+  return p->has_fk;
 }
