@@ -455,16 +455,118 @@ static int get_ms(const cJSON *step, const char *key, const char *jp, int requir
   return rc;
 }
 
+/* A record-wide step's refusal: the message starts with the key it is about
+ * ("gap_ms ...", "window[1]: ..."), which joins the step's JSON path. */
+static int record_step_fail(tz_err *err, const char *jp, const tz_err *why)
+{
+  const char *m = why->msg;
+  size_t n = strspn(m, "abcdefghijklmnopqrstuvwxyz_0123456789[]");
+  const char *rest = m[n] == ':' ? m + n + 1 + (m[n + 1] == ' ') : m;
+  return tz_fail(err, TZ_E_JOB, "%s.%.*s: %s", jp, (int)n, m, rest);
+}
+
+/* "deconvolution" and "fk_filter" steps (condition.h checks the values). */
+static int parse_record_step(job_spec *j, const cJSON *st, const char *jp, int kind,
+                             tz_err *err)
+{
+  static const char *const enames[] = { "trace", "record", NULL };
+  static const int evals[] = { CONDITION_ENSEMBLE_TRACE, CONDITION_ENSEMBLE_RECORD };
+  char kp[112];
+  tz_err why;
+  tz_err_init(&why);
+  const cJSON *e;
+  int rc;
+  if (kind == CONDITION_DECON) {
+    double op_s, gap_ms = 0, pct = 1, w[CONDITION_MAX_WINDOW_POINTS][3];
+    int ens = CONDITION_ENSEMBLE_TRACE;
+    if ((rc = get_ms(st, "operator_ms", jp, 1, 0, &op_s, err)))
+      return rc;
+    snprintf(kp, sizeof kp, "%s.gap_ms", jp);
+    if ((e = ITEM(st, "gap_ms")) &&
+        (rc = json_doc_number(e, kp, 0, CONDITION_MAX_OPERATOR_MS, &gap_ms, TZ_E_JOB, err)))
+      return rc;
+    double gap_s = gap_ms * 1e-3;
+    snprintf(kp, sizeof kp, "%s.prewhitening_pct", jp);
+    if ((e = ITEM(st, "prewhitening_pct")) && (rc = json_doc_number(e, kp, 0, 100, &pct, TZ_E_JOB, err)))
+      return rc;
+    snprintf(kp, sizeof kp, "%s.ensemble", jp);
+    if ((e = ITEM(st, "ensemble")) && (rc = json_doc_choice(e, kp, enames, evals, &ens, TZ_E_JOB, err)))
+      return rc;
+    snprintf(kp, sizeof kp, "%s.window", jp);
+    const cJSON *a = ITEM(st, "window");
+    if (!a)
+      return tz_fail(err, TZ_E_JOB, "%s: required key missing ([[offset_m, start_ms, end_ms], "
+                     "...])", kp);
+    int n = cJSON_IsArray(a) ? cJSON_GetArraySize(a) : -1;
+    if (n < 1 || n > CONDITION_MAX_WINDOW_POINTS)
+      return tz_fail(err, TZ_E_JOB, "%s: expected an array of 1 to %d [offset_m, start_ms, "
+                     "end_ms] triples, got %s", kp, CONDITION_MAX_WINDOW_POINTS, json_doc_kind_name(a));
+    int i = 0;
+    for (const cJSON *x = a->child; x; x = x->next, i++) {
+      char ip[128];
+      snprintf(ip, sizeof ip, "%s[%d]", kp, i);
+      if (!cJSON_IsArray(x) || cJSON_GetArraySize(x) != 3)
+        return tz_fail(err, TZ_E_JOB, "%s: expected [offset_m, start_ms, end_ms], got %s", ip,
+                       json_doc_kind_name(x));
+      int q = 0;
+      for (const cJSON *y = x->child; y; y = y->next, q++) {
+        char yp[144];
+        snprintf(yp, sizeof yp, "%s[%d]", ip, q);
+        if ((rc = json_doc_number(y, yp, q ? 0 : -1e7, q ? CONDITION_MAX_WINDOW_MS : 1e7,
+                                  &w[i][q], TZ_E_JOB, err)))
+          return rc;
+      }
+      w[i][1] *= 1e-3;
+      w[i][2] *= 1e-3;
+    }
+    if (condition_chain_add_decon(&j->conditioning, op_s, gap_s, pct, (const double(*)[3])w,
+                                  (size_t)n, ens, &why))
+      return record_step_fail(err, jp, &why);
+    return TZ_OK;
+  }
+  const cJSON *rj = ITEM(st, "reject_mps"), *pj = ITEM(st, "pass_mps");
+  if (!rj == !pj)
+    return tz_fail(err, TZ_E_JOB, "%s: give one of reject_mps or pass_mps ([slower, faster] "
+                   "apparent velocities in m/s), not %s", jp, rj ? "both" : "neither");
+  const char *key = rj ? "reject_mps" : "pass_mps";
+  snprintf(kp, sizeof kp, "%s.%s", jp, key);
+  const cJSON *a = rj ? rj : pj;
+  if (!cJSON_IsArray(a) || cJSON_GetArraySize(a) != 2)
+    return tz_fail(err, TZ_E_JOB, "%s: expected [slower, faster] in m/s, got %s", kp,
+                   json_doc_kind_name(a));
+  double v[2], taper = 10, min_hz = 0;
+  int i = 0;
+  for (const cJSON *x = a->child; x; x = x->next, i++) {
+    char ip[128];
+    snprintf(ip, sizeof ip, "%s[%d]", kp, i);
+    if ((rc = json_doc_number(x, ip, 0, CONDITION_MAX_FK_MPS, &v[i], TZ_E_JOB, err)))
+      return rc;
+  }
+  snprintf(kp, sizeof kp, "%s.taper_pct", jp);
+  if ((e = ITEM(st, "taper_pct")) && (rc = json_doc_number(e, kp, 0, 100, &taper, TZ_E_JOB, err)))
+    return rc;
+  snprintf(kp, sizeof kp, "%s.min_hz", jp);
+  if ((e = ITEM(st, "min_hz")) && (rc = json_doc_number(e, kp, 0, 1e6, &min_hz, TZ_E_JOB, err)))
+    return rc;
+  if (condition_chain_add_fk(&j->conditioning, v, !rj, taper, min_hz, &why))
+    return record_step_fail(err, jp, &why);
+  return TZ_OK;
+}
+
 static int parse_condition_step(job_spec *j, const cJSON *st, const char *jp, tz_err *err)
 {
   static const char *const snames[] = { "bandpass", "spherical_divergence", "power_gain", "agc",
-                                        NULL };
+                                        "deconvolution", "fk_filter", NULL };
   static const int svals[] = { CONDITION_BANDPASS, CONDITION_SPHERICAL, CONDITION_POWER,
-                               CONDITION_AGC };
+                               CONDITION_AGC, CONDITION_DECON, CONDITION_FK };
   static const char *const k_bp[] = { "step", "corners_hz", NULL };
   static const char *const k_sph[] = { "step", "reference_time_ms", "velocity_mps", NULL };
   static const char *const k_pow[] = { "step", "exponent", "reference_time_ms", NULL };
   static const char *const k_agc[] = { "step", "window_ms", "measure", NULL };
+  static const char *const k_dec[] = { "step", "operator_ms", "gap_ms", "prewhitening_pct",
+                                       "window", "ensemble", NULL };
+  static const char *const k_fk[] = { "step", "reject_mps", "pass_mps", "taper_pct", "min_hz",
+                                      NULL };
   static const char *const mnames[] = { "rms", "mean_abs", NULL };
   static const int mvals[] = { CONDITION_AGC_RMS, CONDITION_AGC_MEAN_ABS };
   char kp[96];
@@ -475,13 +577,18 @@ static int parse_condition_step(job_spec *j, const cJSON *st, const char *jp, tz
   const cJSON *e = ITEM(st, "step");
   if (!e)
     return tz_fail(err, TZ_E_JOB, "%s: required key missing (\"bandpass\", "
-                   "\"spherical_divergence\", \"power_gain\" or \"agc\")", kp);
+                   "\"spherical_divergence\", \"power_gain\", \"agc\", \"deconvolution\" or "
+                   "\"fk_filter\")", kp);
   if ((rc = json_doc_choice(e, kp, snames, svals, &kind, TZ_E_JOB, err)))
     return rc;
   const char *const *keys = kind == CONDITION_BANDPASS ? k_bp : kind == CONDITION_SPHERICAL
-                                ? k_sph : kind == CONDITION_POWER ? k_pow : k_agc;
+                                ? k_sph : kind == CONDITION_POWER ? k_pow
+                                : kind == CONDITION_DECON ? k_dec : kind == CONDITION_FK ? k_fk
+                                : k_agc;
   if ((rc = json_doc_check_keys(st, jp, keys, TZ_E_JOB, err)))
     return rc;
+  if (kind == CONDITION_DECON || kind == CONDITION_FK)
+    return parse_record_step(j, st, jp, kind, err);
   condition_chain *c = &j->conditioning;
   tz_err why;
   tz_err_init(&why);
@@ -876,6 +983,24 @@ static cJSON *condition_step_json(const condition_step *s)
   case CONDITION_AGC:
     cJSON_AddNumberToObject(o, "window_ms", s->window_s * 1e3);
     cJSON_AddStringToObject(o, "measure", condition_agc_measure_name(s->measure));
+    break;
+  case CONDITION_DECON: {
+    cJSON_AddNumberToObject(o, "operator_ms", s->operator_s * 1e3);
+    cJSON_AddNumberToObject(o, "gap_ms", s->gap_s * 1e3);
+    cJSON_AddNumberToObject(o, "prewhitening_pct", s->prewhitening_pct);
+    cJSON *w = cJSON_AddArrayToObject(o, "window");
+    for (size_t i = 0; w && i < s->nwindow; i++) {
+      double k[3] = { s->window[i][0], s->window[i][1] * 1e3, s->window[i][2] * 1e3 };
+      cJSON_AddItemToArray(w, cJSON_CreateDoubleArray(k, 3));
+    }
+    cJSON_AddStringToObject(o, "ensemble", condition_ensemble_name(s->ensemble));
+    break;
+  }
+  case CONDITION_FK:
+    cJSON_AddItemToObject(o, s->fan_pass ? "pass_mps" : "reject_mps",
+                          cJSON_CreateDoubleArray(s->fan_mps, 2));
+    cJSON_AddNumberToObject(o, "taper_pct", s->taper_pct);
+    cJSON_AddNumberToObject(o, "min_hz", s->min_hz);
     break;
   }
   return o;

@@ -41,6 +41,19 @@ int stack_chain_new(stack_chain **out, const stack_plan *p, const condition_chai
   ch->p = p;
   ch->ns = p->axis.ns;
   int rc = stack_condition_plan(&ch->cond, c, &p->axis, v, err);
+  if (!rc && ch->cond && condition_plan_has_fk(ch->cond)) {
+    /* one f-k grid for the whole line: the receiver interval, and the largest
+     * |offset| of any trace that could be stacked (whatever the CMP range) */
+    double dx = p->survey.receiver_interval_m, xm = p->line_offset_max_m + dx;
+    tz_err why;
+    tz_err_init(&why);
+    if (!(dx > 0))
+      rc = tz_fail(err, TZ_E_JOB, "$.conditioning (fk_filter): the line's receiver interval "
+                   "is unknown (one trace per record?), so traces cannot be placed by offset");
+    else if (condition_plan_set_offsets(ch->cond, dx, -xm, xm, &why))
+      rc = why.status == TZ_E_ARG ? tz_fail(err, TZ_E_JOB, "$.%s", why.msg)
+                                  : (*err = why, why.status);
+  }
   if (rc) {
     stack_chain_free(ch);
     return rc;

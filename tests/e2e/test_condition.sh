@@ -47,7 +47,7 @@ PY
 }
 bad_step "not an array" '\$\.conditioning: expected an array of steps, got an object' \
   '{"step": "agc", "window_ms": 500}'
-bad_step "unknown step" '\$\.conditioning\[0\]\.step: expected "bandpass" or "spherical_divergence" or "power_gain" or "agc", got "bandpas"' \
+bad_step "unknown step" '\$\.conditioning\[0\]\.step: expected "bandpass" or "spherical_divergence" or "power_gain" or "agc" or "deconvolution" or "fk_filter", got "bandpas"' \
   '[{"step": "bandpas", "corners_hz": [5, 10, 40, 50]}]'
 bad_step "misspelt key" '\$\.conditioning\[1\]\.windw_ms: unknown key; did you mean "window_ms"' \
   '[{"step": "bandpass", "corners_hz": [5, 10, 40, 50]}, {"step": "agc", "windw_ms": 500}]'
