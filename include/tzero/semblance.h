@@ -23,6 +23,7 @@
 #define SEMBLANCE_MAX_PANEL_SAMPLES (1u << 27)
 #define SEMBLANCE_MAX_CANDIDATES 4096u     /* panel maxima considered by the picker */
 #define SEMBLANCE_MAX_THREADS 256
+#define SEMBLANCE_MAX_MIN_FOLD 100000u     /* largest minimum fold */
 
 /* ---- coherence of aligned traces ---- */
 
@@ -47,6 +48,12 @@ void semblance_acc_reset(semblance_acc *a);
  * fewer than min_live traces are live on average give semblance and power 0.
  * One live trace alone has semblance 1 whatever it holds. Kept across resets. */
 void semblance_acc_min_live(semblance_acc *a, double min_live);
+/* Fold floor (0 by default): samples with fewer than min_fold live traces (after
+ * the mutes) give semblance and power 0, so no pick is made there. Kept across
+ * resets. */
+void semblance_acc_min_fold(semblance_acc *a, size_t min_fold);
+/* The largest live count at any sample, as of the last semblance_acc_finish(). */
+size_t semblance_acc_max_live(const semblance_acc *a);
 /* One trace of ns samples; only samples in [lo, hi) are added and counted live. */
 void semblance_acc_add(semblance_acc *a, const float *s, size_t lo, size_t hi);
 /* One trace with nmo_apply()'s weight array: a sample counts live where weight > 0
@@ -69,6 +76,10 @@ typedef struct semblance_params {
                                   gather's traces (and fewer than 2) are live, on
                                   average over the window (after the mutes).
                                   Default 0.25 */
+  size_t min_fold;             /* semblance is 0 at every sample where fewer than this
+                                  many traces are live (after the mutes, at that trial
+                                  velocity): too few to pick from. Default 0 (off;
+                                  `tzero semblance --min-fold` sets 6) */
   nmo_params nmo;              /* the stack's NMO parameters (stretch mute, interpolation) */
   const nmo_top_mute *mute;    /* borrowed; NULL = no top mute */
   int threads;                 /* worker threads over velocities; <= 1 = serial */
@@ -102,6 +113,11 @@ int semblance_supergather(const stack_gathers *gs, int32_t first_cmp, int32_t la
  * parameters, TZ_E_NOMEM. */
 int semblance_panel(const semblance_gather *g, const semblance_params *p, float *panel,
                     float *power, tz_err *err);
+/* semblance_panel, also giving in *max_live (NULL to skip) the largest number of
+ * live traces at any sample and trial velocity: below p->min_fold everywhere
+ * means the gather can give no pick for lack of fold. */
+int semblance_panel_live(const semblance_gather *g, const semblance_params *p, float *panel,
+                         float *power, size_t *max_live, tz_err *err);
 
 /* ---- automatic picking ---- */
 

@@ -31,6 +31,9 @@ int table_next(table_reader *t, size_t *nfields, tz_err *err);
 const char *table_field(const table_reader *t, size_t i);
 int64_t table_line(const table_reader *t);          /* 1-based line of the current row */
 const char *table_name(const table_reader *t);
+/* The last '#' comment line table_next() passed over, '#' included and trimmed
+ * (NULL when none); borrowed until table_close(). */
+const char *table_last_comment(const table_reader *t);
 
 /* Checked parsers: whole string must be a number (surrounding blanks allowed).
  * Return 0 on success, -1 on anything else (empty, junk, overflow, NaN, Inf). */

@@ -52,6 +52,18 @@ int velocity_table_add(velocity_table *t, int64_t cmp, double time_s, double vel
 
 void velocity_table_free(velocity_table *t);    /* NULL is a no-op */
 
+/* Analysis CMPs that gave no pick for lack of fold (tzero semblance --min-fold).
+ * The writer lists them in a comment before the header,
+ * "# no pick for lack of fold (fewer than N live traces ...): CMP 1-3, 9",
+ * and the reader takes them back from it, so the stack's QC report can count
+ * them among its velocity warnings. */
+#define VELOCITY_LOW_FOLD_NOTE "no pick for lack of fold"
+#define VELOCITY_MAX_LOW_FOLD 100000u
+int velocity_table_set_low_fold(velocity_table *t, const int64_t *cmps, size_t n,
+                                size_t min_fold, tz_err *err);
+/* The list (borrowed) and its length; 0 when none. */
+size_t velocity_table_low_fold(const velocity_table *t, const int64_t **cmps);
+
 /* Writes the table in the file format (header line, then rows in table order).
  * velocity_table_write() goes through a temporary file renamed into place. */
 int velocity_table_write(const velocity_table *t, const char *path, tz_err *err);

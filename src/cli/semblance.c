@@ -39,6 +39,10 @@ static void help(void)
          "  --min-live F             semblance is 0 where fewer than F x the traces\n"
          "                           (and fewer than 2) are live after the mutes\n"
          "                           (fraction 0..1, default 0.25)\n"
+         "  --min-fold N             no pick where fewer than N traces are live after\n"
+         "                           the mutes at the pick time, counting the\n"
+         "                           supergather (default 6; 0 = no floor); such CMPs\n"
+         "                           are named on stderr and in the table's comment\n"
          "  --stretch-limit PCT      override the job's stretch mute limit, %%\n"
          "  --threads N              worker threads (default: the job's, 0 = all cores)\n"
          "picking:\n"
@@ -73,6 +77,7 @@ static void help(void)
 struct opts {
   const char *job, *cmps, *out, *panels;
   long long supergather;
+  long long min_fold;
   long long threads;
   double stretch;
   int json, quiet;
@@ -85,13 +90,16 @@ struct cmp_result {
   int32_t cmp;
   int32_t first, last;     /* CMPs of the supergather */
   size_t ntraces;
+  size_t max_live;         /* most traces live at any pick time and trial velocity */
+  int low_fold;            /* 1: no pick for lack of fold (max_live < --min-fold) */
   semblance_pick *picks;
   size_t npicks;
 };
 
 enum {
   O_JOB = 256, O_CMPS, O_SUPER, O_VMIN, O_VMAX, O_VSTEP, O_WIN, O_STRETCH, O_THREADS, O_TMIN,
-  O_TMAX, O_MINS, O_MINP, O_MINLIVE, O_SEP, O_IMIN, O_IMAX, O_INV, O_OUT, O_PANELS, O_JSON, O_QUIET
+  O_TMAX, O_MINS, O_MINP, O_MINLIVE, O_SEP, O_IMIN, O_IMAX, O_INV, O_OUT, O_PANELS, O_JSON, O_QUIET,
+  O_MINFOLD
 };
 
 static int parse(int argc, char **argv, struct opts *o)
@@ -110,6 +118,7 @@ static int parse(int argc, char **argv, struct opts *o)
     { "time-max", required_argument, NULL, O_TMAX },
     { "min-semblance", required_argument, NULL, O_MINS },
     { "min-live", required_argument, NULL, O_MINLIVE },
+    { "min-fold", required_argument, NULL, O_MINFOLD },
     { "min-power", required_argument, NULL, O_MINP },
     { "min-separation", required_argument, NULL, O_SEP },
     { "interval-min", required_argument, NULL, O_IMIN },
@@ -141,6 +150,7 @@ static int parse(int argc, char **argv, struct opts *o)
     case O_TMIN: bad = cli_parse_f64(cmd, "--time-min", optarg, &o->pp.time_min_ms); break;
     case O_TMAX: bad = cli_parse_f64(cmd, "--time-max", optarg, &o->pp.time_max_ms); break;
     case O_MINS: bad = cli_parse_f64(cmd, "--min-semblance", optarg, &o->pp.min_semblance); break;
+    case O_MINFOLD: bad = cli_parse_i64(cmd, "--min-fold", optarg, &o->min_fold); break;
     case O_MINLIVE: bad = cli_parse_f64(cmd, "--min-live", optarg, &o->sp.min_live_fraction); break;
     case O_MINP: bad = cli_parse_f64(cmd, "--min-power", optarg, &o->pp.min_relative_power); break;
     case O_SEP: bad = cli_parse_f64(cmd, "--min-separation", optarg, &o->pp.min_separation_ms); break;
@@ -164,6 +174,10 @@ static int parse(int argc, char **argv, struct opts *o)
     return cli_usage_error(cmd, "--job and --cmps are required");
   if (o->supergather < 0 || o->supergather > 1000)
     return cli_usage_error(cmd, "--supergather %lld: expected 0 to 1000 CMPs", o->supergather);
+  if (o->min_fold < 0 || o->min_fold > (long long)SEMBLANCE_MAX_MIN_FOLD)
+    return cli_usage_error(cmd, "--min-fold %lld: expected 0 to %u live traces", o->min_fold,
+                           SEMBLANCE_MAX_MIN_FOLD);
+  o->sp.min_fold = (size_t)o->min_fold;
   if (o->threads < -1 || o->threads > JOB_MAX_THREADS)
     return cli_usage_error(cmd, "--threads %lld: expected 0 to %d", o->threads, JOB_MAX_THREADS);
   if (!isnan(o->stretch) && !(o->stretch >= 0 && o->stretch <= 1000))
@@ -223,6 +237,8 @@ static cJSON *picks_json(const struct cmp_result *r)
   cJSON_AddNumberToObject(o, "supergather_first_cmp", r->first);
   cJSON_AddNumberToObject(o, "supergather_last_cmp", r->last);
   cJSON_AddNumberToObject(o, "traces", (double)r->ntraces);
+  cJSON_AddNumberToObject(o, "max_live_traces", (double)r->max_live);
+  cJSON_AddBoolToObject(o, "low_fold", r->low_fold);
   cJSON *a = cJSON_AddArrayToObject(o, "picks");
   for (size_t i = 0; a && i < r->npicks; i++) {
     cJSON *p = cJSON_CreateObject();
@@ -255,6 +271,7 @@ static int print_json(const struct opts *o, const struct cmp_result *res, size_t
     cJSON_AddNumberToObject(par, "trial_velocities", (double)nvel);
     cJSON_AddNumberToObject(par, "window_ms", o->sp.window_ms);
     cJSON_AddNumberToObject(par, "min_live_fraction", o->sp.min_live_fraction);
+    cJSON_AddNumberToObject(par, "min_fold", (double)o->sp.min_fold);
     cJSON_AddNumberToObject(par, "stretch_limit_pct", o->sp.nmo.stretch_limit_pct);
     cJSON_AddNumberToObject(par, "supergather", (double)o->supergather);
     cJSON_AddNumberToObject(par, "min_semblance", o->pp.min_semblance);
@@ -290,6 +307,45 @@ static void print_text(const struct cmp_result *res, size_t n)
   }
 }
 
+static int add_low(int64_t **low, size_t *n, int32_t cmp, tz_err *err)
+{
+  int64_t *v = realloc(*low, (*n + 1) * sizeof *v);
+  if (!v)
+    return tz_fail(err, TZ_E_NOMEM, "low-fold CMP list");
+  v[(*n)++] = cmp;
+  *low = v;
+  return TZ_OK;
+}
+
+/* One message for every CMP that gave no pick for lack of fold, with the
+ * supergather that would reach --min-fold at the thinnest of them. */
+static void warn_low_fold(const struct cmp_result *res, size_t n, size_t min_fold,
+                          long long supergather)
+{
+  size_t least = (size_t)-1, count = 0;
+  fprintf(stderr, "tzero semblance: no pick for lack of fold at CMP");
+  for (size_t i = 0; i < n; i++)
+    if (res[i].low_fold) {
+      if (res[i].max_live)
+        fprintf(stderr, "%s %d (%zu live)", count ? "," : "", res[i].cmp, res[i].max_live);
+      else
+        fprintf(stderr, "%s %d (no live trace)", count ? "," : "", res[i].cmp);
+      if (res[i].max_live < least)
+        least = res[i].max_live;
+      count++;
+    }
+  /* traces per CMP of the thinnest gather, and the half-width that gathers
+   * min_fold of them */
+  double per = (double)(least ? least : 1) / (double)(2 * supergather + 1);
+  long long k = (long long)ceil(((double)min_fold / (per > 0 ? per : 1) - 1) / 2);
+  if (k <= supergather)
+    k = supergather + 1;
+  fprintf(stderr, ": fewer than %zu traces live after the mutes at any pick time "
+          "(--min-fold %zu); they are left out of the velocity table and listed in its "
+          "comment. Add neighbouring CMPs with --supergather %lld, or pick them by hand\n",
+          min_fold, min_fold, k);
+}
+
 int cmd_semblance(int argc, char **argv)
 {
   struct opts o;
@@ -298,6 +354,8 @@ int cmd_semblance(int argc, char **argv)
   semblance_pick_params_default(&o.pp);
   o.threads = -1;
   o.stretch = NAN;
+  o.min_fold = 6;   /* live traces at the pick time (common practice: a handful of
+                     * traces cannot tell moveout from noise) */
   int prc = parse(argc, argv, &o);
   if (prc)
     return prc < 0 ? EX_OK : prc;
@@ -313,7 +371,8 @@ int cmd_semblance(int argc, char **argv)
   segy_writer *pw = NULL;
   velocity_table *vt = NULL, *cond_vt = NULL;
   nmo_top_mute mute;
-  size_t ncmp = 0, nvel = 0, nres = 0;
+  size_t ncmp = 0, nvel = 0, nres = 0, nlow = 0;
+  int64_t *low = NULL;
   int rc;
 
   if ((rc = stack_parse_cmp_list(o.cmps, &cmps, &ncmp, &err)))
@@ -418,7 +477,7 @@ int cmd_semblance(int argc, char **argv)
     } else {
       semblance_gather sg = { .ntraces = r->ntraces, .axis = ax, .samples = samples,
                               .offset_m = offsets };
-      rc = semblance_panel(&sg, &o.sp, panel, power, &err);
+      rc = semblance_panel_live(&sg, &o.sp, panel, power, &r->max_live, &err);
       if (!rc)
         rc = semblance_autopick(panel, power, nvel, &ax, &o.sp, &o.pp, &r->picks,
                                 &r->npicks, &err);
@@ -432,10 +491,19 @@ int cmd_semblance(int argc, char **argv)
                                    0, &err)))
         goto done;
     with_picks += r->npicks > 0;
-    if (!o.quiet && !r->npicks)
+    r->low_fold = !r->npicks && r->max_live < o.sp.min_fold;
+    if (r->low_fold && (rc = add_low(&low, &nlow, r->cmp, &err)))
+      goto done;
+    if (!o.quiet && !r->npicks && !r->low_fold)
       fprintf(stderr, "tzero semblance: CMP %d: %s; it is left out of the velocity table\n",
               r->cmp, r->ntraces ? "no pick met the picking rules" : "no live traces");
     if (pw && (rc = write_panel(pw, gs, r, &o.sp, nvel, panel, &err)))
+      goto done;
+  }
+  if (nlow) {
+    if (!o.quiet)
+      warn_low_fold(res, nres, o.sp.min_fold, o.supergather);
+    if ((rc = velocity_table_set_low_fold(vt, low, nlow, o.sp.min_fold, &err)))
       goto done;
   }
   if (o.out && !with_picks) {
@@ -467,6 +535,7 @@ done:;
   free(power);
   free(need);
   free(cmps);
+  free(low);
   velocity_table_free(vt);
   velocity_table_free(cond_vt);
   stack_gathers_free(gs);

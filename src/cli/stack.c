@@ -97,7 +97,7 @@ static int gate(const char *report, const job_spec *job, int print, int quiet, t
   if (!rc) {
     if (text)
       fputs(text, stdout);
-    if (res->broken && !quiet)
+    if (res->broken)   /* even with --quiet: a script's log should say why it stopped */
       fprintf(stderr, "tzero stack: %s: %zu limit%s broken: %s\n",
               job->name && job->name[0] ? job->name : job->path, res->broken,
               res->broken == 1 ? "" : "s", brief);

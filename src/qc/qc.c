@@ -101,6 +101,23 @@ static int add_velocity(cJSON *r, const qc_build_args *a, tz_err *err)
   cJSON *list = cJSON_AddArrayToObject(v, "control_cmp_numbers");
   for (size_t i = 0; i < nc; i++)
     cJSON_AddItemToArray(list, cJSON_CreateNumber((double)velocity_table_cmp(a->velocity, i)));
+  /* analysis CMPs semblance could not pick for lack of fold (the table's
+   * comment): velocity there is interpolated from the neighbours */
+  const int64_t *low = NULL;
+  size_t nlow = velocity_table_low_fold(a->velocity, &low);
+  cJSON *lf = cJSON_AddArrayToObject(v, "low_fold_cmps");
+  for (size_t i = 0; i < nlow; i++) {
+    cJSON_AddItemToArray(lf, cJSON_CreateNumber((double)low[i]));
+    cJSON *o = cJSON_CreateObject();
+    char msg[160];
+    snprintf(msg, sizeof msg, "CMP %lld: analysed without a pick for lack of fold; its velocity "
+             "comes from the neighbouring control CMPs", (long long)low[i]);
+    cJSON_AddStringToObject(o, "kind", "low_fold");
+    cJSON_AddNumberToObject(o, "cmp", (double)low[i]);
+    cJSON_AddNullToObject(o, "line");
+    cJSON_AddStringToObject(o, "message", msg);
+    cJSON_AddItemToArray(w, o);
+  }
   velocity_warning *vw = NULL;
   size_t nw = 0;
   int rc = velocity_check(a->velocity, 0, 0, &vw, &nw, err);

@@ -26,6 +26,7 @@ struct table_reader {
   int64_t next_line; /* line number of text[pos] */
   size_t nf;
   const char *fields[TABLE_MAX_FIELDS];
+  const char *comment;  /* the last '#' line passed over (in text), NULL if none */
 };
 
 static int make(table_reader **out, const char *name, char *text, size_t len, tz_err *err)
@@ -98,6 +99,11 @@ static char *trim(char *s)
   return s;
 }
 
+const char *table_last_comment(const table_reader *t)
+{
+  return t->comment;
+}
+
 int table_next(table_reader *t, size_t *nfields, tz_err *err)
 {
   *nfields = 0;
@@ -119,6 +125,8 @@ int table_next(table_reader *t, size_t *nfields, tz_err *err)
       return tz_fail_line(err, TZ_E_FORMAT, t->line, "NUL byte in text table");
     }
     char *s = trim(ln);
+    if (*s == '#')
+      t->comment = s;
     if (!*s || *s == '#')
       continue;
     for (;;) {

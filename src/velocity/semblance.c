@@ -45,6 +45,8 @@ struct semblance_acc {
   int32_t *cnt;     /* per-sample live counts from weighted adds */
   double *pa, *pb, *pc, *pd;  /* prefix sums for the finish (ns + 1) */
   double min_live;  /* windows with fewer live traces on average give 0 */
+  int32_t min_fold; /* samples with fewer live traces give 0 (no pick there) */
+  int32_t max_live; /* largest live count at a sample, from the last finish */
 };
 
 int semblance_acc_new(semblance_acc **out, size_t ns, tz_err *err)
@@ -85,6 +87,16 @@ void semblance_acc_free(semblance_acc *a)
   free(a->pc);
   free(a->pd);
   free(a);
+}
+
+void semblance_acc_min_fold(semblance_acc *a, size_t min_fold)
+{
+  a->min_fold = min_fold > INT32_MAX ? INT32_MAX : (int32_t)min_fold;
+}
+
+size_t semblance_acc_max_live(const semblance_acc *a)
+{
+  return a->max_live > 0 ? (size_t)a->max_live : 0;
 }
 
 void semblance_acc_min_live(semblance_acc *a, double min_live)
@@ -132,10 +144,13 @@ void semblance_acc_finish(semblance_acc *a, size_t half, float *out, float *powe
 {
   size_t ns = a->ns;
   int32_t live = 0;
+  a->max_live = 0;
   a->pa[0] = a->pb[0] = a->pc[0] = a->pd[0] = 0.0;
   for (size_t j = 0; j < ns; j++) {
     live += a->diff[j];
     int32_t nl = live + a->cnt[j];
+    if (nl > a->max_live)
+      a->max_live = nl;
     double n = (double)nl, s2 = a->sum[j] * a->sum[j];
     double n1 = nl > 0 ? n : 1.0;   /* no live trace: the sum is 0 anyway */
     a->pa[j + 1] = a->pa[j] + s2;
@@ -151,7 +166,8 @@ void semblance_acc_finish(semblance_acc *a, size_t half, float *out, float *powe
     size_t hi = j + half + 1 < ns ? j + half + 1 : ns;
     double den = a->pb[hi] - a->pb[lo];
     double num = a->pa[hi] - a->pa[lo];
-    int enough = a->pd[hi] - a->pd[lo] >= a->min_live * (double)(hi - lo);
+    int enough = a->pd[hi] - a->pd[lo] >= a->min_live * (double)(hi - lo) &&
+                 a->pd[j + 1] - a->pd[j] >= (double)a->min_fold;
     double s = enough && den > floor_den && den > 0 ? num / den : 0.0;
     out[j] = (float)(s < 0 ? 0 : s > 1 ? 1 : s);
     if (power) {
@@ -171,6 +187,7 @@ void semblance_params_default(semblance_params *p)
   p->velocity_step_mps = 20;
   p->window_ms = 40;
   p->min_live_fraction = 0.25;
+  p->min_fold = 0;
   nmo_params_default(&p->nmo);
   p->mute = NULL;
   p->threads = 1;
@@ -194,6 +211,9 @@ int semblance_params_check(const semblance_params *p, size_t *nvel, tz_err *err)
   if (!(p->window_ms > 0) || !isfinite(p->window_ms) || p->window_ms > 10000)
     return tz_fail(err, TZ_E_ARG, "semblance window %g ms must be in (0, 10000]",
                    p->window_ms);
+  if (p->min_fold > SEMBLANCE_MAX_MIN_FOLD)
+    return tz_fail(err, TZ_E_ARG, "minimum fold %zu: more than %u traces", p->min_fold,
+                   SEMBLANCE_MAX_MIN_FOLD);
   if (!(p->min_live_fraction >= 0 && p->min_live_fraction <= 1))
     return tz_fail(err, TZ_E_ARG, "minimum live fraction %g must be in [0, 1]",
                    p->min_live_fraction);
@@ -254,6 +274,7 @@ struct worker {
   const semblance_params *p;
   float *panel, *power;
   size_t nvel, first, stride, half;
+  size_t max_live;             /* largest live count over this worker's velocities */
   tz_err err;
   int rc;
 };
@@ -277,6 +298,7 @@ static void *panel_worker(void *arg)
     goto done;
   double ml = w->p->min_live_fraction * (double)g->ntraces;
   semblance_acc_min_live(acc, ml > 2 ? ml : 2);
+  semblance_acc_min_fold(acc, w->p->min_fold);
   for (size_t k = w->first; k < w->nvel; k += w->stride) {
     float v = (float)(w->p->velocity_min_mps + (double)k * w->p->velocity_step_mps);
     for (size_t j = 0; j < ns; j++)
@@ -302,6 +324,8 @@ static void *panel_worker(void *arg)
       }
     }
     semblance_acc_finish(acc, w->half, w->panel + k * ns, w->power ? w->power + k * ns : NULL);
+    if (semblance_acc_max_live(acc) > w->max_live)
+      w->max_live = semblance_acc_max_live(acc);
   }
 done:
   semblance_acc_free(acc);
@@ -314,6 +338,12 @@ done:
 
 int semblance_panel(const semblance_gather *g, const semblance_params *p, float *panel,
                     float *power, tz_err *err)
+{
+  return semblance_panel_live(g, p, panel, power, NULL, err);
+}
+
+int semblance_panel_live(const semblance_gather *g, const semblance_params *p, float *panel,
+                         float *power, size_t *max_live, tz_err *err)
 {
   size_t nvel;
   int rc = semblance_params_check(p, &nvel, err);
@@ -354,6 +384,12 @@ int semblance_panel(const semblance_gather *g, const semblance_params *p, float 
       *err = err->status ? *err : w[t].err;
       rc = w[t].rc;
     }
+  if (max_live) {
+    *max_live = 0;
+    for (size_t t = 0; t < nth; t++)
+      if (w[t].max_live > *max_live)
+        *max_live = w[t].max_live;
+  }
   free(w);
   free(tid);
   free(started);

@@ -35,6 +35,8 @@ struct velocity_table {
   size_t nk, cap_k;
   double *time_s, *vel, *eta;
   int64_t *line;
+  int64_t *low_fold;      /* analysis CMPs without a pick for lack of fold (comment) */
+  size_t nlow, low_min_fold;
 };
 
 static int vt_alloc(velocity_table **out, int with_eta, const char *source, tz_err *err)
@@ -60,7 +62,72 @@ void velocity_table_free(velocity_table *t)
   free(t->vel);
   free(t->eta);
   free(t->line);
+  free(t->low_fold);
   free(t);
+}
+
+int velocity_table_set_low_fold(velocity_table *t, const int64_t *cmps, size_t n,
+                                size_t min_fold, tz_err *err)
+{
+  free(t->low_fold);
+  t->low_fold = NULL;
+  t->nlow = 0;
+  t->low_min_fold = min_fold;
+  if (!n)
+    return TZ_OK;
+  if (n > VELOCITY_MAX_LOW_FOLD)
+    n = VELOCITY_MAX_LOW_FOLD;
+  if (!(t->low_fold = malloc(n * sizeof *t->low_fold)))
+    return tz_fail(err, TZ_E_NOMEM, "low-fold CMP list");
+  memcpy(t->low_fold, cmps, n * sizeof *cmps);
+  t->nlow = n;
+  return TZ_OK;
+}
+
+size_t velocity_table_low_fold(const velocity_table *t, const int64_t **cmps)
+{
+  *cmps = t->low_fold;
+  return t->nlow;
+}
+
+/* The comment "# ... no pick for lack of fold ...: CMP 1, 2, 5-9" before the
+ * header: its CMP list (ranges expanded, at most VELOCITY_MAX_LOW_FOLD). A
+ * comment that does not parse is only a comment. */
+static void read_low_fold(velocity_table *t, const char *c)
+{
+  if (!c || !strstr(c, VELOCITY_LOW_FOLD_NOTE))
+    return;
+  const char *p = strstr(c, ": CMP ");
+  if (!p)
+    return;
+  p += 6;
+  size_t cap = 0;
+  while (*p && t->nlow < VELOCITY_MAX_LOW_FOLD) {
+    char *end;
+    long long a = strtoll(p, &end, 10), b = a;
+    if (end == p)
+      return;
+    p = end;
+    if (*p == '-') {
+      b = strtoll(p + 1, &end, 10);
+      if (end == p + 1 || b < a)
+        return;
+      p = end;
+    }
+    for (long long x = a; x <= b && t->nlow < VELOCITY_MAX_LOW_FOLD; x++) {
+      if (t->nlow == cap) {
+        size_t nc = cap ? 2 * cap : 16;
+        int64_t *v = realloc(t->low_fold, nc * sizeof *v);
+        if (!v)
+          return;
+        t->low_fold = v;
+        cap = nc;
+      }
+      t->low_fold[t->nlow++] = x;
+    }
+    while (*p == ',' || *p == ' ')
+      p++;
+  }
 }
 
 int velocity_table_new(velocity_table **out, int with_eta, tz_err *err)
@@ -224,6 +291,7 @@ static int parse_reader(velocity_table **out, table_reader *r, tz_err *err)
   rc = vt_alloc(&t, nf == 4, table_name(r), err);
   if (rc)
     return rc;
+  read_low_fold(t, table_last_comment(r));
   for (;;) {
     rc = table_next(r, &nf, err);
     if (rc || nf == 0)
@@ -306,6 +374,19 @@ int velocity_table_constant(velocity_table **out, double v_mps, tz_err *err)
 int velocity_table_write_stream(const velocity_table *t, FILE *fp, const char *name,
                                 tz_err *err)
 {
+  if (t->nlow) {
+    fprintf(fp, "# %s (fewer than %zu live traces after the mutes; tzero semblance "
+            "--min-fold): CMP ", VELOCITY_LOW_FOLD_NOTE, t->low_min_fold);
+    for (size_t i = 0; i < t->nlow;) {
+      size_t k = i;
+      while (k + 1 < t->nlow && t->low_fold[k + 1] == t->low_fold[k] + 1)
+        k++;
+      fprintf(fp, k > i ? "%s%lld-%lld" : "%s%lld", i ? ", " : "", (long long)t->low_fold[i],
+              (long long)t->low_fold[k]);
+      i = k + 1;
+    }
+    fputc('\n', fp);
+  }
   fprintf(fp, "cmp,time_ms,velocity_mps%s\n", t->with_eta ? ",eta" : "");
   for (size_t i = 0; i < t->ncmp; i++)
     for (size_t k = t->cmps[i].first; k < t->cmps[i].first + t->cmps[i].n; k++) {

@@ -59,7 +59,7 @@ cat >first.json <<'JSON'
 {"shots": ["sv/*.sgy"], "velocity": "later.csv", "output": {"section": "x.sgy"}}
 JSON
 expect_status 0 "semblance with the job's velocity table not written yet" -- \
-  "$TZERO" semblance --job first.json --cmps 8 --out later.csv --quiet
+  "$TZERO" semblance --job first.json --cmps 8 --min-fold 2 --out later.csv --quiet
 [ -s later.csv ] && ok "semblance wrote the table the job names" || notok "no later.csv"
 rm -f later.csv
 expect_status 0 "cvs with the job's velocity table not written yet" -- \
@@ -112,7 +112,7 @@ cmp -s sv/shot_000001.sgy in/keep.sgy && cmp -s job.json in/job.json && cmp -s v
   cmp -s layout.json in/layout.json && ok "every input is intact" || notok "an input changed"
 # semblance writing the velocity table its job names is the usual revision loop
 expect_status 0 "semblance may rewrite the job's velocity table" -- "$TZERO" semblance \
-  --job job.json --cmps 8 --out vel.csv --quiet
+  --job job.json --cmps 8 --min-fold 2 --out vel.csv --quiet
 cp in/vel.csv vel.csv
 no_leftovers "outputs onto inputs"
 

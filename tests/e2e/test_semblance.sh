@@ -46,7 +46,7 @@ expect_status 0 "--quiet" -- "$TZERO" semblance --job "$J" --cmps 35 $S --quiet
 if [ -s "$T/out" ]; then notok "--quiet prints nothing"; else ok "--quiet prints nothing"; fi
 expect_status 0 "a CMP without traces is reported and skipped" -- "$TZERO" semblance --job "$J" \
   --cmps 35,5000 $S --out "$D/v3.csv"
-expect_stderr "CMP 5000: no live traces" "the empty CMP is named"
+expect_stderr "no pick for lack of fold at CMP 5000 \(no live trace\)" "the empty CMP is named"
 grep -q '^5000,' "$D/v3.csv" && notok "empty CMP left out of the table" || ok "empty CMP left out of the table"
 
 # --- bad input: message, status, no output

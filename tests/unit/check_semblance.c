@@ -134,6 +134,35 @@ START_TEST(test_live_count)
 }
 END_TEST
 
+/* The fold floor: samples with fewer live traces than min_fold give 0, the
+ * others keep the plain value (Neidell and Taner 1971 for the value; the floor
+ * is our rule); the largest live count is reported. */
+START_TEST(test_min_fold)
+{
+  enum { NS = 8 };
+  float t[NS] = { 1, 2, 3, 4, 4, 3, 2, 1 };
+  semblance_acc *a;
+  tz_err e;
+  tz_err_init(&e);
+  ck_assert_int_eq(semblance_acc_new(&a, NS, &e), TZ_OK);
+  semblance_acc_add(a, t, 0, NS);
+  semblance_acc_add(a, t, 0, NS);
+  semblance_acc_add(a, t, 2, NS);   /* three live from sample 2, two before */
+  float s[NS];
+  semblance_acc_min_fold(a, 3);
+  semblance_acc_finish(a, 0, s, NULL);
+  ck_assert_uint_eq(semblance_acc_max_live(a), 3);
+  ck_assert(s[0] == 0.0f && s[1] == 0.0f);
+  for (int j = 2; j < NS; j++)
+    ck_assert_msg(fabsf(s[j] - 1.0f) < 1e-6f, "sample %d: %g", j, s[j]);  /* identical traces */
+  semblance_acc_min_fold(a, 4);
+  semblance_acc_finish(a, 0, s, NULL);
+  for (int j = 0; j < NS; j++)
+    ck_assert(s[j] == 0.0f);
+  semblance_acc_free(a);
+}
+END_TEST
+
 /* The running-sum window equals the definition summed directly (Neidell and
  * Taner 1971, REFERENCE.md §3.7), including windows cut at the trace ends. */
 START_TEST(test_window_matches_definition)
@@ -448,6 +477,7 @@ static Suite *semblance_suite(void)
   tcase_add_test(tc, test_check_values);
   tcase_add_test(tc, test_noise);
   tcase_add_test(tc, test_live_count);
+  tcase_add_test(tc, test_min_fold);
   tcase_add_test(tc, test_window_matches_definition);
   tcase_add_test(tc, test_panel_peak_and_threads);
   tcase_add_test(tc, test_autopick);
