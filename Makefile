@@ -3,7 +3,7 @@
 #
 # Flavours get their own build folder: make SANITIZE=address,undefined B=build/san
 
-PKGS      = libcjson fftw3f sndfile libpng samplerate libcrypto
+PKGS      = libcjson fftw3f sndfile samplerate libcrypto cairo
 B        ?= build
 CC       ?= cc
 PREFIX   ?= /usr/local

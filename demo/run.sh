@@ -54,6 +54,11 @@ echo
 echo "== TV-GW-01: pictures of the section (first 150 ms) and of the fold and mute coverage"
 "$TZ" picture "$O/gw01_stack.sgy" --out "$O/gw01_stack.png" --time-ms 0-150
 "$TZ" picture --fold "$O/gw01_qc.json" --out "$O/gw01_fold.png"
+"$TZ" picture --fold "$O/gw01_qc.json" --out "$O/gw01_fold.svg" --quiet
+"$TZ" picture "$O/gw01_stack.sgy" --out "$O/gw01_stack.pdf" --time-ms 0-150 --quiet
+# the figures of docs/pictures.md are these pictures, refreshed by every demo run
+mkdir -p docs/img
+cp "$O/gw01_stack.png" "$O/gw01_fold.png" docs/img/
 
 echo
 echo "== TV-DX-04: velocity analysis (semblance on 5-CMP supergathers, automatic picks)"
@@ -76,6 +81,6 @@ echo "== TV-DX-04: rerun with the model's velocities, then compare the two secti
 "$TZ" picture "$O/dx04_panels.sgy" --out "$O/dx04_panels.png" --colour-map semblance
 
 echo
-echo "outputs in $O/: gw01_stack.sgy, gw01_qc.json, gw01_stack.png, gw01_fold.png,"
+echo "outputs in $O/: gw01_stack.sgy, gw01_qc.json, gw01_stack.png (.pdf), gw01_fold.png (.svg),"
 echo "  dx04_velocity.csv, dx04_stack.sgy, dx04_qc.json, dx04_stack.png, dx04_panels.png"
 echo "A processed section is an interpretation aid: have it reviewed by a qualified geophysicist."

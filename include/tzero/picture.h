@@ -1,16 +1,18 @@
-/* picture.h -- QC pictures: a 2D panel (section, gather, semblance) or a fold chart to PNG.
+/* picture.h -- QC pictures: panels (section, gather, semblance) and charts as PNG, SVG or PDF.
  *
  * A panel is traces x samples of float (trace-major: data[i * nsamples + j]).
  * It is drawn as variable density (one colour per amplitude, clipped at a
- * percentile of |amplitude|), as wiggle traces with variable-area fill, or
- * both, with time increasing downward and traces left to right, a frame,
- * tick labels in a built-in bitmap font and a title line. The fold chart
- * draws fold per CMP as bars with the nominal fold as a dashed line, and the
- * live fraction (samples left after the mutes) as a second bar series below.
- * The mapping from amplitude to colour and from pixel to sample is fixed and
- * documented in docs/pictures.md so that it can be checked from outside.
- * The library never prints: rasters come back in memory; picture_write_png()
- * writes one through a temporary file renamed on success.
+ * percentile of |amplitude|, with a colour bar), as wiggle traces with
+ * variable-area fill, or both, with time increasing downward and traces left
+ * to right, a frame, labelled axes and a title. The fold chart draws fold per
+ * CMP as bars with the nominal fold as a dashed line, and the live fraction
+ * (samples left after the mutes) as a second bar series below. Drawing goes
+ * through a picture_ctx (below: how to add a chart kind), which writes PNG
+ * and PDF with cairo and SVG with real text. The mapping from amplitude to
+ * colour and from pixel to sample is fixed and documented in docs/pictures.md
+ * so that it can be checked from outside. The library never prints: pictures
+ * come back in memory or are written through a temporary file renamed on
+ * success.
  */
 #ifndef TZERO_PICTURE_H
 #define TZERO_PICTURE_H
@@ -26,11 +28,13 @@
 #define PICTURE_MAX_TITLE 200            /* characters of the title line */
 
 /* Fixed margins around the plot area (pixels). The plot area of a panel
- * picture of W x H is x in [LEFT, W - RIGHT), y in [TOP, H - BOTTOM). */
-#define PICTURE_MARGIN_LEFT 88
-#define PICTURE_MARGIN_TOP 60
-#define PICTURE_MARGIN_RIGHT 24
+ * picture of W x H is x in [LEFT, W - RIGHT), y in [TOP, H - BOTTOM); the
+ * right margin holds the colour bar. Charts (fold) use CHART_MARGIN_RIGHT. */
+#define PICTURE_MARGIN_LEFT 80
+#define PICTURE_MARGIN_TOP 72
+#define PICTURE_MARGIN_RIGHT 110
 #define PICTURE_MARGIN_BOTTOM 16
+#define PICTURE_CHART_MARGIN_RIGHT 24
 
 enum picture_map {
   PICTURE_MAP_DIVERGING = 0,  /* -clip blue (0,0,255), 0 white, +clip red (255,0,0) */
@@ -83,6 +87,7 @@ typedef struct picture_info {
   double clip_percentile;     /* percentile used (0 when clip_value was given) */
   int style;                  /* resolved enum picture_style (never AUTO) */
   uint32_t plot_x, plot_y, plot_w, plot_h;  /* plot area in pixels */
+  uint32_t width, height;     /* the whole picture, px */
 } picture_info;
 
 /* Value at percentile p (0..100) of |a[i]| over n values, interpolated
@@ -97,8 +102,142 @@ void picture_colour(int map, double a, double clip, unsigned char rgb[3]);
 /* Default width and height for a panel of ntraces x nsamples (docs/pictures.md). */
 void picture_default_size(size_t ntraces, size_t nsamples, uint32_t *width, uint32_t *height);
 
-/* Draws a panel. On success *img owns a new raster and *info (may be NULL) is
- * filled. Sizes outside PICTURE_MIN_* .. PICTURE_MAX_SIDE are TZ_E_ARG. */
+
+/* ---- output formats ---- */
+
+enum picture_format {
+  PICTURE_FORMAT_PNG = 0,     /* 8-bit RGB raster (cairo image surface) */
+  PICTURE_FORMAT_SVG,         /* SVG 1.1 with real <text>, rasters embedded as PNG */
+  PICTURE_FORMAT_PDF          /* vector PDF (cairo PDF surface), fonts embedded */
+};
+
+/* Format from a file name's extension (.png, .svg, .pdf, any case); -1 when
+ * the name has none of them. */
+int picture_format_from_path(const char *path);
+/* Format from its name ("png", "svg", "pdf"); -1 when unknown. */
+int picture_format_from_name(const char *name);
+const char *picture_format_name(int format);
+
+/* ---- drawing context: how to add a chart kind ----
+ *
+ * A picture_ctx is a canvas of W x H px in one format. Coordinates are pixels
+ * from the top-left corner, y down; a line of width 1 on a half-pixel centre
+ * (x + 0.5) covers exactly one pixel column. Lines and text are anti-aliased;
+ * text is DejaVu Sans found through fontconfig (Debian fonts-dejavu-core),
+ * in mixed case, sizes in px. Rasters (picture_ctx_image) are painted pixel
+ * for pixel in PNG and scaled by nearest neighbour in SVG and PDF, so the
+ * colour at a data point is exact in every format.
+ *
+ * A new chart kind is a function that takes a picture_ctx and draws:
+ *
+ *   picture_ctx *c;  picture_ctx_new(&c, picture_format_from_path(out), 800, 400, err);
+ *   picture_frame f = { .x = 70, .y = 50, .w = 700, .h = 300,
+ *                       .x0 = cmp_first - 0.5, .x1 = cmp_last + 0.5,  // values at left, right
+ *                       .y0 = 0, .y1 = ymax };                        // values at bottom, top
+ *   picture_title(c, "Statics along the line", "source and receiver, ms");
+ *   picture_ctx_polyline(c, xs_px, ys_px, n, 1.5, 0, colour);  // xs_px[i] = picture_frame_px(&f, v)
+ *   picture_axis_x(c, &f, PICTURE_SIDE_BOTTOM, "CMP", 1);      // ticks at 1-2-5 steps, labels
+ *   picture_axis_y(c, &f, PICTURE_SIDE_LEFT, "Static (ms)", 0); //   kept apart at any width
+ *   picture_frame_draw(c, &f);
+ *   picture_ctx_write(c, out, err);  picture_ctx_free(c);
+ *
+ * picture_colour_bar() draws a labelled colour scale for a colour map;
+ * picture_legend() a row of coloured keys. picture_ctx_attrs() sets extra
+ * SVG attributes of the next element (data-* values read by the HTML pages
+ * and their tests); the raster and PDF backends ignore them.
+ */
+
+typedef struct picture_ctx picture_ctx;
+
+enum picture_anchor { PICTURE_ANCHOR_LEFT = 0, PICTURE_ANCHOR_CENTRE, PICTURE_ANCHOR_RIGHT };
+enum picture_side { PICTURE_SIDE_BOTTOM = 0, PICTURE_SIDE_TOP, PICTURE_SIDE_LEFT,
+                    PICTURE_SIDE_RIGHT };
+
+/* A new canvas, white. Sizes outside 1 .. PICTURE_MAX_SIDE are TZ_E_ARG. */
+int picture_ctx_new(picture_ctx **out, int format, uint32_t width, uint32_t height, tz_err *err);
+void picture_ctx_free(picture_ctx *c);               /* NULL is a no-op */
+int picture_ctx_format(const picture_ctx *c);
+/* Attributes (already escaped, e.g. `data-cmp="12"`) for the next element drawn
+ * in SVG; printf-style; ignored by PNG and PDF. */
+void picture_ctx_attrs(picture_ctx *c, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
+/* Opens an SVG group <g> with attributes (as above; NULL: none); every group
+ * opened is closed by picture_ctx_group_end(). PNG and PDF ignore groups. */
+void picture_ctx_group(picture_ctx *c, const char *attrs);
+void picture_ctx_group_end(picture_ctx *c);
+
+void picture_ctx_fill_rect(picture_ctx *c, double x, double y, double w, double h,
+                           const unsigned char rgb[3]);
+/* An outline on the pixel edges of the rectangle, line width lw px. */
+void picture_ctx_stroke_rect(picture_ctx *c, double x, double y, double w, double h, double lw,
+                             const unsigned char rgb[3]);
+/* Open polyline through n points; dashed: 6 px on, 4 px off. */
+void picture_ctx_polyline(picture_ctx *c, const double *x, const double *y, size_t n, double lw,
+                          int dashed, const unsigned char rgb[3]);
+/* Closed polygon through n points, filled. */
+void picture_ctx_polygon(picture_ctx *c, const double *x, const double *y, size_t n,
+                         const unsigned char rgb[3]);
+/* A filled circle (markers). */
+void picture_ctx_dot(picture_ctx *c, double x, double y, double r, const unsigned char rgb[3]);
+/* Text with its baseline at y, anchored at x; vertical: rotated to read
+ * bottom to top. Returns the advance width in px. */
+double picture_ctx_text(picture_ctx *c, double x, double y, const char *s, double size_px,
+                        int anchor, int bold, int vertical, const unsigned char rgb[3]);
+double picture_ctx_text_width(picture_ctx *c, const char *s, double size_px, int bold);
+/* Paints an RGB raster with its top-left corner at (x, y), scaled to w x h px
+ * (w, h <= 0: the raster's own size) by nearest neighbour. */
+int picture_ctx_image(picture_ctx *c, const picture_image *img, double x, double y, double w,
+                      double h, tz_err *err);
+
+/* Writes the canvas to path in its format, through a temporary file renamed on
+ * success; on failure nothing appears at path. */
+int picture_ctx_write(picture_ctx *c, const char *path, tz_err *err);
+/* The canvas as bytes of its format (an SVG without the XML declaration, for
+ * inlining in HTML); *out is the caller's (free()). */
+int picture_ctx_bytes(picture_ctx *c, char **out, size_t *len, tz_err *err);
+/* PNG canvases only: a copy of the pixels (TZ_E_ARG for SVG and PDF). */
+int picture_ctx_raster(picture_ctx *c, picture_image *img, tz_err *err);
+
+/* ---- chart helpers ---- */
+
+/* A plot area in px and the values at its edges. */
+typedef struct picture_frame {
+  double x, y, w, h;          /* plot area: left, top, width, height (px) */
+  double x0, x1;              /* values at the left and right edges */
+  double y0, y1;              /* values at the bottom and top edges (y0 > y1: value grows down) */
+} picture_frame;
+
+double picture_frame_px(const picture_frame *f, double v);   /* x pixel of value v */
+double picture_frame_py(const picture_frame *f, double v);   /* y pixel of value v */
+void picture_frame_draw(picture_ctx *c, const picture_frame *f);   /* 1-px border outside */
+/* Smallest step of 1, 2 or 5 x 10^k that is >= min_step (> 0). */
+double picture_nice_step(double min_step);
+/* Ticks and labels along one side (BOTTOM/TOP for x, LEFT/RIGHT for y), at
+ * 1-2-5 steps spaced by the measured width of the widest label so that labels
+ * never overlap at any width; whole: no ticks between whole numbers (CMP
+ * numbers). The title goes centred beyond the labels (NULL: none). */
+void picture_axis_x(picture_ctx *c, const picture_frame *f, int side, const char *title,
+                    int whole);
+void picture_axis_y(picture_ctx *c, const picture_frame *f, int side, const char *title,
+                    int whole);
+/* Light grey lines at the y ticks (behind data: draw first). */
+void picture_grid_y(picture_ctx *c, const picture_frame *f);
+/* Title (bold, 15 px) at the top left and a subtitle line below it (NULL: none). */
+void picture_title(picture_ctx *c, const char *title, const char *subtitle);
+/* A vertical colour scale of `map` from -clip (or 0 for SEQUENTIAL) at the
+ * bottom to +clip at the top, in the box x, y, w, h, with value labels on its
+ * right and a vertical title. */
+void picture_colour_bar(picture_ctx *c, double x, double y, double w, double h, int map,
+                        double clip, const char *title);
+/* Keys in a row from (x, y): a swatch of each colour then its label; returns the
+ * x after the last. dashed[i]: the key is a dashed line instead of a swatch. */
+double picture_legend(picture_ctx *c, double x, double y, size_t n, const char *const *labels,
+                      const unsigned char (*rgb)[3], const int *dashed);
+
+/* Draws a panel on a new canvas of the given format (*out: picture_ctx_free()).
+ * Sizes outside PICTURE_MIN_* .. PICTURE_MAX_SIDE are TZ_E_ARG. */
+int picture_draw_panel(const picture_panel *p, const picture_opts *o, int format,
+                       picture_ctx **out, picture_info *info, tz_err *err);
+/* The same as a PNG raster: on success *img owns it and *info (may be NULL) is filled. */
 int picture_render_panel(const picture_panel *p, const picture_opts *o, picture_image *img,
                          picture_info *info, tz_err *err);
 
@@ -126,7 +265,10 @@ int picture_fold_parse(picture_fold *out, const char *json, size_t len, const ch
 int picture_fold_load(picture_fold *out, const char *path, tz_err *err);
 
 /* Fold bars over the top 70 % of the plot height, live-fraction bars below
- * (docs/pictures.md gives the layout). width/height 0 choose defaults. */
+ * (docs/pictures.md gives the layout). width/height 0 choose defaults. In SVG
+ * every bar carries data-cmp and data-fold (or data-live). */
+int picture_draw_fold(const picture_fold *f, const char *title, uint32_t width, uint32_t height,
+                      int format, picture_ctx **out, picture_info *info, tz_err *err);
 int picture_render_fold(const picture_fold *f, const char *title, uint32_t width,
                         uint32_t height, picture_image *img, picture_info *info, tz_err *err);
 
@@ -156,16 +298,10 @@ void picture_loaded_free(picture_loaded *l);   /* NULL is a no-op */
 int picture_load_segy(const char *path, const picture_select *sel, picture_loaded *out,
                       tz_err *err);
 
-/* ---- PNG ---- */
+/* ---- PNG of a raster ---- */
 
 /* Writes img as an 8-bit RGB PNG through a temporary file renamed on success;
  * on failure nothing appears at path. */
 int picture_write_png(const picture_image *img, const char *path, tz_err *err);
-
-/* Draws text in the built-in 5x7 font scaled by `scale` with its top-left
- * corner at (x, y), clipped to the raster. Lower-case letters are drawn as
- * capitals; characters outside the font as a blank. Returns the width drawn. */
-uint32_t picture_text(picture_image *img, int64_t x, int64_t y, const char *s, int scale,
-                      const unsigned char rgb[3]);
 
 #endif

@@ -1,4 +1,5 @@
-/* picture.c -- `tzero picture`: a section, gather or semblance panel, or a fold chart, as PNG. */
+/* picture.c -- `tzero picture`: a section, gather or semblance panel, or a fold chart, as PNG,
+ * SVG or PDF. */
 #include <cjson/cJSON.h>
 #include <getopt.h>
 #include <math.h>
@@ -16,20 +17,23 @@ static const char *cmd = "picture";
 
 static void help(void)
 {
-  printf("usage: tzero picture SECTION.sgy --out FILE.png [OPTIONS]\n"
-         "       tzero picture --fold QC.json --out FILE.png [--width W --height H]\n"
+  printf("usage: tzero picture SECTION.sgy --out FILE.png|.svg|.pdf [OPTIONS]\n"
+         "       tzero picture --fold QC.json --out FILE.png|.svg|.pdf [--width W --height H]\n"
          "\n"
          "Draws a SEG-Y panel (a stacked section, CMP gathers, semblance panels) as a\n"
-         "PNG picture: time in ms increasing downward, traces left to right, labelled\n"
+         "picture: time in ms increasing downward, traces left to right, labelled\n"
          "by CMP number (bytes 21-24) when those increase trace to trace, else by\n"
          "offset in m, or trial velocity in m/s for semblance panels (bytes 37-40)\n"
          "when those vary, else by trace number. The title line gives the file, the\n"
-         "CMP and time ranges; the line below it the clip and colour legend.\n"
+         "CMP and time ranges; the line below it the clip and colour legend; a\n"
+         "colour bar on the right gives amplitude values.\n"
          "With --fold, draws the fold per CMP from the QC report of tzero stack,\n"
          "with the nominal fold dashed and the live fraction after the mutes below.\n"
          "\n"
          "options:\n"
-         "  --out FILE.png          picture to write (required)\n"
+         "  --out FILE              picture to write (required); its extension .png,\n"
+         "                          .svg or .pdf chooses the format\n"
+         "  --format NAME           png, svg or pdf, whatever the extension\n"
          "  --cmps A-B              only traces with CMP A to B (inclusive); A alone: one\n"
          "                          CMP (a gather)\n"
          "  --time-ms T0-T1         only samples from T0 to T1 ms (recording time)\n"
@@ -43,7 +47,8 @@ static void help(void)
          "  --style NAME            density, wiggle (variable area), both, or auto\n"
          "                          (default: density, plus wiggles when traces are at\n"
          "                          least 6 px apart, except with the semblance map)\n"
-         "  --width W, --height H   picture size in pixels, %u..%u by %u..%u (default:\n"
+         "  --width W, --height H   picture size in pixels (PDF: 0.75 pt per px),\n"
+         "                          %u..%u by %u..%u (default:\n"
          "                          1-12 px per trace, 600-4000 px of plot width, 600-1000\n"
          "                          px of time; fold chart 3 px per CMP, 480 px high)\n"
          "  --title TEXT            replace the title line\n"
@@ -125,9 +130,10 @@ struct extent {
   double time_first_ms, time_last_ms; /* panel only */
 };
 
-static void print_summary(const char *out, const picture_image *img, const picture_info *in,
-                          int json, const char *what, const struct extent *x)
+static void print_summary(const char *out, int format, const picture_info *in, int json,
+                          const char *what, const struct extent *x)
 {
+  uint32_t width = in->width, height = in->height;
   static const char *const styles[] = { "auto", "density", "wiggle", "both" };
   if (json) {
     cJSON *o = cJSON_CreateObject();
@@ -135,8 +141,9 @@ static void print_summary(const char *out, const picture_image *img, const pictu
       return;
     cJSON_AddStringToObject(o, "path", out);
     cJSON_AddStringToObject(o, "picture", what);
-    cJSON_AddNumberToObject(o, "width_px", img->width);
-    cJSON_AddNumberToObject(o, "height_px", img->height);
+    cJSON_AddStringToObject(o, "format", picture_format_name(format));
+    cJSON_AddNumberToObject(o, "width_px", width);
+    cJSON_AddNumberToObject(o, "height_px", height);
     cJSON *pa = cJSON_AddObjectToObject(o, "plot_area_px");
     cJSON_AddNumberToObject(pa, "x", in->plot_x);
     cJSON_AddNumberToObject(pa, "y", in->plot_y);
@@ -160,22 +167,22 @@ static void print_summary(const char *out, const picture_image *img, const pictu
     return;
   }
   if (!strcmp(what, "fold"))
-    printf("wrote %s (%u x %u px): fold chart of %zu CMPs, %.0f-%.0f\n", out, img->width,
-           img->height, x->traces, x->cmp_first, x->cmp_last);
+    printf("wrote %s (%u x %u px): fold chart of %zu CMPs, %.0f-%.0f\n", out, width,
+           height, x->traces, x->cmp_first, x->cmp_last);
   else
     printf("wrote %s (%u x %u px): %zu traces, CMP %.0f-%.0f, %g-%g ms, %s, clip %.6g%s\n", out,
-           img->width, img->height, x->traces, x->cmp_first, x->cmp_last, x->time_first_ms,
+           width, height, x->traces, x->cmp_first, x->cmp_last, x->time_first_ms,
            x->time_last_ms, styles[in->style & 3], in->clip,
            in->clip_percentile > 0 ? " (percentile)" : "");
 }
 
-static int run_fold(const char *qc, const char *out, const char *title, uint32_t w, uint32_t h,
-                    int json, int quiet)
+static int run_fold(const char *qc, const char *out, int format, const char *title, uint32_t w,
+                    uint32_t h, int json, int quiet)
 {
   tz_err err;
   tz_err_init(&err);
   picture_fold f = { 0 };
-  picture_image img = { 0 };
+  picture_ctx *ctx = NULL;
   picture_info in;
   char t[PICTURE_MAX_TITLE + 1];
   int rc = fileio_check_not_input(out, qc, "--out", &err);
@@ -183,31 +190,31 @@ static int run_fold(const char *qc, const char *out, const char *title, uint32_t
     rc = picture_fold_load(&f, qc, &err);
   if (!rc) {
     if (!title) {
-      snprintf(t, sizeof t, "FOLD  %s  CMP %lld-%lld", base_name(qc), (long long)f.rows[0].cmp,
-               (long long)f.rows[f.n - 1].cmp);
+      snprintf(t, sizeof t, "Fold and live fraction, %s, CMP %lld-%lld", base_name(qc),
+               (long long)f.rows[0].cmp, (long long)f.rows[f.n - 1].cmp);
       title = t;
     }
-    rc = picture_render_fold(&f, title, w, h, &img, &in, &err);
+    rc = picture_draw_fold(&f, title, w, h, format, &ctx, &in, &err);
   }
   struct extent x = { f.n, f.n ? (double)f.rows[0].cmp : 0, f.n ? (double)f.rows[f.n - 1].cmp : 0,
                       0, 0 };
   if (!rc)
-    rc = picture_write_png(&img, out, &err);
+    rc = picture_ctx_write(ctx, out, &err);
   picture_fold_free(&f);
   if (rc) {
-    picture_image_free(&img);
+    picture_ctx_free(ctx);
     return cli_report(cmd, &err);
   }
   if (!quiet)
-    print_summary(out, &img, &in, json, "fold", &x);
-  picture_image_free(&img);
+    print_summary(out, format, &in, json, "fold", &x);
+  picture_ctx_free(ctx);
   return EX_OK;
 }
 
 int cmd_picture(int argc, char **argv)
 {
   enum { O_OUT = 256, O_CMPS, O_TIME, O_PCT, O_CLIP, O_MAP, O_STYLE, O_W, O_H, O_TITLE, O_FOLD,
-         O_JSON, O_QUIET };
+         O_JSON, O_QUIET, O_FORMAT };
   static const struct option opts[] = {
     { "out", required_argument, NULL, O_OUT },
     { "cmps", required_argument, NULL, O_CMPS },
@@ -222,6 +229,7 @@ int cmd_picture(int argc, char **argv)
     { "fold", required_argument, NULL, O_FOLD },
     { "json", no_argument, NULL, O_JSON },
     { "quiet", no_argument, NULL, O_QUIET },
+    { "format", required_argument, NULL, O_FORMAT },
     { "help", no_argument, NULL, 'h' },
     { NULL, 0, NULL, 0 },
   };
@@ -230,7 +238,7 @@ int cmd_picture(int argc, char **argv)
   const char *out = NULL, *title = NULL, *fold = NULL;
   picture_opts po = { 0 };
   picture_select sel = { 0 };
-  int json = 0, quiet = 0, c;
+  int json = 0, quiet = 0, format = -1, c;
   optind = 1;
   opterr = 0;
   while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
@@ -269,6 +277,10 @@ int cmd_picture(int argc, char **argv)
     case O_FOLD: fold = optarg; break;
     case O_JSON: json = 1; break;
     case O_QUIET: quiet = 1; break;
+    case O_FORMAT:
+      if ((format = picture_format_from_name(optarg)) < 0)
+        bad = cli_usage_error(cmd, "--format: unknown value '%s' (png, svg or pdf)", optarg);
+      break;
     case 'h': help(); return EX_OK;
     default:
       return cli_usage_error(cmd, "unknown or incomplete option '%s'", argv[optind - 1]);
@@ -277,11 +289,20 @@ int cmd_picture(int argc, char **argv)
       return bad;
   }
   if (!out)
-    return cli_usage_error(cmd, "--out FILE.png is required");
+    return cli_usage_error(cmd, "--out FILE.png is required (or .svg, .pdf)");
+  if (format < 0 && (format = picture_format_from_path(out)) < 0) {
+    tz_err e; /* an output onto the input is the graver mistake: say that first */
+    tz_err_init(&e);
+    const char *in = fold ? fold : optind < argc ? argv[optind] : NULL;
+    if (in && fileio_check_not_input(out, in, "--out", &e))
+      return cli_report(cmd, &e);
+    return cli_usage_error(cmd, "--out %s: name a .png, .svg or .pdf file, or give --format",
+                           out);
+  }
   if (fold) {
     if (argc - optind != 0)
       return cli_usage_error(cmd, "--fold draws a QC report; no SEG-Y file goes with it");
-    return run_fold(fold, out, title, po.width, po.height, json, quiet);
+    return run_fold(fold, out, format, title, po.width, po.height, json, quiet);
   }
   if (argc - optind != 1)
     return cli_usage_error(cmd, "expected one SEG-Y file, got %d", argc - optind);
@@ -290,7 +311,7 @@ int cmd_picture(int argc, char **argv)
   tz_err err;
   tz_err_init(&err);
   picture_loaded l;
-  picture_image img = { 0 };
+  picture_ctx *ctx = NULL;
   picture_info info;
   int rc = fileio_check_not_input(out, in_path, "--out", &err);
   if (!rc)
@@ -307,7 +328,7 @@ int cmd_picture(int argc, char **argv)
     p.xlabel = "CMP";
   } else if (offsets_vary) { /* a gather, or trial velocities of a semblance panel */
     p.xvalue = l.offset;
-    p.xlabel = semblance ? "M/S" : "OFFSET";
+    p.xlabel = semblance ? "Velocity (m/s)" : "Offset (m)";
   } else if (l.ntraces == 1) {
     p.xvalue = l.cmp;
     p.xlabel = "CMP";
@@ -318,15 +339,14 @@ int cmd_picture(int argc, char **argv)
     snprintf(what, sizeof what, "CMP %.0f-%.0f", l.cmp[0], l.cmp[l.ntraces - 1]);
   else if (l.cmp[0] == l.cmp[l.ntraces - 1])
     snprintf(what, sizeof what, "CMP %.0f, %zu %s", l.cmp[0], l.ntraces,
-             semblance && offsets_vary ? "VELOCITIES" : "TRACES");
+             semblance && offsets_vary ? "trial velocities" : "traces");
   else
-    snprintf(what, sizeof what, "%zu TRACES", l.ntraces);
-  snprintf(t, sizeof t, "%s  %s  TIME %g-%g MS", base_name(in_path), what, l.time_first_ms,
-           t_last);
+    snprintf(what, sizeof what, "%zu traces", l.ntraces);
+  snprintf(t, sizeof t, "%s, %s, %g-%g ms", base_name(in_path), what, l.time_first_ms, t_last);
   p.title = title ? title : t;
-  rc = picture_render_panel(&p, &po, &img, &info, &err);
+  rc = picture_draw_panel(&p, &po, format, &ctx, &info, &err);
   if (!rc)
-    rc = picture_write_png(&img, out, &err);
+    rc = picture_ctx_write(ctx, out, &err);
   double cmin = l.cmp[0], cmax = l.cmp[0];
   for (size_t i = 1; i < l.ntraces; i++) {
     cmin = l.cmp[i] < cmin ? l.cmp[i] : cmin;
@@ -334,12 +354,10 @@ int cmd_picture(int argc, char **argv)
   }
   struct extent x = { l.ntraces, cmin, cmax, l.time_first_ms, t_last };
   picture_loaded_free(&l);
-  if (rc) {
-    picture_image_free(&img);
+  picture_ctx_free(ctx);
+  if (rc)
     return cli_report(cmd, &err);
-  }
   if (!quiet)
-    print_summary(out, &img, &info, json, "panel", &x);
-  picture_image_free(&img);
+    print_summary(out, format, &info, json, "panel", &x);
   return EX_OK;
 }

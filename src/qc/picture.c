@@ -1,20 +1,20 @@
-/* picture.c -- QC pictures: panels (section, gather, semblance) and fold charts as PNG.
+/* picture.c -- QC pictures: panels (section, gather, semblance) and fold charts.
  *
- * Design. Everything is drawn into an 8-bit RGB raster in memory with fixed
- * margins (picture.h) around the plot area, then written with libpng through
- * fileio (temporary name, renamed on success). The amplitude-to-colour maps
- * and the pixel-to-sample rule are plain formulas (docs/pictures.md), so the
- * tests recompute them independently:
+ * Design. Everything is drawn through the drawing context (draw.c: cairo for
+ * PNG and PDF, SVG markup with real text) with fixed margins (picture.h)
+ * around the plot area. The variable-density image is a raster of the plot
+ * area's size filled by a plain nearest-neighbour rule (docs/pictures.md), so
+ * the tests recompute every plot pixel independently:
  *   plot column c (0-based) shows trace  floor((c + 0.5) * ntraces  / plot_w),
  *   plot row    r           shows sample floor((r + 0.5) * nsamples / plot_h)
- * (nearest neighbour: a spike keeps its full colour, no smoothing hides it).
+ * (a spike keeps its full colour, no smoothing hides it).
  * Clipping uses a percentile of |amplitude| computed with the usual linear
  * interpolation between order statistics (Hyndman and Fan 1996, definition 7;
  * NumPy's default), 99 % by default for seismic so that a few spikes or a
  * noisy trace do not wash out the section (common practice).
  * Wiggles: each trace's baseline sits at its column centre; an amplitude of
  * +-clip swings one trace spacing; positive lobes are filled black (variable
- * area). Text uses a 5x7 bitmap font (a const table below), drawn at scale 2.
+ * area); lines are anti-aliased vectors.
  *
  * Not here: reading QC reports beyond the four fields a fold chart needs
  * (qc.c owns the report), printing (the front end).
@@ -22,8 +22,6 @@
 #include "tzero/picture.h"
 
 #include <math.h>
-#include <png.h>
-#include <setjmp.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -32,129 +30,17 @@
 #include "tzero/fileio.h"
 #include "tzero/segy.h"
 
-#define TEXT_SCALE 2
-#define GLYPH_W 5
-#define GLYPH_H 7
-#define CELL_W ((GLYPH_W + 1) * TEXT_SCALE)   /* 12 px per character */
-#define TEXT_H (GLYPH_H * TEXT_SCALE)         /* 14 px */
 #define TICK_LEN 5
-#define XLABEL_X 6                            /* left edge of the axis name */
+#define LABEL_PX 11.0
 #define WIGGLE_MIN_SPACING 6.0                /* px between traces for AUTO wiggles */
 #define FOLD_MAX_CMP_SPAN 10000000            /* CMP number range of one fold chart */
 #define FOLD_GAP 24                           /* px between the fold and live panels */
 #define FOLD_MAX_BYTES (512u << 20)
 
 static const unsigned char black[3] = { 0, 0, 0 };
-static const unsigned char dark[3] = { 60, 60, 60 };
 static const unsigned char fold_bar[3] = { 70, 110, 180 };
 static const unsigned char live_bar[3] = { 220, 120, 30 };
 static const unsigned char nominal_line[3] = { 0, 150, 0 };
-
-/* ---------------------------------------------------------------- font */
-
-/* 5x7 glyphs, one byte per row, bit 4 the leftmost pixel. */
-static const char font_chars[] = "0123456789ABCDEFGHIJKLMNOPQRSTUVWXYZ.,-:/()%=+_'[]<>#*|";
-static const unsigned char font_rows[][GLYPH_H] = {
-  { 0x0E, 0x11, 0x13, 0x15, 0x19, 0x11, 0x0E }, /* 0 */
-  { 0x04, 0x0C, 0x04, 0x04, 0x04, 0x04, 0x0E }, /* 1 */
-  { 0x0E, 0x11, 0x01, 0x02, 0x04, 0x08, 0x1F }, /* 2 */
-  { 0x1F, 0x02, 0x04, 0x02, 0x01, 0x11, 0x0E }, /* 3 */
-  { 0x02, 0x06, 0x0A, 0x12, 0x1F, 0x02, 0x02 }, /* 4 */
-  { 0x1F, 0x10, 0x1E, 0x01, 0x01, 0x11, 0x0E }, /* 5 */
-  { 0x06, 0x08, 0x10, 0x1E, 0x11, 0x11, 0x0E }, /* 6 */
-  { 0x1F, 0x01, 0x02, 0x04, 0x08, 0x08, 0x08 }, /* 7 */
-  { 0x0E, 0x11, 0x11, 0x0E, 0x11, 0x11, 0x0E }, /* 8 */
-  { 0x0E, 0x11, 0x11, 0x0F, 0x01, 0x02, 0x0C }, /* 9 */
-  { 0x0E, 0x11, 0x11, 0x11, 0x1F, 0x11, 0x11 }, /* A */
-  { 0x1E, 0x11, 0x11, 0x1E, 0x11, 0x11, 0x1E }, /* B */
-  { 0x0E, 0x11, 0x10, 0x10, 0x10, 0x11, 0x0E }, /* C */
-  { 0x1C, 0x12, 0x11, 0x11, 0x11, 0x12, 0x1C }, /* D */
-  { 0x1F, 0x10, 0x10, 0x1E, 0x10, 0x10, 0x1F }, /* E */
-  { 0x1F, 0x10, 0x10, 0x1E, 0x10, 0x10, 0x10 }, /* F */
-  { 0x0E, 0x11, 0x10, 0x17, 0x11, 0x11, 0x0F }, /* G */
-  { 0x11, 0x11, 0x11, 0x1F, 0x11, 0x11, 0x11 }, /* H */
-  { 0x0E, 0x04, 0x04, 0x04, 0x04, 0x04, 0x0E }, /* I */
-  { 0x07, 0x02, 0x02, 0x02, 0x02, 0x12, 0x0C }, /* J */
-  { 0x11, 0x12, 0x14, 0x18, 0x14, 0x12, 0x11 }, /* K */
-  { 0x10, 0x10, 0x10, 0x10, 0x10, 0x10, 0x1F }, /* L */
-  { 0x11, 0x1B, 0x15, 0x15, 0x11, 0x11, 0x11 }, /* M */
-  { 0x11, 0x11, 0x19, 0x15, 0x13, 0x11, 0x11 }, /* N */
-  { 0x0E, 0x11, 0x11, 0x11, 0x11, 0x11, 0x0E }, /* O */
-  { 0x1E, 0x11, 0x11, 0x1E, 0x10, 0x10, 0x10 }, /* P */
-  { 0x0E, 0x11, 0x11, 0x11, 0x15, 0x12, 0x0D }, /* Q */
-  { 0x1E, 0x11, 0x11, 0x1E, 0x14, 0x12, 0x11 }, /* R */
-  { 0x0F, 0x10, 0x10, 0x0E, 0x01, 0x01, 0x1E }, /* S */
-  { 0x1F, 0x04, 0x04, 0x04, 0x04, 0x04, 0x04 }, /* T */
-  { 0x11, 0x11, 0x11, 0x11, 0x11, 0x11, 0x0E }, /* U */
-  { 0x11, 0x11, 0x11, 0x11, 0x11, 0x0A, 0x04 }, /* V */
-  { 0x11, 0x11, 0x11, 0x15, 0x15, 0x15, 0x0A }, /* W */
-  { 0x11, 0x11, 0x0A, 0x04, 0x0A, 0x11, 0x11 }, /* X */
-  { 0x11, 0x11, 0x11, 0x0A, 0x04, 0x04, 0x04 }, /* Y */
-  { 0x1F, 0x01, 0x02, 0x04, 0x08, 0x10, 0x1F }, /* Z */
-  { 0x00, 0x00, 0x00, 0x00, 0x00, 0x0C, 0x0C }, /* . */
-  { 0x00, 0x00, 0x00, 0x00, 0x0C, 0x04, 0x08 }, /* , */
-  { 0x00, 0x00, 0x00, 0x1F, 0x00, 0x00, 0x00 }, /* - */
-  { 0x00, 0x0C, 0x0C, 0x00, 0x0C, 0x0C, 0x00 }, /* : */
-  { 0x00, 0x01, 0x02, 0x04, 0x08, 0x10, 0x00 }, /* / */
-  { 0x02, 0x04, 0x08, 0x08, 0x08, 0x04, 0x02 }, /* ( */
-  { 0x08, 0x04, 0x02, 0x02, 0x02, 0x04, 0x08 }, /* ) */
-  { 0x18, 0x19, 0x02, 0x04, 0x08, 0x13, 0x03 }, /* % */
-  { 0x00, 0x00, 0x1F, 0x00, 0x1F, 0x00, 0x00 }, /* = */
-  { 0x00, 0x04, 0x04, 0x1F, 0x04, 0x04, 0x00 }, /* + */
-  { 0x00, 0x00, 0x00, 0x00, 0x00, 0x00, 0x1F }, /* _ */
-  { 0x0C, 0x04, 0x08, 0x00, 0x00, 0x00, 0x00 }, /* ' */
-  { 0x0E, 0x08, 0x08, 0x08, 0x08, 0x08, 0x0E }, /* [ */
-  { 0x0E, 0x02, 0x02, 0x02, 0x02, 0x02, 0x0E }, /* ] */
-  { 0x02, 0x04, 0x08, 0x10, 0x08, 0x04, 0x02 }, /* < */
-  { 0x08, 0x04, 0x02, 0x01, 0x02, 0x04, 0x08 }, /* > */
-  { 0x0A, 0x0A, 0x1F, 0x0A, 0x1F, 0x0A, 0x0A }, /* # */
-  { 0x00, 0x04, 0x15, 0x0E, 0x15, 0x04, 0x00 }, /* * */
-  { 0x04, 0x04, 0x04, 0x04, 0x04, 0x04, 0x04 }, /* | */
-};
-_Static_assert(sizeof font_rows / sizeof font_rows[0] == sizeof font_chars - 1,
-               "one glyph per font character");
-
-static void put_px(picture_image *img, int64_t x, int64_t y, const unsigned char c[3])
-{
-  if (x < 0 || y < 0 || x >= (int64_t)img->width || y >= (int64_t)img->height)
-    return;
-  unsigned char *p = img->rgb + 3 * ((size_t)y * img->width + (size_t)x);
-  p[0] = c[0];
-  p[1] = c[1];
-  p[2] = c[2];
-}
-
-static void fill_rect(picture_image *img, int64_t x0, int64_t y0, int64_t x1, int64_t y1,
-                      const unsigned char c[3])
-{
-  for (int64_t y = y0; y < y1; y++)
-    for (int64_t x = x0; x < x1; x++)
-      put_px(img, x, y, c);
-}
-
-uint32_t picture_text(picture_image *img, int64_t x, int64_t y, const char *s, int scale,
-                      const unsigned char rgb[3])
-{
-  if (scale < 1)
-    scale = 1;
-  int64_t x0 = x;
-  for (; *s; s++) {
-    char ch = *s >= 'a' && *s <= 'z' ? (char)(*s - 'a' + 'A') : *s;
-    const char *at = ch ? strchr(font_chars, ch) : NULL;
-    if (at) {
-      const unsigned char *g = font_rows[at - font_chars];
-      for (int r = 0; r < GLYPH_H; r++)
-        for (int c = 0; c < GLYPH_W; c++)
-          if (g[r] & (0x10 >> c))
-            fill_rect(img, x + c * scale, y + r * scale, x + (c + 1) * scale,
-                      y + (r + 1) * scale, rgb);
-    }
-    x += (GLYPH_W + 1) * scale;
-  }
-  return (uint32_t)(x - x0);
-}
-
-static int64_t text_width(const char *s) { return (int64_t)strlen(s) * CELL_W; }
 
 /* ---------------------------------------------------------------- raster */
 
@@ -179,9 +65,6 @@ static int check_size(uint32_t w, uint32_t h, tz_err *err)
 
 static int image_new(picture_image *img, uint32_t w, uint32_t h, tz_err *err)
 {
-  int rc = check_size(w, h, err);
-  if (rc)
-    return rc;
   img->rgb = malloc((size_t)w * h * 3);
   if (!img->rgb)
     return tz_fail(err, TZ_E_NOMEM, "picture of %u x %u px", w, h);
@@ -189,14 +72,6 @@ static int image_new(picture_image *img, uint32_t w, uint32_t h, tz_err *err)
   img->width = w;
   img->height = h;
   return TZ_OK;
-}
-
-static void frame(picture_image *img, int64_t x, int64_t y, int64_t w, int64_t h)
-{
-  fill_rect(img, x - 1, y - 1, x + w + 1, y, black);
-  fill_rect(img, x - 1, y + h, x + w + 1, y + h + 1, black);
-  fill_rect(img, x - 1, y, x, y + h, black);
-  fill_rect(img, x + w, y, x + w + 1, y + h, black);
 }
 
 /* ---------------------------------------------------------------- colours */
@@ -310,48 +185,6 @@ void picture_colour(int map, double a, double clip, unsigned char rgb[3])
 
 /* ---------------------------------------------------------------- axes */
 
-/* Smallest step of 1, 2 or 5 x 10^k that is >= min_step (> 0). */
-static double nice_step(double min_step)
-{
-  double e = pow(10.0, floor(log10(min_step)));
-  const double m[] = { 1, 2, 5, 10 };
-  for (int i = 0; i < 4; i++)
-    if (m[i] * e >= min_step * (1 - 1e-12))
-      return m[i] * e;
-  return 10 * e;
-}
-
-static void fmt_tick(char *buf, size_t cap, double v, double step)
-{
-  if (fabs(v) < step * 1e-9)
-    v = 0;
-  if (step >= 1)
-    snprintf(buf, cap, "%.0f", v);
-  else
-    snprintf(buf, cap, "%g", v);
-}
-
-/* Vertical axis on the left of the plot: values v0 at row y0 to v1 at row y1
- * (pixel centres, may be decreasing). */
-static void left_axis(picture_image *img, int64_t x, double y0, double y1, double v0, double v1,
-                      double min_px)
-{
-  double span = fabs(v1 - v0);
-  if (!(span > 0) || !(fabs(y1 - y0) > 0))
-    return;
-  double step = nice_step(span * min_px / fabs(y1 - y0));
-  double lo = fmin(v0, v1), hi = fmax(v0, v1);
-  for (double v = ceil(lo / step - 1e-9) * step; v <= hi + step * 1e-9; v += step) {
-    double y = y0 + (v - v0) / (v1 - v0) * (y1 - y0);
-    int64_t yi = (int64_t)floor(y + 0.5);
-    fill_rect(img, x - TICK_LEN - 1, yi, x - 1, yi + 1, black);
-    char lab[32];
-    fmt_tick(lab, sizeof lab, v, step);
-    picture_text(img, x - TICK_LEN - 3 - text_width(lab), yi - TEXT_H / 2, lab, TEXT_SCALE,
-                 black);
-  }
-}
-
 /* Horizontal positions of trace values: fractional trace index of value v
  * along monotonic xs (or -1 when outside). */
 static double trace_pos(const double *xs, size_t n, double v)
@@ -386,60 +219,102 @@ static int monotonic(const double *xs, size_t n)
   return 1;
 }
 
-/* Ticks and labels above the plot for per-slot values (slot i centred at
- * x + (i + 0.5) * w / n). With xs NULL the values are 1..n. */
-static void top_axis(picture_image *img, int64_t x, int64_t y, int64_t w, const double *xs,
-                     size_t n, const char *xlabel)
+static void tick_down(picture_ctx *c, double x, double y)
 {
-  int64_t free_from = XLABEL_X + text_width(xlabel) + CELL_W / 2;
+  double xs[2] = { x, x }, ys[2] = { y - 1, y - 1 - TICK_LEN };
+  picture_ctx_polyline(c, xs, ys, 2, 1, 0, black);
+}
+
+static void top_label(picture_ctx *c, double x, double y, const char *lab)
+{
+  picture_ctx_text(c, x, y - TICK_LEN - 4, lab, LABEL_PX, PICTURE_ANCHOR_CENTRE, 0, 0, black);
+}
+
+/* The axis name in the top-left corner, on the row of the labels above the plot. */
+static void corner_title(picture_ctx *c, double x, double y, const char *xlabel)
+{
+  picture_ctx_text(c, x - 8, y - TICK_LEN - 4, xlabel, 12, PICTURE_ANCHOR_RIGHT, 1, 0, black);
+}
+
+/* Ticks and labels above the plot for per-slot values (slot i centred at
+ * x + (i + 0.5) * w / n). With xs NULL the values are 1..n. Label spacing
+ * follows the measured width of the widest label, so labels never overlap. */
+static void top_axis(picture_ctx *c, double x, double y, double w, const double *xs, size_t n,
+                     const char *xlabel)
+{
   double first = xs ? xs[0] : 1, last = xs ? xs[n - 1] : (double)n;
   double lo = fmin(first, last), hi = fmax(first, last);
-  double px_per_unit = n > 1 ? (double)w / (double)n * (double)(n - 1) / (hi - lo) : 0;
+  double px_per_unit = n > 1 ? w / (double)n * (double)(n - 1) / (hi - lo) : 0;
   char lab[32];
-  snprintf(lab, sizeof lab, "%.0f", fmax(fabs(lo), fabs(hi)));
-  double min_px = (double)text_width(lab) + 3.0 * CELL_W;
-  double step = n > 1 && hi > lo ? nice_step(min_px / px_per_unit) : 1;
+  snprintf(lab, sizeof lab, "%.0f", fmax(fabs(lo), fabs(hi)) * (lo < 0 ? -1 : 1));
+  double min_px = picture_ctx_text_width(c, lab, LABEL_PX, 0) + 16;
+  double step = n > 1 && hi > lo ? picture_nice_step(min_px / px_per_unit) : 1;
   int whole = 1; /* CMP and trace numbers: no ticks between them */
   for (size_t i = 0; xs && i < n && whole; i++)
     whole = xs[i] == floor(xs[i]);
   if (whole && step < 1)
     step = 1;
+  double last_right = -1e30;
   for (double v = ceil(lo / step - 1e-9) * step; v <= hi + step * 1e-9; v += step) {
     double fi = xs ? trace_pos(xs, n, v) : v - 1;
     if (fi < 0)
       continue;
-    int64_t xi = x + (int64_t)floor((fi + 0.5) * (double)w / (double)n);
-    fill_rect(img, xi, y - TICK_LEN - 1, xi + 1, y - 1, black);
-    fmt_tick(lab, sizeof lab, v, step);
-    if (xi - text_width(lab) / 2 >= free_from)
-      picture_text(img, xi - text_width(lab) / 2, y - TICK_LEN - 3 - TEXT_H, lab, TEXT_SCALE,
-                   black);
+    double xi = floor(x + (fi + 0.5) * w / (double)n) + 0.5;
+    tick_down(c, xi, y);
+    if (fabs(v) < step * 1e-9)
+      v = 0;
+    snprintf(lab, sizeof lab, step >= 1 ? "%.0f" : "%g", v);
+    double lw = picture_ctx_text_width(c, lab, LABEL_PX, 0);
+    if (xi - lw / 2 > last_right + 4) {
+      top_label(c, xi, y, lab);
+      last_right = xi + lw / 2;
+    }
   }
+  corner_title(c, x, y, xlabel);
 }
 
 /* Labels for values that do not run monotonically (offsets of a split-spread
  * gather): every k-th trace is labelled with its own value, k the smallest
  * stride that keeps the labels apart. */
-static void trace_labels(picture_image *img, int64_t x, int64_t y, int64_t w, const double *xs,
+static void trace_labels(picture_ctx *c, double x, double y, double w, const double *xs,
                          size_t n, const char *xlabel)
 {
-  int64_t free_from = XLABEL_X + text_width(xlabel) + CELL_W / 2;
-  double dx = (double)w / (double)n, widest = 0;
+  double dx = w / (double)n, widest = 0;
   char lab[32];
   for (size_t i = 0; i < n; i++) {
     snprintf(lab, sizeof lab, "%g", xs[i]);
-    widest = fmax(widest, (double)text_width(lab));
+    widest = fmax(widest, picture_ctx_text_width(c, lab, LABEL_PX, 0));
   }
-  size_t k = (size_t)ceil((widest + CELL_W) / dx);
+  size_t k = (size_t)ceil((widest + 8) / dx);
   k = k < 1 ? 1 : k;
   for (size_t i = 0; i < n; i += k) {
-    int64_t xi = x + (int64_t)floor(((double)i + 0.5) * dx);
-    fill_rect(img, xi, y - TICK_LEN - 1, xi + 1, y - 1, black);
+    double xi = floor(x + ((double)i + 0.5) * dx) + 0.5;
+    tick_down(c, xi, y);
     snprintf(lab, sizeof lab, "%g", xs[i]);
-    if (xi - text_width(lab) / 2 >= free_from)
-      picture_text(img, xi - text_width(lab) / 2, y - TICK_LEN - 3 - TEXT_H, lab, TEXT_SCALE,
-                   black);
+    top_label(c, xi, y, lab);
   }
+  corner_title(c, x, y, xlabel);
+}
+
+/* Time (or any value) axis on the left: v0 at pixel row y0 to v1 at row y1 (pixel centres). */
+static void left_axis(picture_ctx *c, double x, double y0, double y1, double v0, double v1,
+                      const char *title)
+{
+  picture_frame f = { .x = x, .w = 1, .x0 = 0, .x1 = 1 };
+  /* a frame whose bottom edge is y0 + 0.5 at v0 and top edge y1 + 0.5 at v1 */
+  f.y = y1 + 0.5;
+  f.h = y0 - y1;
+  f.y0 = v0;
+  f.y1 = v1;
+  if (!(fabs(f.h) > 0) || !(fabs(v1 - v0) > 0))
+    return;
+  if (f.h < 0) { /* value grows upward on the page: swap to keep h positive */
+    f.y = y0 + 0.5;
+    f.h = y1 - y0;
+    f.y0 = v1;
+    f.y1 = v0;
+  }
+  picture_axis_y(c, &f, PICTURE_SIDE_LEFT, title, 0);
 }
 
 /* ---------------------------------------------------------------- panels */
@@ -456,17 +331,28 @@ void picture_default_size(size_t ntraces, size_t nsamples, uint32_t *width, uint
   *height = (uint32_t)(ph + PICTURE_MARGIN_TOP + PICTURE_MARGIN_BOTTOM);
 }
 
-static void draw_density(picture_image *img, const picture_panel *p, int map, double clip,
-                         const picture_info *in)
+/* The density raster of the plot area (nearest neighbour, docs/pictures.md). */
+static int density_raster(const picture_panel *p, int map, double clip, const picture_info *in,
+                          picture_image *ras, tz_err *err)
 {
+  int rc = image_new(ras, in->plot_w, in->plot_h, err);
+  if (rc)
+    return rc;
+  size_t *ti = malloc(in->plot_w * sizeof *ti);
+  if (!ti) {
+    picture_image_free(ras);
+    return tz_fail(err, TZ_E_NOMEM, "density raster");
+  }
+  for (uint32_t col = 0; col < in->plot_w; col++)
+    ti[col] = (size_t)(((double)col + 0.5) * (double)p->ntraces / in->plot_w);
   for (uint32_t r = 0; r < in->plot_h; r++) {
     size_t j = (size_t)(((double)r + 0.5) * (double)p->nsamples / in->plot_h);
-    unsigned char *row = img->rgb + 3 * ((size_t)(in->plot_y + r) * img->width + in->plot_x);
-    for (uint32_t c = 0; c < in->plot_w; c++) {
-      size_t i = (size_t)(((double)c + 0.5) * (double)p->ntraces / in->plot_w);
-      picture_colour(map, p->data[i * p->nsamples + j], clip, row + 3 * c);
-    }
+    unsigned char *row = ras->rgb + 3 * (size_t)r * in->plot_w;
+    for (uint32_t col = 0; col < in->plot_w; col++)
+      picture_colour(map, p->data[ti[col] * p->nsamples + j], clip, row + 3 * col);
   }
+  free(ti);
+  return TZ_OK;
 }
 
 /* Amplitude of trace i at fractional sample s, linear between samples. */
@@ -482,30 +368,40 @@ static double sample_at(const picture_panel *p, size_t i, double s)
   return t[k] + f * (t[k + 1] - t[k]);
 }
 
-static void draw_wiggles(picture_image *img, const picture_panel *p, double clip,
-                         const picture_info *in)
+/* One point per pixel row (or per sample when samples are sparser): the
+ * wiggle line and, for variable area, the positive lobes filled. */
+static int draw_wiggles(picture_ctx *c, const picture_panel *p, double clip,
+                        const picture_info *in, tz_err *err)
 {
   double dx = (double)in->plot_w / (double)p->ntraces;
-  int64_t xmin = in->plot_x, xmax = (int64_t)in->plot_x + in->plot_w - 1;
+  size_t np = in->plot_h;
+  double *xs = malloc((2 * np + 2) * sizeof *xs), *ys = malloc((2 * np + 2) * sizeof *ys);
+  double *fx = malloc((2 * np + 2) * sizeof *fx), *fy = malloc((2 * np + 2) * sizeof *fy);
+  if (!xs || !ys || !fx || !fy) {
+    free(xs), free(ys), free(fx), free(fy);
+    return tz_fail(err, TZ_E_NOMEM, "wiggles of %zu traces", p->ntraces);
+  }
+  double xmax = in->plot_x + in->plot_w;
   for (size_t i = 0; i < p->ntraces; i++) {
-    double base = (double)in->plot_x + ((double)i + 0.5) * dx - 0.5;
-    double prev = base;
-    for (uint32_t r = 0; r < in->plot_h; r++) {
+    double base = (double)in->plot_x + ((double)i + 0.5) * dx;
+    size_t nf = 0;
+    for (size_t r = 0; r < np; r++) {
       double s = ((double)r + 0.5) * (double)p->nsamples / in->plot_h - 0.5;
       double u = sample_at(p, i, s) / clip;
       u = u > 1 ? 1 : u < -1 ? -1 : u;
-      double x = base + u * dx;
-      int64_t y = (int64_t)in->plot_y + r;
-      int64_t b = (int64_t)floor(base + 0.5), xi = (int64_t)floor(x + 0.5);
-      if (xi > b) /* variable area: fill the positive lobe */
-        for (int64_t k = b; k <= xi && k <= xmax; k++)
-          put_px(img, k, y, black);
-      int64_t a0 = (int64_t)floor(fmin(prev, x) + 0.5), a1 = (int64_t)floor(fmax(prev, x) + 0.5);
-      for (int64_t k = a0 < xmin ? xmin : a0; k <= a1 && k <= xmax; k++)
-        put_px(img, k, y, black);
-      prev = x;
+      xs[r] = fmin(fmax(base + u * dx, in->plot_x), xmax);
+      ys[r] = (double)in->plot_y + (double)r + 0.5;
+      fx[nf] = u > 0 ? xs[r] : base;
+      fy[nf++] = ys[r];
     }
+    /* the lobes: the curve clipped at the baseline, closed along it */
+    fx[nf] = base, fy[nf++] = ys[np - 1];
+    fx[nf] = base, fy[nf++] = ys[0];
+    picture_ctx_polygon(c, fx, fy, nf, black);
+    picture_ctx_polyline(c, xs, ys, np, 0.8, 0, black);
   }
+  free(xs), free(ys), free(fx), free(fy);
+  return TZ_OK;
 }
 
 static void plot_area(uint32_t w, uint32_t h, int right, picture_info *in)
@@ -514,24 +410,14 @@ static void plot_area(uint32_t w, uint32_t h, int right, picture_info *in)
   in->plot_y = PICTURE_MARGIN_TOP;
   in->plot_w = w - PICTURE_MARGIN_LEFT - (uint32_t)right;
   in->plot_h = h - PICTURE_MARGIN_TOP - PICTURE_MARGIN_BOTTOM;
+  in->width = w;
+  in->height = h;
 }
 
-static void header_lines(picture_image *img, const char *title, const char *caption,
-                         const char *xlabel)
+int picture_draw_panel(const picture_panel *p, const picture_opts *o, int format,
+                       picture_ctx **out, picture_info *info, tz_err *err)
 {
-  if (title)
-    picture_text(img, 6, 4, title, TEXT_SCALE, black);
-  if (caption)
-    picture_text(img, 6, 24, caption, 1, dark);
-  if (xlabel)
-    picture_text(img, XLABEL_X, PICTURE_MARGIN_TOP - TICK_LEN - 3 - TEXT_H, xlabel, TEXT_SCALE,
-                 black);
-}
-
-int picture_render_panel(const picture_panel *p, const picture_opts *o, picture_image *img,
-                         picture_info *info, tz_err *err)
-{
-  memset(img, 0, sizeof *img);
+  *out = NULL;
   if (!p->data || p->ntraces == 0 || p->nsamples == 0)
     return tz_fail(err, TZ_E_ARG, "empty panel: %zu traces of %zu samples", p->ntraces,
                    p->nsamples);
@@ -577,45 +463,81 @@ int picture_render_panel(const picture_panel *p, const picture_opts *o, picture_
     return tz_fail(err, TZ_E_ARG, "unknown style %d", style);
   in.style = style;
 
-  if ((rc = image_new(img, w, h, err)))
+  picture_ctx *c = NULL;
+  if ((rc = picture_ctx_new(&c, format, w, h, err)))
     return rc;
-  if (style != PICTURE_STYLE_WIGGLE)
-    draw_density(img, p, map, in.clip, &in);
-  if (style != PICTURE_STYLE_DENSITY)
-    draw_wiggles(img, p, in.clip, &in);
-  frame(img, in.plot_x, in.plot_y, in.plot_w, in.plot_h);
+  if (style != PICTURE_STYLE_WIGGLE) {
+    picture_image ras = { 0 };
+    rc = density_raster(p, map, in.clip, &in, &ras, err);
+    if (!rc)
+      rc = picture_ctx_image(c, &ras, in.plot_x, in.plot_y, 0, 0, err);
+    picture_image_free(&ras);
+  }
+  if (!rc && style != PICTURE_STYLE_DENSITY)
+    rc = draw_wiggles(c, p, in.clip, &in, err);
+  if (rc) {
+    picture_ctx_free(c);
+    return rc;
+  }
+  picture_frame pf = { .x = in.plot_x, .y = in.plot_y, .w = in.plot_w, .h = in.plot_h };
+  picture_frame_draw(c, &pf);
 
   /* time axis: sample j is centred on row (j + 0.5) * plot_h / ns - 0.5 */
   double rows_per_sample = (double)in.plot_h / (double)p->nsamples;
   double t_last = p->time_first_ms + (double)(p->nsamples - 1) * p->interval_ms;
-  left_axis(img, in.plot_x, in.plot_y + 0.5 * rows_per_sample - 0.5,
+  left_axis(c, in.plot_x, in.plot_y + 0.5 * rows_per_sample - 0.5,
             in.plot_y + ((double)p->nsamples - 0.5) * rows_per_sample - 0.5, p->time_first_ms,
-            t_last, 40);
+            t_last, "Time (ms)");
   int mono = monotonic(p->xvalue, p->ntraces);
   int finite = p->xvalue != NULL;
   for (size_t i = 0; finite && i < p->ntraces; i++)
     finite = isfinite(p->xvalue[i]);
-  const char *xlabel = mono || finite ? (p->xlabel ? p->xlabel : "X") : "TRACE";
+  const char *xlabel = mono || finite ? (p->xlabel ? p->xlabel : "X") : "Trace";
   if (!mono && finite)
-    trace_labels(img, in.plot_x, in.plot_y, in.plot_w, p->xvalue, p->ntraces, xlabel);
+    trace_labels(c, in.plot_x, in.plot_y, in.plot_w, p->xvalue, p->ntraces, xlabel);
   else
-    top_axis(img, in.plot_x, in.plot_y, in.plot_w, mono ? p->xvalue : NULL, p->ntraces, xlabel);
+    top_axis(c, in.plot_x, in.plot_y, in.plot_w, mono ? p->xvalue : NULL, p->ntraces, xlabel);
 
   char cap[256];
-  const char *legend = map == PICTURE_MAP_GREY         ? "BLACK POSITIVE, WHITE NEGATIVE"
-                       : map == PICTURE_MAP_SEQUENTIAL ? "NAVY 0 TO RED AT CLIP"
-                                                       : "RED POSITIVE, BLUE NEGATIVE";
+  const char *legend = map == PICTURE_MAP_GREY         ? "black positive, white negative"
+                       : map == PICTURE_MAP_SEQUENTIAL ? "navy at 0 to red at the clip"
+                                                       : "red positive, blue negative";
   if (style == PICTURE_STYLE_WIGGLE)
-    legend = "WIGGLES, POSITIVE FILLED";
+    legend = "wiggles, positive lobes filled";
+  else if (style == PICTURE_STYLE_BOTH)
+    legend = map == PICTURE_MAP_GREY ? "wiggles over density, black positive"
+                                     : "wiggles over density, red positive";
   if (in.clip_percentile > 0)
-    snprintf(cap, sizeof cap, "TIME MS DOWN.  CLIP %g%% OF |AMPLITUDE| = %.4g.  %s", pct, in.clip,
-             legend);
+    snprintf(cap, sizeof cap, "Clip %.4g (%g%% of |amplitude|); %s", in.clip, pct, legend);
   else
-    snprintf(cap, sizeof cap, "TIME MS DOWN.  CLIP %.4g.  %s", in.clip, legend);
-  header_lines(img, p->title, cap, xlabel);
+    snprintf(cap, sizeof cap, "Clip %.4g; %s", in.clip, legend);
+  picture_title(c, p->title, cap);
+  if (style != PICTURE_STYLE_WIGGLE) {
+    double bh = fmin(in.plot_h, 280);
+    picture_colour_bar(c, in.plot_x + in.plot_w + 34, in.plot_y, 14, bh, map, in.clip,
+                       map == PICTURE_MAP_SEQUENTIAL ? "Semblance" : "Amplitude");
+  }
   if (info)
     *info = in;
+  *out = c;
   return TZ_OK;
+}
+
+/* A PNG canvas handed back as a raster. */
+static int to_raster(picture_ctx *c, picture_image *img, tz_err *err)
+{
+  int rc = picture_ctx_raster(c, img, err);
+  picture_ctx_free(c);
+  return rc;
+}
+
+int picture_render_panel(const picture_panel *p, const picture_opts *o, picture_image *img,
+                         picture_info *info, tz_err *err)
+{
+  picture_ctx *c = NULL;
+  memset(img, 0, sizeof *img);
+  int rc = picture_draw_panel(p, o, PICTURE_FORMAT_PNG, &c, info, err);
+  return rc ? rc : to_raster(c, img, err);
 }
 
 /* ---------------------------------------------------------------- fold chart */
@@ -729,20 +651,10 @@ int picture_fold_load(picture_fold *out, const char *path, tz_err *err)
   return rc;
 }
 
-static void dashed_hline(picture_image *img, int64_t x0, int64_t x1, int64_t y,
-                         const unsigned char c[3])
+int picture_draw_fold(const picture_fold *f, const char *title, uint32_t width, uint32_t height,
+                      int format, picture_ctx **out, picture_info *info, tz_err *err)
 {
-  for (int64_t x = x0; x < x1; x++)
-    if ((x - x0) % 10 < 6) {
-      put_px(img, x, y, c);
-      put_px(img, x, y + 1, c);
-    }
-}
-
-int picture_render_fold(const picture_fold *f, const char *title, uint32_t width,
-                        uint32_t height, picture_image *img, picture_info *info, tz_err *err)
-{
-  memset(img, 0, sizeof *img);
+  *out = NULL;
   if (!f->rows || f->n == 0)
     return tz_fail(err, TZ_E_ARG, "no CMPs to chart");
   int64_t c0 = f->rows[0].cmp, c1 = f->rows[f->n - 1].cmp;
@@ -750,7 +662,7 @@ int picture_render_fold(const picture_fold *f, const char *title, uint32_t width
   if (!width) {
     size_t pw = span * 3;
     pw = pw < 600 ? 600 : pw > 2400 ? 2400 : pw;
-    width = (uint32_t)(pw + PICTURE_MARGIN_LEFT + PICTURE_MARGIN_RIGHT);
+    width = (uint32_t)(pw + PICTURE_MARGIN_LEFT + PICTURE_CHART_MARGIN_RIGHT);
   }
   if (!height)
     height = 480;
@@ -763,11 +675,11 @@ int picture_render_fold(const picture_fold *f, const char *title, uint32_t width
   if (!(fmax > 0))
     fmax = 1;
   picture_info in = { 0 };
-  plot_area(width, height, PICTURE_MARGIN_RIGHT, &in);
+  plot_area(width, height, PICTURE_CHART_MARGIN_RIGHT, &in);
   int64_t ph1 = (int64_t)floor(0.7 * (double)(in.plot_h - FOLD_GAP) + 0.5);
   int64_t ph2 = (int64_t)in.plot_h - FOLD_GAP - ph1;
   /* fold axis from 0 to the first whole tick above the largest fold (or nominal) */
-  double step = nice_step(fmax * 30.0 / (double)ph1);
+  double step = picture_nice_step(fmax * 30.0 / (double)ph1);
   if (step < 1)
     step = 1;
   double ymax = (floor(fmax / step + 1e-9) + 1) * step;
@@ -778,49 +690,83 @@ int picture_render_fold(const picture_fold *f, const char *title, uint32_t width
     slot[k] = -1;
   for (size_t i = 0; i < f->n; i++)
     slot[f->rows[i].cmp - c0] = (int64_t)i;
-  if ((rc = image_new(img, width, height, err))) {
+  picture_ctx *c = NULL;
+  if ((rc = picture_ctx_new(&c, format, width, height, err))) {
     free(slot);
     return rc;
   }
-  int64_t x0 = in.plot_x, y_fold = in.plot_y, y_live = in.plot_y + ph1 + FOLD_GAP;
-  if (f->nominal > 0) /* behind the bars */
-    dashed_hline(img, x0, x0 + in.plot_w,
-                 y_fold + ph1 - (int64_t)floor(f->nominal / ymax * (double)ph1 + 0.5), nominal_line);
-  for (uint32_t c = 0; c < in.plot_w; c++) {
-    size_t k = (size_t)(((double)c + 0.5) * (double)span / in.plot_w);
-    if (slot[k] < 0)
-      continue;
-    const picture_fold_row *r = &f->rows[slot[k]];
-    int64_t hf = (int64_t)floor(r->fold / ymax * (double)ph1 + 0.5);
-    int64_t hl = (int64_t)floor(r->live_fraction * (double)ph2 + 0.5);
-    fill_rect(img, x0 + c, y_fold + ph1 - hf, x0 + c + 1, y_fold + ph1, fold_bar);
-    fill_rect(img, x0 + c, y_live + ph2 - hl, x0 + c + 1, y_live + ph2, live_bar);
+  double x0 = in.plot_x, y_fold = in.plot_y, y_live = in.plot_y + (double)ph1 + FOLD_GAP;
+  picture_frame ff = { .x = x0, .y = y_fold, .w = in.plot_w, .h = (double)ph1,
+                       .x0 = (double)c0 - 0.5, .x1 = (double)c1 + 0.5, .y0 = 0, .y1 = ymax };
+  picture_frame fl = ff;
+  fl.y = y_live;
+  fl.h = (double)ph2;
+  fl.y1 = 100;
+  picture_grid_y(c, &ff);
+  picture_grid_y(c, &fl);
+  if (f->nominal > 0) { /* behind the bars, seen where fold falls short */
+    double y = floor(picture_frame_py(&ff, f->nominal)) + 0.5;
+    double xs[2] = { x0, x0 + in.plot_w }, ys[2] = { y, y };
+    picture_ctx_attrs(c, "class=\"nominal\" data-nominal=\"%g\"", f->nominal);
+    picture_ctx_polyline(c, xs, ys, 2, 2, 1, nominal_line);
   }
+  /* Bars: one run of whole pixel columns per CMP, each column showing the CMP
+   * at its centre (the slot rule of docs/pictures.md), so bar colours stay
+   * exact at any width. In SVG each bar carries its CMP's numbers. */
+  picture_ctx_group(c, "class=\"fold-bars\"");
+  for (uint32_t col = 0; col < in.plot_w;) {
+    size_t k = (size_t)(((double)col + 0.5) * (double)span / in.plot_w);
+    uint32_t end = col + 1;
+    while (end < in.plot_w && (size_t)(((double)end + 0.5) * (double)span / in.plot_w) == k)
+      end++;
+    if (slot[k] >= 0) {
+      const picture_fold_row *r = &f->rows[slot[k]];
+      double hf = floor(r->fold / ymax * (double)ph1 + 0.5);
+      double hl = floor(r->live_fraction * (double)ph2 + 0.5);
+      picture_ctx_attrs(c, "data-cmp=\"%lld\" data-fold=\"%g\"", (long long)r->cmp, r->fold);
+      picture_ctx_fill_rect(c, x0 + col, y_fold + (double)ph1 - hf, end - col, hf, fold_bar);
+      picture_ctx_attrs(c, "data-cmp=\"%lld\" data-live=\"%g\"", (long long)r->cmp,
+                        r->live_fraction);
+      picture_ctx_fill_rect(c, x0 + col, y_live + (double)ph2 - hl, end - col, hl, live_bar);
+    }
+    col = end;
+  }
+  picture_ctx_group_end(c);
   free(slot);
-  frame(img, x0, y_fold, in.plot_w, ph1);
-  frame(img, x0, y_live, in.plot_w, ph2);
-  left_axis(img, x0, (double)(y_fold + ph1), (double)y_fold, 0, ymax, 30);
-  left_axis(img, x0, (double)(y_live + ph2), (double)y_live, 0, 100, 25);
-  picture_text(img, 4, y_fold + ph1 / 2 - GLYPH_H / 2, "FOLD", 1, dark);
-  picture_text(img, 4, y_live + ph2 / 2 - GLYPH_H / 2, "LIVE %", 1, dark);
+  picture_frame_draw(c, &ff);
+  picture_frame_draw(c, &fl);
+  picture_axis_y(c, &ff, PICTURE_SIDE_LEFT, "Fold", 1);
+  picture_axis_y(c, &fl, PICTURE_SIDE_LEFT, "Live (%)", 0);
   double *xs = malloc(span * sizeof *xs);
   if (xs) {
     for (size_t k = 0; k < span; k++)
       xs[k] = (double)(c0 + (int64_t)k);
-    top_axis(img, x0, y_fold, in.plot_w, xs, span, "CMP");
+    top_axis(c, x0, y_fold, in.plot_w, xs, span, "CMP");
     free(xs);
   }
-  char cap[256];
-  snprintf(cap, sizeof cap,
-           "BLUE BARS: FOLD PER CMP; GREEN DASHES: NOMINAL FOLD %g.  ORANGE BARS (LOWER): LIVE "
-           "FRACTION AFTER MUTES, %%",
+  char nom[64];
+  snprintf(nom, sizeof nom, f->nominal > 0 ? "Nominal fold %g" : "Nominal fold unknown",
            f->nominal);
-  header_lines(img, title, cap, "CMP");
+  const char *labels[3] = { "Fold per CMP", nom, "Live fraction after mutes (lower panel)" };
+  const unsigned char keys[3][3] = { { 70, 110, 180 }, { 0, 150, 0 }, { 220, 120, 30 } };
+  const int dashed[3] = { 0, 1, 0 };
+  picture_title(c, title, NULL);
+  picture_legend(c, 8, 38, 3, labels, keys, dashed);
   in.plot_h = (uint32_t)ph1; /* the fold panel; the live panel starts FOLD_GAP below */
   in.clip = ymax;
   if (info)
     *info = in;
+  *out = c;
   return TZ_OK;
+}
+
+int picture_render_fold(const picture_fold *f, const char *title, uint32_t width,
+                        uint32_t height, picture_image *img, picture_info *info, tz_err *err)
+{
+  picture_ctx *c = NULL;
+  memset(img, 0, sizeof *img);
+  int rc = picture_draw_fold(f, title, width, height, PICTURE_FORMAT_PNG, &c, info, err);
+  return rc ? rc : to_raster(c, img, err);
 }
 
 /* ---------------------------------------------------------------- SEG-Y panels */
@@ -940,70 +886,4 @@ fail:
   segy_close(f);
   picture_loaded_free(out);
   return rc;
-}
-
-/* ---------------------------------------------------------------- PNG */
-
-struct png_ctx {
-  jmp_buf jmp;
-  char msg[200];
-};
-
-static void png_on_error(png_structp png, png_const_charp msg)
-{
-  struct png_ctx *c = png_get_error_ptr(png);
-  snprintf(c->msg, sizeof c->msg, "%s", msg);
-  longjmp(c->jmp, 1);
-}
-
-static void png_on_warning(png_structp png, png_const_charp msg) { (void)png, (void)msg; }
-
-/* Encodes img to fp; 0 on success, else -1 with ctx->msg set. */
-static int png_encode(FILE *fp, const picture_image *img, struct png_ctx *ctx)
-{
-  png_structp png = png_create_write_struct(PNG_LIBPNG_VER_STRING, ctx, png_on_error,
-                                            png_on_warning);
-  if (!png) {
-    snprintf(ctx->msg, sizeof ctx->msg, "libpng could not start");
-    return -1;
-  }
-  png_infop pi = png_create_info_struct(png);
-  if (!pi || setjmp(ctx->jmp)) {
-    png_destroy_write_struct(&png, pi ? &pi : NULL);
-    if (!ctx->msg[0])
-      snprintf(ctx->msg, sizeof ctx->msg, "libpng could not start");
-    return -1;
-  }
-  png_init_io(png, fp);
-  /* zlib level 3: most of the size gain of the default 6 at about a third of
-   * the time on noisy sections (bench/part-picture.sh) */
-  png_set_compression_level(png, 3);
-  png_set_IHDR(png, pi, img->width, img->height, 8, PNG_COLOR_TYPE_RGB, PNG_INTERLACE_NONE,
-               PNG_COMPRESSION_TYPE_DEFAULT, PNG_FILTER_TYPE_DEFAULT);
-  png_write_info(png, pi);
-  for (uint32_t y = 0; y < img->height; y++)
-    png_write_row(png, img->rgb + (size_t)y * img->width * 3);
-  png_write_end(png, pi);
-  png_destroy_write_struct(&png, &pi);
-  return 0;
-}
-
-int picture_write_png(const picture_image *img, const char *path, tz_err *err)
-{
-  if (!img->rgb)
-    return tz_fail(err, TZ_E_ARG, "no picture to write");
-  int rc = check_size(img->width, img->height, err);
-  if (rc)
-    return rc;
-  fileio_out *o = NULL;
-  if ((rc = fileio_create(&o, path, err)))
-    return rc;
-  struct png_ctx ctx;
-  ctx.msg[0] = '\0';
-  if (png_encode(fileio_stream(o), img, &ctx)) {
-    fileio_abort(o);
-    tz_err_path(err, path);
-    return tz_fail(err, TZ_E_IO, "PNG write failed: %s", ctx.msg);
-  }
-  return fileio_commit(o, err);
 }

@@ -22,6 +22,7 @@
 #include "tzero/fileio.h"
 #include "qc/qc_int.h"
 #include "util/json_doc.h"
+#include "util/strbuf.h"
 
 struct qc_report {
   cJSON *root;
@@ -472,49 +473,10 @@ static const char *strv(const cJSON *o, const char *path, const char *dflt)
 }
 
 /* A growable text buffer. */
-typedef struct sbuf {
-  char *s;
-  size_t n, cap;
-  int bad;
-} sbuf;
-
-static void put(sbuf *b, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
-static void put(sbuf *b, const char *fmt, ...)
+/* Text is built in a tz_buf (util/strbuf.h): one check of b.bad at the end. */
+static int finish(tz_buf *b, char **text, tz_err *err)
 {
-  if (b->bad)
-    return;
-  for (;;) {
-    va_list ap;
-    va_start(ap, fmt);
-    int k = vsnprintf(b->s ? b->s + b->n : NULL, b->s ? b->cap - b->n : 0, fmt, ap);
-    va_end(ap);
-    if (k < 0) {
-      b->bad = 1;
-      return;
-    }
-    if (b->s && (size_t)k < b->cap - b->n) {
-      b->n += (size_t)k;
-      return;
-    }
-    size_t nc = (b->cap ? b->cap * 2 : 1024) + (size_t)k;
-    char *ns = realloc(b->s, nc);
-    if (!ns) {
-      b->bad = 1;
-      return;
-    }
-    b->s = ns;
-    b->cap = nc;
-  }
-}
-
-static int finish(sbuf *b, char **text, tz_err *err)
-{
-  if (b->bad || !b->s) {
-    free(b->s);
-    return tz_fail(err, TZ_E_NOMEM, "report text");
-  }
-  *text = b->s;
-  return TZ_OK;
+  return tz_buf_finish(b, text, "report text", err);
 }
 
 static void fmt_bytes(double b, char *buf, size_t cap)
@@ -572,9 +534,9 @@ int qc_report_brief(const qc_report *r, int exit_status, int json, char **text, 
 int qc_report_summary(const qc_report *r, char **text, tz_err *err)
 {
   const cJSON *R = r->root;
-  sbuf b = { 0 };
+  tz_buf b = { 0 };
   const char *line = strv(R, "line", "");
-  put(&b, "line        %s\n", line[0] ? line : "(unnamed)");
+  tz_buf_put(&b, "line        %s\n", line[0] ? line : "(unnamed)");
   const cJSON *in = at(R, "inputs");
   double bytes = 0, traces = 0;
   int nin = cJSON_GetArraySize(in), nbad = 0;
@@ -585,66 +547,66 @@ int qc_report_summary(const qc_report *r, char **text, tz_err *err)
   }
   char bs[32];
   fmt_bytes(bytes, bs, sizeof bs);
-  put(&b, "inputs      %d shot files, %s, %.0f traces%s\n", nin, bs, traces,
+  tz_buf_put(&b, "inputs      %d shot files, %s, %.0f traces%s\n", nin, bs, traces,
       nbad ? "" : " (no bad files)");
   if (nbad) {
-    put(&b, "bad files   %d skipped:\n", nbad);
+    tz_buf_put(&b, "bad files   %d skipped:\n", nbad);
     for (const cJSON *c = in ? in->child : NULL; c; c = c->next)
       if (cJSON_IsTrue(at(c, "bad")))
-        put(&b, "              %s\n", strv(c, "error", strv(c, "path", "?")));
+        tz_buf_put(&b, "              %s\n", strv(c, "error", strv(c, "path", "?")));
   }
-  put(&b, "traces      %.0f read, %.0f stacked", numv(R, "traces.read"), numv(R, "traces.stacked"));
+  tz_buf_put(&b, "traces      %.0f read, %.0f stacked", numv(R, "traces.read"), numv(R, "traces.stacked"));
   const cJSON *sk = at(R, "traces.skipped");
   int any = 0;
   for (const cJSON *c = sk ? sk->child : NULL; c; c = c->next)
     if (cJSON_IsNumber(c) && c->valuedouble > 0) {
-      put(&b, "%s %s %.0f", any ? "," : "; skipped:", c->string, c->valuedouble);
+      tz_buf_put(&b, "%s %s %.0f", any ? "," : "; skipped:", c->string, c->valuedouble);
       any = 1;
     }
-  put(&b, "%s\n", any ? "" : "; none skipped");
+  tz_buf_put(&b, "%s\n", any ? "" : "; none skipped");
   if (numv(R, "traces.bad_samples") > 0)
-    put(&b, "samples     %.0f NaN, infinite or out-of-range input samples were stacked as 0\n",
+    tz_buf_put(&b, "samples     %.0f NaN, infinite or out-of-range input samples were stacked as 0\n",
         numv(R, "traces.bad_samples"));
-  put(&b, "section     %s: CMPs %.0f-%.0f (%.0f CMPs), %.0f samples at %.0f us from %.1f ms\n",
+  tz_buf_put(&b, "section     %s: CMPs %.0f-%.0f (%.0f CMPs), %.0f samples at %.0f us from %.1f ms\n",
       strv(R, "section.path", "(not written)"), numv(R, "section.cmp_first"),
       numv(R, "section.cmp_last"), numv(R, "section.cmps"), numv(R, "section.samples"),
       numv(R, "section.interval_us"), numv(R, "section.start_time_ms"));
-  put(&b, "line geom   origin (%.2f, %.2f) m, azimuth %.3f deg, bin %.3f m, first CMP %.0f (%s",
+  tz_buf_put(&b, "line geom   origin (%.2f, %.2f) m, azimuth %.3f deg, bin %.3f m, first CMP %.0f (%s",
       numv(R, "geometry.line.origin_x_m"), numv(R, "geometry.line.origin_y_m"),
       numv(R, "geometry.line.azimuth_deg"), numv(R, "geometry.line.bin_size_m"),
       numv(R, "geometry.line.first_cmp"), strv(R, "geometry.line.origin", "?"));
   if (isfinite(numv(R, "geometry.line.fit_rms_off_line_m")))
-    put(&b, ", RMS off line %.2f m", numv(R, "geometry.line.fit_rms_off_line_m"));
-  put(&b, ")\n");
-  put(&b, "fold        nominal %.1f; min %.0f, max %.0f, mean %.2f; %.0f zero-fold CMPs\n",
+    tz_buf_put(&b, ", RMS off line %.2f m", numv(R, "geometry.line.fit_rms_off_line_m"));
+  tz_buf_put(&b, ")\n");
+  tz_buf_put(&b, "fold        nominal %.1f; min %.0f, max %.0f, mean %.2f; %.0f zero-fold CMPs\n",
       numv(R, "fold.nominal"), numv(R, "fold.min"), numv(R, "fold.max"), numv(R, "fold.mean"),
       numv(R, "fold.zero_fold_cmps"));
-  put(&b, "mute        stretch limit %.1f %%: %.2f %% of stacked samples muted (stretch %.2f %%, "
+  tz_buf_put(&b, "mute        stretch limit %.1f %%: %.2f %% of stacked samples muted (stretch %.2f %%, "
       "top %.2f %%)\n", numv(R, "mute.stretch_limit_pct"), 100 * numv(R, "mute.muted_fraction"),
       100 * numv(R, "mute.stretch_muted_fraction"), 100 * numv(R, "mute.top_muted_fraction"));
   const cJSON *bo = at(R, "mute.by_offset");
   for (const cJSON *c = bo ? bo->child : NULL; c; c = c->next) {
     double to = numv(c, "offset_to_m");
     if (isfinite(to))
-      put(&b, "              offsets %6.0f-%-6.0f m: %6.0f traces, %6.2f %% muted\n",
+      tz_buf_put(&b, "              offsets %6.0f-%-6.0f m: %6.0f traces, %6.2f %% muted\n",
           numv(c, "offset_from_m"), to, numv(c, "traces"), 100 * numv(c, "muted_fraction"));
     else
-      put(&b, "              offsets %6.0f m and up: %6.0f traces, %6.2f %% muted\n",
+      tz_buf_put(&b, "              offsets %6.0f m and up: %6.0f traces, %6.2f %% muted\n",
           numv(c, "offset_from_m"), numv(c, "traces"), 100 * numv(c, "muted_fraction"));
   }
   const cJSON *w = at(R, "velocity.warnings");
   int nw = cJSON_GetArraySize(w);
-  put(&b, "velocity    %s: %.0f control CMPs, %d warning%s\n", strv(R, "velocity.file", "(none)"),
+  tz_buf_put(&b, "velocity    %s: %.0f control CMPs, %d warning%s\n", strv(R, "velocity.file", "(none)"),
       numv(R, "velocity.control_cmps"), nw, nw == 1 ? "" : "s");
   int shown = 0;
   for (const cJSON *c = w ? w->child : NULL; c && shown < 10; c = c->next, shown++)
-    put(&b, "              %s\n", strv(c, "message", "?"));
+    tz_buf_put(&b, "              %s\n", strv(c, "message", "?"));
   if (nw > shown)
-    put(&b, "              ... %d more in the report\n", nw - shown);
-  put(&b, "timing      header pass %.2f s, data pass %.2f s, write %.2f s, total %.2f s\n",
+    tz_buf_put(&b, "              ... %d more in the report\n", nw - shown);
+  tz_buf_put(&b, "timing      header pass %.2f s, data pass %.2f s, write %.2f s, total %.2f s\n",
       numv(R, "timing_s.header_pass"), numv(R, "timing_s.data_pass"), numv(R, "timing_s.write"),
       numv(R, "timing_s.total"));
-  put(&b, "throughput  %.0f traces/s, %.1f MB/s of input, %.0f thread%s\n",
+  tz_buf_put(&b, "throughput  %.0f traces/s, %.1f MB/s of input, %.0f thread%s\n",
       numv(R, "throughput.traces_per_s"), numv(R, "throughput.input_mb_per_s"),
       numv(R, "throughput.threads"), numv(R, "throughput.threads") == 1 ? "" : "s");
   return finish(&b, text, err);
@@ -667,35 +629,35 @@ int qc_report_cmp_detail(const qc_report *r, long cmp, char **text, tz_err *err)
     return tz_fail(err, TZ_E_ARG, "CMP %ld is not in this report (CMPs %.0f-%.0f)", cmp,
                    numv(r->root, "section.cmp_first"), numv(r->root, "section.cmp_last"));
   }
-  sbuf b = { 0 };
-  put(&b, "cmp             %ld\n", cmp);
-  put(&b, "position        x %.3f m, y %.3f m (bin centre)\n", numv(c, "x_m"), numv(c, "y_m"));
-  put(&b, "fold            %.0f (nominal %.1f)\n", numv(c, "fold"), numv(r->root, "fold.nominal"));
+  tz_buf b = { 0 };
+  tz_buf_put(&b, "cmp             %ld\n", cmp);
+  tz_buf_put(&b, "position        x %.3f m, y %.3f m (bin centre)\n", numv(c, "x_m"), numv(c, "y_m"));
+  tz_buf_put(&b, "fold            %.0f (nominal %.1f)\n", numv(c, "fold"), numv(r->root, "fold.nominal"));
   if (numv(c, "fold") > 0) {
-    put(&b, "offsets         %.1f to %.1f m\n", numv(c, "offset_min_m"), numv(c, "offset_max_m"));
-    put(&b, "live fraction   %.4f of the samples of its traces\n", numv(c, "live_fraction"));
+    tz_buf_put(&b, "offsets         %.1f to %.1f m\n", numv(c, "offset_min_m"), numv(c, "offset_max_m"));
+    tz_buf_put(&b, "live fraction   %.4f of the samples of its traces\n", numv(c, "live_fraction"));
     double ff = numv(c, "full_fold_ms");
     if (isfinite(ff))
-      put(&b, "full fold from  %.1f ms (mutes reduce the fold before this time)\n", ff);
+      tz_buf_put(&b, "full fold from  %.1f ms (mutes reduce the fold before this time)\n", ff);
     else
-      put(&b, "full fold       never reached (mutes reduce the fold at every time)\n");
+      tz_buf_put(&b, "full fold       never reached (mutes reduce the fold at every time)\n");
   }
   return finish(&b, text, err);
 }
 
 int qc_report_fold_csv(const qc_report *r, char **text, tz_err *err)
 {
-  sbuf b = { 0 };
-  put(&b, "cmp,x_m,y_m,fold,offset_min_m,offset_max_m,live_fraction,full_fold_ms\n");
+  tz_buf b = { 0 };
+  tz_buf_put(&b, "cmp,x_m,y_m,fold,offset_min_m,offset_max_m,live_fraction,full_fold_ms\n");
   const cJSON *cm = at(r->root, "cmps");
   for (const cJSON *c = cm ? cm->child : NULL; c; c = c->next) {
     double ff = numv(c, "full_fold_ms");
-    put(&b, "%.0f,%.3f,%.3f,%.0f,%.3f,%.3f,%.6f,", numv(c, "cmp"), numv(c, "x_m"), numv(c, "y_m"),
+    tz_buf_put(&b, "%.0f,%.3f,%.3f,%.0f,%.3f,%.3f,%.6f,", numv(c, "cmp"), numv(c, "x_m"), numv(c, "y_m"),
         numv(c, "fold"), numv(c, "offset_min_m"), numv(c, "offset_max_m"),
         numv(c, "live_fraction"));
     if (isfinite(ff))
-      put(&b, "%.3f", ff);
-    put(&b, "\n");
+      tz_buf_put(&b, "%.3f", ff);
+    tz_buf_put(&b, "\n");
   }
   return finish(&b, text, err);
 }

@@ -17,8 +17,8 @@ from PIL import Image
 
 from tzcheck import WORK, done, ok, run
 
-# docs/pictures.md: fixed margins around the plot area
-LEFT, TOP, RIGHT, BOTTOM = 88, 60, 24, 16
+# docs/pictures.md: fixed margins around the plot area (panels; charts: CHART_RIGHT)
+LEFT, TOP, RIGHT, BOTTOM, CHART_RIGHT = 80, 72, 110, 16, 24
 NS, DT_US = 250, 4000
 
 
@@ -156,7 +156,7 @@ qcp = os.path.join(WORK, "qc.json")
 with open(qcp, "w") as fh:
     json.dump(qc, fh)
 outf = os.path.join(WORK, "fold.png")
-FW, FH = 500 + LEFT + RIGHT, 400
+FW, FH = 500 + LEFT + CHART_RIGHT, 400
 p = run("picture", "--fold", qcp, "--out", outf, "--width", FW, "--height", FH)
 im, pf = png(outf)
 ok(p.returncode == 0 and im.size == (FW, FH), "fold chart of the requested size", p.stderr)
@@ -175,4 +175,37 @@ ok(np.all(np.abs(live_h - np.array(live) * ph2) <= 0.5 + 1e-9),
    "live-fraction bars are live_fraction x the lower panel height", f"{live_h.tolist()}")
 # the tallest bar stays below the top of the fold panel (headroom over the largest fold)
 ok(fold_h.max() < ph1, "headroom above the largest fold")
+
+# --- 5. the same chart as SVG: PIL cannot read SVG, so the XML is parsed with the
+# standard library (xml.etree) and the bars read back: one per CMP of the report,
+# its data-fold the report's fold, its height in proportion; text kept as text
+import xml.etree.ElementTree as ET
+outs = os.path.join(WORK, "fold.svg")
+p = run("picture", "--fold", qcp, "--out", outs, "--width", FW, "--height", FH, "--json")
+info = json.loads(p.stdout) if p.returncode == 0 else {}
+ok(info.get("format") == "svg", "the .svg extension chooses SVG", str(info))
+root = ET.parse(outs).getroot()
+NS = "{http://www.w3.org/2000/svg}"
+ok(root.tag == NS + "svg" and root.get("width") == str(FW) and root.get("height") == str(FH),
+   "an SVG document of the requested size", f"{root.tag} {root.get('width')}x{root.get('height')}")
+bars = [r for r in root.iter(NS + "rect") if r.get("data-fold") is not None]
+got = {int(r.get("data-cmp")): float(r.get("data-fold")) for r in bars}
+want = {201 + i: float(f) for i, f in enumerate(folds) if f > 0}
+ok(got == want, "every CMP with fold has a bar carrying the report's fold", f"{got}")
+hs = {int(r.get("data-cmp")): float(r.get("height")) for r in bars}
+ok(all(abs(hs[c] - k * want[c]) <= 0.5 + 1e-9 for c in want),
+   "SVG bar heights equal the PNG's (proportional to fold)", f"{hs}")
+texts = [t.text for t in root.iter(NS + "text")]
+ok("Fold" in texts and "Live (%)" in texts and "CMP" in texts and "Nominal fold 6" in texts,
+   "axis titles and the legend are real text in the SVG", str(texts[:12]))
+
+# --- 6. PDF and --format: a PDF file header (ISO 32000-1, section 7.5.2) whatever the name
+outp = os.path.join(WORK, "fold.out")
+p = run("picture", "--fold", qcp, "--out", outp, "--format", "pdf")
+with open(outp, "rb") as fh:
+    head = fh.read(8)
+ok(p.returncode == 0 and head.startswith(b"%PDF-1."), "--format pdf writes a PDF", str(head))
+p = run("picture", "--fold", qcp, "--out", os.path.join(WORK, "fold.gif"), check=False)
+ok(p.returncode == 64 and "--format" in p.stderr, "an unknown extension asks for --format",
+   p.stderr)
 done()
