@@ -134,9 +134,11 @@ e2e: all
 xcheck: all $(DRIVER_BIN)
 	@B=$(B) PYTHON=$(PYTHON) tests/run.sh xcheck
 
-# ASan + UBSan build running the whole suite.
+# ASan + UBSan build running the whole suite (tests/lsan.supp: caches that
+# system libraries keep for the life of the process).
 sanitize: deps
-	@$(MAKE) --no-print-directory B=build/san SANITIZE=address,undefined OPT="-O1 -g" check-run
+	@LSAN_OPTIONS="suppressions=$(CURDIR)/tests/lsan.supp$${LSAN_OPTIONS:+:$$LSAN_OPTIONS}" \
+	  $(MAKE) --no-print-directory B=build/san SANITIZE=address,undefined OPT="-O1 -g" check-run
 
 demo: deps
 	@$(MAKE) --no-print-directory demo-run
