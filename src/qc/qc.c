@@ -489,7 +489,6 @@ static void fmt_bytes(double b, char *buf, size_t cap)
     snprintf(buf, cap, "%.1f kB", b / 1e3);
 }
 
-static int finish(sbuf *b, char **text, tz_err *err);
 
 int qc_report_brief(const qc_report *r, int exit_status, int json, char **text, tz_err *err)
 {
@@ -522,8 +521,8 @@ int qc_report_brief(const qc_report *r, int exit_status, int json, char **text, 
     *text = s;
     return TZ_OK;
   }
-  sbuf b = { 0 };
-  put(&b, "%s  exit %d  CMPs %.0f-%.0f  fold %.0f/%.2f/%.0f (nominal %.1f)  muted %.2f %%  "
+  tz_buf b = { 0 };
+  tz_buf_put(&b, "%s  exit %d  CMPs %.0f-%.0f  fold %.0f/%.2f/%.0f (nominal %.1f)  muted %.2f %%  "
       "skipped %.0f of %.0f  warnings %d\n", line[0] ? line : "(unnamed)", exit_status,
       numv(R, "section.cmp_first"), numv(R, "section.cmp_last"), numv(R, "fold.min"),
       numv(R, "fold.mean"), numv(R, "fold.max"), numv(R, "fold.nominal"),
