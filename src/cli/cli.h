@@ -28,6 +28,7 @@ int cmd_compare(int argc, char **argv);
 int cmd_picture(int argc, char **argv);
 int cmd_audio(int argc, char **argv);
 int cmd_merge(int argc, char **argv);
+int cmd_firstbreaks(int argc, char **argv);
 
 /* Prints "tzero CMD: <formatted error>[: strerror]" to stderr and returns the
  * exit status for the error's status. */

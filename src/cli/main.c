@@ -20,6 +20,7 @@ static const struct subcmd subcmds[] = {
   { "synth",     cmd_synth,     "write a synthetic survey from a layered-earth model and a layout" },
   { "geometry",  cmd_geometry,  "assign geometry, bin CMPs, report offsets and fold" },
   { "velocity",  cmd_velocity,  "check velocity tables, interval velocities, functions at a CMP" },
+  { "firstbreaks", cmd_firstbreaks, "pick first arrivals on every live trace (refraction statics)" },
   { "nmo",       cmd_nmo,       "write NMO-corrected CMP gathers for checking velocities" },
   { "semblance", cmd_semblance, "semblance velocity scans and automatic picks" },
   { "cvs",       cmd_cvs,       "constant-velocity stack panels over a CMP range" },

@@ -10,6 +10,7 @@
  * and the picks file.
  */
 #include "tzero/firstbreak.h"
+#include "tzero/table.h"
 
 #include <math.h>
 #include <stdlib.h>
@@ -23,7 +24,7 @@ void firstbreak_params_init(firstbreak_params *p)
   p->stabilise = 0.01;
   p->refine = FIRSTBREAK_REFINE_PEAK;
   p->outlier_ms = 6.0;
-  p->trend_traces = 4;
+  p->trend_traces = 2;
 }
 
 int firstbreak_params_check(const firstbreak_params *p, tz_err *err)
@@ -40,8 +41,8 @@ int firstbreak_params_check(const firstbreak_params *p, tz_err *err)
                    p->outlier_ms);
   if (p->refine < FIRSTBREAK_REFINE_PEAK || p->refine > FIRSTBREAK_REFINE_NONE)
     return tz_fail(err, TZ_E_ARG, "first breaks: unknown refinement %d", p->refine);
-  if (p->trend_traces < 2 || p->trend_traces > 64)
-    return tz_fail(err, TZ_E_ARG, "first breaks: trend neighbours %zu (2 to 64)",
+  if (p->trend_traces < 2 || p->trend_traces > 32)
+    return tz_fail(err, TZ_E_ARG, "first breaks: trend neighbours %zu (2 to 32)",
                    p->trend_traces);
   return TZ_OK;
 }
@@ -74,6 +75,55 @@ int firstbreak_guide_linear(firstbreak_guide *g, double v, double t0, double xma
   g->offset_m[1] = xmax;
   g->time_ms[1] = t0 + 1000.0 * xmax / v;
   return TZ_OK;
+}
+
+int firstbreak_guide_load(firstbreak_guide *g, const char *path, tz_err *err)
+{
+  memset(g, 0, sizeof *g);
+  table_reader *t;
+  int rc = table_open(&t, path, err);
+  if (rc)
+    return rc;
+  size_t nf;
+  int header = 1;
+  long ix = -1, it = -1;
+  while (!(rc = table_next(t, &nf, err)) && nf > 0) {
+    if (header) {
+      for (size_t i = 0; i < nf; i++) {
+        if (!strcmp(table_field(t, i), "offset_m")) ix = (long)i;
+        if (!strcmp(table_field(t, i), "time_ms")) it = (long)i;
+      }
+      if (ix < 0 || it < 0) {
+        rc = tz_fail_line(err, TZ_E_FORMAT, table_line(t),
+                          "expected a header row with columns offset_m and time_ms");
+        break;
+      }
+      header = 0;
+      continue;
+    }
+    if (g->n >= FIRSTBREAK_MAX_GUIDE) {
+      rc = tz_fail_line(err, TZ_E_FORMAT, table_line(t), "more than %d guide points",
+                        FIRSTBREAK_MAX_GUIDE);
+      break;
+    }
+    double x, tm;
+    if ((rc = table_field_f64(t, (size_t)ix, "offset_m", &x, err)) ||
+        (rc = table_field_f64(t, (size_t)it, "time_ms", &tm, err)))
+      break;
+    if (x < 0.0 || (g->n && !(x > g->offset_m[g->n - 1]))) {
+      rc = tz_fail_line(err, TZ_E_FORMAT, table_line(t),
+                        "offset_m %g: offsets must be >= 0 and strictly increasing", x);
+      break;
+    }
+    g->offset_m[g->n] = x;
+    g->time_ms[g->n++] = tm;
+  }
+  if (!rc && g->n == 0)
+    rc = tz_fail(err, TZ_E_FORMAT, "no guide points");
+  if (rc)
+    tz_err_path(err, table_name(t));
+  table_close(t);
+  return rc;
 }
 
 static int cmp_dbl(const void *a, const void *b)
@@ -142,6 +192,11 @@ int firstbreak_guide_estimate(const double *off, const double *t, size_t n, size
 
 /* ---- one trace ---- */
 
+static double smooth5(const float *x, long j)
+{
+  return (x[j - 2] + 4.0 * x[j - 1] + 6.0 * x[j] + 4.0 * x[j + 1] + x[j + 2]) / 16.0;
+}
+
 /* Picks trace x (ns samples) with cumulative energy c (ns + 1 entries filled
  * here) in samples [lo, hi]. Returns 0 and fills *pick. */
 static void pick_trace(const firstbreak_params *p, const float *x, size_t ns, double dt_ms,
@@ -170,9 +225,12 @@ static void pick_trace(const firstbreak_params *p, const float *x, size_t ns, do
     beta = 1e-30 * c[ns];
   long i0 = -1;
   double best = -1.0;
+  /* Coppens (1985): the energy of the window after the sample over the energy
+   * accumulated since the start of the search, so that a later, stronger
+   * arrival does not outbid the first one. */
+  long cs = lo - L < 0 ? 0 : lo - L;
   for (long i = lo; i <= hi; i++) {
-    long b = i - L < 0 ? 0 : i - L;
-    double after = c[i + L] - c[i], before = c[i] - c[b];
+    double after = c[i + L] - c[i], before = c[i] - c[cs];
     double er = after / (before + beta);
     if (er > best) {
       best = er;
@@ -189,8 +247,9 @@ static void pick_trace(const firstbreak_params *p, const float *x, size_t ns, do
     pick->time_ms = t0_ms + (double)i0 * dt_ms;
     return;
   }
-  /* The first extremum after the onset at least half as strong as the
-   * strongest in the next two windows: the main lobe, not a side lobe. */
+  /* The first extremum after the onset at least 0.65 times as strong as the
+   * strongest in the next two windows: the main lobe, not a side lobe (a
+   * Ricker wavelet's side lobes are 2 exp(-3/2) = 0.446 of its peak). */
   long s0 = i0 - L / 2 < 1 ? 1 : i0 - L / 2;
   long s1 = i0 + 2 * L > n - 2 ? n - 2 : i0 + 2 * L;
   double amax = 0.0;
@@ -199,7 +258,7 @@ static void pick_trace(const firstbreak_params *p, const float *x, size_t ns, do
   long jp = -1;
   for (long j = s0; j <= s1; j++) {
     double a = fabs((double)x[j]);
-    if (a >= 0.5 * amax && a >= fabs((double)x[j - 1]) && a > fabs((double)x[j + 1])) {
+    if (a >= 0.65 * amax && a >= fabs((double)x[j - 1]) && a > fabs((double)x[j + 1])) {
       jp = j;
       break;
     }
@@ -209,10 +268,25 @@ static void pick_trace(const firstbreak_params *p, const float *x, size_t ns, do
     return;
   }
   if (p->refine == FIRSTBREAK_REFINE_PEAK) {
-    double ym = x[jp - 1], y0 = x[jp], yp = x[jp + 1];
-    double den = ym - 2.0 * y0 + yp, d = 0.0;
-    if (den != 0.0)
-      d = 0.5 * (ym - yp) / den;
+    /* Three-point parabola on the trace smoothed by the binomial filter
+     * [1 4 6 4 1] / 16: a symmetric smoother keeps a symmetric peak where it is
+     * and halves the noise that moves the vertex. The vertex is taken about the
+     * largest smoothed sample. */
+    double ym, y0, yp, d = 0.0;
+    long j = jp;
+    for (int it = 0; it < 3; it++) {
+      if (j < 3 || j + 3 >= n)
+        break;
+      ym = smooth5(x, j - 1), y0 = smooth5(x, j), yp = smooth5(x, j + 1);
+      double sg = x[jp] >= 0.0f ? 1.0 : -1.0;
+      if (sg * ym > sg * y0) { j--; continue; }
+      if (sg * yp > sg * y0) { j++; continue; }
+      double den = ym - 2.0 * y0 + yp;
+      if (den != 0.0)
+        d = 0.5 * (ym - yp) / den;
+      jp = j;
+      break;
+    }
     if (d > 0.5) d = 0.5;
     if (d < -0.5) d = -0.5;
     pick->time_ms = t0_ms + ((double)jp + d) * dt_ms;
@@ -244,32 +318,61 @@ static int cmp_ord(const void *a, const void *b)
   return (p->i > q->i) - (p->i < q->i);
 }
 
-/* Rejects picks of one side (o[0..m-1], sorted by offset) off the local trend. */
-static void reject_side(const firstbreak_params *p, const ord *o, size_t m, firstbreak_pick *out,
-                        unsigned char *bad)
+/* Robust straight-line prediction at xa from n points (Theil-Sen: the median
+ * of the pairwise slopes, then the median of the predictions). */
+static double theil_sen(const double *nx, const double *nt, size_t n, double xa, double *sl,
+                        double *pr)
+{
+  size_t ns = 0;
+  for (size_t u = 0; u < n; u++)
+    for (size_t v = u + 1; v < n; v++)
+      if (nx[u] != nx[v])
+        sl[ns++] = (nt[v] - nt[u]) / (nx[v] - nx[u]);
+  double s = ns ? median(sl, ns) : 0.0;
+  for (size_t u = 0; u < n; u++)
+    pr[u] = nt[u] + s * (xa - nx[u]);
+  return median(pr, n);
+}
+
+/* Rejects picks of one side (o[0..m-1], sorted by offset) off the local trend:
+ * the trend is predicted from the neighbours nearer the source and, separately,
+ * from those farther away; a pick is rejected when it misses both (a change of
+ * slope, such as the crossover, then fits one side and is kept). */
+static void reject_side(const firstbreak_params *p, const ord *o, size_t m,
+                        firstbreak_pick *out, unsigned char *bad)
 {
   size_t k = p->trend_traces;
-  double nx[128], nt[128], sl[128 * 127 / 2], pr[128];
+  double nx[64], nt[64], sl[64 * 63 / 2], pr[64];
   for (size_t a = 0; a < m; a++) {
-    size_t n = 0;
-    for (size_t b = a; b-- > 0 && n < k;)
-      nx[n] = fabs(o[b].off), nt[n] = out[o[b].i].time_ms, n++;
-    size_t left = n;
-    for (size_t b = a + 1; b < m && n - left < k; b++)
-      nx[n] = fabs(o[b].off), nt[n] = out[o[b].i].time_ms, n++;
-    if (n < 3)
-      continue;
-    size_t ns = 0;
-    for (size_t u = 0; u < n; u++)
-      for (size_t v = u + 1; v < n; v++)
-        if (nx[u] != nx[v])
-          sl[ns++] = (nt[v] - nt[u]) / (nx[v] - nx[u]);
-    double s = ns ? median(sl, ns) : 0.0;
-    double xa = fabs(o[a].off);
-    for (size_t u = 0; u < n; u++)
-      pr[u] = nt[u] + s * (xa - nx[u]);
-    double pred = median(pr, n);
-    if (fabs(out[o[a].i].time_ms - pred) > p->outlier_ms)
+    double xa = fabs(o[a].off), ta = out[o[a].i].time_ms;
+    double miss = INFINITY;
+    int sides = 0;
+    for (int side = 0; side < 2; side++) {
+      size_t n = 0;
+      if (side == 0)
+        for (size_t b = a; b-- > 0 && n < k;)
+          nx[n] = fabs(o[b].off), nt[n] = out[o[b].i].time_ms, n++;
+      else
+        for (size_t b = a + 1; b < m && n < k; b++)
+          nx[n] = fabs(o[b].off), nt[n] = out[o[b].i].time_ms, n++;
+      if (n == 1) {
+        /* one neighbour supports the pick when the two lie on a plausible
+         * first-arrival slope: not earlier than the nearer trace by more than
+         * the limit, nor slower than 150 m/s between them (common practice) */
+        double dx = xa - nx[0], dt = ta - nt[0];
+        if (dx < 0.0)
+          dx = -dx, dt = -dt;
+        sides++;
+        if (dt >= -p->outlier_ms && dt <= p->outlier_ms + dx / 0.150)
+          miss = 0.0;
+        continue;
+      }
+      if (n < 2)
+        continue;
+      sides++;
+      miss = fmin(miss, fabs(ta - theil_sen(nx, nt, n, xa, sl, pr)));
+    }
+    if (sides && miss > p->outlier_ms)
       bad[o[a].i] = 1;
   }
 }
