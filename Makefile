@@ -1,5 +1,13 @@
-# tzero -- plain GNU Makefile. `make check` and `make demo` install missing
-# packages first (scripts/install-deps), then build and run.
+# tzero -- plain GNU Makefile.
+#
+#   make                 build build/libtzero.a and build/tzero
+#   make check           every test (runs `make deps` first only when pkg-config
+#                        misses a package); make sanitize: the same under ASan+UBSan
+#   make deps            install the missing Debian packages (scripts/install-deps)
+#   make install         tzero, its man pages, libtzero.a, include/tzero/*.h and
+#                        tzero.pc under $(DESTDIR)$(PREFIX) (default /usr/local);
+#                        make uninstall removes exactly those files
+#   WERROR=              build with warnings left as warnings (default -Werror)
 #
 # Flavours get their own build folder: make SANITIZE=address,undefined B=build/san
 
@@ -22,6 +30,33 @@ PKG_CFLAGS = $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
 PKG_LIBS   = $(shell pkg-config --libs $(PKGS) 2>/dev/null)
 CHECK_LIBS = $(shell pkg-config --libs check 2>/dev/null)
 CHECK_CFLAGS = $(shell pkg-config --cflags check 2>/dev/null)
+
+# Each pkg-config package checked on its own, so a missing one is named with its
+# Debian package instead of failing as a compiler error or undefined references.
+# DEB_<name> is the Debian package, SHOW_<name> the name people know it by.
+DEB_libcjson = libcjson-dev
+DEB_fftw3f = libfftw3-dev
+DEB_sndfile = libsndfile1-dev
+SHOW_sndfile = libsndfile
+DEB_libpng = libpng-dev
+DEB_samplerate = libsamplerate0-dev
+SHOW_samplerate = libsamplerate
+DEB_libcrypto = libssl-dev
+DEB_check = check
+DEB_cairo = libcairo2-dev
+MISSING_BUILD := $(strip $(foreach p,$(PKGS),$(if $(shell pkg-config --exists $(p) 2>/dev/null && echo y),,$(p))))
+MISSING_TEST := $(if $(shell pkg-config --exists check 2>/dev/null && echo y),,check)
+# Goals that need no package (they install them first, or touch no compiler),
+# and the goals that also need Check (the unit suites).
+NO_PKG_GOALS = deps check sanitize demo bench clean uninstall
+TEST_GOALS = check-run unit
+MISSING = $(strip $(MISSING_BUILD) $(if $(filter $(TEST_GOALS),$(MAKECMDGOALS)),$(MISSING_TEST)))
+ifneq ($(MISSING),)
+ifneq ($(filter-out $(NO_PKG_GOALS),$(or $(MAKECMDGOALS),all)),)
+$(foreach p,$(MISSING),$(info missing: $(or $(SHOW_$(p)),$(p)) (Debian package $(or $(DEB_$(p)),unknown: pkg-config name $(p))); run `make deps`))
+$(error $(words $(MISSING)) package(s) missing)
+endif
+endif
 
 # The library and the tests see src/ (private headers as "stage/name.h"); the
 # front end sees the public headers only.
@@ -83,7 +118,7 @@ space := $(empty) $(empty)
 PREFIXES = $(subst $(space),|,$(strip $(PREFIX_LIST)))
 
 .PHONY: all check check-run unit e2e xcheck check-symbols sanitize demo demo-run bench \
-        bench-run install clean deps
+        bench-run install uninstall clean deps
 all: $(B)/libtzero.a $(B)/tzero
 
 deps:
@@ -114,8 +149,9 @@ $(B)/bench/%: bench/%.c $(B)/libtzero.a
 	@mkdir -p $(dir $@)
 	$(CC) $(ALL_CPPFLAGS) $(ALL_CFLAGS) -MMD -MP -o $@ $< $(B)/libtzero.a $(LDLIBS_ALL)
 
-# The one command CI and humans run.
-check: deps
+# The one command CI and humans run: packages are installed only when pkg-config
+# misses one (a machine without apt where everything is found goes straight on).
+check: $(if $(MISSING_BUILD)$(MISSING_TEST),deps)
 	@$(MAKE) --no-print-directory check-run
 
 check-run: all $(UNIT_BIN) $(DRIVER_BIN) check-symbols
@@ -136,26 +172,48 @@ xcheck: all $(DRIVER_BIN)
 
 # ASan + UBSan build running the whole suite (tests/lsan.supp: caches that
 # system libraries keep for the life of the process).
-sanitize: deps
+sanitize: $(if $(MISSING_BUILD)$(MISSING_TEST),deps)
 	@LSAN_OPTIONS="suppressions=$(CURDIR)/tests/lsan.supp$${LSAN_OPTIONS:+:$$LSAN_OPTIONS}" \
 	  $(MAKE) --no-print-directory B=build/san SANITIZE=address,undefined OPT="-O1 -g" check-run
 
-demo: deps
+demo: $(if $(MISSING_BUILD)$(MISSING_TEST),deps)
 	@$(MAKE) --no-print-directory demo-run
 
 demo-run: all
 	@B=$(B) demo/run.sh
 
-bench: deps
+bench: $(if $(MISSING_BUILD)$(MISSING_TEST),deps)
 	@$(MAKE) --no-print-directory bench-run
 
 bench-run: all $(BENCH_BIN)
 	@B=$(B) bench/run.sh
 
+HEADERS  = $(wildcard include/tzero/*.h)
+MANPAGES = $(wildcard docs/*.1)
+LIBDIR   = $(PREFIX)/lib
+INCDIR   = $(PREFIX)/include
+
 install: all
-	install -d $(DESTDIR)$(PREFIX)/bin $(DESTDIR)$(PREFIX)/share/man/man1
+	install -d $(DESTDIR)$(PREFIX)/bin $(DESTDIR)$(PREFIX)/share/man/man1 \
+	  $(DESTDIR)$(LIBDIR)/pkgconfig $(DESTDIR)$(INCDIR)/tzero
 	install -m 755 $(B)/tzero $(DESTDIR)$(PREFIX)/bin/tzero
-	install -m 644 docs/*.1 $(DESTDIR)$(PREFIX)/share/man/man1/
+	install -m 644 $(MANPAGES) $(DESTDIR)$(PREFIX)/share/man/man1/
+	install -m 644 $(B)/libtzero.a $(DESTDIR)$(LIBDIR)/libtzero.a
+	install -m 644 $(HEADERS) $(DESTDIR)$(INCDIR)/tzero/
+	printf '%s\n' 'prefix=$(PREFIX)' 'libdir=$(LIBDIR)' 'includedir=$(INCDIR)' '' \
+	  'Name: tzero' 'Description: 2D seismic reflection processing library (SEG-Y, CMP, NMO, stack)' \
+	  'Version: 0.1' 'Requires.private: $(PKGS)' 'Libs: -L$${libdir} -ltzero' \
+	  'Libs.private: -lm -pthread' 'Cflags: -I$${includedir}' \
+	  >$(DESTDIR)$(LIBDIR)/pkgconfig/tzero.pc
+	chmod 644 $(DESTDIR)$(LIBDIR)/pkgconfig/tzero.pc
+
+# Removes what install wrote (and the tzero header folder when it is empty).
+uninstall:
+	rm -f $(DESTDIR)$(PREFIX)/bin/tzero $(DESTDIR)$(LIBDIR)/libtzero.a \
+	  $(DESTDIR)$(LIBDIR)/pkgconfig/tzero.pc \
+	  $(addprefix $(DESTDIR)$(PREFIX)/share/man/man1/,$(notdir $(MANPAGES))) \
+	  $(addprefix $(DESTDIR)$(INCDIR)/tzero/,$(notdir $(HEADERS)))
+	-rmdir $(DESTDIR)$(INCDIR)/tzero 2>/dev/null
 
 clean:
 	rm -rf build

@@ -1,9 +1,13 @@
 #!/bin/sh
 # run.sh -- runs the unit suites (Check), the end-to-end scripts and the
-# external cross-checks, and closes with one "N passed, N failed" line.
+# external cross-checks, and closes with one "N passed, N failed, N skipped" line.
 #
-# Protocol: Check suites report "Checks: N, Failures: F, Errors: E";
-# scripts print TAP-style "ok - ..." / "not ok - ..." lines.
+# Protocol: Check suites report "Checks: N, Failures: F, Errors: E"; a suite
+# binary that reports no check at all is a failure. Scripts print TAP-style
+# "ok - ..." / "not ok - ..." lines. A check that could not run here (no AVX2,
+# no chromium, ...) prints "ok - NAME # SKIP why" or "skip - NAME: why" and is
+# counted as skipped, never as passed (in a Check suite the skip line is taken
+# off the suite's passed count).
 # Usage: tests/run.sh [unit|e2e|xcheck]...   (default: all three)
 set -u
 B=${B:-build}
@@ -18,13 +22,20 @@ trap 'rm -rf "$WORK"' EXIT INT TERM
 what=${*:-unit e2e xcheck}
 pass=0
 fail=0
+skip=0
 broken=""
 
-count_tap() { # file -> adds to pass/fail
-  p=$(grep -c '^ok ' "$1" || true)
+count_skips() { # file -> number of skip lines
+  grep -cE '^ok .*# SKIP|^skip ' "$1" || true
+}
+
+count_tap() { # file -> adds to pass/fail/skip
+  p=$(grep '^ok ' "$1" | grep -vc '# SKIP' || true)
   f=$(grep -c '^not ok ' "$1" || true)
+  s=$(count_skips "$1")
   pass=$((pass + p))
   fail=$((fail + f))
+  skip=$((skip + s))
 }
 
 run_one() { # label cmd...
@@ -40,8 +51,15 @@ run_one() { # label cmd...
     f=$(echo "$line" | sed -E 's/.*Failures: ([0-9]+).*/\1/')
     e=$(echo "$line" | sed -E 's/.*Errors: ([0-9]+).*/\1/')
     n=${n:-0}; f=${f:-0}; e=${e:-0}
-    pass=$((pass + n - f - e))
+    s=$(count_skips "$log")
+    [ "$s" -gt $((n - f - e)) ] && s=$((n - f - e))
+    pass=$((pass + n - f - e - s))
     fail=$((fail + f + e))
+    skip=$((skip + s))
+    if [ "$n" -eq 0 ]; then   # a suite that ran nothing proves nothing
+      echo "not ok - $(basename "$1"): no check ran" >>"$log"
+      fail=$((fail + 1))
+    fi
     ;;
   *) count_tap "$log" ;;
   esac
@@ -81,5 +99,5 @@ for w in $what; do
 done
 
 [ -n "$broken" ] && echo "failing:$broken"
-echo "$pass passed, $fail failed"
+echo "$pass passed, $fail failed, $skip skipped"
 [ "$fail" -eq 0 ]

@@ -90,7 +90,8 @@ START_TEST(test_nmo_paths)
   int have = nmo_workspace_simd(simd, 1);
   ck_assert_int_eq(nmo_workspace_simd(port, 0), 0);
   if (!have)
-    fprintf(stderr, "check_simd: no AVX2 on this CPU; both sides use the portable code\n");
+    printf("skip - check_simd: AVX2 kernels against the portable code: no AVX2 on this CPU "
+           "(both sides ran the portable code)\n");
   uint64_t s = 12345;
   for (int c = 0; c < 400; c++) {
     nmo_axis ax;
