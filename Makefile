@@ -106,6 +106,7 @@ PREFIX_LIST = \
   residual \
   segy \
   semblance \
+  spectrum \
   stack \
   survey \
   synth \

@@ -27,6 +27,7 @@ int cmd_fit(int argc, char **argv);
 int cmd_compare(int argc, char **argv);
 int cmd_picture(int argc, char **argv);
 int cmd_audio(int argc, char **argv);
+int cmd_spectrum(int argc, char **argv);
 int cmd_merge(int argc, char **argv);
 int cmd_firstbreaks(int argc, char **argv);
 

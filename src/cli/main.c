@@ -24,6 +24,7 @@ static const struct subcmd subcmds[] = {
   { "nmo",       cmd_nmo,       "write NMO-corrected CMP gathers for checking velocities" },
   { "semblance", cmd_semblance, "semblance velocity scans and automatic picks" },
   { "cvs",       cmd_cvs,       "constant-velocity stack panels over a CMP range" },
+  { "spectrum",  cmd_spectrum,  "average amplitude spectra of chosen traces of shot files or a section" },
   { "fit",       cmd_fit,       "x^2-t^2 least-squares fit of reflection picks" },
   { "stack",     cmd_stack,     "the whole flow from a job file: stacked section and QC report" },
   { "merge",     cmd_merge,     "join the parts of a line stacked by separate runs (--cmp-range)" },

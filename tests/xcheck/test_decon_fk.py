@@ -25,7 +25,7 @@ import numpy as np
 import scipy.linalg
 import scipy.signal
 
-from tzcheck import WORK, TZERO, ok, done
+from tzcheck import WORK, TZERO, fast_size, ok, done
 
 DRIVER = os.path.join(os.path.dirname(TZERO), "tests", "condition_driver")
 rng = np.random.default_rng(20261202)
@@ -143,15 +143,6 @@ ok(p.returncode == 1 and "shorter than the operator" in p.stderr,
 
 
 # ---- f-k fan: NumPy reference of the documented grid and weight ----
-def fast_size(n):
-    while True:
-        m = n
-        for q in (2, 3, 5):
-            while m % q == 0:
-                m //= q
-        if m == 1:
-            return n
-        n += 1
 
 
 def fall(u):

@@ -34,3 +34,15 @@ def run(*args, check=True, **kw):
 
 def done():
     sys.exit(1 if failures else 0)
+
+
+def fast_size(n):
+    """Smallest 2^a 3^b 5^c >= n (the FFT lengths tzero pads to)."""
+    while True:
+        m = n
+        for p in (2, 3, 5):
+            while m % p == 0:
+                m //= p
+        if m == 1:
+            return n
+        n += 1

@@ -1,0 +1,37 @@
+# test_spectrum.sh -- `tzero spectrum` from the command line: files and --job, CSV
+# and JSON, output only when complete, and refusals with their exit statuses. The
+# survey is written with segyio by tests/xcheck/test_stack_segyio.py (independent
+# of tzero); its wavelet is a 25 Hz Ricker (REFERENCE.md 3.12: the amplitude
+# spectrum peaks at f_p). Statuses: sysexits(3).
+. "$TOP/tests/e2e/lib.sh"
+D="$T/sv"
+"$PYTHON" "$TOP/tests/xcheck/test_stack_segyio.py" --make-survey "$D" || { notok "survey"; exit 1; }
+J="$D/line.json"
+expect_status 0 "--help" -- "$TZERO" spectrum --help
+expect_stdout 'interpretation aid' "--help carries the caution"
+expect_stdout 'window START:END +time window in ms' "--help names the window option with units"
+expect_status 0 "spectrum of a job's shots" -- "$TZERO" spectrum --job "$J" --records 1-3 --max-hz 100
+expect_stdout '^frequency_hz,amplitude,amplitude_db$' "CSV header"
+"$PYTHON" - "$T/out" <<'PY' && ok "CSV rows: peak 0 dB near the 25 Hz wavelet, up to 100 Hz" || notok "CSV rows"
+import sys
+rows = [l.split(",") for l in open(sys.argv[1]) if l[0].isdigit()]
+f = [float(r[0]) for r in rows]; db = [float(r[2]) for r in rows]
+k = db.index(max(db))
+sys.exit(0 if max(db) == 0 and 18 <= f[k] <= 32 and f[-1] <= 100 else 1)
+PY
+expect_status 0 "JSON to a file" -- "$TZERO" spectrum --job "$J" --records 2 --window 100:700 \
+  --json --out "$D/out/s.json"
+"$PYTHON" -c 'import json,sys; d=json.load(open(sys.argv[1])); sys.exit(0 if d["traces"] > 0 and len(d["amplitude"]) == len(d["frequency_hz"]) else 1)' \
+  "$D/out/s.json" && ok "JSON file parses, arrays of one length" || notok "JSON file"
+SHOT=$(ls "$D"/shots/*.sgy | head -n 1)
+expect_status 0 "spectrum of a file, --quiet --out" -- "$TZERO" spectrum --quiet --out "$D/out/f.csv" "$SHOT"
+[ -s "$D/out/f.csv" ] && [ ! -s "$T/out" ] && ok "CSV written, nothing printed" || notok "--quiet --out"
+expect_status 64 "no input" -- "$TZERO" spectrum
+expect_status 64 "files and --job together" -- "$TZERO" spectrum --job "$J" "$SHOT"
+expect_status 64 "backwards range" -- "$TZERO" spectrum --records 9-3 "$SHOT"
+expect_stderr "runs backwards" "backwards range: message"
+expect_status 64 "bad window" -- "$TZERO" spectrum --window 500:100 "$SHOT"
+expect_status 64 "selection of nothing" -- "$TZERO" spectrum --records 9999 --out "$D/out/none.csv" "$SHOT"
+expect_no_file "$D/out/none.csv" "no output after a failure"
+expect_status 66 "missing file" -- "$TZERO" spectrum "$D/no-such.sgy"
+expect_status 73 "output would replace the input" -- "$TZERO" spectrum --out "$SHOT" "$SHOT"
