@@ -84,6 +84,23 @@ uint64_t synth_rng_next(synth_rng *r);
 double synth_rng_gauss(synth_rng *r);               /* standard normal (polar method) */
 
 /* ---- traces and surveys ---- */
+typedef enum {
+  SYNTH_WAVELET_RICKER = 0,        /* zero-phase Ricker (default) */
+  SYNTH_WAVELET_MINIMUM_PHASE      /* causal damped resonance (synth_min_phase()) */
+} synth_wavelet;
+
+/* The minimum-phase source wavelet at time t_s after the event (0 before it):
+ * w(t) = exp(-pi f t) sin(2 pi f t) / 0.514198, the impulse response of a damped
+ * two-pole resonance at fp_hz (poles in the left half-plane, no zeros: minimum
+ * phase in continuous time), scaled to a peak of 1. */
+double synth_min_phase(double fp_hz, double t_s);
+/* The reverberation filter 1 / (1 + c z^P) applied in place: y_n = x_n - c y_{n-P}
+ * (a multiple train of period P samples, each bounce times -c; |c| < 1). */
+void synth_reverberate(float *x, size_t ns, size_t period, double c);
+/* Phase velocity of the dispersive noise train at f_hz: vmax at and below 0.5 fp,
+ * vmin at and above 2 fp, linear in between (docs/earth-model.md). */
+double synth_train_velocity(double vmin, double vmax, double fp_hz, double f_hz);
+
 typedef struct synth_params {
   double peak_hz;            /* Ricker peak frequency (default 30) */
   uint32_t samples;          /* per trace (default 1001) */
@@ -97,6 +114,12 @@ typedef struct synth_params {
   double train_velocity_mps; /* linear noise train (ground-roll-like) */
   double train_amplitude;    /* 0 = none (default) */
   double train_peak_hz;      /* default 8 */
+  double train_velocity_max_mps; /* > train_velocity_mps: dispersive train, phase velocity
+                              * from this (low frequencies) down to train_velocity_mps;
+                              * 0 = not dispersive (default) */
+  int wavelet;               /* synth_wavelet of the body waves (default Ricker) */
+  double reverb_period_s;    /* > 0: body waves through 1 / (1 + c z^P) (default 0) */
+  double reverb_coefficient; /* c, |c| < 1 */
   int bare_headers;          /* 1: no geometry in the headers */
   double bin_size_m;         /* CMP numbering (bins_params_from_layout); <= 0 = default */
   int32_t first_cmp;         /* default 1 */

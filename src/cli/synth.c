@@ -39,6 +39,16 @@ static void help(void)
          "  --noise-train-amplitude A linear noise train amplitude (default 0 = none)\n"
          "  --noise-train-velocity V  its velocity, m/s (default 300)\n"
          "  --noise-train-hz HZ       its Ricker peak frequency, hertz (default 8)\n"
+         "  --noise-train-velocity-max V\n"
+         "                            a dispersive train (ground roll): phase velocity V\n"
+         "                            m/s at low frequencies falling to\n"
+         "                            --noise-train-velocity at high ones (default: none)\n"
+         "  --wavelet ricker|minimum-phase\n"
+         "                            source wavelet of the body waves (default ricker;\n"
+         "                            minimum-phase: a damped resonance at --peak-hz)\n"
+         "  --reverb-period-ms MS     body waves through the reverberation filter\n"
+         "                            1/(1 + c z^P) of period MS (default none)\n"
+         "  --reverb-coefficient C    its c, -1 < c < 1 (default 0.5)\n"
          "  --no-reflections, --no-dipping, --no-direct, --no-head-wave\n"
          "                            leave an event out\n"
          "  --bare-headers            leave geometry (coordinates, offsets, elevations,\n"
@@ -60,7 +70,8 @@ static void help(void)
 enum {
   O_MODEL = 256, O_LAYOUT, O_OUT, O_SAMPLES, O_INTERVAL, O_RECORD, O_PEAK, O_FORMAT, O_NOISE,
   O_SEED, O_TRAIN_A, O_TRAIN_V, O_TRAIN_HZ, O_NOREFL, O_NODIP, O_NODIRECT, O_NOHEAD, O_BARE,
-  O_BIN, O_FIRSTCMP, O_LINENAME, O_RMS, O_JSON, O_QUIET,
+  O_BIN, O_FIRSTCMP, O_LINENAME, O_RMS, O_JSON, O_QUIET, O_TRAIN_VMAX, O_WAVELET, O_REV_P,
+  O_REV_C,
 };
 
 int cmd_synth(int argc, char **argv)
@@ -79,6 +90,10 @@ int cmd_synth(int argc, char **argv)
     { "noise-train-amplitude", required_argument, NULL, O_TRAIN_A },
     { "noise-train-velocity", required_argument, NULL, O_TRAIN_V },
     { "noise-train-hz", required_argument, NULL, O_TRAIN_HZ },
+    { "noise-train-velocity-max", required_argument, NULL, O_TRAIN_VMAX },
+    { "wavelet", required_argument, NULL, O_WAVELET },
+    { "reverb-period-ms", required_argument, NULL, O_REV_P },
+    { "reverb-coefficient", required_argument, NULL, O_REV_C },
     { "no-reflections", no_argument, NULL, O_NOREFL },
     { "no-dipping", no_argument, NULL, O_NODIP },
     { "no-direct", no_argument, NULL, O_NODIRECT },
@@ -99,6 +114,7 @@ int cmd_synth(int argc, char **argv)
   synth_params_init(&p);
   double interval_ms = 1.0, record_ms = -1, d;
   long long ll, samples = -1;
+  double reverb_c = 0.5;
   int json = 0, quiet = 0, c;
   optind = 1;
   while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
@@ -156,6 +172,30 @@ int cmd_synth(int argc, char **argv)
         return cli_usage_error(cmd, "--noise-train-hz: must be > 0");
       p.train_peak_hz = d;
       break;
+    case O_TRAIN_VMAX:
+      if (cli_parse_f64(cmd, "--noise-train-velocity-max", optarg, &d)) return EX_USAGE;
+      if (!(d > 0 && d < 1e5))
+        return cli_usage_error(cmd, "--noise-train-velocity-max: must be > 0");
+      p.train_velocity_max_mps = d;
+      break;
+    case O_WAVELET:
+      if (!strcmp(optarg, "ricker")) p.wavelet = SYNTH_WAVELET_RICKER;
+      else if (!strcmp(optarg, "minimum-phase")) p.wavelet = SYNTH_WAVELET_MINIMUM_PHASE;
+      else return cli_usage_error(cmd, "--wavelet: expected ricker or minimum-phase, got '%s'",
+                                  optarg);
+      break;
+    case O_REV_P:
+      if (cli_parse_f64(cmd, "--reverb-period-ms", optarg, &d)) return EX_USAGE;
+      if (!(d > 0 && d < 1e5))
+        return cli_usage_error(cmd, "--reverb-period-ms: must be > 0");
+      p.reverb_period_s = d * 1e-3;
+      break;
+    case O_REV_C:
+      if (cli_parse_f64(cmd, "--reverb-coefficient", optarg, &d)) return EX_USAGE;
+      if (!(d > -1 && d < 1))
+        return cli_usage_error(cmd, "--reverb-coefficient: must be between -1 and 1 (exclusive)");
+      reverb_c = d;
+      break;
     case O_NOREFL: p.reflections = 0; break;
     case O_NODIP: p.dipping = 0; break;
     case O_NODIRECT: p.direct = 0; break;
@@ -180,6 +220,8 @@ int cmd_synth(int argc, char **argv)
     default: return cli_usage_error(cmd, "unknown option");
     }
   }
+  if (p.reverb_period_s > 0)
+    p.reverb_coefficient = reverb_c;
   if (optind < argc)
     return cli_usage_error(cmd, "unexpected argument '%s'", argv[optind]);
   if (!model_path || !layout_path || !out)

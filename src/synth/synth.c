@@ -377,6 +377,78 @@ static void add_wavelet(float *out, size_t ns, double dt, double fp, double te, 
   }
 }
 
+double synth_min_phase(double fp, double t)
+{
+  if (t < 0)
+    return 0.0;
+  /* peak of exp(-pi f t) sin(2 pi f t): where tan(2 pi f t) = 2, value 0.514198 */
+  return exp(-M_PI * fp * t) * sin(2.0 * M_PI * fp * t) / 0.51419838006;
+}
+
+void synth_reverberate(float *x, size_t ns, size_t period, double c)
+{
+  for (size_t i = period; period && i < ns; i++)
+    x[i] = (float)((double)x[i] - c * (double)x[i - period]);
+}
+
+double synth_train_velocity(double vmin, double vmax, double fp, double f)
+{
+  double lo = 0.5 * fp, hi = 2.0 * fp;
+  if (f <= lo)
+    return vmax;
+  if (f >= hi)
+    return vmin;
+  return vmax + (vmin - vmax) * (f - lo) / (hi - lo);
+}
+
+/* Adds amp * synth_min_phase(t - te) over 8 decay times after te. */
+static void add_causal(float *out, size_t ns, double dt, double fp, double te, double amp)
+{
+  double a = te / dt, b = (te + 8.0 / (M_PI * fp)) / dt;
+  if (b < 0 || a > (double)(ns - 1) || !isfinite(te))
+    return;
+  size_t i0 = a < 0 ? 0 : (size_t)ceil(a);
+  size_t i1 = b > (double)(ns - 1) ? ns - 1 : (size_t)floor(b);
+  for (size_t i = i0; i <= i1; i++)
+    out[i] += (float)(amp * synth_min_phase(fp, (double)i * dt - te));
+}
+
+/* A body-wave event in the chosen source wavelet. */
+static void add_body(const synth_params *p, float *out, size_t ns, double dt, double fp,
+                     double te, double amp)
+{
+  if (p->wavelet == SYNTH_WAVELET_MINIMUM_PHASE)
+    add_causal(out, ns, dt, fp, te, amp);
+  else
+    add_wavelet(out, ns, dt, fp, te, amp);
+}
+
+/* Dispersive noise train: the sum over frequencies f_k = k df (df = 0.25 Hz, up to
+ * 3 fp) of R(f_k) cos(2 pi f_k (t - x / v(f_k))), R the Ricker amplitude spectrum
+ * f^2 exp(-f^2 / fp^2), scaled so that at x = 0 it is amp times a Ricker-like pulse
+ * of peak 1 at t = 0. Cosines by rotation (no trig per sample). */
+static void add_dispersive(float *out, size_t ns, double dt, const synth_params *p, double x)
+{
+  double fp = p->train_peak_hz, df = 0.25, norm = 0;
+  size_t nk = (size_t)(3.0 * fp / df);
+  for (size_t k = 1; k <= nk; k++) {
+    double f = (double)k * df;
+    norm += f * f * exp(-f * f / (fp * fp));
+  }
+  for (size_t k = 1; k <= nk; k++) {
+    double f = (double)k * df, R = f * f * exp(-f * f / (fp * fp)) / norm * p->train_amplitude;
+    double v = synth_train_velocity(p->train_velocity_mps, p->train_velocity_max_mps, fp, f);
+    double ph = -2.0 * M_PI * f * (x / v), w = 2.0 * M_PI * f * dt;
+    double c = cos(ph), s = sin(ph), cw = cos(w), sw = sin(w);
+    for (size_t i = 0; i < ns; i++) {
+      out[i] += (float)(R * c);
+      double c2 = c * cw - s * sw;
+      s = s * cw + c * sw;
+      c = c2;
+    }
+  }
+}
+
 void synth_render(const synth_model *m, const synth_params *p, const synth_frame *f,
                   const geometry_trace *g, float *out)
 {
@@ -391,7 +463,7 @@ void synth_render(const synth_model *m, const synth_params *p, const synth_frame
         continue;
       double vr = synth_vrms(m, k);
       double dist = t * vr * vr / v1;                 /* Newman (1973) divergence */
-      add_wavelet(out, ns, dt, fp, t, synth_reflection(m, k) * SYNTH_REF_DISTANCE_M / dist);
+      add_body(p, out, ns, dt, fp, t, synth_reflection(m, k) * SYNTH_REF_DISTANCE_M / dist);
     }
   if (p->dipping && m->dip.present) {
     double su, cu;
@@ -402,17 +474,23 @@ void synth_render(const synth_model *m, const synth_params *p, const synth_frame
                               rdx * cu - rdy * su);
     const synth_dip *d = &m->dip;
     if (t > 0)
-      add_wavelet(out, ns, dt, fp, t,
-                  rc(d->velocity_above_mps, d->density_above_kgm3, d->velocity_below_mps,
+      add_body(p, out, ns, dt, fp, t,
+               rc(d->velocity_above_mps, d->density_above_kgm3, d->velocity_below_mps,
                      d->density_below_kgm3) * SYNTH_REF_DISTANCE_M / (t * d->velocity_above_mps));
   }
   if (p->direct && x > 0)
-    add_wavelet(out, ns, dt, fp, x / v1, p->direct_scale * SYNTH_REF_DISTANCE_M / x);
+    add_body(p, out, ns, dt, fp, x / v1, p->direct_scale * SYNTH_REF_DISTANCE_M / x);
   double th;
   if (p->head && synth_head_time(m, x, &th))
-    add_wavelet(out, ns, dt, fp, th, p->head_scale * SYNTH_REF_DISTANCE_M / (v1 * th));
-  if (p->train_amplitude != 0 && p->train_velocity_mps > 0)
-    add_wavelet(out, ns, dt, p->train_peak_hz, x / p->train_velocity_mps, p->train_amplitude);
+    add_body(p, out, ns, dt, fp, th, p->head_scale * SYNTH_REF_DISTANCE_M / (v1 * th));
+  if (p->reverb_period_s > 0 && p->reverb_coefficient != 0)   /* body waves only */
+    synth_reverberate(out, ns, (size_t)floor(p->reverb_period_s / dt + 0.5), p->reverb_coefficient);
+  if (p->train_amplitude != 0 && p->train_velocity_mps > 0) {
+    if (p->train_velocity_max_mps > p->train_velocity_mps)
+      add_dispersive(out, ns, dt, p, x);
+    else
+      add_wavelet(out, ns, dt, p->train_peak_hz, x / p->train_velocity_mps, p->train_amplitude);
+  }
   if (p->noise_rms > 0) {
     synth_rng r;
     uint64_t key = p->seed ^ ((uint64_t)(uint32_t)g->field_record << 32 | (uint32_t)g->channel);
