@@ -43,6 +43,8 @@ struct stack_plan {
   survey_figures survey;          /* the acquisition as inferred (survey.h) */
   int has_full_fold;              /* CMPs full_fold_first..last reach the nominal fold */
   int32_t full_fold_first, full_fold_last;
+  int32_t *spans;                 /* CMP span of each record (header pass), owned */
+  size_t nspans, cap_spans;
 
   size_t ninputs;
   stack_input *inputs;            /* owned */

@@ -411,6 +411,8 @@ typedef struct file_scan {
   size_t n, cap;
   int32_t *acmp;              /* CMPs of the acquisition (seismic and dead traces on the line) */
   size_t na;
+  int32_t *span;              /* per record: CMPs from its first to its last acquired one */
+  size_t nspan;
   double off_line_max_m;      /* largest midpoint distance from the line */
   int64_t counts[STACK_SKIP__COUNT];
   double off_max;             /* largest |offset| of any trace that would be stacked
@@ -427,6 +429,7 @@ static void scan_one(file_scan *s)
   segy_file *f = NULL;
   s->n = 0;
   s->na = 0;
+  s->nspan = 0;
   s->off_line_max_m = 0;
   s->traces = 0;
   s->off_max = 0;
@@ -456,7 +459,10 @@ static void scan_one(file_scan *s)
     int32_t *a = realloc(s->acmp, nc * sizeof *a);
     if (a)
       s->acmp = a;
-    if (!c || !d || !a) {
+    int32_t *sp = realloc(s->span, nc * sizeof *sp);
+    if (sp)
+      s->span = sp;
+    if (!c || !d || !a || !sp) {
       segy_close(f);
       s->state = -1;
       tz_fail(&s->err, TZ_E_NOMEM, "header pass buffers");
@@ -473,7 +479,7 @@ static void scan_one(file_scan *s)
     tz_fail(&s->err, TZ_E_NOMEM, "record list of %lld traces", (long long)n);
     return;
   }
-  int32_t rec_no = 0;
+  int32_t rec_no = 0, rmin = INT32_MAX, rmax = INT32_MIN;
   for (int64_t t = 0; t < n; t++) {
     segy_trace_header h;
     tz_err e;
@@ -489,12 +495,19 @@ static void scan_one(file_scan *s)
     if (t == 0 || h.field_record != rec_no || t - rec->start[rec->n - 1] >= STACK_MAX_RECORD_TRACES) {
       rec->start[rec->n++] = t;
       rec_no = h.field_record;
+      if (rmax >= rmin)
+        s->span[s->nspan++] = rmax - rmin + 1;
+      rmin = INT32_MAX;
+      rmax = INT32_MIN;
     }
     acq_loc acq;
     int k = classify(p, &h, t, &cmp, &off, NULL, &reason, &s->err, 1, NULL, &acq);
     if (k >= 0 && acq.located) {
-      if (acq.in)
+      if (acq.in) {
         s->acmp[s->na++] = acq.cmp;
+        rmin = acq.cmp < rmin ? acq.cmp : rmin;
+        rmax = acq.cmp > rmax ? acq.cmp : rmax;
+      }
       if (acq.off_line_m > s->off_line_max_m)
         s->off_line_max_m = acq.off_line_m;
     }
@@ -525,6 +538,8 @@ static void scan_one(file_scan *s)
     s->cmp[s->n] = cmp;
     s->off[s->n++] = off;
   }
+  if (rmax >= rmin && s->nspan < s->cap)
+    s->span[s->nspan++] = rmax - rmin + 1;
   segy_close(f);
   int64_t *shrunk = rec->n ? realloc(rec->start, rec->n * sizeof *rec->start) : NULL;
   if (shrunk)
@@ -535,6 +550,28 @@ static void *scan_thread(void *arg)
 {
   scan_one(arg);
   return NULL;
+}
+
+/* Keeps the records' CMP spans (for the full-fold part). */
+static int add_spans(stack_plan *p, const int32_t *v, size_t n, tz_err *err)
+{
+  if (p->nspans + n > p->cap_spans) {
+    size_t nc = (p->cap_spans ? p->cap_spans * 2 : 256) + n;
+    int32_t *x = realloc(p->spans, nc * sizeof *x);
+    if (!x)
+      return tz_fail(err, TZ_E_NOMEM, "record spans");
+    p->spans = x;
+    p->cap_spans = nc;
+  }
+  memcpy(p->spans + p->nspans, v, n * sizeof *v);
+  p->nspans += n;
+  return TZ_OK;
+}
+
+static int cmp_i32(const void *a, const void *b)
+{
+  int32_t x = *(const int32_t *)a, y = *(const int32_t *)b;
+  return (x > y) - (x < y);
 }
 
 /* The header pass proper: files in rounds of T, one file per thread. */
@@ -585,6 +622,8 @@ static int scan_bins(stack_plan *p, bins_fold *fold, bins_fold *acq, int threads
           tz_err_path(err, p->inputs[s->file].path);
       if (s->off_line_max_m > p->line_info.largest_off_line_m)
         p->line_info.largest_off_line_m = s->off_line_max_m;
+      if (!rc && s->nspan && (rc = add_spans(p, s->span, s->nspan, err)))
+        break;
       p->traces += s->traces;
       for (int r = 0; r < STACK_SKIP__COUNT; r++)
         p->skipped[r] += s->counts[r];
@@ -600,40 +639,66 @@ static int scan_bins(stack_plan *p, bins_fold *fold, bins_fold *acq, int threads
     free(fs[k].cmp);
     free(fs[k].off);
     free(fs[k].acmp);
+    free(fs[k].span);
   }
   free(fs);
   free(th);
   return rc;
 }
 
-/* The full-fold part of a roll-along line: the acquired CMPs (acquisition fold
- * above 0) less the end tapers, where fold builds up from 1 over one record's
- * midpoint span (N dg / 2) less one shot step (ds): (N dg / 2 - ds) / bin CMPs
- * at each end (stacking-chart geometry; Sheriff & Geldart 1995, common
- * practice). It depends only on the end records and the survey figures, so
- * dead channels, kills and missing shots inside the line show as low fold in
- * it instead of moving it. */
-static void full_fold_part(stack_plan *p, const bins_fold *acq)
+/* The CMPs one record spans (first to last acquired CMP, inclusive): the
+ * median over the records of the header pass, or the layout's first shot. */
+static double record_span(stack_plan *p, const geometry_layout *lay)
+{
+  if (lay) {
+    int32_t lo = INT32_MAX, hi = INT32_MIN;
+    tz_err e;
+    tz_err_init(&e);
+    for (size_t c = 0; geometry_layout_shots(lay) && c < geometry_layout_channels(lay); c++) {
+      geometry_trace g;
+      bins_loc loc;
+      if (geometry_layout_trace(lay, 0, c, &g, &e) ||
+          bins_locate(p->line, g.midpoint_x, g.midpoint_y, &loc) != BINS_IN)
+        continue;
+      lo = loc.cmp < lo ? loc.cmp : lo;
+      hi = loc.cmp > hi ? loc.cmp : hi;
+    }
+    return hi >= lo ? (double)hi - lo + 1 : 0;
+  }
+  if (!p->nspans)
+    return 0;
+  qsort(p->spans, p->nspans, sizeof *p->spans, cmp_i32);
+  return p->spans[p->nspans / 2];
+}
+
+/* The full-fold part of a roll-along line: the acquired CMPs (acquisition
+ * fold above 0: every channel live, from the layout or the recorded seismic and
+ * dead traces) less the end tapers, where fold builds up over one record's CMP
+ * span W less one shot step: W - ds / bin CMPs at each end (stacking-chart
+ * geometry of roll-along shooting; Sheriff & Geldart 1995, common practice).
+ * It depends only on the end records and the spread, so dead channels, kills
+ * and missing shots inside the line show as low fold in it instead of moving
+ * it. Without a shot interval (one shot position) there is no such part. */
+static void full_fold_part(stack_plan *p, const bins_fold *acq, const geometry_layout *lay)
 {
   const survey_figures *sf = &p->survey;
   double bin = p->line_info.size_m;
   p->has_full_fold = 0;
-  if (!(p->nominal_fold >= 1) || !(sf->source_interval_m > 0) || !(sf->receiver_interval_m > 0) ||
-      !(bin > 0))
+  double w = record_span(p, lay);
+  if (!(p->nominal_fold >= 1) || !(sf->source_interval_m > 0) || !(bin > 0) || !(w > 0))
     return;
   bins_fold_summary s;
   bins_fold_summarise(acq, &s);
   if (s.last_cmp < s.first_cmp)
     return;
-  double half_spread = sf->channels_per_record * sf->receiver_interval_m / 2.0;
-  double taper = floor((half_spread - sf->source_interval_m) / bin + 0.5);
+  double taper = floor(w - sf->source_interval_m / bin + 0.5);
   if (taper < 0)
     taper = 0;
-  double a = (double)s.first_cmp + taper, b = (double)s.last_cmp - taper;
-  if (a > b)
+  double fa = (double)s.first_cmp + taper, fb = (double)s.last_cmp - taper;
+  if (fa > fb)
     return;
-  p->full_fold_first = (int32_t)a;
-  p->full_fold_last = (int32_t)b;
+  p->full_fold_first = (int32_t)fa;
+  p->full_fold_last = (int32_t)fb;
   p->has_full_fold = 1;
 }
 
@@ -663,6 +728,7 @@ void stack_plan_free(stack_plan *p)
   geometry_source_free(p->geo);
   bins_line_free(p->line);
   free(p->cmps);
+  free(p->spans);
   for (size_t i = 0; p->inputs && i < p->ninputs; i++)
     free((char *)p->inputs[i].error);
   for (size_t i = 0; p->records && i < p->ninputs; i++)
@@ -789,7 +855,7 @@ int stack_plan_build(stack_plan **out, const job_spec *job, stack_progress_fn pr
     bins_fold_get(acq, cmp, &st);
     cp->acquired_fold = st.fold;
   }
-  full_fold_part(p, acq);
+  full_fold_part(p, acq, lay);
   bins_fold_free(fold);
   bins_fold_free(acq);
   *out = p;
