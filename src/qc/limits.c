@@ -15,7 +15,6 @@
 
 #include <cjson/cJSON.h>
 #include <math.h>
-#include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -23,6 +22,7 @@
 #include "qc/qc_int.h"
 #include "tzero/fileio.h"
 #include "util/json_doc.h"
+#include "util/strbuf.h"
 
 #define BY_OFFSET "max_muted_pct_by_offset"
 
@@ -82,20 +82,14 @@ int limits_copy(limits_set *dst, const limits_set *src, tz_err *err)
 
 /* ---------------------------------------------------------------- parsing */
 
-/* The known key nearest to `k`, or NULL. */
+/* The known key nearest to `k` (json_doc_nearest over the limit names). */
 static const char *nearest(const char *k)
 {
-  const char *best = NULL;
-  size_t bd = (size_t)-1;
-  for (int i = 0; i <= LIMITS__COUNT; i++) {
-    const char *name = i < LIMITS__COUNT ? keys[i].name : BY_OFFSET;
-    size_t d = json_doc_edit_distance(k, name);
-    if (d < bd) {
-      bd = d;
-      best = name;
-    }
-  }
-  return bd <= strlen(k) / 2 + 2 ? best : NULL;
+  const char *names[LIMITS__COUNT + 1];
+  for (int i = 0; i < LIMITS__COUNT; i++)
+    names[i] = keys[i].name;
+  names[LIMITS__COUNT] = BY_OFFSET;
+  return json_doc_nearest(k, names, LIMITS__COUNT + 1);
 }
 
 static int parse_value(limits_set *l, int k, const cJSON *v, const char *jp, tz_err *err)
@@ -685,65 +679,18 @@ int limits_check(const limits_set *l, const qc_report *r, limits_result **out, t
 
 /* ---------------------------------------------------------------- text */
 
-typedef struct sbuf {
-  char *s;
-  size_t n, cap;
-  int bad;
-} sbuf;
-
-static void put(sbuf *b, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
-static void put(sbuf *b, const char *fmt, ...)
-{
-  if (b->bad)
-    return;
-  va_list ap;
-  va_start(ap, fmt);
-  int k = vsnprintf(NULL, 0, fmt, ap);
-  va_end(ap);
-  if (k < 0) {
-    b->bad = 1;
-    return;
-  }
-  if (b->n + (size_t)k + 1 > b->cap) {
-    size_t nc = (b->cap ? b->cap * 2 : 256) + (size_t)k + 1;
-    char *ns = realloc(b->s, nc);
-    if (!ns) {
-      b->bad = 1;
-      return;
-    }
-    b->s = ns;
-    b->cap = nc;
-  }
-  va_start(ap, fmt);
-  vsnprintf(b->s + b->n, b->cap - b->n, fmt, ap);
-  va_end(ap);
-  b->n += (size_t)k;
-}
-
-static int finish(sbuf *b, char **text, tz_err *err)
-{
-  if (!b->s && !b->bad)
-    put(b, "%s", "");
-  if (b->bad) {
-    free(b->s);
-    return tz_fail(err, TZ_E_NOMEM, "limit text");
-  }
-  *text = b->s;
-  return TZ_OK;
-}
-
-static void put_ranges(sbuf *b, const limits_outcome *o)
+static void put_ranges(tz_buf *b, const limits_outcome *o)
 {
   for (size_t i = 0; i < o->nranges; i++) {
     const limits_range *r = &o->ranges[i];
     if (r->first == r->last)
-      put(b, "%s%d", i ? ", " : "CMP ", r->first);
+      tz_buf_put(b, "%s%d", i ? ", " : "CMP ", r->first);
     else
-      put(b, "%s%d-%d", i ? ", " : "CMP ", r->first, r->last);
+      tz_buf_put(b, "%s%d-%d", i ? ", " : "CMP ", r->first, r->last);
   }
 }
 
-static void put_name(sbuf *b, const limits_outcome *o, int width)
+static void put_name(tz_buf *b, const limits_outcome *o, int width)
 {
   char nm[96];
   if (!isnan(o->offset_from_m)) {
@@ -754,50 +701,50 @@ static void put_name(sbuf *b, const limits_outcome *o, int width)
   } else {
     snprintf(nm, sizeof nm, "%s", o->name);
   }
-  put(b, "%-*s", width, nm);
+  tz_buf_put(b, "%-*s", width, nm);
 }
 
 int limits_result_text(const limits_result *res, char **text, tz_err *err)
 {
-  sbuf b = { 0 };
+  tz_buf b = { 0 };
   for (size_t i = 0; i < res->n; i++) {
     const limits_outcome *o = &res->o[i];
     put_name(&b, o, 38);
-    put(&b, " limit %-8g value ", o->limit);
+    tz_buf_put(&b, " limit %-8g value ", o->limit);
     if (isnan(o->value))
-      put(&b, "%-9s", "-");
+      tz_buf_put(&b, "%-9s", "-");
     else
-      put(&b, "%-9.4g", o->value);
-    put(&b, " %s", !o->applies ? "n/a" : o->held ? "held" : "broken");
+      tz_buf_put(&b, "%-9.4g", o->value);
+    tz_buf_put(&b, " %s", !o->applies ? "n/a" : o->held ? "held" : "broken");
     if (o->nranges) {
-      put(&b, "  ");
+      tz_buf_put(&b, "  ");
       put_ranges(&b, o);
     }
     if (o->note)
-      put(&b, "  (%s)", o->note);
-    put(&b, "\n");
+      tz_buf_put(&b, "  (%s)", o->note);
+    tz_buf_put(&b, "\n");
   }
-  return finish(&b, text, err);
+  return tz_buf_finish(&b, text, "limit text", err);
 }
 
 int limits_result_brief(const limits_result *res, char **text, tz_err *err)
 {
-  sbuf b = { 0 };
+  tz_buf b = { 0 };
   int first = 1;
   for (size_t i = 0; i < res->n; i++) {
     const limits_outcome *o = &res->o[i];
     if (o->held)
       continue;
-    put(&b, "%s", first ? "" : ", ");
+    tz_buf_put(&b, "%s", first ? "" : ", ");
     put_name(&b, o, 0);
     if (o->nranges) {
-      put(&b, " (");
+      tz_buf_put(&b, " (");
       put_ranges(&b, o);
-      put(&b, ")");
+      tz_buf_put(&b, ")");
     }
     first = 0;
   }
-  return finish(&b, text, err);
+  return tz_buf_finish(&b, text, "limit text", err);
 }
 
 static cJSON *num_or_null(double v)
