@@ -59,6 +59,8 @@ typedef struct job_spec {
   int geometry;               /* enum job_geometry_source */
   char *geometry_file;        /* layout or table path; NULL for headers */
   char *header_map;           /* optional SEG-Y header map file (segy.h); NULL = standard */
+  uint32_t interval_us;       /* "interval_us": sample interval replacing the files'
+                               * (segy_open_opts.interval_us); 0 = from the files */
 
   job_bins bins;
 

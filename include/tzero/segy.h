@@ -51,7 +51,9 @@ typedef struct segy_trace_header {
   int16_t mute_end_ms;       /* 113-114 */
   uint32_t samples;          /* 115-116 (u16), or rev 2 extension 137-140; on read, the
                               * count actually delivered (0 in the file: the file's) */
-  uint32_t interval_us;      /* 117-118 (u16); on read 0 is replaced by the file's */
+  uint32_t interval_us;      /* 117-118 (u16); on read 0 or an invalid value (negative
+                              * as i16), or any value when an interval is given, is
+                              * replaced by the file's interval in use */
   double cmp_x, cmp_y;       /* 181-188 scaled by coord_scalar */
   int32_t inline_no;         /* 189-192 */
   int32_t crossline_no;      /* 193-196 */
@@ -60,6 +62,24 @@ typedef struct segy_trace_header {
   int16_t time_scalar;       /* 215-216 scalar for the times 95-114, as stored (0 means 1) */
   unsigned char raw[SEGY_TRACE_HEADER_BYTES]; /* the bytes as read, for pass-through */
 } segy_trace_header;
+
+/* Where the sample interval in use came from (segy_info.interval_source). */
+enum segy_interval_source {
+  SEGY_INTERVAL_BINARY = 0,        /* binary header 3217-3218 */
+  SEGY_INTERVAL_EXTENDED,          /* rev 2 binary header 3273-3280 (f64) */
+  SEGY_INTERVAL_TRACE,             /* first trace header 117-118 */
+  SEGY_INTERVAL_GIVEN              /* segy_open_opts.interval_us */
+};
+
+/* A stanza header "((...))" found in the extended textual header records or in
+ * the rev 2 data trailer records (SEG-Y rev 1 (2002) section 6, rev 2.0). */
+#define SEGY_MAX_STANZAS 16
+typedef struct segy_stanza {
+  char name[72];                   /* text between "((" and "))", blanks trimmed */
+  int record;                      /* 1-based record number within its part */
+  int trailer;                     /* 0: extended textual header, 1: data trailer */
+  int layout;                      /* 1: names a trace header layout (not applied) */
+} segy_stanza;
 
 /* What the file-level headers say, after detection and fallbacks. */
 typedef struct segy_info {
@@ -75,8 +95,16 @@ typedef struct segy_info {
   uint32_t bin_samples;            /* 3221-3222 (or 3269-3272) as stored */
   uint32_t bin_interval_us;        /* 3217-3218 (or 3273-3280) as stored */
   int fixed_length;                /* 3503-3504, or 1 when the file walk found it so */
+  uint32_t interval_us_raw;        /* 3217-3218 as stored (unsigned) */
+  int interval_source;             /* enum segy_interval_source */
   int extended_text_count;         /* 3200-byte records skipped after the binary header */
+  int extended_text_declared;      /* 3505-3506 as stored (signed), whatever was used */
   int trace_header_extensions;     /* rev 2: extra 240-byte blocks per trace */
+  int extension_count_bytes;       /* rev 2: 2 = count read from 3507-3508 (rev 2.1
+                                    * layout), 4 = from 3507-3510 as one 4-byte
+                                    * value; 0 = not a rev 2 file */
+  int64_t declared_traces;         /* rev 2 3513-3520 (0 = not given) */
+  int trailer_records;             /* rev 2 data trailer records excluded from traces */
   int16_t sorting_code;            /* 3229-3230 */
   int16_t ensemble_fold;           /* 3227-3228 */
   int16_t measurement_system;      /* 3255-3256 */
@@ -88,9 +116,11 @@ typedef struct segy_info {
   int64_t file_bytes;
   int64_t trailing_bytes;          /* bytes after the last whole trace (ignored) */
   unsigned char binary[SEGY_BINARY_BYTES]; /* binary header as read */
+  int nstanzas;                    /* stanza headers found (at most SEGY_MAX_STANZAS) */
+  segy_stanza stanzas[SEGY_MAX_STANZAS];
   /* Anomalies found while opening (not fatal): one short sentence each. */
   int nwarnings;
-  char warnings[8][160];
+  char warnings[12][200];
 } segy_info;
 
 /* A header map moves one decoded field to another byte position and width
@@ -120,6 +150,8 @@ typedef struct segy_open_opts {
   const segy_header_map *map;      /* borrowed; NULL for the standard positions */
   int allow_partial;               /* 1: a truncated last trace is ignored with a warning
                                     * instead of being an error */
+  uint32_t interval_us;            /* 0 = from the file; else the sample interval in
+                                    * microseconds, replacing the file's (1-1000000) */
 } segy_open_opts;
 
 /* Thread rule: one handle per thread; handles share nothing, so several
@@ -133,6 +165,25 @@ int segy_open(segy_file **out, const char *path, const segy_open_opts *opts, tz_
 void segy_close(segy_file *f);                         /* NULL is a no-op */
 const segy_info *segy_get_info(const segy_file *f);    /* borrowed, valid until close */
 int64_t segy_trace_count(const segy_file *f);
+
+/* The rev 2 trace header extension blocks of trace i (0-based): copies
+ * 240 * *nblocks bytes, as stored (file byte order), into out (cap bytes).
+ * *nblocks is 0 for a file without extensions. */
+int segy_extensions_read(segy_file *f, int64_t i, unsigned char *out, size_t cap,
+                         int *nblocks, tz_err *err);
+
+/* Trace header extension 1 (SEG-Y rev 2.0 (2017), the first 240-byte block
+ * after the standard header), field by index: name of our own, 1-based
+ * position within the block, width in bytes, and the value decoded from the
+ * block `ext` in byte order `order` (integers exact up to 2^53). */
+size_t segy_ext1_field_count(void);
+const char *segy_ext1_field_name(size_t i);
+int segy_ext1_field_byte(size_t i);
+int segy_ext1_field_width(size_t i);
+double segy_ext1_field_value(const unsigned char *ext, int order, size_t i);
+/* The 8-character name at bytes 233-240 of a header block, printable ASCII
+ * (EBCDIC decoded when it looks so), into out[9]. */
+void segy_block_name(const unsigned char *block, char out[9]);
 
 /* Header of trace i (0-based) without reading its samples. */
 int segy_header_read(segy_file *f, int64_t i, segy_trace_header *h, tz_err *err);

@@ -618,6 +618,7 @@ int cmd_geometry(int argc, char **argv)
       table_path = job->geometry_file;
     if (!map_path)
       map_path = job->header_map;
+    r.oo.interval_us = job->interval_us;
     if (bin <= 0 && job->bins.has_size)
       bin = job->bins.size_m;
     if (isnan(az) && job->bins.has_azimuth && job->bins.has_origin) {

@@ -44,7 +44,9 @@ static void help(void)
          "A folder is read as its *.sgy and *.segy files: one line per file and a total.\n"
          "\n"
          "options:\n"
-         "  --headers N          print the first N trace headers as a table\n"
+         "  --headers N          print the first N trace headers as a table, then their\n"
+         "                       rev 2 trace header extensions (extension 1 by field,\n"
+         "                       later blocks as raw bytes)\n"
          "  --fields LIST        columns for --headers (comma-separated field names;\n"
          "                       --fields help lists them)\n"
          "  --samples TRACE      print the samples of trace TRACE (counted from 1), or\n"
@@ -57,6 +59,9 @@ static void help(void)
          "                       {\"source_x\": {\"byte\": 181, \"width\": 4}}\n"
          "  --allow-partial      ignore a truncated last trace (with a warning) instead\n"
          "                       of failing\n"
+         "  --interval-us US     sample interval in microseconds, replacing the file's\n"
+         "                       (for files whose binary and trace headers give none\n"
+         "                       that is valid, e.g. one negative as a 16-bit value)\n"
          "  --json               print the facts as JSON: {\"files\": [...], \"total\": {...}}\n"
          "  --quiet              one line per file (no header listings)\n"
          "  -h, --help           this text\n"
@@ -71,6 +76,16 @@ static void help(void)
 static double record_ms(const segy_info *in)
 {
   return in->samples ? (in->samples - 1) * (double)in->interval_us / 1000.0 : 0;
+}
+
+static const char *interval_from(const segy_info *in)
+{
+  switch (in->interval_source) {
+  case SEGY_INTERVAL_EXTENDED: return "binary header 3273-3280";
+  case SEGY_INTERVAL_TRACE: return "first trace header 117-118";
+  case SEGY_INTERVAL_GIVEN: return "given";
+  default: return "binary header 3217-3218";
+  }
 }
 
 static const char *order_name(int o)
@@ -101,7 +116,10 @@ static const struct bin_field { int pos, width, rev2; const char *name; } bin_fi
   { 3501, 2, 0, "revision number (raw)" },
   { 3503, 2, 0, "fixed-length trace flag" },
   { 3505, 2, 0, "extended textual header records" },
-  { 3507, 4, 1, "additional trace headers" },
+  { 3507, 2, 1, "additional trace headers (rev 2.1 layout)" },
+  { 3507, 4, 1, "additional trace headers read as one 4-byte count" },
+  { 3509, 2, 1, "survey type (rev 2.1)" },
+  { 3511, 2, 1, "time basis code" },
   { 3513, 8, 1, "number of traces" },
   { 3521, 8, 1, "byte offset of first trace" },
   { 3529, 4, 1, "data trailer records" },
@@ -210,7 +228,25 @@ static cJSON *file_json(const char *path, const segy_info *in, const segy_stats 
   cJSON_AddNumberToObject(o, "revision_raw", in->revision_raw);
   cJSON_AddStringToObject(o, "text_encoding", in->text_encoding == SEGY_TEXT_ASCII ? "ascii" : "ebcdic");
   cJSON_AddNumberToObject(o, "extended_textual_headers", in->extended_text_count);
+  cJSON_AddNumberToObject(o, "extended_textual_header_count_field", in->extended_text_declared);
   cJSON_AddNumberToObject(o, "trace_header_extensions", in->trace_header_extensions);
+  if (in->extension_count_bytes)
+    cJSON_AddStringToObject(o, "trace_header_extensions_from",
+                            in->extension_count_bytes == 2 ? "3507-3508" : "3507-3510");
+  cJSON_AddNumberToObject(o, "data_trailer_records", in->trailer_records);
+  if (in->declared_traces)
+    cJSON_AddNumberToObject(o, "declared_traces", (double)in->declared_traces);
+  cJSON_AddStringToObject(o, "sample_interval_from", interval_from(in));
+  cJSON *sz = cJSON_AddArrayToObject(o, "stanzas");
+  for (int k = 0; k < in->nstanzas; k++) {
+    const segy_stanza *z = &in->stanzas[k];
+    cJSON *e = cJSON_CreateObject();
+    cJSON_AddStringToObject(e, "name", z->name);
+    cJSON_AddStringToObject(e, "part", z->trailer ? "data trailer" : "extended textual header");
+    cJSON_AddNumberToObject(e, "record", z->record);
+    cJSON_AddBoolToObject(e, "layout", z->layout);
+    cJSON_AddItemToArray(sz, e);
+  }
   cJSON_AddBoolToObject(o, "fixed_length", in->fixed_length);
   cJSON_AddNumberToObject(o, "first_trace_byte", (double)in->first_trace_offset);
   cJSON_AddNumberToObject(o, "trailing_bytes", (double)in->trailing_bytes);
@@ -278,18 +314,27 @@ static void print_text(const char *path, const segy_info *in, const segy_stats *
          in->byte_order == SEGY_ORDER_PAIRS ? " (pairs swapped)" : "");
   printf("  textual header: %s, %d extended records\n",
          in->text_encoding == SEGY_TEXT_ASCII ? "ASCII" : "EBCDIC", in->extended_text_count);
+  if (in->trailer_records)
+    printf("  data trailer: %d records\n", in->trailer_records);
+  for (int k = 0; k < in->nstanzas; k++)
+    printf("  stanza: ((%s)) in %s record %d%s\n", in->stanzas[k].name,
+           in->stanzas[k].trailer ? "data trailer" : "extended textual header",
+           in->stanzas[k].record, in->stanzas[k].layout ? " (header layout: seen, not applied)"
+                                                        : "");
   printf("  sample format: %d (%s, %d bytes per sample)\n", in->format_code,
          segy_format_name(in->format_code), in->bytes_per_sample);
   printf("  traces: %lld (%s; first trace at byte %lld", (long long)in->trace_count,
          in->fixed_length ? "fixed length" : "variable length",
          (long long)in->first_trace_offset);
   if (in->trace_header_extensions)
-    printf("; %d header extensions per trace", in->trace_header_extensions);
+    printf("; %d header extensions per trace, count from bytes %s",
+           in->trace_header_extensions,
+           in->extension_count_bytes == 4 ? "3507-3510" : "3507-3508");
   if (in->trailing_bytes)
     printf("; %lld trailing bytes ignored", (long long)in->trailing_bytes);
   printf(")\n");
   printf("  samples per trace: %u\n", in->samples);
-  printf("  sample interval: %u us\n", in->interval_us);
+  printf("  sample interval: %u us (%s)\n", in->interval_us, interval_from(in));
   printf("  record length: %.3f ms (time of the last sample after the first)\n",
          record_ms(in));
   if (st) {
@@ -357,6 +402,76 @@ static void print_line(const char *path, const segy_info *in, const segy_stats *
   printf("\n");
 }
 
+#define MAX_EXT_BYTES (3 * 1000 * SEGY_TRACE_HEADER_BYTES)
+
+/* The trace header extensions of one trace: extension 1 by field (rev 2.0
+ * trace header extension 1), later blocks as raw bytes. */
+static void print_extensions(long long trace, const unsigned char *x, int nb, int order)
+{
+  for (int b = 0; b < nb; b++) {
+    const unsigned char *blk = x + (size_t)b * SEGY_TRACE_HEADER_BYTES;
+    char name[9];
+    segy_block_name(blk, name);
+    printf("  trace %lld, extension %d%s%s%s:\n", trace, b + 1, name[0] ? " (" : "", name,
+           name[0] ? ")" : "");
+    if (b == 0) {
+      int shown = 0;
+      for (size_t k = 0; k < segy_ext1_field_count(); k++) {
+        double v = segy_ext1_field_value(blk, order, k);
+        if (v == 0)
+          continue;
+        char num[32];
+        fmt_num(num, sizeof num, v);
+        printf("    %-26s %3d-%-3d %s\n", segy_ext1_field_name(k), segy_ext1_field_byte(k),
+               segy_ext1_field_byte(k) + segy_ext1_field_width(k) - 1, num);
+        shown++;
+      }
+      printf("    (%s fields 0)\n", shown ? "other" : "all");
+      continue;
+    }
+    int any = 0;
+    for (int l = 0; l < SEGY_TRACE_HEADER_BYTES; l += 24) {
+      int nz = 0;
+      for (int k = 0; k < 24; k++)
+        nz |= blk[l + k];
+      if (!nz)
+        continue;
+      any = 1;
+      printf("    %3d:", l + 1);
+      for (int k = 0; k < 24; k++)
+        printf(" %02x", blk[l + k]);
+      printf("\n");
+    }
+    printf("    (raw bytes, 24 per line from the byte shown; %s)\n",
+           any ? "lines of zeros left out" : "all zero");
+  }
+}
+
+static cJSON *extensions_json(const unsigned char *x, int nb, int order)
+{
+  cJSON *arr = cJSON_CreateArray();
+  for (int b = 0; b < nb; b++) {
+    const unsigned char *blk = x + (size_t)b * SEGY_TRACE_HEADER_BYTES;
+    cJSON *e = cJSON_CreateObject();
+    char name[9];
+    segy_block_name(blk, name);
+    cJSON_AddNumberToObject(e, "block", b + 1);
+    cJSON_AddStringToObject(e, "name", name);
+    if (b == 0) {
+      cJSON *fl = cJSON_AddObjectToObject(e, "fields");
+      for (size_t k = 0; k < segy_ext1_field_count(); k++)
+        cJSON_AddNumberToObject(fl, segy_ext1_field_name(k), segy_ext1_field_value(blk, order, k));
+    } else {
+      char hex[2 * SEGY_TRACE_HEADER_BYTES + 1];
+      for (int k = 0; k < SEGY_TRACE_HEADER_BYTES; k++)
+        snprintf(hex + 2 * k, 3, "%02x", blk[k]);
+      cJSON_AddStringToObject(e, "hex", hex);
+    }
+    cJSON_AddItemToArray(arr, e);
+  }
+  return arr;
+}
+
 /* --headers and --samples: a second, sequential pass over the first traces. */
 static int extras(segy_file *f, const opts *o, const long *idx, size_t nidx, cJSON *fo,
                   tz_err *err)
@@ -387,6 +502,28 @@ static int extras(segy_file *f, const opts *o, const long *idx, size_t nidx, cJS
         printf(" %14s", v);
       }
       printf("\n");
+    }
+    if (in->trace_header_extensions > 0) {
+      unsigned char *x = malloc(MAX_EXT_BYTES);
+      if (!x)
+        return tz_fail(err, TZ_E_NOMEM, "trace header extensions");
+      if (!fo)
+        printf("\ntrace header extensions (extension 1 by field, later blocks raw):\n");
+      cJSON *item = arr ? arr->child : NULL;
+      for (int64_t i = 0; i < nh; i++) {
+        int nb;
+        if (segy_extensions_read(f, i, x, MAX_EXT_BYTES, &nb, err)) {
+          free(x);
+          return err->status;
+        }
+        if (item) {
+          cJSON_AddItemToObject(item, "extensions", extensions_json(x, nb, in->byte_order));
+          item = item->next;
+        } else if (!fo) {
+          print_extensions((long long)i + 1, x, nb, in->byte_order);
+        }
+      }
+      free(x);
     }
   }
   if (!o->samples_trace)
@@ -559,6 +696,7 @@ int cmd_inspect(int argc, char **argv)
     { "format", required_argument, NULL, 'f' },
     { "header-map", required_argument, NULL, 'm' },
     { "allow-partial", no_argument, NULL, 'p' },
+    { "interval-us", required_argument, NULL, 'i' },
     { "json", no_argument, NULL, 'j' },
     { "quiet", no_argument, NULL, 'q' },
     { "help", no_argument, NULL, 'h' },
@@ -612,6 +750,14 @@ int cmd_inspect(int argc, char **argv)
       break;
     case 'm': map_path = optarg; break;
     case 'p': o.open.allow_partial = 1; break;
+    case 'i':
+      if (cli_parse_i64("inspect", "--interval-us", optarg, &v))
+        return EX_USAGE;
+      if (v < 1 || v > 1000000)
+        return cli_usage_error("inspect", "--interval-us: expected 1 to 1000000 microseconds, "
+                                          "got %lld", v);
+      o.open.interval_us = (uint32_t)v;
+      break;
     case 'j': o.json = 1; break;
     case 'q': o.quiet = 1; break;
     case 'h': help(); return EX_OK;

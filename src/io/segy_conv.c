@@ -6,7 +6,7 @@
  * pass, so the common big-endian path touches each byte once.
  *
  * IBM System/360 hexadecimal floats (format 1) are converted by bit
- * manipulation (REFERENCE.md §1.7): normalise the 24-bit fraction with a
+ * manipulation (the format 1 definition of SEG-Y rev 1 (2002)): normalise the 24-bit fraction with a
  * count-leading-zeros, rebuild an IEEE single from sign, exponent and the
  * shifted fraction. Values beyond the IEEE single range become 0 and are
  * counted as bad samples, as NaN and infinite IEEE values are, so that no
@@ -309,7 +309,7 @@ int64_t segy_decode_samples(int code, int order, unsigned char *in, size_t n, fl
 /* ---- textual header ---- */
 
 /* Printable ASCII 0x20..0x7E in EBCDIC code page 037 (generated with Python's
- * codecs 'cp037'; REFERENCE.md §2). */
+ * codecs 'cp037'). */
 static const unsigned char ebcdic_of_ascii[95] = {
   0x40, 0x5a, 0x7f, 0x7b, 0x5b, 0x6c, 0x50, 0x7d, 0x4d, 0x5d, 0x5c, 0x4e, 0x6b, 0x60, 0x4b, 0x61,
   0xf0, 0xf1, 0xf2, 0xf3, 0xf4, 0xf5, 0xf6, 0xf7, 0xf8, 0xf9, 0x7a, 0x5e, 0x4c, 0x7e, 0x6e, 0x6f,
@@ -344,7 +344,7 @@ void segy_text_decode(const unsigned char *in, size_t n, int encoding, char *out
   out[n] = '\0';
 }
 
-/* REFERENCE.md §2 heuristic: whichever blank (EBCDIC 0x40, ASCII 0x20) and
+/* Common practice: whichever blank (EBCDIC 0x40, ASCII 0x20) and
  * letter/digit set dominates decides; ties go to EBCDIC, the rev 0 rule. */
 int segy_text_detect(const unsigned char *in, size_t n)
 {
@@ -361,6 +361,24 @@ int segy_text_detect(const unsigned char *in, size_t n)
       a++;
   }
   return a > e ? SEGY_TEXT_ASCII : SEGY_TEXT_EBCDIC;
+}
+
+int segy_text_likely(const unsigned char *in, size_t n)
+{
+  unsigned char ebc[256];
+  memset(ebc, 0, sizeof ebc);
+  for (int a = 0x20; a < 0x7F; a++)
+    ebc[ebcdic_of_ascii[a - 0x20]] = 1;
+  size_t used = 0, asc = 0, eb = 0;
+  for (size_t i = 0; i < n; i++) {
+    unsigned c = in[i];
+    if (!c)
+      continue;
+    used++;
+    asc += (c >= 0x20 && c < 0x7F) || c == '\r' || c == '\n' || c == '\t';
+    eb += ebc[c];
+  }
+  return used >= 16 && (asc * 10 >= used * 9 || eb * 10 >= used * 9);
 }
 
 const char *segy_format_name(int code)

@@ -1,10 +1,10 @@
 /* segy_map.c -- the trace header field table: decode, encode, header maps.
  *
  * One const table lists every decoded field with its standard byte position,
- * width and how it is scaled (REFERENCE.md §1.5, after SEG-Y rev 1 [R1]).
+ * width and how it is scaled (SEG-Y rev 1 (2002) trace header).
  * Decoding, encoding and the JSON header map all walk that table, so a field
  * is described once. A header map overrides the position and width of named
- * fields (and may mark a slot as holding an IEEE float, REFERENCE.md §5.12).
+ * fields (and may mark a slot as holding an IEEE float, as some writers store them: common practice).
  *
  * Not here: the file structure (segy_reader.c), sample conversion (segy_conv.c).
  */
@@ -338,4 +338,78 @@ double segy_field_value(const segy_trace_header *h, size_t i)
   case SEGY_K_U16: memcpy(&c, m, sizeof c); return c;
   default: memcpy(&d, m, sizeof d); return d;
   }
+}
+
+/* ---- rev 2 trace header extension 1 ---- */
+
+/* Positions and types from SEG-Y rev 2.0 (2017), trace header extension 1;
+ * the names are tzero's own. */
+enum { X_U64, X_I64, X_F64, X_U32, X_I32, X_U16, X_I16 };
+static const struct { const char *name; int byte, width, type; } ext1_fields[] = {
+  { "ext_line_seq", 1, 8, X_U64 },
+  { "ext_file_seq", 9, 8, X_U64 },
+  { "ext_field_record", 17, 8, X_I64 },
+  { "ext_cmp", 25, 8, X_I64 },
+  { "ext_receiver_elev", 33, 8, X_F64 },
+  { "receiver_depth", 41, 8, X_F64 },
+  { "ext_source_elev", 49, 8, X_F64 },
+  { "ext_source_depth", 57, 8, X_F64 },
+  { "ext_receiver_datum", 65, 8, X_F64 },
+  { "ext_source_datum", 73, 8, X_F64 },
+  { "ext_source_water_depth", 81, 8, X_F64 },
+  { "ext_receiver_water_depth", 89, 8, X_F64 },
+  { "ext_source_x", 97, 8, X_F64 },
+  { "ext_source_y", 105, 8, X_F64 },
+  { "ext_receiver_x", 113, 8, X_F64 },
+  { "ext_receiver_y", 121, 8, X_F64 },
+  { "ext_offset", 129, 8, X_F64 },
+  { "ext_samples", 137, 4, X_U32 },
+  { "nanoseconds", 141, 4, X_I32 },
+  { "ext_interval", 145, 8, X_F64 },
+  { "cable_number", 153, 4, X_I32 },
+  { "header_blocks", 157, 2, X_U16 },
+  { "last_trace_flag", 159, 2, X_I16 },
+  { "ext_cmp_x", 161, 8, X_F64 },
+  { "ext_cmp_y", 169, 8, X_F64 },
+};
+#define NEXT1 (sizeof ext1_fields / sizeof ext1_fields[0])
+
+size_t segy_ext1_field_count(void) { return NEXT1; }
+const char *segy_ext1_field_name(size_t i) { return i < NEXT1 ? ext1_fields[i].name : ""; }
+int segy_ext1_field_byte(size_t i) { return i < NEXT1 ? ext1_fields[i].byte : 0; }
+int segy_ext1_field_width(size_t i) { return i < NEXT1 ? ext1_fields[i].width : 0; }
+
+double segy_ext1_field_value(const unsigned char *ext, int order, size_t i)
+{
+  if (i >= NEXT1)
+    return 0;
+  const unsigned char *p = ext + ext1_fields[i].byte - 1;
+  switch (ext1_fields[i].type) {
+  case X_U64: return (double)segy_ld64(order, p);
+  case X_I64: return (double)u64_to_i64(segy_ld64(order, p));
+  case X_F64: {
+    double d = bits_f64(segy_ld64(order, p));
+    return isfinite(d) ? d : 0;
+  }
+  case X_U32: return segy_ld32(order, p);
+  case X_I32: return u32_to_i32(segy_ld32(order, p));
+  case X_U16: return segy_ld16(order, p);
+  default: return u16_to_i16(segy_ld16(order, p));
+  }
+}
+
+void segy_block_name(const unsigned char *block, char out[9])
+{
+  const unsigned char *p = block + 232;
+  int enc = SEGY_TEXT_ASCII;
+  for (int k = 0; k < 8; k++)
+    if (p[k] >= 0xC1)             /* EBCDIC letters and digits are 0xC1-0xF9 */
+      enc = SEGY_TEXT_EBCDIC;
+  char t[9];
+  segy_text_decode(p, 8, enc, t);
+  int end = 8;
+  while (end > 0 && t[end - 1] == ' ')
+    end--;
+  memcpy(out, t, (size_t)end);
+  out[end] = '\0';
 }

@@ -94,5 +94,9 @@ const unsigned char *segy_last_sample_bytes(const segy_file *f);
 unsigned char segy_ascii_to_ebcdic(unsigned char c);
 void segy_text_decode(const unsigned char *in, size_t n, int encoding, char *out);
 int segy_text_detect(const unsigned char *in, size_t n);
+/* 1 when n bytes read as text in ASCII or EBCDIC: at least 16 bytes other than
+ * NUL, and 90 % of those printable in one of the two (a record of extended
+ * textual header, as opposed to trace header and sample bytes). */
+int segy_text_likely(const unsigned char *in, size_t n);
 
 #endif

@@ -2,10 +2,14 @@
  *
  * segy_open() reads the 3600 bytes of file headers, detects the textual
  * header's character set and the byte order, parses the revision leniently,
- * skips extended textual headers, then settles the sample count and interval
- * (binary header first, the first trace header as fallback, REFERENCE.md
- * §5.1) and the trace count: by arithmetic for fixed-length files, by a walk
- * over the trace headers (lengths from bytes 115-116) otherwise.
+ * then settles where the traces are. The binary header may be read more than
+ * one way (extended textual records counted whatever the revision, with or
+ * without them; rev 2 extension counts of 2 or 4 bytes): each reading is
+ * tried, the file size and a spot check of trace headers decide, and the
+ * choice is reported. For each, the sample count and interval (binary
+ * header first, the first trace header as fallback, common practice) and the
+ * trace count: by arithmetic for fixed-length files, by a walk over the trace
+ * headers (lengths from bytes 115-116) otherwise.
  *
  * Traces are read through a per-handle window (allocated once at open) with
  * pread(): a sequential pass makes one large read per window and no seeks,
@@ -16,6 +20,7 @@
  * Not here: sample conversion (segy_conv.c), header fields (segy_map.c),
  * the writer (segy_writer.c).
  */
+#include <ctype.h>
 #include <errno.h>
 #include <fcntl.h>
 #include <math.h>
@@ -31,6 +36,8 @@
 #define WINDOW_BYTES (1u << 20)
 #define MAX_EXTENDED_TEXT 100000   /* 3200-byte records: over 300 MB of text is absurd */
 #define MAX_HEADER_EXTENSIONS 1000
+#define MAX_STANZA_RECORDS 256     /* records searched for stanza names */
+#define MAX_LAYOUTS 4              /* readings of the file structure tried */
 
 struct segy_file {
   int fd;
@@ -42,6 +49,8 @@ struct segy_file {
   size_t hdr_bytes;         /* 240 * (1 + ext) */
   int64_t trace_bytes;      /* fixed-length: header + samples */
   int64_t data_end;         /* end of the trace data (before rev 2 trailers) */
+  int64_t walk_end;         /* where the last walk stopped */
+  int trailers_unknown;     /* rev 2 3529-3532 = -1 with a declared trace count */
   int64_t *toff;            /* variable-length: offset of each trace, else NULL */
   uint32_t *tns;            /* variable-length: samples of each trace */
   uint16_t *tnx;            /* variable-length rev 2: header extensions of each trace */
@@ -117,7 +126,7 @@ static int detect_order(const unsigned char *bin)
     return SEGY_ORDER_LITTLE;
   if (c == 0x02010403u)
     return SEGY_ORDER_PAIRS;
-  /* No constant: the format code (3225-3226) read both ways (REFERENCE.md §5.4). */
+  /* No constant: the format code (3225-3226) read both ways (common practice). */
   int be = u16_to_i16(be16_load(bin + 24)), le = u16_to_i16(le16_load(bin + 24));
   if (segy_format_bytes(be) || be == 4)
     return SEGY_ORDER_BIG;
@@ -127,7 +136,7 @@ static int detect_order(const unsigned char *bin)
 }
 
 /* Revision 3501-3502: rev 2 major/minor bytes, rev 1 0x0100, and the odd
- * encodings seen in the wild (1, 100), REFERENCE.md §5.10. Never fatal. */
+ * encodings seen in the wild (1, 100; common practice). Never fatal. */
 static void parse_revision(segy_info *in, int order)
 {
   const unsigned char *p = in->binary + 300;
@@ -153,47 +162,95 @@ static uint16_t binu16(const segy_file *f, int pos) { return segy_ld16(f->order,
 static int32_t bin32(const segy_file *f, int pos) { return u32_to_i32(segy_ld32(f->order, f->info.binary + (pos - 3201))); }
 static uint64_t bin64(const segy_file *f, int pos) { return segy_ld64(f->order, f->info.binary + (pos - 3201)); }
 
-/* Extended textual headers: returns the count, or -1 after filling err. */
-static int extended_text(segy_file *f, tz_err *err)
+/* ---- extended textual headers and data trailers ---- */
+
+/* 1 when the record holds the ((SEG: EndText)) stanza, under either text
+ * encoding, ignoring blanks and letter case (writers vary both). */
+static int has_end_text(const unsigned char *rec)
 {
-  segy_info *in = &f->info;
-  if (in->revision_major < 1)
-    return 0;
-  int n = bin16(f, 3505);
-  if (n == 0)
-    return 0;
-  if (n > 0) {
-    if (3600 + 3200 * (int64_t)n > in->file_bytes) {
-      tz_fail_at(err, TZ_E_FORMAT, -1, 3504,
-                 "%d extended textual header records (bytes 3505-3506) do not fit in a "
-                 "%lld-byte file", n, (long long)in->file_bytes);
-      return -1;
-    }
-    return n;
+  char txt[SEGY_TEXT_BYTES + 1], flat[SEGY_TEXT_BYTES + 1];
+  for (int enc = 0; enc < 2; enc++) {
+    segy_text_decode(rec, SEGY_TEXT_BYTES, enc ? SEGY_TEXT_ASCII : SEGY_TEXT_EBCDIC, txt);
+    size_t k = 0;
+    for (const char *p = txt; *p; p++)
+      if (*p != ' ')
+        flat[k++] = (char)toupper((unsigned char)*p);
+    flat[k] = '\0';
+    if (strstr(flat, "((SEG:ENDTEXT))"))
+      return 1;
   }
-  if (n != -1) {
-    tz_fail_at(err, TZ_E_FORMAT, -1, 3504,
-               "extended textual header count %d (bytes 3505-3506) is not -1, 0 or positive", n);
-    return -1;
-  }
-  /* -1: records up to and including the one with ((SEG: EndText)). */
-  unsigned char rec[SEGY_TEXT_BYTES];
+  return 0;
+}
+
+/* Lists the stanza headers "((...))" of one 3200-byte record in in->stanzas. */
+static void list_stanzas(segy_info *in, const unsigned char *rec, int record, int trailer)
+{
   char txt[SEGY_TEXT_BYTES + 1];
+  segy_text_decode(rec, SEGY_TEXT_BYTES, segy_text_detect(rec, SEGY_TEXT_BYTES), txt);
+  for (const char *p = txt; (p = strstr(p, "((")) != NULL;) {
+    const char *q = strstr(p + 2, "))");
+    if (!q)
+      break;
+    const char *a = p + 2, *b = q;
+    while (a < b && *a == ' ')
+      a++;
+    while (b > a && b[-1] == ' ')
+      b--;
+    if (b - a < 1 || b - a >= (ptrdiff_t)sizeof in->stanzas[0].name || memchr(a, '(', (size_t)(b - a))) {
+      p += 2;                      /* not a stanza header: too long, empty or nested */
+      continue;
+    }
+    if (in->nstanzas < SEGY_MAX_STANZAS) {
+      segy_stanza *z = &in->stanzas[in->nstanzas++];
+      memcpy(z->name, a, (size_t)(b - a));
+      z->name[b - a] = '\0';
+      z->record = record;
+      z->trailer = trailer;
+      z->layout = strcasestr(z->name, "layout") != NULL ||
+                  (strcasestr(z->name, "header") && strcasestr(z->name, "map"));
+    }
+    p = q + 2;
+  }
+}
+
+/* Reads records [0, n) of 3200 bytes starting at `off` for their stanza names
+ * (at most MAX_STANZA_RECORDS of them). */
+static int scan_records(segy_file *f, int64_t off, int64_t n, int trailer, tz_err *err)
+{
+  unsigned char rec[SEGY_TEXT_BYTES];
+  for (int64_t k = 0; k < n && k < MAX_STANZA_RECORDS; k++) {
+    if (off + SEGY_TEXT_BYTES * (k + 1) > f->info.file_bytes)
+      break;
+    if (read_at(f, off + SEGY_TEXT_BYTES * k, rec, sizeof rec, -1, err))
+      return err->status;
+    list_stanzas(&f->info, rec, (int)k + 1, trailer);
+  }
+  return TZ_OK;
+}
+
+/* The variable count (-1): records up to and including the one holding
+ * ((SEG: EndText)). Returns the count, or 0 when no record holds it before
+ * the end of the file or the first record that does not read as text. */
+static int end_text_count(segy_file *f, tz_err *err)
+{
+  unsigned char rec[SEGY_TEXT_BYTES];
   for (int k = 0; k < MAX_EXTENDED_TEXT; k++) {
-    int64_t off = 3600 + 3200 * (int64_t)k;
-    if (off + 3200 > in->file_bytes)
+    int64_t off = 3600 + SEGY_TEXT_BYTES * (int64_t)k;
+    if (off + SEGY_TEXT_BYTES > f->info.file_bytes)
       break;
     if (read_at(f, off, rec, sizeof rec, -1, err))
       return -1;
-    segy_text_decode(rec, sizeof rec, segy_text_detect(rec, sizeof rec), txt);
-    if (strstr(txt, "((SEG: EndText))") || strstr(txt, "((SEG:EndText))"))
+    if (has_end_text(rec))
       return k + 1;
+    if (!segy_text_likely(rec, sizeof rec))
+      break;                     /* past the text: no end stanza (and no long scan) */
   }
-  tz_fail_at(err, TZ_E_FORMAT, -1, 3600,
-             "variable extended textual header (bytes 3505-3506 = -1) has no "
-             "((SEG: EndText)) record");
-  return -1;
+  return 0;
 }
+
+/* A sample interval read from a 16-bit field is valid when it is positive as
+ * a signed value: 32768-65535 is negative as SEG-Y rev 1 stores it (i16). */
+static int interval_valid(uint32_t v) { return v >= 1 && v <= 32767; }
 
 static int check_samples(const segy_file *f, uint32_t ns, int64_t trace, int64_t byte,
                          tz_err *err)
@@ -217,10 +274,21 @@ static uint32_t header_samples(const segy_file *f, const unsigned char *h)
   return segy_ld16(f->order, h + 114);
 }
 
-/* Walks the traces of a variable-length file. Rev 2 traces may each carry
- * fewer header extensions than the binary header's maximum: the count is in
- * extension bytes 157-158 (REFERENCE.md §1.6). */
-static int walk(segy_file *f, tz_err *err)
+static void drop_index(segy_file *f)
+{
+  free(f->toff);
+  free(f->tns);
+  free(f->tnx);
+  f->toff = NULL;
+  f->tns = NULL;
+  f->tnx = NULL;
+}
+
+/* Walks the traces of a variable-length file, at most `limit` of them (0: to
+ * the end of the trace data). Rev 2 traces may each carry fewer header
+ * extensions than the binary header's maximum: the count is in extension
+ * bytes 157-158 (SEG-Y rev 2.0, trace header extension 1). */
+static int walk(segy_file *f, int64_t limit, tz_err *err)
 {
   segy_info *in = &f->info;
   size_t cap = 0;
@@ -230,7 +298,7 @@ static int walk(segy_file *f, tz_err *err)
   int rc = TZ_OK;
   int same = 1;
   uint32_t maxns = 0;
-  while (off < f->data_end) {
+  while (off < f->data_end && (!limit || n < limit)) {
     if (f->data_end - off < (int64_t)probe) {
       rc = tz_fail_at(err, TZ_E_FORMAT, n, off,
                       "truncated trace header: %lld bytes left, a header is %zu",
@@ -293,6 +361,7 @@ static int walk(segy_file *f, tz_err *err)
   if (rc)
     return rc;
   in->trace_count = n;
+  f->walk_end = off;
   if (n && f->tns[0] != in->samples && in->samples)
     warn(in, "binary header says %u samples per trace, the first trace %u",
          in->samples, f->tns[0]);
@@ -306,16 +375,36 @@ static int walk(segy_file *f, tz_err *err)
     }
     in->fixed_length = 1;
     f->trace_bytes = (int64_t)f->hdr_bytes + (int64_t)in->samples * in->bytes_per_sample;
-    free(f->toff);
-    free(f->tns);
-    free(f->tnx);
-    f->toff = NULL;
-    f->tns = NULL;
-    f->tnx = NULL;
+    drop_index(f);
   } else {
     in->fixed_length = 0;
     warn(in, "trace lengths vary (up to %u samples)", maxns);
   }
+  return TZ_OK;
+}
+
+/* Bytes left after the traces a rev 2 file declares (3513-3520): data trailer
+ * records when their count is unknown (3529-3532 = -1) and they are whole
+ * 3200-byte records; otherwise the file does not match its binary header. */
+static int after_declared(segy_file *f, int64_t extra, int allow_partial, tz_err *err)
+{
+  segy_info *in = &f->info;
+  in->trailing_bytes = 0;
+  if (!extra)
+    return TZ_OK;
+  if (f->trailers_unknown && extra % SEGY_TEXT_BYTES == 0 &&
+      extra / SEGY_TEXT_BYTES <= MAX_EXTENDED_TEXT) {
+    in->trailer_records = (int)(extra / SEGY_TEXT_BYTES);
+    return TZ_OK;
+  }
+  in->trailing_bytes = extra;
+  if (!allow_partial)
+    return tz_fail_at(err, TZ_E_FORMAT, in->trace_count, f->data_end,
+                      "%lld bytes after the %lld traces the binary header declares (bytes "
+                      "3513-3520) are neither traces nor data trailer records",
+                      (long long)extra, (long long)in->declared_traces);
+  warn(in, "%lld bytes after the %lld traces the binary header declares (bytes 3513-3520) "
+           "ignored", (long long)extra, (long long)in->declared_traces);
   return TZ_OK;
 }
 
@@ -339,6 +428,13 @@ static int fixed_count(segy_file *f, uint32_t alt_ns, int allow_partial, tz_err 
   f->trace_bytes = tb;
   in->trace_count = body / tb;
   in->trailing_bytes = body % tb;
+  int64_t decl = in->declared_traces;
+  if (decl > 0 && decl <= in->trace_count) {
+    /* rev 2: only the declared traces belong to the data set (3513-3520) */
+    in->trace_count = decl;
+    f->data_end = in->first_trace_offset + decl * tb;
+    return after_declared(f, body - decl * tb, allow_partial, err);
+  }
   if (in->trailing_bytes) {
     int64_t at = in->first_trace_offset + in->trace_count * tb;
     if (!allow_partial)
@@ -351,77 +447,30 @@ static int fixed_count(segy_file *f, uint32_t alt_ns, int allow_partial, tz_err 
   return TZ_OK;
 }
 
-static int settle(segy_file *f, const segy_open_opts *o, tz_err *err)
+/* Settles samples per trace and the sample interval (binary header, rev 2
+ * extended fields, first trace header, the caller's interval), then the trace
+ * count, for the layout already set in f. */
+static int place(segy_file *f, const segy_open_opts *o, tz_err *err)
 {
   segy_info *in = &f->info;
   int rev2 = in->revision_major >= 2;
-
-  /* sample format */
-  int code = o && o->format_code ? o->format_code : bin16(f, 3225);
-  in->format_code = code;
-  in->bytes_per_sample = segy_format_bytes(code);
-  if (!in->bytes_per_sample || code == 4)
-    return tz_fail_at(err, TZ_E_FORMAT, -1, 3224,
-                      "unknown sample format code %d (bytes 3225-3226)%s", code,
-                      code == 4 ? ": fixed point with gain is obsolete and not read" : "");
-
-  /* header blocks */
-  in->sorting_code = bin16(f, 3229);
-  in->ensemble_fold = bin16(f, 3227);
-  in->measurement_system = bin16(f, 3255);
-  in->job_id = bin32(f, 3201);
-  in->line_no = bin32(f, 3205);
-  in->reel_no = bin32(f, 3209);
-  in->traces_per_ensemble = bin16(f, 3213);
-  in->aux_per_ensemble = bin16(f, 3215);
-  if (rev2) {
-    int32_t k = bin32(f, 3507);
-    if (k < 0 || k > MAX_HEADER_EXTENSIONS)
-      return tz_fail_at(err, TZ_E_FORMAT, -1, 3506,
-                        "%d trace header extensions (bytes 3507-3510) is out of range", k);
-    f->ext = k;
-    if (bin32(f, 3293))
-      in->ensemble_fold = (int16_t)bin32(f, 3293);
-  }
-  in->trace_header_extensions = f->ext;
   f->hdr_bytes = SEGY_TRACE_HEADER_BYTES * (size_t)(1 + f->ext);
-
-  /* where the traces start and end */
-  int next = extended_text(f, err);
-  if (next < 0)
-    return err->status;
-  in->extended_text_count = next;
-  in->first_trace_offset = 3600 + 3200 * (int64_t)next;
-  f->data_end = in->file_bytes;
-  if (rev2) {
-    uint64_t first = bin64(f, 3521);
-    if (first) {
-      if (first < 3600 || first > (uint64_t)in->file_bytes)
-        return tz_fail_at(err, TZ_E_FORMAT, -1, 3520,
-                          "first trace offset %llu (bytes 3521-3528) is outside the file",
-                          (unsigned long long)first);
-      in->first_trace_offset = (int64_t)first;
-    }
-    int32_t m = bin32(f, 3529);
-    if (m > 0) {
-      if (in->first_trace_offset + 3200 * (int64_t)m > in->file_bytes)
-        return tz_fail_at(err, TZ_E_FORMAT, -1, 3528,
-                          "%d data trailer records (bytes 3529-3532) do not fit in the file", m);
-      f->data_end = in->file_bytes - 3200 * (int64_t)m;
-    } else if (m < 0) {
-      warn(in, "data trailer count unknown (bytes 3529-3532 = %d); none assumed", m);
-    }
-  }
+  in->trace_header_extensions = f->ext;
 
   /* samples and interval: binary header, rev 2 extended fields, first trace */
   in->bin_samples = binu16(f, 3221);
-  in->bin_interval_us = binu16(f, 3217);
+  in->interval_us_raw = binu16(f, 3217);
+  in->bin_interval_us = in->interval_us_raw;
+  in->interval_source = SEGY_INTERVAL_BINARY;
   if (rev2 && bin32(f, 3269) > 0)
     in->bin_samples = (uint32_t)bin32(f, 3269);
+  int ext_dt = 0;
   if (rev2) {
     double dt = bits_f64(bin64(f, 3273));
-    if (isfinite(dt) && dt > 0 && dt < 4e9)
+    if (isfinite(dt) && dt > 0 && dt < 4e9) {
       in->bin_interval_us = (uint32_t)nearbyint(dt);
+      ext_dt = in->bin_interval_us > 0;
+    }
   }
   uint32_t tr_ns = 0, tr_dt = 0;
   unsigned char h0[SEGY_TRACE_HEADER_BYTES * 2];
@@ -438,28 +487,61 @@ static int settle(segy_file *f, const segy_open_opts *o, tz_err *err)
     tr_dt = segy_ld16(f->order, h0 + 116);
   }
   in->samples = in->bin_samples ? in->bin_samples : tr_ns;
-  in->interval_us = in->bin_interval_us ? in->bin_interval_us : tr_dt;
   if (!in->samples)
     return tz_fail_at(err, TZ_E_FORMAT, have_first ? 0 : -1,
                       have_first ? in->first_trace_offset + 114 : 3220,
                       "samples per trace is 0 in the binary header (bytes 3221-3222)%s",
                       have_first ? " and in the first trace header (bytes 115-116)" :
                                    " and there is no trace to fall back on");
-  if (!in->interval_us)
+  int bin_ok = ext_dt || interval_valid(in->bin_interval_us);
+  uint32_t given = o ? o->interval_us : 0;
+  if (given) {
+    in->interval_us = given;
+    in->interval_source = SEGY_INTERVAL_GIVEN;
+    uint32_t file_dt = bin_ok ? in->bin_interval_us : interval_valid(tr_dt) ? tr_dt : 0;
+    if (file_dt && file_dt != given)
+      warn(in, "sample interval %u us given; the file says %u us (ignored)", given, file_dt);
+  } else if (bin_ok) {
+    in->interval_us = in->bin_interval_us;
+    in->interval_source = ext_dt ? SEGY_INTERVAL_EXTENDED : SEGY_INTERVAL_BINARY;
+  } else if (interval_valid(tr_dt)) {
+    in->interval_us = tr_dt;
+    in->interval_source = SEGY_INTERVAL_TRACE;
+  } else {
+    char bin[96], tr[96];
+    if (in->bin_interval_us)
+      snprintf(bin, sizeof bin, "%u (invalid: %d as a signed 16-bit value)",
+               in->bin_interval_us, (int)u16_to_i16((uint16_t)in->bin_interval_us));
+    else
+      snprintf(bin, sizeof bin, "0");
+    if (!have_first)
+      snprintf(tr, sizeof tr, "there is no trace to fall back on");
+    else if (tr_dt)
+      snprintf(tr, sizeof tr, "the first trace header (bytes 117-118) %u (invalid: %d as a "
+               "signed 16-bit value)", tr_dt, (int)u16_to_i16((uint16_t)tr_dt));
+    else
+      snprintf(tr, sizeof tr, "the first trace header (bytes 117-118) 0");
     return tz_fail_at(err, TZ_E_FORMAT, have_first ? 0 : -1,
                       have_first ? in->first_trace_offset + 116 : 3216,
-                      "sample interval is 0 in the binary header (bytes 3217-3218)%s",
-                      have_first ? " and in the first trace header (bytes 117-118)" :
-                                   " and there is no trace to fall back on");
+                      "no valid sample interval: the binary header (bytes 3217-3218) gives "
+                      "%s, %s; give it with --interval-us or the job key \"interval_us\"",
+                      bin, tr);
+  }
   if (check_samples(f, in->samples, -1, 3220, err))
     return err->status;
   if (!in->bin_samples)
     warn(in, "binary header samples per trace is 0; using the first trace's %u", tr_ns);
-  if (!in->bin_interval_us)
-    warn(in, "binary header sample interval is 0; using the first trace's %u us", tr_dt);
-  if (in->bin_interval_us && tr_dt && tr_dt != in->bin_interval_us)
-    warn(in, "binary header says %u us sample interval, the first trace %u us",
-         in->bin_interval_us, tr_dt);
+  if (in->interval_source == SEGY_INTERVAL_TRACE) {
+    if (in->bin_interval_us)
+      warn(in, "binary header sample interval %u us (bytes 3217-3218) is invalid (%d as a "
+               "signed 16-bit value); using the first trace's %u us", in->bin_interval_us,
+           (int)u16_to_i16((uint16_t)in->bin_interval_us), tr_dt);
+    else
+      warn(in, "binary header sample interval is 0; using the first trace's %u us", tr_dt);
+  }
+  if (bin_ok && tr_dt && tr_dt != in->bin_interval_us)
+    warn(in, "binary header says %u us sample interval, the first trace %u us%s",
+         in->bin_interval_us, tr_dt, interval_valid(tr_dt) ? "" : " (invalid)");
   if (in->interval_us < 10)
     warn(in, "sample interval %u us is implausibly small (milliseconds written as "
              "microseconds?)", in->interval_us);
@@ -468,6 +550,7 @@ static int settle(segy_file *f, const segy_open_opts *o, tz_err *err)
   /* trace count */
   int fixed = in->revision_major >= 1 && bin16(f, 3503) == 1;
   int allow_partial = o && o->allow_partial;
+  int rc;
   if (fixed) {
     in->fixed_length = 1;
     if (in->bin_samples && tr_ns && tr_ns != in->bin_samples &&
@@ -475,30 +558,340 @@ static int settle(segy_file *f, const segy_open_opts *o, tz_err *err)
             ((int64_t)f->hdr_bytes + (int64_t)in->samples * in->bytes_per_sample) == 0)
       warn(in, "binary header says %u samples per trace, the first trace %u",
            in->bin_samples, tr_ns);
-    return fixed_count(f, tr_ns, allow_partial, err);
+    rc = fixed_count(f, tr_ns, allow_partial, err);
+  } else {
+    tz_err werr;
+    tz_err_init(&werr);
+    rc = walk(f, in->declared_traces, &werr);
+    if (rc == TZ_OK) {
+      if (f->walk_end < f->data_end) {         /* stopped at the declared count */
+        int64_t extra = f->data_end - f->walk_end;
+        f->data_end = f->walk_end;
+        rc = after_declared(f, extra, allow_partial, err);
+      }
+    } else {
+      /* Rev 0 trace headers are often unreliable: fall back on the binary header
+       * when it accounts for the file size exactly. */
+      int64_t tb = (int64_t)f->hdr_bytes + (int64_t)in->samples * in->bytes_per_sample;
+      if (werr.status == TZ_E_FORMAT && (f->data_end - in->first_trace_offset) % tb == 0) {
+        drop_index(f);
+        f->check_ns = 0;
+        warn(in, "trace header sample counts are inconsistent; using %u samples per trace "
+                 "from the binary header", in->samples);
+        in->fixed_length = 1;
+        rc = fixed_count(f, 0, allow_partial, err);
+      } else {
+        *err = werr;
+        rc = err->status;
+      }
+    }
   }
-  tz_err werr;
-  tz_err_init(&werr);
-  if (walk(f, &werr) == TZ_OK)
-    return TZ_OK;
-  /* Rev 0 trace headers are often unreliable: fall back on the binary header
-   * when it accounts for the file size exactly. */
-  int64_t tb = (int64_t)f->hdr_bytes + (int64_t)in->samples * in->bytes_per_sample;
-  if (werr.status == TZ_E_FORMAT && (f->data_end - in->first_trace_offset) % tb == 0) {
-    free(f->toff);
-    free(f->tns);
-    free(f->tnx);
-    f->toff = NULL;
-    f->tns = NULL;
-    f->tnx = NULL;
-    f->check_ns = 0;
-    warn(in, "trace header sample counts are inconsistent; using %u samples per trace "
-             "from the binary header", in->samples);
-    in->fixed_length = 1;
-    return fixed_count(f, 0, allow_partial, err);
+  if (rc)
+    return rc;
+  int64_t decl = in->declared_traces;
+  if (decl > 0 && decl > in->trace_count) {
+    if (!allow_partial)
+      return tz_fail_at(err, TZ_E_FORMAT, in->trace_count, f->data_end,
+                        "binary header declares %lld traces (bytes 3513-3520), the file "
+                        "holds %lld (truncated)", (long long)decl, (long long)in->trace_count);
+    warn(in, "binary header declares %lld traces (bytes 3513-3520), the file holds %lld",
+         (long long)decl, (long long)in->trace_count);
   }
-  *err = werr;
-  return err->status;
+  return TZ_OK;
+}
+
+/* One reading of where the traces are: the candidates settle() tries. */
+typedef struct layout {
+  int next;              /* extended textual header records */
+  int64_t first;         /* byte offset of the first trace header */
+  int ext;               /* trace header extensions per trace */
+  int ext_bytes;         /* rev 2: 2 (3507-3508) or 4 (3507-3510); else 0 */
+} layout;
+
+/* Resets what place() sets, so that another layout can be tried. */
+static void unplace(segy_file *f, const segy_info *saved)
+{
+  drop_index(f);
+  f->info = *saved;
+  f->trace_bytes = 0;
+  f->walk_end = 0;
+  f->check_ns = 0;
+}
+
+static int try_layout(segy_file *f, const segy_open_opts *o, const layout *l, int64_t data_end,
+                      tz_err *err)
+{
+  segy_info *in = &f->info;
+  in->extended_text_count = l->next;
+  in->first_trace_offset = l->first;
+  in->extension_count_bytes = l->ext_bytes;
+  f->ext = l->ext;
+  f->data_end = data_end;
+  if (l->first > data_end)
+    return tz_fail_at(err, TZ_E_FORMAT, -1, data_end,
+                      "the first trace would start at byte %lld, past the end of the trace "
+                      "data (byte %lld)", (long long)l->first, (long long)data_end);
+  return place(f, o, err);
+}
+
+/* Spot check of a fixed-length reading: the headers of the second and the last
+ * trace, where this reading puts them, should give the file's sample count and
+ * interval (or 0), and extension 1 a sample count and block count that agree.
+ * Under a wrong reading they land in sample bytes. Returns the misfits. */
+static int spot_check(segy_file *f)
+{
+  const segy_info *in = &f->info;
+  if (f->toff || in->trace_count < 2)
+    return 0;
+  int bad = 0;
+  int64_t idx[2] = { 1, in->trace_count - 1 };
+  for (int k = 0; k < 2; k++) {
+    if (k && idx[1] == idx[0])
+      break;
+    unsigned char h[2 * SEGY_TRACE_HEADER_BYTES];
+    size_t nb = f->ext > 0 ? sizeof h : SEGY_TRACE_HEADER_BYTES;
+    tz_err e;
+    tz_err_init(&e);
+    if (read_at(f, in->first_trace_offset + idx[k] * f->trace_bytes, h, nb, idx[k], &e)) {
+      bad += 10;
+      continue;
+    }
+    uint32_t ns = segy_ld16(f->order, h + 114), dt = segy_ld16(f->order, h + 116);
+    bad += ns && ns != in->samples && ns != (in->samples & 0xFFFF);
+    bad += dt && dt != in->interval_us && dt != in->interval_us_raw;
+    if (f->ext > 0) {
+      uint32_t xs = segy_ld32(f->order, h + 240 + 136);
+      int blocks = segy_ld16(f->order, h + 240 + 156);
+      bad += xs && xs != in->samples;
+      bad += blocks > f->ext;
+    }
+  }
+  return bad;
+}
+
+/* How well a layout reads the file: lower is better; anomalies found while
+ * reading with it (headers disagreeing, bytes left over) count against it. */
+static int layout_cost(segy_file *f, int nwarn0)
+{
+  const segy_info *in = &f->info;
+  return (in->nwarnings - nwarn0) + (in->trailing_bytes ? 10 : 0) +
+         (in->declared_traces && in->declared_traces != in->trace_count ? 10 : 0) +
+         spot_check(f);
+}
+
+static int settle(segy_file *f, const segy_open_opts *o, tz_err *err)
+{
+  segy_info *in = &f->info;
+  int rev2 = in->revision_major >= 2;
+
+  /* sample format */
+  int code = o && o->format_code ? o->format_code : bin16(f, 3225);
+  in->format_code = code;
+  in->bytes_per_sample = segy_format_bytes(code);
+  if (code == 4)
+    return tz_fail_at(err, TZ_E_FORMAT, -1, 3224,
+                      "unknown sample format code 4 (bytes 3225-3226): the obsolete 4-byte "
+                      "fixed point with gain of SEG-Y rev 0 is not read; if the samples are "
+                      "in another format, give its code (inspect --format)");
+  if (!in->bytes_per_sample)
+    return tz_fail_at(err, TZ_E_FORMAT, -1, 3224,
+                      "unknown sample format code %d (bytes 3225-3226)", code);
+
+  /* header blocks */
+  in->sorting_code = bin16(f, 3229);
+  in->ensemble_fold = bin16(f, 3227);
+  in->measurement_system = bin16(f, 3255);
+  in->job_id = bin32(f, 3201);
+  in->line_no = bin32(f, 3205);
+  in->reel_no = bin32(f, 3209);
+  in->traces_per_ensemble = bin16(f, 3213);
+  in->aux_per_ensemble = bin16(f, 3215);
+  if (rev2 && bin32(f, 3293))
+    in->ensemble_fold = (int16_t)bin32(f, 3293);
+
+  /* Trace header extensions (rev 2): the rev 2.1 layout has a 2-byte count at
+   * 3507-3508 (3509-3510 survey type); earlier writers put one 4-byte count at
+   * 3507-3510. Both readings are tried, the 2-byte one first. */
+  int next_n = 0, ext_v[2] = { 0, 0 }, ext_w[2] = { 0, 0 };
+  if (rev2) {
+    int a = binu16(f, 3507);
+    int64_t b = bin32(f, 3507);
+    if (a <= MAX_HEADER_EXTENSIONS) {
+      ext_v[next_n] = a;
+      ext_w[next_n++] = 2;
+    }
+    if (b != a && b >= 0 && b <= MAX_HEADER_EXTENSIONS) {
+      ext_v[next_n] = (int)b;
+      ext_w[next_n++] = 4;
+    }
+    if (!next_n)
+      return tz_fail_at(err, TZ_E_FORMAT, -1, 3506,
+                        "additional trace headers: %d (bytes 3507-3508) and %lld (bytes "
+                        "3507-3510 as one count) are both beyond the limit of %d", a,
+                        (long long)b, MAX_HEADER_EXTENSIONS);
+  } else {
+    next_n = 1;
+  }
+
+  /* Rev 2 data trailer records (3529-3532) and trace count (3513-3520). */
+  int64_t data_end = in->file_bytes;
+  int trailers = 0;
+  if (rev2) {
+    uint64_t decl = bin64(f, 3513);
+    in->declared_traces = decl > (uint64_t)in->file_bytes ? -1 : (int64_t)decl;
+    if (in->declared_traces < 0)
+      return tz_fail_at(err, TZ_E_FORMAT, -1, 3512,
+                        "binary header declares %llu traces (bytes 3513-3520), more than "
+                        "the %lld-byte file can hold", (unsigned long long)decl,
+                        (long long)in->file_bytes);
+    int32_t m = bin32(f, 3529);
+    if (m > 0) {
+      if (3600 + SEGY_TEXT_BYTES * (int64_t)m > in->file_bytes)
+        return tz_fail_at(err, TZ_E_FORMAT, -1, 3528,
+                          "%d data trailer records (bytes 3529-3532) do not fit in the file", m);
+      trailers = m;
+      data_end = in->file_bytes - SEGY_TEXT_BYTES * (int64_t)m;
+    } else if (m < 0 && !in->declared_traces) {
+      warn(in, "data trailer count unknown (bytes 3529-3532 = %d); none assumed", m);
+    } else if (m == -1) {
+      f->trailers_unknown = 1;
+    }
+  }
+  in->trailer_records = trailers;
+
+  /* Extended textual headers (3505-3506), read whatever the revision says:
+   * many writers fill the count and leave the revision at 0. Two readings,
+   * with and without the records; the file size decides. */
+  int n = bin16(f, 3505);
+  in->extended_text_declared = n;
+  int with = -1;                       /* records under the "with" reading, -1 none */
+  tz_err pending;                      /* why the count cannot be right, if it cannot */
+  tz_err_init(&pending);
+  uint64_t first = rev2 ? bin64(f, 3521) : 0;
+  layout cand[MAX_LAYOUTS];
+  int ncand = 0;
+  int64_t firsts[2];
+  int nexts[2], nt = 0;
+  if (first) {
+    if (first < 3600 || first > (uint64_t)data_end)
+      return tz_fail_at(err, TZ_E_FORMAT, -1, 3520,
+                        "first trace offset %llu (bytes 3521-3528) is outside the file",
+                        (unsigned long long)first);
+    firsts[nt] = (int64_t)first;
+    nexts[nt++] = (int)(((int64_t)first - 3600) / SEGY_TEXT_BYTES);
+  } else {
+    if (n > 0) {
+      if (3600 + SEGY_TEXT_BYTES * (int64_t)n <= data_end)
+        with = n;
+      else
+        tz_fail_at(&pending, TZ_E_FORMAT, -1, 3504,
+                   "%d extended textual header records (bytes 3505-3506) do not fit in a "
+                   "%lld-byte file", n, (long long)in->file_bytes);
+    } else if (n == -1) {
+      int k = end_text_count(f, err);
+      if (k < 0)
+        return err->status;
+      if (k)
+        with = k;
+      else
+        tz_fail_at(&pending, TZ_E_FORMAT, -1, 3600,
+                   "variable extended textual header (bytes 3505-3506 = -1) has no "
+                   "((SEG: EndText)) record");
+    } else if (n < -1) {
+      tz_fail_at(&pending, TZ_E_FORMAT, -1, 3504,
+                 "extended textual header count %d (bytes 3505-3506) is not -1, 0 or "
+                 "positive", n);
+    }
+    /* Without the records the bytes after the binary header would be a trace;
+     * a record that reads as text is not one. */
+    unsigned char rec[SEGY_TEXT_BYTES];
+    int textual = 0;
+    if (n && 3600 + SEGY_TEXT_BYTES <= in->file_bytes) {
+      if (read_at(f, 3600, rec, sizeof rec, -1, err))
+        return err->status;
+      textual = segy_text_likely(rec, sizeof rec);
+    }
+    int without_first = with > 0 && in->revision_major == 0 && !textual;
+    if (with > 0 && !without_first) {
+      firsts[nt] = 3600 + SEGY_TEXT_BYTES * (int64_t)with;
+      nexts[nt++] = with;
+    }
+    if (!textual || n == 0) {
+      firsts[nt] = 3600;
+      nexts[nt++] = 0;
+    }
+    if (without_first) {
+      firsts[nt] = 3600 + SEGY_TEXT_BYTES * (int64_t)with;
+      nexts[nt++] = with;
+    }
+    /* -1 with no end stanza, or a count the file cannot hold, in rev 1 or
+     * later: the count is wrong and no reading is safe. */
+    if (pending.status && in->revision_major >= 1 && n == -1) {
+      *err = pending;
+      return err->status;
+    }
+  }
+  for (int t = 0; t < nt; t++)
+    for (int e = 0; e < next_n; e++)
+      cand[ncand++] = (layout){ nexts[t], firsts[t], ext_v[e], ext_w[e] };
+
+  /* Try each reading; keep the cheapest that reads the file, the first on ties. */
+  segy_info saved = *in;
+  int best = -1, best_cost = 0;
+  for (int c = 0; c < ncand; c++) {
+    tz_err terr;
+    tz_err_init(&terr);
+    int rc = try_layout(f, o, &cand[c], data_end, &terr);
+    int cost = rc ? -1 : layout_cost(f, saved.nwarnings);
+    unplace(f, &saved);
+    if (!rc && (best < 0 || cost < best_cost)) {
+      best = c;
+      best_cost = cost;
+    }
+    if (!rc && !cost)
+      break;
+  }
+  if (best < 0) {
+    if (pending.status && (in->revision_major >= 1 || n == -1 || !ncand)) {
+      *err = pending;
+      return err->status;
+    }
+    return try_layout(f, o, &cand[0], data_end, err);   /* its error */
+  }
+  const layout *l = &cand[best];
+  int rc = try_layout(f, o, l, data_end, err);
+  if (rc)
+    return rc;
+
+  /* Say what was chosen where the file left a choice. */
+  if (!first && l->next && in->revision_major == 0)
+    warn(in, "revision 0 file with %d extended textual header records (bytes 3505-3506 = "
+             "%d): read, as the file size fits", l->next, n);
+  else if (!first && !l->next && n)
+    warn(in, "extended textual header count %d (bytes 3505-3506) ignored: the file reads "
+             "as whole traces only without such records", n);
+  if (rev2 && l->ext_bytes == 4)
+    warn(in, "additional trace headers: %d, read from bytes 3507-3510 as one 4-byte count "
+             "(bytes 3507-3508 alone give %d, which does not fit the file size)", l->ext,
+         binu16(f, 3507));
+  if (f->trailers_unknown && in->trailer_records)
+    warn(in, "data trailer count unknown (bytes 3529-3532 = -1): the %d records after the "
+             "declared traces taken as trailer", in->trailer_records);
+  trailers = in->trailer_records;
+
+  /* Stanza names, from the records read and from the trailers. */
+  if (l->next && scan_records(f, 3600, l->next, 0, err))
+    return err->status;
+  if (trailers && scan_records(f, in->file_bytes - SEGY_TEXT_BYTES * (int64_t)trailers,
+                               trailers, 1, err))
+    return err->status;
+  for (int k = 0; k < in->nstanzas; k++)
+    if (in->stanzas[k].layout)
+      warn(in, "%s record %d holds a header layout stanza ((%s)): seen, not applied "
+               "(fields are read at their standard bytes; --header-map moves them)",
+           in->stanzas[k].trailer ? "data trailer" : "extended textual header",
+           in->stanzas[k].record, in->stanzas[k].name);
+  return TZ_OK;
 }
 
 int segy_open(segy_file **out, const char *path, const segy_open_opts *o, tz_err *err)
@@ -535,16 +928,17 @@ int segy_open(segy_file **out, const char *path, const segy_open_opts *o, tz_err
   f->order = o && o->byte_order ? o->byte_order : detect_order(in->binary);
   in->byte_order = f->order;
   parse_revision(in, f->order);
+  if (o && o->interval_us > 1000000u) {
+    rc = tz_fail(err, TZ_E_ARG, "sample interval %u us given is beyond 1000000 us",
+                 o->interval_us);
+    goto fail;
+  }
   if (o && o->map) {
     f->map = *o->map;
     f->has_map = 1;
   }
   if ((rc = settle(f, o, err)))
     goto fail;
-  uint64_t declared = in->revision_major >= 2 ? bin64(f, 3513) : 0;
-  if (declared && declared != (uint64_t)in->trace_count)
-    warn(in, "binary header declares %llu traces (bytes 3513-3520), the file holds %lld",
-         (unsigned long long)declared, (long long)in->trace_count);
   size_t need = f->hdr_bytes + (size_t)in->samples * (size_t)in->bytes_per_sample;
   f->wincap = need > WINDOW_BYTES ? need : WINDOW_BYTES;
   f->win = malloc(f->wincap);
@@ -620,7 +1014,7 @@ static int finish_header(segy_file *f, int64_t i, int64_t off, const unsigned ch
                       "fixed-length file of %u", stored, ns);
   }
   h->samples = ns;
-  if (!h->interval_us)
+  if (!interval_valid(h->interval_us) || f->info.interval_source == SEGY_INTERVAL_GIVEN)
     h->interval_us = f->info.interval_us;
   return TZ_OK;
 }
@@ -674,6 +1068,25 @@ int segy_trace_read(segy_file *f, int64_t i, segy_trace_header *h, float *sample
   }
   f->bad += segy_decode_samples(f->info.format_code, f->order, s, ns, samples);
   f->last = s;
+  return TZ_OK;
+}
+
+int segy_extensions_read(segy_file *f, int64_t i, unsigned char *out, size_t cap,
+                         int *nblocks, tz_err *err)
+{
+  *nblocks = 0;
+  if (check_index(f, i, err))
+    return tz_err_path(err, f->path);
+  size_t hb = trace_header_bytes(f, i);
+  size_t nb = hb - SEGY_TRACE_HEADER_BYTES;
+  if (!nb)
+    return TZ_OK;
+  if (cap < nb)
+    return tz_fail_at(err, TZ_E_ARG, i, -1, "buffer of %zu bytes is too small for %zu bytes "
+                      "of trace header extensions", cap, nb);
+  if (read_at(f, trace_offset(f, i) + SEGY_TRACE_HEADER_BYTES, out, nb, i, err))
+    return tz_err_path(err, f->path);
+  *nblocks = (int)(nb / SEGY_TRACE_HEADER_BYTES);
   return TZ_OK;
 }
 

@@ -1,6 +1,6 @@
 /* segy_scan.c -- one pass over a SEG-Y file for the facts `tzero inspect`
  * prints: header value ranges, record and channel counts, dead traces,
- * amplitude statistics and anomalies (REFERENCE.md §5 pitfalls).
+ * amplitude statistics and anomalies (pitfalls known from common practice).
  *
  * The pass reads traces in file order, so it streams through the read
  * window without seeking; without samples it reads only the headers.
@@ -80,7 +80,7 @@ int segy_scan(segy_file *f, int with_samples, segy_stats *st, tz_err *err)
   st->amp_min = INFINITY;
   st->amp_max = -INFINITY;
   int rev0_private = 0;
-  int64_t ibm_nonzero = 0, ibm_unnormal = 0;   /* REFERENCE.md §5.3 wrong-format tell */
+  int64_t ibm_nonzero = 0, ibm_unnormal = 0;   /* wrong-format tell (common practice) */
   for (int64_t i = 0; i < n; i++) {
     segy_trace_header h;
     rc = with_samples ? segy_trace_read(f, i, &h, s, in->samples, err)

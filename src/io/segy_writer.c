@@ -4,9 +4,9 @@
  * The file is written under a temporary name (fileio.h) and appears at its
  * path only when segy_writer_finish() succeeds. The textual header is EBCDIC
  * with our own card content, cards 39-40 as the standard recommends
- * (REFERENCE.md §2). The binary header carries interval, samples, format,
+ * (IBM code page 037). The binary header carries interval, samples, format,
  * sorting code, ensemble fold, measurement system, revision and the
- * fixed-length flag (REFERENCE.md §1.3). Trace headers are encoded from
+ * fixed-length flag (SEG-Y rev 1 (2002) binary header). Trace headers are encoded from
  * segy_trace_header by segy_header_encode() (segy_map.c).
  *
  * Not here: reading (segy_reader.c).

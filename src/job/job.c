@@ -708,7 +708,7 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
   static const char *const keys[] = { "name", "shots", "geometry", "header_map", "bins",
                                       "velocity", "moveout", "mute", "selection", "output",
                                       "conditioning", "limits", "threads", "skip_bad_files",
-                                      NULL };
+                                      "interval_us", NULL };
   int rc;
   if (!cJSON_IsObject(root))
     return tz_fail(err, TZ_E_JOB, "$: expected an object, got %s", json_doc_kind_name(root));
@@ -756,6 +756,12 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
     if ((rc = json_doc_int(e, "$.threads", 0, JOB_MAX_THREADS, &t, TZ_E_JOB, err)))
       return rc;
     j->threads = (int)t;
+  }
+  if ((e = ITEM(root, "interval_us"))) {
+    int64_t t;
+    if ((rc = get_int(e, "$.interval_us", 1, 1000000, &t, err)))
+      return rc;
+    j->interval_us = (uint32_t)t;
   }
   if ((e = ITEM(root, "skip_bad_files")) &&
       (rc = json_doc_bool(e, "$.skip_bad_files", &j->skip_bad_files, TZ_E_JOB, err)))
@@ -1027,6 +1033,8 @@ int job_to_json(const job_spec *j, char **out, tz_err *err)
                            j->geometry_file);
     }
     bad |= add_str(r, "header_map", j->header_map);
+    if (j->interval_us)
+      cJSON_AddNumberToObject(r, "interval_us", j->interval_us);
     o = cJSON_AddObjectToObject(r, "bins");
     if (o) {
       /* null = "fitted / derived at run time"; the report's geometry block has the values */

@@ -59,6 +59,7 @@ int stack_open_input(const stack_plan *p, size_t i, segy_file **f, tz_err *err)
   segy_open_opts o;
   memset(&o, 0, sizeof o);
   o.map = p->has_map ? &p->map : NULL;
+  o.interval_us = p->job ? p->job->interval_us : 0;
   int rc = segy_open(f, p->inputs[i].path, &o, err);
   if (rc)
     tz_err_path(err, p->inputs[i].path);

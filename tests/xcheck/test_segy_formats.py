@@ -171,10 +171,31 @@ path = os.path.join(WORK, "rev2_count.sgy")
 raw = bytearray(segygen.write(path, rev=2, traces=trs))
 raw[3512:3520] = (5).to_bytes(8, "big")
 open(path, "wb").write(raw)
-j = inspect(path)
+p = run("inspect", "--quiet", path, check=False)
+ok(p.returncode == 65 and "declares 5 traces (bytes 3513-3520), the file holds 2 (truncated)"
+   in p.stderr, "rev 2: a file holding fewer traces than 3513-3520 declares is truncated (65)",
+   p.stderr)
+j = inspect(path, "--allow-partial")
 ok(j is not None and j["traces"] == 2
    and any("declares 5 traces (bytes 3513-3520)" in a for a in j["anomalies"]),
-   "rev 2: a trace count (3513-3520) that disagrees with the file is reported")
+   "rev 2: --allow-partial reads the traces present and reports the declared count")
+raw[3512:3520] = (1).to_bytes(8, "big")
+open(path, "wb").write(raw)
+p = run("inspect", "--quiet", path, check=False)
+ok(p.returncode == 65 and "272 bytes after the 1 traces the binary header declares" in p.stderr,
+   "rev 2: bytes beyond the declared traces that are not trailer records: 65", p.stderr)
+j = inspect(path, "--allow-partial")
+ok(j is not None and j["traces"] == 1,
+   "rev 2: --allow-partial reads only the declared traces (3513-3520)")
+raw[3528:3532] = (-1).to_bytes(4, "big", signed=True)     # trailer count unknown
+raw += segygen.stanza_record(["((INVENTED: Notes ver 1.0))"])
+raw[3512:3520] = (2).to_bytes(8, "big")
+open(path, "wb").write(raw)
+j = inspect(path)
+ok(j is not None and j["traces"] == 2 and j["data_trailer_records"] == 1
+   and [s["name"] for s in j["stanzas"]] == ["INVENTED: Notes ver 1.0"],
+   "rev 2: trailer count -1 (3529-3532): the record after the declared traces is a trailer",
+   json.dumps(j and [j["traces"], j["data_trailer_records"], j["stanzas"]]))
 path = os.path.join(WORK, "rev2_trailer.sgy")
 segygen.write(path, rev=2, trailers=2, traces=trs)
 j = inspect(path)

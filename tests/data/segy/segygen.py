@@ -86,11 +86,66 @@ def trace_header(fields, order):
     return bytes(h)
 
 
+def ext_block(i, k, ns, nblk, order):
+    """Trace header extension block k (0-based) of trace i: extension 1 per SEG-Y
+    rev 2.0 (2017) trace header extension 1, later blocks private bytes."""
+    ext = bytearray(240)
+    if k == 0:
+        ext[0:8] = pack("Q", i + 1, order)            # extension 1-8: sequence in line
+        ext[96:104] = pack("d", 1000.5 + i, order)    # 97-104: source X (f64)
+        ext[136:140] = pack("I", ns, order)           # 137-140: samples in this trace
+        ext[156:158] = pack("H", nblk, order)         # 157-158: blocks on this trace
+        ext[232:240] = b"SEG00001"                    # 233-240: header name
+    else:
+        ext[0:4] = bytes([0xA5, k, i & 0xFF, 0x5A])    # private bytes
+        ext[232:240] = f"INV{k:05d}".encode()
+    return bytes(ext)
+
+
+def rewrap(raw, rev=2, minor=1, ext_records=(), extensions=0):
+    """A copy of a fixed-length big-endian SEG-Y file without extended textual
+    records or extensions (as `tzero synth` writes), with `ext_records` inserted
+    after the binary header (count at 3505-3506, whatever the revision) and
+    `extensions` blocks after each trace header (rev 2: count at 3507-3508, the
+    rev 2.1 layout). The traces' header and sample bytes are unchanged."""
+    text, binh, body = raw[:3200], bytearray(raw[3200:3600]), raw[3600:]
+    ns = struct.unpack(">H", bytes(binh[20:22]))[0]
+    fmt = struct.unpack(">h", bytes(binh[24:26]))[0]
+    tb = 240 + ns * FORMATS[fmt][0]
+    assert len(body) % tb == 0
+    ntr = len(body) // tb
+    binh[300:302] = bytes([2, minor]) if rev == 2 else (b"\x01\x00" if rev == 1 else b"\0\0")
+    if rev == 0:
+        binh[302:304] = b"\0\0"                       # no fixed-length flag in rev 0
+    binh[304:306] = struct.pack(">h", len(ext_records))
+    if rev == 2:
+        binh[96:100] = struct.pack(">I", 0x01020304)
+        binh[306:308] = struct.pack(">H", extensions)
+        binh[312:320] = struct.pack(">Q", ntr)
+    out = bytearray(text + bytes(binh) + b"".join(ext_records))
+    for i in range(ntr):
+        tr = body[i * tb:(i + 1) * tb]
+        out += tr[:240]
+        for k in range(extensions):
+            out += ext_block(i, k, ns, extensions, "big")
+        out += tr[240:]
+    return bytes(out)
+
+
 def write(path, fmt=5, order="big", rev=1, traces=((0.0,),), headers=None, interval=2000,
           text=("INVENTED TEST LINE",), encoding="ebcdic", ext_text=0, ext_records=None,
           first_offset=0, ext_headers=0, trailers=0, fixed=1, bin_samples=None,
-          trace_samples=None, constant=None, truncate=0, raw_format=None, ext_blocks=None):
-    """Writes a SEG-Y file; returns its bytes. `traces` is a list of sample lists."""
+          trace_samples=None, constant=None, truncate=0, raw_format=None, ext_blocks=None,
+          minor=0, ext_count_width=None, survey_type=0, declared=None, trailer_count=None):
+    """Writes a SEG-Y file; returns its bytes. `traces` is a list of sample lists.
+
+    rev 2 options: `minor` (3502), `ext_count_width` 4 (one 4-byte count of
+    additional trace headers at 3507-3510, default for minor 0) or 2 (the rev
+    2.1 layout: 2 bytes at 3507-3508, survey type `survey_type` at 3509-3510,
+    default for minor 1), `declared` traces at 3513-3520, `trailer_count` to
+    store at 3529-3532 instead of `trailers`. The extended textual header
+    count `ext_text` is stored whatever the revision (writers do so in rev 0
+    files too)."""
     binh = bytearray(400)
 
     def put(pos, code, v):
@@ -106,15 +161,22 @@ def write(path, fmt=5, order="big", rev=1, traces=((0.0,),), headers=None, inter
     if rev == 1:
         binh[300:302] = b"\x01\x00"
     elif rev == 2:
-        binh[300:302] = b"\x02\x00"
+        binh[300:302] = bytes([2, minor])
     if rev >= 1:
         put(3503, "h", fixed)
+    if ext_text:
         put(3505, "h", ext_text)
     if rev >= 2:
         put(3297, "I", 0x01020304 if constant is None else constant)
-        put(3507, "i", ext_headers)
+        width = ext_count_width or (2 if minor >= 1 else 4)
+        if width == 4:
+            put(3507, "i", ext_headers)
+        else:
+            put(3507, "H", ext_headers)
+            put(3509, "H", survey_type)
+        put(3513, "Q", declared or 0)
         put(3521, "Q", first_offset)
-        put(3529, "i", trailers)
+        put(3529, "i", trailers if trailer_count is None else trailer_count)
     elif constant is not None:
         put(3297, "I", constant)
     out = bytearray(text_block(text, encoding) + bytes(binh))
@@ -130,15 +192,11 @@ def write(path, fmt=5, order="big", rev=1, traces=((0.0,),), headers=None, inter
         out += trace_header(f, order)
         nblk = ext_blocks[i] if ext_blocks else ext_headers
         for k in range(nblk):
-            ext = bytearray(240)
-            if k == 0:
-                ext[136:140] = pack("I", len(tr), order)     # extension 137-140: samples
-                ext[156:158] = pack("H", nblk, order)         # 157-158: blocks on this trace
-            out += ext
+            out += ext_block(i, k, len(tr), nblk, order)
         for v in tr:
             out += sample_bytes(fmt, v, order)
-    for _ in range(trailers):
-        out += text_block(["TRAILER"], "ascii")
+    for k in range(trailers):
+        out += stanza_record(["((INVENTED: Trailer Notes ver 1.0))", f"TRAILER {k + 1}"])
     if truncate:
         out = out[:-truncate]
     with open(path, "wb") as fp:
