@@ -759,7 +759,7 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
   }
   if ((e = ITEM(root, "interval_us"))) {
     int64_t t;
-    if ((rc = get_int(e, "$.interval_us", 1, 1000000, &t, err)))
+    if ((rc = json_doc_int(e, "$.interval_us", 1, 1000000, &t, TZ_E_JOB, err)))
       return rc;
     j->interval_us = (uint32_t)t;
   }
