@@ -16,6 +16,7 @@
 #include <stdint.h>
 
 #include "tzero/error.h"
+#include "tzero/picture.h"
 #include "tzero/segy.h"
 
 #define SPECTRUM_MAX_SAMPLES 1000000   /* longest window */
@@ -92,5 +93,51 @@ typedef struct spectrum_result {
 int spectrum_of_files(const char *const *paths, size_t n, const spectrum_request *rq,
                       spectrum_result *out, tz_err *err);
 void spectrum_result_free(spectrum_result *r);
+
+/* ---- pictures (docs/spectra.md) ---- */
+
+#define SPECTRUM_MAX_CURVES 8
+#define SPECTRUM_MAX_ROWS 1000000
+
+/* One curve of a CSV written by `tzero spectrum` (columns frequency_hz and
+ * amplitude_db, found by name). */
+typedef struct spectrum_curve {
+  double *hz, *db;             /* owned: spectrum_curve_free() */
+  size_t n;
+} spectrum_curve;
+
+void spectrum_curve_free(spectrum_curve *c);      /* NULL is a no-op */
+/* TZ_E_NOINPUT for a missing file; TZ_E_FORMAT naming the line otherwise. */
+int spectrum_curve_load(spectrum_curve *c, const char *path, tz_err *err);
+
+/* dB against frequency, curves n <= SPECTRUM_MAX_CURVES with their labels (NULL: none),
+ * from 0 to max_hz (<= 0: the largest frequency) and min_db (< 0) to 0 dB. width and
+ * height 0 choose 720 x 420. *out: picture_ctx_free(). */
+int spectrum_draw(const spectrum_curve *c, size_t n, const char *const *labels,
+                  const char *title, double max_hz, double min_db, uint32_t width,
+                  uint32_t height, int format, picture_ctx **out, tz_err *err);
+
+/* The f-k amplitude spectrum of one record: its data traces placed at slot
+ * round(offset / spacing) (spacing <= 0: the median step between the sorted signed
+ * offsets), each slot's trace tapered like spectrum_plan_new() in time, a 2D FFT, in
+ * dB against the peak. nk wavenumbers (k from -1/(2 dx), increasing), nf frequencies
+ * from 0 Hz; db[jf * nk + ik]. */
+typedef struct spectrum_fk {
+  float *db;                  /* owned: spectrum_fk_free() */
+  size_t nk, nf;
+  double dk, df;              /* cycles per metre, Hz */
+  double k0;                  /* wavenumber of column 0 */
+  double spacing_m;
+  int64_t traces;
+} spectrum_fk;
+
+void spectrum_fk_free(spectrum_fk *f);
+int spectrum_fk_of_record(const char *path, int64_t field_record, double spacing_m,
+                          const segy_open_opts *open, spectrum_fk *out, tz_err *err);
+/* Draws it (frequencies up to max_hz, <= 0: Nyquist; colours from min_db to 0 dB),
+ * with dashed lines f = v |k| for the nfan velocities (m/s) given. */
+int spectrum_draw_fk(const spectrum_fk *f, const char *title, double max_hz, double min_db,
+                     const double *fan_mps, size_t nfan, uint32_t width, uint32_t height,
+                     int format, picture_ctx **out, tz_err *err);
 
 #endif

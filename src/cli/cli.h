@@ -3,6 +3,7 @@
 #ifndef TZERO_CLI_H
 #define TZERO_CLI_H
 
+#include <stdint.h>
 #include <stdio.h>
 #include "tzero/error.h"
 
@@ -30,6 +31,14 @@ int cmd_audio(int argc, char **argv);
 int cmd_spectrum(int argc, char **argv);
 int cmd_merge(int argc, char **argv);
 int cmd_firstbreaks(int argc, char **argv);
+
+/* `tzero picture --spectrum A.csv,B.csv` / `--fk-record N FILE` (picture_spectrum.c):
+ * the option strings as given (NULL when absent). */
+typedef struct cli_spectrum_pic {
+  const char *spectra, *labels, *fk_record, *spacing, *max_hz, *min_db, *fan;
+} cli_spectrum_pic;
+int cli_picture_spectrum(const cli_spectrum_pic *a, const char *in_path, const char *out,
+                         int format, const char *title, uint32_t w, uint32_t h, int quiet);
 
 /* Prints "tzero CMD: <formatted error>[: strerror]" to stderr and returns the
  * exit status for the error's status. */

@@ -19,6 +19,8 @@ static void help(void)
 {
   printf("usage: tzero picture SECTION.sgy --out FILE.png|.svg|.pdf [OPTIONS]\n"
          "       tzero picture --fold QC.json --out FILE.png|.svg|.pdf [--width W --height H]\n"
+         "       tzero picture --spectrum A.csv[,B.csv...] [--labels A,B] --out FILE\n"
+         "       tzero picture --fk-record N SHOT.sgy --out FILE [--spacing M] [--fan V,...]\n"
          "\n"
          "Draws a SEG-Y panel (a stacked section, CMP gathers, semblance panels) as a\n"
          "picture: time in ms increasing downward, traces left to right, labelled\n"
@@ -53,6 +55,16 @@ static void help(void)
          "                          px of time; fold chart 3 px per CMP, 480 px high)\n"
          "  --title TEXT            replace the title line\n"
          "  --fold QC.json          draw the fold chart of a QC report (tzero-qc/1)\n"
+         "  --spectrum A.csv,...    draw spectra written by tzero spectrum (dB against\n"
+         "                          frequency, up to 8 curves); --labels names them\n"
+         "  --fk-record N           draw the f-k amplitude spectrum of field record N\n"
+         "                          (bytes 9-12) of the SEG-Y file: wavenumber in\n"
+         "                          cycles/m across, frequency in Hz up\n"
+         "  --spacing M             trace spacing of the f-k grid, m (default: the median\n"
+         "                          step between the record's signed offsets)\n"
+         "  --fan V,...             dashed lines f = V |k| at these velocities, m/s\n"
+         "  --max-hz F, --min-db D  frequency and level ranges of a spectrum picture\n"
+         "                          (defaults: Nyquist; -80 dB, -60 dB for f-k)\n"
          "  --json                  print what was drawn (size, plot area, clip) as JSON\n"
          "  --quiet                 print nothing but errors\n"
          "  -h, --help              this text\n"
@@ -214,7 +226,8 @@ static int run_fold(const char *qc, const char *out, int format, const char *tit
 int cmd_picture(int argc, char **argv)
 {
   enum { O_OUT = 256, O_CMPS, O_TIME, O_PCT, O_CLIP, O_MAP, O_STYLE, O_W, O_H, O_TITLE, O_FOLD,
-         O_JSON, O_QUIET, O_FORMAT };
+         O_JSON, O_QUIET, O_FORMAT, O_SPECTRUM, O_LABELS, O_FK, O_SPACING, O_MAXHZ, O_MINDB,
+         O_FAN };
   static const struct option opts[] = {
     { "out", required_argument, NULL, O_OUT },
     { "cmps", required_argument, NULL, O_CMPS },
@@ -230,6 +243,13 @@ int cmd_picture(int argc, char **argv)
     { "json", no_argument, NULL, O_JSON },
     { "quiet", no_argument, NULL, O_QUIET },
     { "format", required_argument, NULL, O_FORMAT },
+    { "spectrum", required_argument, NULL, O_SPECTRUM },
+    { "labels", required_argument, NULL, O_LABELS },
+    { "fk-record", required_argument, NULL, O_FK },
+    { "spacing", required_argument, NULL, O_SPACING },
+    { "max-hz", required_argument, NULL, O_MAXHZ },
+    { "min-db", required_argument, NULL, O_MINDB },
+    { "fan", required_argument, NULL, O_FAN },
     { "help", no_argument, NULL, 'h' },
     { NULL, 0, NULL, 0 },
   };
@@ -238,6 +258,7 @@ int cmd_picture(int argc, char **argv)
   const char *out = NULL, *title = NULL, *fold = NULL;
   picture_opts po = { 0 };
   picture_select sel = { 0 };
+  cli_spectrum_pic sp = { 0 };
   int json = 0, quiet = 0, format = -1, c;
   optind = 1;
   opterr = 0;
@@ -275,6 +296,13 @@ int cmd_picture(int argc, char **argv)
     case O_H: bad = parse_px("--height", optarg, &po.height); break;
     case O_TITLE: title = optarg; break;
     case O_FOLD: fold = optarg; break;
+    case O_SPECTRUM: sp.spectra = optarg; break;
+    case O_LABELS: sp.labels = optarg; break;
+    case O_FK: sp.fk_record = optarg; break;
+    case O_SPACING: sp.spacing = optarg; break;
+    case O_MAXHZ: sp.max_hz = optarg; break;
+    case O_MINDB: sp.min_db = optarg; break;
+    case O_FAN: sp.fan = optarg; break;
     case O_JSON: json = 1; break;
     case O_QUIET: quiet = 1; break;
     case O_FORMAT:
@@ -298,6 +326,12 @@ int cmd_picture(int argc, char **argv)
       return cli_report(cmd, &e);
     return cli_usage_error(cmd, "--out %s: name a .png, .svg or .pdf file, or give --format",
                            out);
+  }
+  if (sp.spectra || sp.fk_record) {
+    if (argc - optind > 1)
+      return cli_usage_error(cmd, "expected at most one SEG-Y file, got %d", argc - optind);
+    return cli_picture_spectrum(&sp, optind < argc ? argv[optind] : NULL, out, format, title,
+                                po.width, po.height, quiet);
   }
   if (fold) {
     if (argc - optind != 0)

@@ -35,3 +35,23 @@ expect_status 64 "selection of nothing" -- "$TZERO" spectrum --records 9999 --ou
 expect_no_file "$D/out/none.csv" "no output after a failure"
 expect_status 66 "missing file" -- "$TZERO" spectrum "$D/no-such.sgy"
 expect_status 73 "output would replace the input" -- "$TZERO" spectrum --out "$SHOT" "$SHOT"
+
+# --- pictures: spectra and the f-k spectrum of one record (PNG and SVG)
+"$TZERO" spectrum --job "$J" --records 1-3 --quiet --out "$D/out/a.csv"
+"$TZERO" spectrum --job "$J" --records 4-6 --window 300:900 --quiet --out "$D/out/b.csv"
+expect_status 0 "picture of two spectra" -- "$TZERO" picture --spectrum "$D/out/a.csv,$D/out/b.csv" \
+  --labels "records 1-3,records 4-6" --max-hz 120 --out "$D/out/spec.svg"
+grep -c 'data-curve=' "$D/out/spec.svg" | grep -qx 2 && ok "SVG holds two curves" || notok "SVG curves"
+grep -q 'FREQUENCY (Hz)' "$D/out/spec.svg" && ok "frequency axis labelled with its unit" || notok "axis label"
+expect_status 0 "f-k picture of record 2" -- "$TZERO" picture --fk-record 2 "$D/shots/shot_0002.sgy" \
+  --fan 300,600 --out "$D/out/fk.png"
+expect_stdout '24 traces at 10 m' "f-k picture: the record's 24 traces at the 10 m receiver interval"
+"$PYTHON" -c 'import sys; b=open(sys.argv[1],"rb").read(8); sys.exit(0 if b==b"\x89PNG\r\n\x1a\n" else 1)' \
+  "$D/out/fk.png" && ok "f-k picture is a PNG" || notok "f-k picture is not a PNG"
+expect_status 64 "f-k picture without a SEG-Y file" -- "$TZERO" picture --fk-record 2 --out "$D/out/x.png"
+expect_status 65 "a spectrum picture of a file that is not a spectrum" -- "$TZERO" picture \
+  --spectrum "$J" --out "$D/out/x.png"
+expect_stderr 'frequency_hz and amplitude_db' "the message names the columns it needs"
+expect_no_file "$D/out/x.png" "no picture after a failure"
+expect_status 64 "labels and spectra of different counts" -- "$TZERO" picture \
+  --spectrum "$D/out/a.csv" --labels "a,b" --out "$D/out/x.png"
