@@ -1,6 +1,6 @@
 /* bins.h -- processing line, CMP numbering and fold (straight, fitted or crooked lines).
  *
- * Straight line (DESIGN.md "Processing line and bins"): a midpoint (mx, my)
+ * Straight line (tzero-geometry(1)): a midpoint (mx, my)
  * projects to s = (mx - ox) sin(az) + (my - oy) cos(az), its CMP number is
  * first_cmp + round(s / size_m), bin centres sit at whole multiples of size_m
  * from the origin. A crooked line is a polyline of nodes; each midpoint goes to

@@ -226,12 +226,12 @@ int condition_levinson(const double *r, const double *g, size_t n, double *a, do
 int condition_wiener_pef(const double *r, size_t gap, size_t n, double pct, double *pef,
                          double *work, tz_err *err);
 
-/* ---- formulas (REFERENCE.md §3.11, §3.14), exposed for tests and docs ---- */
+/* ---- formulas (Newman 1973; Claerbout 1985; Ormsby 1961), exposed for tests and docs ---- */
 
-/* Trapezoid amplitude A(|f|) for corners f[0..3] (REFERENCE.md §3.14). */
+/* Trapezoid amplitude A(|f|) for corners f[0..3] (Ormsby 1961). */
 double condition_trapezoid(const double corners_hz[4], double f_hz);
 /* Ormsby wavelet: the inverse Fourier transform of the unit trapezoid at time t
- * (seconds); w(0) = f4 + f3 - f2 - f1 (REFERENCE.md §3.14). */
+ * (seconds); w(0) = f4 + f3 - f2 - f1 (Ormsby 1961). */
 double condition_ormsby_wavelet(const double corners_hz[4], double t_s);
 /* Spherical divergence correction t V^2 / (t_ref V_ref^2) (Newman 1973). */
 double condition_spherical_gain(double t_s, double v_mps, double t_ref_s, double v_ref_mps);

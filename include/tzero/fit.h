@@ -7,8 +7,8 @@
 
 #define FIT_MAX_PICKS 1000000u   /* cap on rows read from a picks table */
 
-/* Straight line t^2 = a + b x^2 fitted by ordinary least squares (REFERENCE.md
- * §3.8), then t0 = sqrt(a), v = 1/sqrt(b). Goodness of fit: R^2 of the linear
+/* Straight line t^2 = a + b x^2 fitted by ordinary least squares (Green
+ * 1938; Sheriff's Encyclopedic Dictionary, X2-T2 analysis), then t0 = sqrt(a), v = 1/sqrt(b). Goodness of fit: R^2 of the linear
  * fit in the x^2-t^2 domain, and the RMS of the time residuals
  * t_pick - sqrt(t0^2 + x^2/v^2) in milliseconds. */
 typedef struct fit_result {

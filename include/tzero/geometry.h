@@ -141,7 +141,7 @@ int geometry_layout_shot(const geometry_layout *l, size_t k, geometry_shot *s, t
  * channel number = first_channel + c. */
 int geometry_layout_trace(const geometry_layout *l, size_t k, size_t c, geometry_trace *g,
                           tz_err *err);
-/* Nominal roll-along fold N * dg / (2 * ds) (REFERENCE.md §3.9). */
+/* Nominal roll-along fold N * dg / (2 * ds) (Sheriff & Geldart 1995; common practice). */
 double geometry_layout_nominal_fold(const geometry_layout *l);
 /* Default bin size: half the receiver interval (common practice). */
 double geometry_layout_default_bin(const geometry_layout *l);

@@ -1,6 +1,6 @@
 /* job.h -- the job file: one line's processing described in JSON, checked and resolved.
  *
- * job_load() reads the JSON of DESIGN.md "Job file" (docs/job-file.md), rejects
+ * job_load() reads the JSON of docs/job-file.md, rejects
  * unknown keys (suggesting the nearest known one), checks every value (messages
  * name the JSON path, e.g. "$.moveout.stretch_limit_pct: expected a number
  * between 0 and 1000"), expands the shot patterns with glob(3) relative to the
@@ -32,7 +32,7 @@ enum job_sample_format { JOB_FORMAT_IEEE = 5, JOB_FORMAT_IBM = 1 };
 
 /* Processing line and bins ("bins" object). A field flagged has_* = 0 was not
  * given: the line is then fitted through the midpoints and the bin size is
- * half the receiver interval (DESIGN.md). */
+ * half the receiver interval (common practice). */
 typedef struct job_bins {
   int has_size;       double size_m;
   int has_origin;     double origin_x_m, origin_y_m;

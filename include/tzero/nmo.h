@@ -105,11 +105,11 @@ int nmo_inverse(nmo_workspace *ws, const nmo_params *p, const nmo_axis *ax,
                 double offset_m, const float *in, const float *vel_mps, const float *eta,
                 float *out, tz_err *err);
 
-/* ---- Formulas (REFERENCE.md §3.1, §3.3, §3.5) ---- */
+/* ---- Formulas (Yilmaz 2001: hyperbolic moveout, NMO stretch; Alkhalifah & Tsvankin 1995) ---- */
 
 /* Two-way time at offset x: sqrt(t0^2 + x^2/v^2 - 2 eta x^4/(v^2 (t0^2 v^2 + (1+2eta) x^2))). */
 double nmo_moveout_time(double t0_s, double offset_m, double v_mps, double eta);
-/* NMO stretch (t - t0)/t0 as a fraction (Yilmaz 2001; REFERENCE.md §3.3), hyperbolic. */
+/* NMO stretch (t - t0)/t0 as a fraction (Yilmaz 2001), hyperbolic. */
 double nmo_stretch(double offset_m, double t0_s, double v_mps);
 /* Offset where the hyperbolic stretch reaches s (fraction): v t0 sqrt((1+s)^2 - 1). */
 double nmo_stretch_mute_offset(double t0_s, double v_mps, double s);

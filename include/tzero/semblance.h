@@ -36,7 +36,7 @@
  *          sum_{k in W} n_k sum_i f_ik^2
  *
  * n_k is the number of traces live at sample k, so with no mutes it is the
- * REFERENCE.md §3.7 formula with N traces; 0 <= S <= 1 by Cauchy-Schwarz, and
+ * Neidell & Taner 1971 formula with N traces; 0 <= S <= 1 by Cauchy-Schwarz, and
  * S = 0 where the denominator is 0 (no live energy). Cost O(ns) per trace added
  * and O(ns) for the finish, whatever the window length (prefix sums). */
 typedef struct semblance_acc semblance_acc;

@@ -1,11 +1,11 @@
 /* synth.h -- synthetic shot records from a layered-earth model and a layout.
  *
  * Events: reflections from the bases of flat layers by exact ray tracing
- * (REFERENCE.md §3.13), one optional dipping interface in a homogeneous
+ * (Snell's law through flat layers, Sheriff & Geldart 1995), one optional dipping interface in a homogeneous
  * overburden by the image-source method, the direct wave, the head wave from
  * the first interface, an optional slow linear noise train and random noise.
  * Amplitudes: normal-incidence reflection coefficients with spherical
- * spreading (docs/earth-model.md). Wavelet: zero-phase Ricker (§3.12),
+ * spreading (docs/earth-model.md). Wavelet: zero-phase Ricker (Ricker 1953),
  * rendered analytically over its support around each event only.
  *
  * Everything is a pure function of its inputs: the random noise of a trace is
@@ -55,7 +55,7 @@ int synth_model_load(synth_model *m, const char *path, tz_err *err);
 /* ---- kinematics and amplitudes ---- */
 
 /* x(p) and t(p) for a reflection from the base of layer n (h, v: n layers), ray
- * parameter p in s/m, 0 <= p < 1/max(v) (REFERENCE.md §3.13). TZ_E_ARG if not. */
+ * parameter p in s/m, 0 <= p < 1/max(v) (Snell's law through flat layers, Sheriff & Geldart 1995). TZ_E_ARG if not. */
 int synth_ray(const double *h, const double *v, size_t n, double p, double *x, double *t);
 /* Exact two-way time at horizontal offset x of the reflection from flat
  * interface k (the base of layer k, 0-based, k < nlayers - 1): solves
@@ -74,7 +74,7 @@ double synth_dip_time(const synth_model *m, double src_along, double src_right,
 /* Head wave from the first interface: 1 and *t when |x| is beyond the critical
  * distance (and v2 > v1), else 0. */
 int synth_head_time(const synth_model *m, double offset_m, double *t);
-/* Zero-phase Ricker wavelet of peak frequency fp_hz at time t_s (§3.12). */
+/* Zero-phase Ricker wavelet of peak frequency fp_hz at time t_s (Ricker 1953). */
 double synth_ricker(double fp_hz, double t_s);
 
 /* ---- random numbers: xoshiro256** (Blackman and Vigna 2018) in a struct ---- */
@@ -150,7 +150,7 @@ typedef struct synth_summary {
 int synth_survey(const synth_model *m, const geometry_layout *l, const synth_params *p,
                  const char *dir, synth_summary *sum, tz_err *err);
 
-/* Writes the model's exact RMS velocity table (flat layers; DESIGN.md format,
+/* Writes the model's exact RMS velocity table (flat layers; docs/velocity-table.md format,
  * header cmp,time_ms,velocity_mps) for control CMPs first_cmp and last_cmp
  * (one CMP when they are equal), through a temporary file. */
 int synth_write_rms_table(const synth_model *m, int32_t first_cmp, int32_t last_cmp,

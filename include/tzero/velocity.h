@@ -29,7 +29,7 @@
 
 typedef struct velocity_table velocity_table;
 
-/* Reads a table file (format of DESIGN.md, docs/velocity-table.md). On success *out
+/* Reads a table file (format of docs/velocity-table.md). On success *out
  * owns a new table: release it with velocity_table_free(). On failure *out is left
  * untouched and err names the file and line (TZ_E_FORMAT for an invalid table,
  * TZ_E_NOINPUT for a missing file). */
@@ -97,7 +97,7 @@ void velocity_sample(const velocity_table *t, int64_t cmp, double t_first_s, dou
 /* The velocity (and eta when not NULL) of `cmp` at one time. */
 double velocity_at(const velocity_table *t, int64_t cmp, double time_s, double *eta);
 
-/* ---- Dix (1955) conversion (REFERENCE.md §3.6) ---- */
+/* ---- Dix (1955) conversion ---- */
 
 /* One interval between consecutive knots of an RMS function. Interval k spans
  * (t_top_s, t_base_s] with t_top_s = time of knot k-1 (0 for k = 0). For k = 0 the
@@ -121,7 +121,7 @@ int velocity_dix(const double *t_s, const double *v_rms_mps, size_t n,
                  velocity_interval *out, tz_err *err);
 /* Inverse: RMS velocities at the base of each interval from interval velocities,
  * V_rms,n^2 = (1/t_n) sum_k v_k^2 (t_k - t_{k-1}) with t_{-1} = 0 (Taner and
- * Koehler 1969, REFERENCE.md §3.4). t_s strictly increasing, t_s[0] > 0 (or a
+ * Koehler 1969). t_s strictly increasing, t_s[0] > 0 (or a
  * zero first time, whose RMS is v_int[0]). */
 int velocity_rms_from_interval(const double *t_s, const double *v_int_mps, size_t n,
                                double *v_rms_mps, tz_err *err);

@@ -1,7 +1,7 @@
 /* bins.c -- processing lines, CMP numbers and fold.
  *
- * Straight lines follow DESIGN.md exactly: s = (m - o) . u with u = (sin az,
- * cos az), CMP = first_cmp + floor(s / size + 1/2) (REFERENCE.md §3.9), bin
+ * Straight lines follow tzero-geometry(1) exactly: s = (m - o) . u with u = (sin az,
+ * cos az), CMP = first_cmp + floor(s / size + 1/2) (Sheriff & Geldart 1995; common practice), bin
  * centres at whole multiples of the bin size from the origin. Crooked lines
  * measure s along a polyline (first and last segments extended). Everything
  * works on differences from the origin or a node, so large projected

@@ -1,6 +1,6 @@
 /* nmo.c -- exact normal-moveout correction of one trace, with stretch and top mutes.
  *
- * Inverse mapping ("pull", REFERENCE.md §3.1): output sample i sits at zero-offset
+ * Inverse mapping ("pull", Yilmaz 2001, hyperbolic moveout): output sample i sits at zero-offset
  * time t0_i = t_first + i dt and takes the input value at
  *     t_i^2 = t0_i^2 + x^2 / v_i^2                                  (hyperbola)
  *             - 2 eta x^4 / (v^2 (t0^2 v^2 + (1 + 2 eta) x^2))      (Alkhalifah and
@@ -66,7 +66,7 @@ struct nmo_workspace {
 
 void nmo_params_default(nmo_params *p)
 {
-  p->stretch_limit_pct = 50.0;   /* Sheriff's dictionary: often 50-100 % (REFERENCE.md §3.3) */
+  p->stretch_limit_pct = 50.0;   /* Sheriff's dictionary: often 50-100 % (Sheriff's Encyclopedic Dictionary, stretch mute; Yilmaz 2001) */
   p->stretch_taper_ms = 10.0;
   p->interp = NMO_INTERP_LINEAR;
   p->use_eta = 1;

@@ -375,7 +375,7 @@ void qc_report_free(qc_report *r)
 static const char *const required[] = { "inputs", "parameters", "traces", "cmps", "fold", "mute",
                                         "velocity", "timing_s", "section", NULL };
 
-/* Figures the readers print (DESIGN.md "QC report"): a damaged report is refused
+/* Figures the readers print (docs/qc-report.md): a damaged report is refused
  * naming the key, instead of printing "nan" where a count should be. */
 static const char *const required_numbers[] = {
   "traces.read", "traces.stacked", "fold.min", "fold.max", "fold.mean",

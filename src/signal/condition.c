@@ -11,16 +11,16 @@
  *   band-pass   copy into a zero-padded buffer of nfft >= 2 ns samples (so the
  *               filter response cannot wrap around onto the trace), forward
  *               real FFT, multiply bin k by A(f_k)/nfft, inverse FFT, copy back.
- *               Zero phase because A is real and even (REFERENCE.md §3.14).
+ *               Zero phase because A is real and even (Ormsby 1961).
  *   spherical   g(t) = t V_rms^2(t) / (t_ref V_rms^2(t_ref)) (Newman 1973;
- *               REFERENCE.md §3.11): t/t_ref is precomputed; V_rms comes from the
+ *               Newman 1973): t/t_ref is precomputed; V_rms comes from the
  *               caller's per-CMP samples (or is sampled into the workspace) and
  *               V_rms(t_ref) from velocity_at(), cached per CMP.
  *   power       g(t) = (t / t_ref)^exponent, precomputed.
  *   AGC         g(t) = 1 / (level over a centred window + eps), where level is
  *               the RMS or the mean absolute value, from prefix sums in double
  *               (O(ns) whatever the window); eps = 1e-6 of the whole trace's level
- *               (plus FLT_MIN), so a dead trace stays zero (REFERENCE.md §3.11).
+ *               (plus FLT_MIN), so a dead trace stays zero (common practice).
  *
  * Gains use t = max(t_i, dt): sample times at or before zero (a negative delay,
  * or the first sample) take the gain of the first positive sample time, so a

@@ -7,7 +7,7 @@
  * (stable: equal offsets keep input order).
  *
  * stack_section_write() puts a stacked section on disk as SEG-Y rev 1 with the
- * header fields of REFERENCE.md §3.10 (common practice).
+ * stacked-trace header fields of SEG-Y rev 1 (2002) (common practice).
  */
 #include "stack_int.h"
 

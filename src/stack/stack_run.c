@@ -39,7 +39,7 @@
  * (2 x section), the cache (at most the section, capped at CACHE_BYTES), three
  * batches of input traces.
  *
- * Stack trace (REFERENCE.md §3.10): s(t0) = sum_i w_i f_i(t0) / sum_i w_i, where
+ * Stack trace (Yilmaz 2001, CMP stacking): s(t0) = sum_i w_i f_i(t0) / sum_i w_i, where
  * the NMO output f_i already carries its taper weight w_i and muted samples have
  * w_i = 0; a sample with no live trace is 0.
  */

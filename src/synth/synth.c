@@ -1,13 +1,13 @@
 /* synth.c -- synthetic shot records: exact layered-earth traveltimes, Ricker wavelets.
  *
  * Kinematics: flat-layer reflections by solving x(p) = offset for the ray
- * parameter (REFERENCE.md §3.13) with a safeguarded Newton iteration; a dipping
+ * parameter (Snell's law through flat layers, Sheriff & Geldart 1995) with a safeguarded Newton iteration; a dipping
  * plane in a homogeneous overburden by the image source (the source mirrored in
  * the plane, t = |R - S'| / v); the direct wave |x| / v1; the head wave of the
  * first interface beyond the critical distance.
  * Amplitudes: normal-incidence reflection coefficients, spherical spreading
  * 1 / (t V_rms^2 / v1) (Newman 1973), scaled by SYNTH_REF_DISTANCE_M.
- * Rendering: each event adds the analytic Ricker wavelet (§3.12) over its
+ * Rendering: each event adds the analytic Ricker wavelet (Ricker 1953) over its
  * support only (|tau| < 5 / (pi fp), where it has fallen below 1e-9), so the
  * cost per trace is events x support, never a full-trace convolution.
  * Noise: Gaussian from a per-trace xoshiro256** generator seeded from

@@ -2,7 +2,7 @@
  *
  * Because t^2 = t0^2 + x^2/v^2 is a straight line in X = x^2, Y = t^2, an
  * ordinary least-squares line through the picks gives t0 and v (Green 1938;
- * SEG Dictionary "X2-T2 analysis"; REFERENCE.md §3.8). The sums are taken about
+ * Sheriff's Encyclopedic Dictionary, "X2-T2 analysis"; Green 1938). The sums are taken about
  * the means (two passes), which keeps the slope accurate when x^2 is ~1e6 m^2
  * and t^2 ~1 s^2. The method is exact only for a constant-velocity overburden;
  * with layering the slope near the origin approximates the RMS velocity.

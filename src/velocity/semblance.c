@@ -1,6 +1,6 @@
 /* semblance.c -- velocity analysis: semblance panels and automatic picks.
  *
- * Coherence (Neidell and Taner 1971; REFERENCE.md §3.7): for every trial
+ * Coherence (Neidell & Taner 1971): for every trial
  * velocity the whole (super)gather is NMO-corrected once by nmo_apply() -- the
  * stack's own exact hyperbolic equation, interpolation and stretch mute, so a
  * velocity picked here flattens the events the stack will sum -- while three

@@ -5,9 +5,9 @@
  * file order. Sampling a CMP finds its two bracketing control CMPs once (binary
  * search over a sorted index), then walks each one's knots along the regular
  * time axis in a single pass, so sampling a whole trace costs O(knots + ns).
- * Interpolation rules (DESIGN.md): linear in time between knots, constant
+ * Interpolation rules (docs/velocity-table.md): linear in time between knots, constant
  * outside; linear in CMP number between control CMPs at equal time, constant
- * outside. Dix conversion follows Dix (1955), REFERENCE.md §3.6.
+ * outside. Dix conversion follows Dix (1955).
  *
  * Not here: NMO itself (nmo.c), velocity analysis (semblance.c).
  */

@@ -1,7 +1,7 @@
 # test_audio.sh -- `tzero audio`: bad inputs, exit statuses, no output left; the workflow
 # record -> tzero audio -> tzero geometry --layout --write -> SEG-Y with geometry.
 # Exit statuses are BSD sysexits(3): 64 usage, 65 data, 66 no input, 73 cannot create.
-# Sources: DESIGN.md (exit statuses; a failed run leaves no output that looks complete);
+# Sources: sysexits(3) and the man pages (exit statuses; a failed run leaves no output that looks complete);
 # the RIFF/WAVE layout (a 44-byte header for PCM) for the truncated file; common
 # practice for the rest. WAV files are written with Python's standard wave module.
 . "$TOP/tests/e2e/lib.sh"
@@ -28,11 +28,11 @@ expect_status 0 "converts a folder" -- "$TZERO" audio "$T/field" --out "$T/sgy" 
 expect_stdout "shot_2.wav: 6 ch at 8000 Hz, 0.500 s" "summary: channels, rate, duration"
 expect_stdout "sgy/shot_2.sgy: field record 12, 6 traces x 2000 samples at 250 us" \
   "summary: output path, record, traces, samples, interval"
-# 3600 + 6 traces x (240 + 2000 x 4) bytes (REFERENCE.md §1.1 file size rule)
+# 3600 + 6 traces x (240 + 2000 x 4) bytes (SEG-Y rev 1 (2002), file structure: 3600 + traces x (240 + samples x bytes))
 sz=$(wc -c <"$T/sgy/shot_1.sgy")
 [ "$sz" -eq $((3600 + 6 * (240 + 2000 * 4))) ] && ok "file size" || notok "file size $sz"
 ls -a "$T/sgy" | grep -q '^\.tzero' && notok "no hidden folder left" || ok "no hidden folder left"
-# Same bytes for any thread count (DESIGN.md: bitwise-identical output).
+# Same bytes for any thread count (DEVELOPERS.md, threads: bitwise-identical output).
 cp "$good" "$T/field/shot_3.wav"
 cp "$good" "$T/field/shot_4.wav"
 expect_status 0 "one thread" -- "$TZERO" audio "$T/field" --out "$T/t1" --threads 1 --quiet

@@ -2,7 +2,7 @@
 # thread identity, effect on the section, and bad steps (message naming the JSON
 # path, exit status, no output). The survey is written with segyio by
 # tests/xcheck/test_stack_segyio.py (independent of tzero).
-# Sources: DESIGN.md (bitwise identity for any thread count; job errors name the key;
+# Sources: DEVELOPERS.md (bitwise identity for any thread count; job errors name the key;
 # no half-written output); docs/conditioning.md for the step keys; Nyquist = 1/(2 dt)
 # (common practice); sysexits(3) statuses (65 bad job).
 . "$TOP/tests/e2e/lib.sh"
@@ -19,7 +19,7 @@ job["conditioning"] = json.loads(sys.argv[3])
 json.dump(job, open(sys.argv[2], "w"))
 PY
 
-# --- bitwise identity across thread counts (DESIGN.md "Quality")
+# --- bitwise identity across thread counts (DEVELOPERS.md, threads: bitwise-identical output for any thread count)
 for n in 1 3; do
   expect_status 0 "conditioned stack with --threads $n" -- "$TZERO" stack --job "$D/cond.json" \
     --threads $n --out "$D/out/c$n.sgy" --report "$D/out/c$n.json" --quiet

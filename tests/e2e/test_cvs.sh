@@ -1,7 +1,7 @@
 # test_cvs.sh -- `tzero cvs`: output layout, thread identity, bad input.
 # The panels' content is checked against `tzero stack` and the model's RMS
 # velocities in tests/xcheck/test_semblance_synth.py. Exit statuses are BSD
-# sysexits(3): 64 usage, 66 no input, 73 cannot create. Sources: DESIGN.md
+# sysexits(3): 64 usage, 66 no input, 73 cannot create. Sources: DEVELOPERS.md
 # (bitwise identity for any thread count; no half-written output).
 . "$TOP/tests/e2e/lib.sh"
 D="$T/sv"
@@ -24,13 +24,13 @@ J="$D/job.json"
 expect_status 0 "cvs of a CMP range" -- "$TZERO" cvs --job "$J" --cmps 20-30 \
   --velocities 1700-2100:200,2500 --out "$D/c1.sgy" --threads 1
 expect_stdout "4 panels of CMPs 20-30 \(11 traces each\), 1700 to 2500 m/s" "summary line"
-# 3600-byte headers + 44 traces x (240 + 251 x 4) bytes (REFERENCE.md §1.1, §4 #29 rule)
+# 3600-byte headers + 44 traces x (240 + 251 x 4) bytes (SEG-Y rev 1 (2002), file structure; check value 29 of docs/references.md)
 size=$(wc -c <"$D/c1.sgy" | tr -d ' ')
 [ "$size" -eq $((3600 + 44 * (240 + 251 * 4))) ] && ok "file holds 4 x 11 traces of 251 samples" ||
   notok "file size $size"
 "$TZERO" cvs --job "$J" --cmps 20-30 --velocities 1700-2100:200,2500 --out "$D/c2.sgy" \
   --threads 2 --quiet
-if cmp -s "$D/c1.sgy" "$D/c2.sgy"; then ok "bitwise identical for 1 and 2 threads (DESIGN.md)"
+if cmp -s "$D/c1.sgy" "$D/c2.sgy"; then ok "bitwise identical for 1 and 2 threads (DEVELOPERS.md, threads)"
 else notok "1 and 2 threads differ"; fi
 expect_status 0 "--json" -- "$TZERO" cvs --job "$J" --cmps 25 --velocities 2000 --out "$D/c3.sgy" --json
 expect_stdout '"velocities_mps":' "JSON lists the velocities"

@@ -3,7 +3,7 @@
 # identity, a part of the line equal to the same CMPs of the whole line, and bad
 # parameters (exit 65 naming the JSON path, no output). The survey is written with
 # segyio by tests/xcheck/test_stack_segyio.py (independent of tzero).
-# Sources: DESIGN.md (bitwise identity for any thread count; record-wide steps see
+# Sources: DEVELOPERS.md (bitwise identity for any thread count; record-wide steps see
 # whole records, so a part and a full run give the same bits; job errors name the
 # key); docs/conditioning.md for the keys; sysexits(3) (65 bad job).
 . "$TOP/tests/e2e/lib.sh"

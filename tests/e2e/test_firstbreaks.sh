@@ -38,7 +38,7 @@ read -r n bad <"$D/count"
 [ "$n" -eq 210 ] && [ "$bad" -eq 0 ] && ok "all 210 traces clear of the crossover picked within 1 ms" ||
   notok "$n (210 expected), $bad off by more than 1 ms"
 "$TZERO" firstbreaks --job "$J" --out "$D/p2.csv" --threads 2 --quiet
-if cmp -s "$D/p1.csv" "$D/p2.csv"; then ok "bitwise identical for 1 and 2 threads (DESIGN.md)"
+if cmp -s "$D/p1.csv" "$D/p2.csv"; then ok "bitwise identical for 1 and 2 threads (DEVELOPERS.md, threads)"
 else notok "1 and 2 threads differ"; fi
 expect_status 0 "--json summary" -- "$TZERO" firstbreaks --job "$J" --out "$D/p3.csv" --json \
   --guide-velocity 2000 --guide-intercept-ms 20

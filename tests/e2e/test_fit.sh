@@ -1,11 +1,11 @@
 # test_fit.sh -- `tzero fit`: output, and bad picks files.
 # Exit codes from <sysexits.h> (BSD sysexits(3)): 64 usage, 65 data, 66 no input.
 . "$TOP/tests/e2e/lib.sh"
-# REFERENCE.md §4 #22: picks from t0 = 1 s, v = 2000 m/s.
+# computed from Green 1938 (check value 22 of docs/references.md): picks from t0 = 1 s, v = 2000 m/s.
 printf 'offset_m,time_ms\n0,1000\n500,1030.776406\n1000,1118.033989\n1500,1250\n2000,1414.213562\n' >"$T/p.csv"
 expect_status 0 "fit of exact picks" -- "$TZERO" fit "$T/p.csv"
-expect_stdout "^t0: 1000.000 ms" "t0 = 1000 ms (REFERENCE.md §4 #22)"
-expect_stdout "^velocity: 2000.00 m/s" "v = 2000 m/s (REFERENCE.md §4 #22)"
+expect_stdout "^t0: 1000.000 ms" "t0 = 1000 ms (computed from Green 1938; check value 22 of docs/references.md)"
+expect_stdout "^velocity: 2000.00 m/s" "v = 2000 m/s (computed from Green 1938; check value 22 of docs/references.md)"
 expect_stdout "^R\^2: 1.000000" "R^2 = 1 for exact picks"
 expect_status 0 "fit --quiet" -- "$TZERO" fit --quiet "$T/p.csv"
 expect_stdout "^1000.000 2000.00$" "--quiet prints t0 and v"

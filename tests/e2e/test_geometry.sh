@@ -1,7 +1,7 @@
 # test_geometry.sh -- `tzero geometry`: summaries, outputs, bad inputs and exit statuses.
 # Exit statuses are BSD sysexits(3): 64 usage, 65 data, 66 no input.
-# Sources: DESIGN.md (exit statuses, messages naming the file and trace); REFERENCE.md
-# §3.9 (nominal fold N dg / (2 ds) = 12 * 5 / 20 = 3); common practice for the rest.
+# Sources: sysexits(3) and tzero-geometry(1) (exit statuses, messages naming the file and trace);
+# nominal fold N dg / (2 ds) = 12 * 5 / 20 = 3 (Sheriff & Geldart 1995); common practice for the rest.
 . "$TOP/tests/e2e/lib.sh"
 cat >"$T/model.json" <<'JSON'
 {"layers": [{"thickness_m": 50, "velocity_mps": 1500}, {"velocity_mps": 2200}]}

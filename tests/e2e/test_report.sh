@@ -1,6 +1,6 @@
 # test_report.sh -- `tzero report`: summary, one CMP, fold CSV from a saved report.
 # The survey is written with segyio (tests/xcheck/test_stack_segyio.py); its
-# brute-force fold at CMP 250 is 6 (nominal N dg/(2 ds) = 24*10/(2*20), REFERENCE.md §3.9).
+# brute-force fold at CMP 250 is 6 (nominal N dg/(2 ds) = 24*10/(2*20), Sheriff & Geldart 1995).
 # Exit statuses: BSD sysexits(3).
 . "$TOP/tests/e2e/lib.sh"
 D="$T/sv"
@@ -11,7 +11,7 @@ expect_status 0 "report prints the summary" -- "$TZERO" report "$Q"
 grep -v '^timing\|^throughput\|^report' "$T/sum" >"$T/a"
 grep -v '^timing\|^throughput' "$T/out" >"$T/b"
 if cmp -s "$T/a" "$T/b" && [ -s "$T/a" ]; then
-  ok "the saved report prints the same summary as the run"
+  ok "consistency check: the saved report prints the same summary as the run"
 else notok "report summary differs from the run's"; fi
 expect_status 0 "--cmp 250" -- "$TZERO" report "$Q" --cmp 250
 expect_stdout "^fold +6 " "CMP 250 has the brute-force fold 6"

@@ -1,10 +1,10 @@
-# test_robustness.sh -- bad input of every kind against the contract of DESIGN.md:
+# test_robustness.sh -- bad input of every kind against the rules of DEVELOPERS.md (conventions, bad input):
 # a one-line message naming the file (and line, trace or byte where one applies),
 # the <sysexits.h> status (BSD sysexits(3): 64 usage, 65 data, 66 no input,
 # 73 cannot create, 74 I/O) and no output left behind, not even a hidden
 # temporary file. Each case here was a defect once; the comment says how it failed.
 # The survey is tiny and written by `tzero synth`; the defects are made with
-# python3 byte edits (SEG-Y rev 1 byte positions, REFERENCE.md §1).
+# python3 byte edits (SEG-Y rev 1 (2002) byte positions).
 . "$TOP/tests/e2e/lib.sh"
 cd "$T" || exit 1
 cat >model.json <<'JSON'

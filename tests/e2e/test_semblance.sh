@@ -1,7 +1,7 @@
 # test_semblance.sh -- `tzero semblance`: outputs, thread identity, bad input.
 # Numerical checks (picks against exact RMS velocities, stacks) are in
 # tests/xcheck/test_semblance_synth.py. Exit statuses are BSD sysexits(3):
-# 64 usage, 65 data, 66 no input, 73 cannot create. Sources: DESIGN.md
+# 64 usage, 65 data, 66 no input, 73 cannot create. Sources: DEVELOPERS.md
 # (bitwise identity for any thread count; no half-written output); common
 # practice for the rest.
 . "$TOP/tests/e2e/lib.sh"
@@ -31,13 +31,13 @@ S="--velocity-min 1600 --velocity-max 3400 --velocity-step 25"
 expect_status 0 "semblance with outputs" -- "$TZERO" semblance --job "$J" --cmps 30,40 $S \
   --supergather 1 --threads 1 --out "$D/v1.csv" --panels "$D/p1.sgy"
 expect_stdout "^CMP 30 \(CMPs 29-31, [0-9]+ traces\): 2 picks" "text summary: 2 picks per CMP"
-head -n 1 "$D/v1.csv" | grep -q '^cmp,time_ms,velocity_mps' && ok "velocity table header (DESIGN.md)" ||
+head -n 1 "$D/v1.csv" | grep -q '^cmp,time_ms,velocity_mps' && ok "velocity table header (docs/velocity-table.md)" ||
   notok "velocity table header"
 expect_status 0 "the table passes tzero velocity check" -- "$TZERO" velocity check "$D/v1.csv"
 "$TZERO" semblance --job "$J" --cmps 30,40 $S --supergather 1 --threads 2 --out "$D/v2.csv" \
   --panels "$D/p2.sgy" --quiet
 if cmp -s "$D/p1.sgy" "$D/p2.sgy" && cmp -s "$D/v1.csv" "$D/v2.csv"; then
-  ok "panels and table bitwise identical for 1 and 2 threads (DESIGN.md)"
+  ok "panels and table bitwise identical for 1 and 2 threads (DEVELOPERS.md, threads)"
 else notok "1 and 2 threads differ"; fi
 expect_status 0 "--json" -- "$TZERO" semblance --job "$J" --cmps 35 $S --json
 expect_stdout '"semblance":' "JSON carries the semblance of each pick"

@@ -1,14 +1,14 @@
 # test_stack.sh -- `tzero stack`: reproducibility, batch behaviour, error cases.
 # The survey is written with segyio by tests/xcheck/test_stack_segyio.py (independent
 # of tzero). Exit statuses are BSD sysexits(3): 64 usage, 65 data, 66 no input.
-# Sources: DESIGN.md (bitwise identity for any thread count; no half-written
+# Sources: DEVELOPERS.md (bitwise identity for any thread count; no half-written
 # output; job errors name the key); common practice for the rest.
 . "$TOP/tests/e2e/lib.sh"
 D="$T/sv"
 "$PYTHON" "$TOP/tests/xcheck/test_stack_segyio.py" --make-survey "$D" || { notok "survey"; exit 1; }
 J="$D/line.json"
 
-# --- bitwise identity across thread counts and runs (DESIGN.md "Quality")
+# --- bitwise identity across thread counts and runs (DEVELOPERS.md, threads: bitwise-identical output for any thread count)
 for n in 1 2 3 5; do
   expect_status 0 "stack with --threads $n" -- "$TZERO" stack --job "$J" --threads $n \
     --out "$D/out/t$n.sgy" --report "$D/out/t$n.json" --quiet
@@ -75,7 +75,7 @@ bad_job "not JSON" 65 'not valid JSON' '{"shots": ["shots/*.sgy"],'
 bad_job "no velocity at all" 65 'no velocity table' '{"shots": ["shots/*.sgy"]}'
 
 # --- Dix warnings reach the report: RMS 2500 m/s at 1.0 s then 2000 m/s at 1.2 s
-# gives V_int^2 = -7.25e6 (REFERENCE.md check value #16, Dix 1955); the run goes on
+# gives V_int^2 = -7.25e6 (computed from Dix 1955; check value 16 of docs/references.md); the run goes on
 printf 'cmp,time_ms,velocity_mps\n1,0,1800\n1,500,2500\n1,1000,2500\n1,1200,2000\n' >"$D/dix.csv"
 expect_status 0 "stack with an imaginary Dix interval" -- "$TZERO" stack --job "$J" \
   --velocity "$D/dix.csv" --out "$D/out/dix.sgy" --report "$D/out/dix.json"

@@ -1,6 +1,6 @@
 # test_synth.sh -- `tzero synth`: outputs, bad inputs, exit statuses, no half-written output.
 # Exit statuses are BSD sysexits(3): 64 usage, 65 data, 66 no input, 73 cannot create.
-# Sources: DESIGN.md (exit statuses; a failed run leaves no output that looks complete);
+# Sources: sysexits(3) and the man pages (exit statuses; a failed run leaves no output that looks complete);
 # common practice for the rest.
 . "$TOP/tests/e2e/lib.sh"
 cat >"$T/model.json" <<'JSON'
@@ -14,7 +14,7 @@ expect_status 0 "synth writes a survey" -- "$TZERO" synth --model "$T/model.json
 expect_stdout "wrote 4 shot files \(48 traces" "summary counts files and traces"
 n=$(ls "$T/sv"/shot_*.sgy 2>/dev/null | wc -l)
 [ "$n" -eq 4 ] && ok "four shot files" || notok "four shot files: got $n"
-# 101 samples, 3600 + 12 * (240 + 404) bytes (REFERENCE.md §1.1 file size rule)
+# 101 samples, 3600 + 12 * (240 + 404) bytes (SEG-Y rev 1 (2002), file structure: 3600 + traces x (240 + samples x bytes))
 sz=$(wc -c <"$T/sv/shot_000001.sgy")
 [ "$sz" -eq $((3600 + 12 * (240 + 101 * 4))) ] && ok "file size from --record-ms/--interval-ms" ||
   notok "file size $sz"

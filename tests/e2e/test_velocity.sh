@@ -1,6 +1,6 @@
 # test_velocity.sh -- `tzero velocity check|intervals|at` end to end.
-# Expected numbers: Dix (1955) worked examples of REFERENCE.md §4 #15 (3278.72 m/s,
-# 1819.68 m) and #16 (imaginary); interpolation rules of DESIGN.md worked by hand.
+# Expected numbers: Dix (1955) worked examples, computed (check value 15 of docs/references.md: 3278.72 m/s,
+# 1819.68 m) and #16 (imaginary); interpolation rules of docs/velocity-table.md worked by hand.
 # Exit codes from <sysexits.h>: 65 data error, 64 usage, 66 no input, 73 cannot create.
 . "$TOP/tests/e2e/lib.sh"
 

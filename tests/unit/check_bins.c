@@ -17,7 +17,7 @@ static bins_line *straight(double ox, double oy, double az, double size, int32_t
   return l;
 }
 
-/* DESIGN.md "Processing line and bins", worked by hand:
+/* The binning rule of tzero-geometry(1), worked by hand:
  * origin (100, 200), azimuth 90, size 2.5, first CMP 1. Midpoint (112.4, 205):
  * s = 12.4 -> 12.4 / 2.5 = 4.96 -> CMP 6; 5 m north of an eastward line is left (-5).
  * Azimuth 45: midpoint (110, 110) from origin (0, 0) -> s = 110 sqrt 2 = 155.563,
@@ -132,7 +132,7 @@ START_TEST(test_fit_line)
 END_TEST
 
 /* Roll-along off-end line, 48 channels, dg = 5 m, ds = 10 m, bins of dg/2:
- * nominal fold N dg / (2 ds) = 12 (REFERENCE.md §3.9, common practice) equals the
+ * nominal fold N dg / (2 ds) = 12 (Sheriff & Geldart 1995; common practice) equals the
  * fold in the middle of the line. Stacking chart (common practice): shot i covers
  * the 48 bins from 4i, so the fold of bin j from the line start is floor(j/4) + 1
  * until it reaches 12, and the same ramp mirrored at the far end. */

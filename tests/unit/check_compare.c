@@ -11,7 +11,7 @@
 
 static void ricker(float *s, size_t ns, double dt_s, double t, double amp)
 {
-  /* Ricker (1953) wavelet, 30 Hz peak frequency (REFERENCE.md §3.12). */
+  /* Ricker (1953) wavelet, 30 Hz peak frequency. */
   for (size_t j = 0; j < ns; j++) {
     double u = M_PI * 30.0 * ((double)j * dt_s - t);
     s[j] += (float)(amp * (1 - 2 * u * u) * exp(-u * u));
@@ -112,7 +112,7 @@ static char *write_section(const struct sec *s)
   return path;
 }
 
-/* A section against itself: zero difference everywhere (issue #6). A section
+/* Consistency check: a section against itself gives zero difference everywhere. A section
  * with amplitudes doubled on a shifted CMP range: B stronger by 6.02 dB on the
  * overlap, and the CMPs outside it are counted, not compared. */
 START_TEST(test_sections)

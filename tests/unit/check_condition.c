@@ -1,9 +1,9 @@
 /* check_condition.c -- band-pass, spherical divergence, power gain and AGC.
  *
- * References: Ormsby wavelet and trapezoid band-pass (Ormsby 1961; REFERENCE.md §3.14,
+ * References: Ormsby wavelet and trapezoid band-pass (Ormsby 1961,
  * check values §4 #26 and #27), spherical divergence correction (Newman 1973;
- * REFERENCE.md §3.11, check value §4 #28), t^alpha power gain (Claerbout 1985, as
- * quoted in REFERENCE.md §3.11), AGC definition (common practice, REFERENCE.md §3.11).
+ * Newman 1973, check value 28 of docs/references.md), t^alpha power gain (Claerbout
+ * 1985), AGC definition (common practice).
  * Sinusoid amplitudes and phases are measured by a least-squares fit of sin and cos
  * (independent of the FFT under test). */
 #include <math.h>
@@ -66,7 +66,7 @@ static void fit_sinusoid(const float *y, size_t lo, size_t hi, double f, double 
   *phase = atan2(b, a);
 }
 
-/* REFERENCE.md §4 #26: w(0) = f4 + f3 - f2 - f1 = 75, w(10 ms) = -4.716300,
+/* computed from Ormsby 1961 (check value 26 of docs/references.md): w(0) = f4 + f3 - f2 - f1 = 75, w(10 ms) = -4.716300,
  * w(23 ms) = -9.203509 for corners (5, 10, 40, 50) Hz. */
 START_TEST(test_ormsby_wavelet)
 {
@@ -74,7 +74,7 @@ START_TEST(test_ormsby_wavelet)
   ck_assert_double_eq_tol(condition_ormsby_wavelet(ORMSBY, 0.010), -4.716300, 1e-6 * 4.7163);
   ck_assert_double_eq_tol(condition_ormsby_wavelet(ORMSBY, 0.023), -9.203509, 1e-6 * 9.2035);
   ck_assert_double_eq_tol(condition_ormsby_wavelet(ORMSBY, -0.023), -9.203509, 1e-6 * 9.2035);
-  /* trapezoid itself (§3.14 definition) */
+  /* trapezoid itself (Ormsby 1961 definition) */
   ck_assert_double_eq(condition_trapezoid(ORMSBY, 5), 0);
   ck_assert_double_eq_tol(condition_trapezoid(ORMSBY, 7.5), 0.5, 1e-12);
   ck_assert_double_eq(condition_trapezoid(ORMSBY, 25), 1);
@@ -84,7 +84,7 @@ START_TEST(test_ormsby_wavelet)
 END_TEST
 
 /* The filter's impulse response is the Ormsby wavelet sampled: h[n] = dt w(n dt)
- * (REFERENCE.md §3.14: w is the exact inverse transform of the trapezoid; the
+ * (Ormsby 1961: w is the exact inverse transform of the trapezoid; the
  * discrete response differs only by the aliased tails at +-nfft dt, below 1e-3 of
  * the peak for these sizes). */
 START_TEST(test_impulse_response_is_ormsby)
@@ -113,7 +113,7 @@ START_TEST(test_impulse_response_is_ormsby)
 }
 END_TEST
 
-/* REFERENCE.md §4 #27: corners (5, 10, 40, 50) Hz, 4 ms, 1000 samples; unit sinusoids
+/* computed from Ormsby 1961 (check value 27 of docs/references.md): corners (5, 10, 40, 50) Hz, 4 ms, 1000 samples; unit sinusoids
  * at 25 / 7.5 / 45 / 60 Hz come out with amplitude 1.0 / 0.5 / 0.5 / 0.0. Measured
  * away from the trace ends (the zero padding makes the ends behave as a finite
  * record, as it should); zero phase: the fitted phase is unchanged. */
@@ -165,7 +165,7 @@ START_TEST(test_bandpass_arguments)
     ck_assert_msg(strstr(e.msg, bad[k].needle), "message '%s' lacks '%s'", e.msg, bad[k].needle);
     ck_assert_uint_eq(c.n, 0);
   }
-  /* f2 == f3 is a triangle, allowed (REFERENCE.md §3.14: f2 <= f3) */
+  /* f2 == f3 is a triangle, allowed (Ormsby 1961: f2 <= f3) */
   condition_chain c;
   condition_chain_init(&c);
   tz_err e;
@@ -201,7 +201,7 @@ static velocity_table *linear_table(void)
   return vt;
 }
 
-/* REFERENCE.md §4 #28 (Newman 1973): t = 2 s, V_rms = 2500 m/s, reference t = 1 s,
+/* computed from Newman 1973 (check value 28 of docs/references.md): t = 2 s, V_rms = 2500 m/s, reference t = 1 s,
  * V_rms = 2000 m/s gives g = 3.125. */
 START_TEST(test_spherical_divergence)
 {
@@ -230,7 +230,7 @@ START_TEST(test_spherical_divergence)
   ck_assert_double_eq_tol(x[125], 0.5 * 1750.0 * 1750 / (2000.0 * 2000), 1e-5);
   ck_assert(memcmp(x, y, sizeof x) == 0);
   ck_assert(x[0] > 0 && x[0] < x[1]);           /* t = 0 takes the time of one sample */
-  /* constant velocity: V cancels, g = t / t_ref (REFERENCE.md §3.11) */
+  /* constant velocity: V cancels, g = t / t_ref (Newman 1973) */
   condition_chain_init(&c);
   ck_assert_int_eq(condition_chain_add_spherical(&c, 0.5, 1800, &e), TZ_OK);
   ck_assert_int_eq(condition_chain_needs_velocity(&c), 0);
@@ -255,7 +255,7 @@ START_TEST(test_spherical_divergence)
 }
 END_TEST
 
-/* Power gain (t / t_ref)^alpha (REFERENCE.md §3.11; alpha = 2 as argued by Claerbout). */
+/* Power gain (t / t_ref)^alpha (alpha = 2 as argued by Claerbout 1985). */
 START_TEST(test_power_gain)
 {
   condition_chain c;
@@ -305,7 +305,7 @@ static void envelope_range(const float *y, size_t lo, size_t hi, size_t period, 
   }
 }
 
-/* AGC (common practice, REFERENCE.md §3.11): a constant-amplitude sinusoid comes out
+/* AGC (common practice): a constant-amplitude sinusoid comes out
  * flat, with unit RMS (peak sqrt 2) or unit mean |y| (peak pi/2). A decaying sinusoid
  * is balanced to the same level. */
 START_TEST(test_agc)
@@ -466,7 +466,7 @@ START_TEST(test_apply_record)
 END_TEST
 
 /* Threads: one plan, a workspace per thread; the same traces come out bitwise the same
- * as a serial run (DESIGN.md: identical output for any thread count). */
+ * as a serial run (DEVELOPERS.md, threads: identical output for any thread count). */
 #define TNS 1500
 #define TNTR 64
 struct tjob {

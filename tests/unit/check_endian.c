@@ -3,7 +3,7 @@
  *
  * Sources: two's-complement and big-endian (network) byte order as C11 and
  * POSIX define them (common practice); the SEG-Y rev 2 byte-order constant
- * 0x01020304 seen as 01 02 03 04 / 04 03 02 01 / 02 01 04 03 (REFERENCE.md §4 #6);
+ * 0x01020304 seen as 01 02 03 04 / 04 03 02 01 / 02 01 04 03 (SEG-Y rev 2.0 (2017), byte-order constant (check value 6 of docs/references.md));
  * IEEE 754 single 1.0 = 0x3F800000 and double 1.0 = 0x3FF0000000000000
  * (IEEE 754-2008 binary32/binary64 encodings).
  */
@@ -61,7 +61,7 @@ START_TEST(test_float_bits)
 }
 END_TEST
 
-/* REFERENCE.md §4 #6: the constant 16909060 as stored by each byte order. */
+/* SEG-Y rev 2.0 (2017), byte-order constant (check value 6 of docs/references.md): the constant 16909060 as stored by each byte order. */
 START_TEST(test_segy_orders)
 {
   const unsigned char big[4] = { 1, 2, 3, 4 }, little[4] = { 4, 3, 2, 1 }, pairs[4] = { 2, 1, 4, 3 };

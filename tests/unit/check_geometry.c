@@ -17,7 +17,7 @@ static geometry_layout parse_ok(const char *json)
   return l;
 }
 
-/* REFERENCE.md §4 #21 (computed): S = (1000, 0), R = (3000, 400) gives
+/* Computed by hand, common practice (check value 21 of docs/references.md): S = (1000, 0), R = (3000, 400) gives
  * M = (2000, 200), |offset| = 2039.608 m, positive (receiver in the +x direction). */
 START_TEST(test_midpoint_offset_check_value)
 {
@@ -27,7 +27,7 @@ START_TEST(test_midpoint_offset_check_value)
   ck_assert_double_eq_tol(g.midpoint_y, 200.0, 1e-9);
   ck_assert_double_eq_tol(g.offset_abs, 2039.608, 5e-4);
   ck_assert(g.offset > 0);
-  /* Azimuth atan2(dx, dy) clockwise from north (REFERENCE.md §3.9). */
+  /* Azimuth atan2(dx, dy) clockwise from north (Sheriff & Geldart 1995; common practice). */
   ck_assert_double_eq_tol(g.azimuth_deg, atan2(2000.0, 400.0) * 180.0 / M_PI, 1e-9);
   /* Shooting westwards, the same receiver lies behind: negative (SEG-Y rule, R1 37-40). */
   geometry_derive(&g, 270.0, 0.0);
@@ -38,7 +38,7 @@ START_TEST(test_midpoint_offset_check_value)
 }
 END_TEST
 
-/* REFERENCE.md §4 #20 (formula §3.9 and brute-force count): nominal fold and bin. */
+/* computed from Sheriff & Geldart 1995 and a brute-force midpoint count (check value 20 of docs/references.md): nominal fold and bin. */
 START_TEST(test_nominal_fold_check_values)
 {
   static const struct { int n; double dg, ds, fold, bin; } c[] = {
@@ -178,7 +178,7 @@ END_TEST
 
 /* Large projected coordinates (northings of millions of metres) keep centimetres:
  * positions built from line coordinates must give offsets equal to the exact
- * line-coordinate distance (REFERENCE.md §3.9 formulas; precision: common practice). */
+ * line-coordinate distance (Sheriff & Geldart 1995 formulas; precision: common practice). */
 START_TEST(test_large_coordinates)
 {
   geometry_layout l = parse_ok(

@@ -1,6 +1,6 @@
 /* check_job.c -- the job module: keys, values, defaults, patterns, overrides.
  *
- * Sources: DESIGN.md "Job file" (the contract: unknown keys rejected with the
+ * Sources: docs/job-file.md (the contract: unknown keys rejected with the
  * nearest key suggested, values checked with the JSON path named, paths
  * relative to the job file's folder); Levenshtein distance values from the
  * textbook definition (Levenshtein 1966; "kitten"/"sitting" = 3 is the usual
@@ -81,7 +81,7 @@ START_TEST(test_minimal_defaults)
 END_TEST
 
 /* The velocity table a job names may not exist yet: `tzero semblance --job` is
- * the usual first run and writes it (DESIGN.md pipeline; issue report). */
+ * the usual first run and writes it (the workflow of README.md). */
 START_TEST(test_velocity_not_written_yet)
 {
   job_spec *j = NULL;

@@ -1,9 +1,9 @@
 /* check_nmo.c -- exact NMO, stretch and top mutes, fourth-order moveout, sinc8.
  *
- * References: hyperbolic traveltime and stretch (REFERENCE.md §3.1-3.3, check values
- * §4 #10-#14), Ricker wavelet (Ricker 1953, §3.12), exact flat-layer ray tracing
- * (Snell's law, §3.13, check values §4 #23-#24), fourth-order moveout (Alkhalifah and
- * Tsvankin 1995, §3.5), band-limited signals sampled analytically. */
+ * References: hyperbolic traveltime and stretch (Yilmaz 2001; check values 10-14
+ * of docs/references.md), Ricker wavelet (Ricker 1953), exact flat-layer ray tracing
+ * (Snell's law; Sheriff & Geldart 1995; check values 23-24), fourth-order moveout
+ * (Alkhalifah & Tsvankin 1995), band-limited signals sampled analytically. */
 #include <math.h>
 #include <pthread.h>
 #include <stdio.h>
@@ -18,7 +18,7 @@
 
 static double ricker(double t, double fp)
 {
-  double a = M_PI * M_PI * fp * fp * t * t;   /* Ricker 1953; REFERENCE.md §3.12 */
+  double a = M_PI * M_PI * fp * fp * t * t;   /* Ricker 1953 */
   return (1 - 2 * a) * exp(-a);
 }
 
@@ -55,7 +55,7 @@ static void apply(nmo_workspace *ws, const nmo_params *p, const nmo_top_mute *m,
   ck_assert_msg(rc == TZ_OK, "nmo_apply: %s", e.msg);
 }
 
-/* REFERENCE.md §4 #10-#14. */
+/* computed from the exact hyperbola, Yilmaz 2001; computed from the NMO stretch, Yilmaz 2001 (check values 10-14 of docs/references.md). */
 START_TEST(test_formulas)
 {
   /* #10: t0 = 1, v = 2000, x = 1000 -> 1.118034 s; parabolic approx 125 ms. */
@@ -80,10 +80,10 @@ START_TEST(test_formulas)
 }
 END_TEST
 
-/* Single flat reflector, constant v, Ricker on the exact hyperbola (§3.1), with a
+/* Single flat reflector, constant v, Ricker on the exact hyperbola (Yilmaz 2001, hyperbolic moveout), with a
  * non-zero recording delay. After NMO the peak sits at t0 within a quarter sample at
  * every unmuted offset, for both interpolators. The small-moveout shortcut
- * dt ~ x^2/(2 t0 v^2) (§3.2) misplaces it by far more; the difference is printed. */
+ * dt ~ x^2/(2 t0 v^2) (Yilmaz 2001, small-spread approximation) misplaces it by far more; the difference is printed. */
 START_TEST(test_flattens_exact_hyperbola)
 {
   const double v = 2000, t0 = 0.6, dt = 0.002, tf = 0.1, fp = 25;
@@ -144,7 +144,7 @@ START_TEST(test_flattens_exact_hyperbola)
 END_TEST
 
 /* The stretch mute starts where (t - t0)/t0 reaches the limit, i.e. at offset
- * x = v t0 sqrt((1 + s)^2 - 1) (derived from the hyperbola, §3.3; §4 #13). */
+ * x = v t0 sqrt((1 + s)^2 - 1) (derived from the hyperbola, Yilmaz 2001; check value 13 of docs/references.md). */
 START_TEST(test_stretch_mute_edge)
 {
   const double v = 2000, dt = 0.002;
@@ -249,7 +249,7 @@ START_TEST(test_top_mute_and_trace_end)
 END_TEST
 
 /* Exact reflection time from the base of a stack of flat layers (Snell's law,
- * REFERENCE.md §3.13): solve x(p) = x by bisection, then t(p). */
+ * Snell's law through flat layers, Sheriff & Geldart 1995): solve x(p) = x by bisection, then t(p). */
 static double ray_time(const double *h, const double *v, int n, double x)
 {
   double vmax = 0;
@@ -277,7 +277,7 @@ START_TEST(test_fourth_order_layered)
 {
   const double h[] = { 500, 500 }, vl[] = { 2000, 3000 };
   const double t0 = 0.5 + 1.0 / 3, vrms = sqrt((2000.0 * 2000 * 0.5 + 9e6 / 3) / t0);
-  /* §3.5: eta_eff = (mu4/mu2^2 - 1)/8 = 1/48 for this model; §4 #23-#24 values. */
+  /* Alkhalifah & Tsvankin 1995: eta_eff = (mu4/mu2^2 - 1)/8 = 1/48 for this model; check values 23-24 of docs/references.md. */
   const double eta_eff = 1.0 / 48;
   ck_assert_double_eq_tol(vrms, 2449.490, 1e-3);
   ck_assert_double_eq_tol(ray_time(h, vl, 2, 1186.4358), 0.962211, 1e-6);
@@ -380,7 +380,7 @@ START_TEST(test_sinc8_error)
 }
 END_TEST
 
-/* Inverse NMO puts a corrected event back on its hyperbola (§3.1). The reference is
+/* Inverse NMO puts a corrected event back on its hyperbola (Yilmaz 2001, hyperbolic moveout). The reference is
  * the analytic input, not tzero output. */
 START_TEST(test_inverse)
 {
@@ -445,7 +445,7 @@ START_TEST(test_bad_arguments)
 }
 END_TEST
 
-/* DESIGN.md: the same input gives bitwise-identical output for any thread count.
+/* DEVELOPERS.md, threads: the same input gives bitwise-identical output for any thread count.
  * Two threads, each with its own workspace, sharing one velocity table and the
  * parameters, against a serial run. */
 #define TH_NTR 48

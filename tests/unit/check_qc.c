@@ -1,7 +1,7 @@
 /* check_qc.c -- reading tzero-qc/1 reports back: validation, summary, CMP detail, CSV.
  *
  * The report below is written by hand following docs/qc-report.md (the
- * contract of DESIGN.md "QC report"); building reports from real runs is
+ * format of docs/qc-report.md); building reports from real runs is
  * checked end to end in tests/e2e/test_report.sh and test_stack.sh.
  */
 #include <stdlib.h>

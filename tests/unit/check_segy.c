@@ -1,8 +1,8 @@
 /* check_segy.c -- the SEG-Y module against published bit patterns, the
  * standard's byte positions and the independent segyio library.
  *
- * Sources: REFERENCE.md §4 check values (#1-#5 IBM hexadecimal float, from the
- * "IBM hexadecimal floating-point" article and hand computation in §1.7; #8
+ * Sources: the check values of docs/references.md (1-5 IBM hexadecimal float, from
+ * IBM System/360 Principles of Operation and hand computation; 8
  * EBCDIC from Python's cp037 codec; #9 the SEG-Y rev 1/rev 2 scalar rule; #29
  * the rev 1 file layout), SEG-Y rev 1 (2002) byte positions, and Python
  * segyio (Debian python3-segyio) reading the files tzero writes.
@@ -38,7 +38,8 @@ static const char *tmp_path(const char *name)
 
 /* ---- IBM hexadecimal float ---- */
 
-/* REFERENCE.md §4 #1, #2, #3 (first half), #5; worked in §1.7. */
+/* Check values 1, 2, 3 (first half) and 5 of docs/references.md: IBM System/360
+ * hexadecimal float (IBM System/360 Principles of Operation), worked by hand. */
 static const struct { uint32_t ibm; float want; } ibm_cases[] = {
   { 0xC276A000u, -118.625f },   /* #1 */
   { 0x42640000u, 100.0f },      /* #2 */
@@ -60,7 +61,7 @@ START_TEST(test_ibm_decode)
 }
 END_TEST
 
-/* #3 second half: bits 0x41100000 read as IEEE give 9.0 (REFERENCE.md §4). */
+/* #3 second half: bits 0x41100000 read as IEEE give 9.0 (docs/references.md, check values). */
 START_TEST(test_wrong_format_symptom)
 {
   unsigned char b[4] = { 0x41, 0x10, 0x00, 0x00 };
@@ -70,7 +71,7 @@ START_TEST(test_wrong_format_symptom)
 }
 END_TEST
 
-/* #4: 0.1 rounds to 0x4019999A, which decodes to 0.10000002384 (REFERENCE.md §4). */
+/* #4: 0.1 rounds to 0x4019999A, which decodes to 0.10000002384 (docs/references.md, check values). */
 START_TEST(test_ibm_encode)
 {
   ck_assert_uint_eq(segy_float_to_ibm(0.1f), 0x4019999Au);
@@ -83,7 +84,7 @@ START_TEST(test_ibm_encode)
 END_TEST
 
 /* IBM keeps 21-24 bits, so IEEE -> IBM -> IEEE is within 2^-21 relative
- * (REFERENCE.md §1.7 precision note); exact for values in range with 21 bits. */
+ * (IBM System/360 Principles of Operation, hexadecimal floating point precision note); exact for values in range with 21 bits. */
 START_TEST(test_ibm_round_trip_tolerance)
 {
   unsigned seed = 99;
@@ -207,7 +208,7 @@ static void check_read_back(const char *path, int format, int rev, int ntr, uint
   ck_assert_int_eq(segy_trace_count(f), ntr);
   ck_assert_int_eq(in->nwarnings, 0);
   ck_assert(strncmp(in->text, "C 1 CLIENT INVENTED EXPLORATION LTD", 35) == 0);
-  /* cards 39 and 40 as REFERENCE.md §2 gives them */
+  /* cards 39 and 40 as SEG-Y rev 1 (2002), textual file header gives them */
   ck_assert(strncmp(in->text + 38 * 80, rev == 2 ? "C39 SEG-Y_REV2.0" : "C39 SEG Y REV1", 14) == 0);
   ck_assert(strncmp(in->text + 39 * 80, "C40 END TEXTUAL HEADER", 22) == 0);
   float *s = malloc(ns * sizeof *s);
@@ -255,7 +256,7 @@ START_TEST(test_write_read)
 END_TEST
 
 /* #29: 1000 samples, format 5, no extended headers, 500 traces, rev 1:
- * 3600 + 500 * (240 + 4000) = 2 123 600 bytes (REFERENCE.md §4). */
+ * 3600 + 500 * (240 + 4000) = 2 123 600 bytes (docs/references.md, check values). */
 START_TEST(test_file_size)
 {
   const char *p = write_file("size.sgy", 5, 1, 500, 1000);
@@ -403,7 +404,7 @@ START_TEST(test_corrupt)
   segy_file *f = NULL;
   tz_err err;
 
-  /* unknown format code 13 (undefined in rev 2, REFERENCE.md §1.4) */
+  /* unknown format code 13 (undefined in rev 2, SEG-Y rev 2.0 (2017), data sample format codes) */
   b[3225 - 1] = 0; b[3226 - 1] = 13;
   write_bytes(p, b, n);
   tz_err_init(&err);
@@ -465,7 +466,7 @@ START_TEST(test_corrupt)
 }
 END_TEST
 
-/* NaN and Inf in IEEE data are replaced by 0 and counted (issue #2). */
+/* NaN and Inf in IEEE data are replaced by 0 and counted (docs/segy-reading.md). */
 START_TEST(test_nan_counted)
 {
   unsigned char b[16] = { 0x7F, 0xC0, 0, 0,  0x7F, 0x80, 0, 0,  0x3F, 0x80, 0, 0,  0xFF, 0x80, 0, 0 };
@@ -620,7 +621,7 @@ END_TEST
 
 /* Rev 2 writer: byte-order constant 01 02 03 04 at 3297-3300, revision bytes
  * 02 00 at 3501-3502, trace count at 3513-3520, first trace at 3521-3528
- * (REFERENCE.md §1.3, §4 #6 and #7). Rev 1: 01 00 and no constant. */
+ * (SEG-Y rev 1 (2002), binary file header; SEG-Y rev 2.0 (2017); check values 6 and 7 of docs/references.md). Rev 1: 01 00 and no constant. */
 START_TEST(test_writer_binary_header)
 {
   size_t n;
@@ -744,7 +745,7 @@ START_TEST(test_header_map)
 }
 END_TEST
 
-/* Damage never crashes (issue #2, "never a crash"): random bytes written over the
+/* Damage never crashes (DEVELOPERS.md, bad input: "never a crash"): random bytes written over the
  * binary header and the first trace headers of a good rev 2 file; every open
  * either fails with a message or gives a file whose every trace can be scanned
  * or fails with a message. Run under ASan/UBSan by `make sanitize`. */

@@ -22,7 +22,7 @@ static double one_window(const float *tr, size_t ntr, size_t ns, size_t at, size
   return s;
 }
 
-/* REFERENCE.md §4 #17 (Neidell and Taner 1971 definition, [COMPUTED]):
+/* computed from Neidell & Taner 1971 (check value 17 of docs/references.md):
  * three identical traces [1,2,3] give exactly 1. */
 START_TEST(test_identical)
 {
@@ -44,7 +44,7 @@ START_TEST(test_identical)
 }
 END_TEST
 
-/* REFERENCE.md §4 #18 [COMPUTED]: [1,0]&[-1,0] -> 0; [1,2]&[1,0] -> 0.666667;
+/* computed from Neidell & Taner 1971 (check value 18 of docs/references.md): [1,0]&[-1,0] -> 0; [1,2]&[1,0] -> 0.666667;
  * [1,2,3]&[2,4,6] -> 0.9; one live trace and three zero traces -> 0.25 = 1/N. */
 START_TEST(test_check_values)
 {
@@ -72,7 +72,7 @@ static double gauss(uint64_t *s)
   return sqrt(-2 * log(u[0])) * cos(2 * M_PI * u[1]);
 }
 
-/* REFERENCE.md §4 #19 [COMPUTED]: N = 24 independent Gaussian traces, a
+/* computed from Neidell & Taner 1971 (check value 19 of docs/references.md): N = 24 independent Gaussian traces, a
  * 50-sample window, mean semblance 1/24 = 0.0417 within +-0.005 over >= 200 trials. */
 START_TEST(test_noise)
 {
@@ -92,7 +92,7 @@ START_TEST(test_noise)
 END_TEST
 
 /* Muted samples are not live: N counts the traces live at each sample
- * (REFERENCE.md §3.7, [PRACTICE]). One trace live alone gives 1; a fully muted
+ * (Neidell & Taner 1971; the fold normalisation is common practice). One trace live alone gives 1; a fully muted
  * window gives 0 (denominator 0); weighted and range adds agree. */
 START_TEST(test_live_count)
 {
@@ -164,7 +164,7 @@ START_TEST(test_min_fold)
 END_TEST
 
 /* The running-sum window equals the definition summed directly (Neidell and
- * Taner 1971, REFERENCE.md §3.7), including windows cut at the trace ends. */
+ * Taner 1971), including windows cut at the trace ends. */
 START_TEST(test_window_matches_definition)
 {
   enum { N = 5, NS = 64, HALF = 6 };
@@ -199,8 +199,8 @@ START_TEST(test_window_matches_definition)
 }
 END_TEST
 
-/* ---- synthetic gathers: Ricker wavelets (Ricker 1953, REFERENCE.md §3.12) on
- * exact hyperbolas t^2 = t0^2 + x^2/v^2 (REFERENCE.md §3.1). */
+/* ---- synthetic gathers: Ricker wavelets (Ricker 1953) on
+ * exact hyperbolas t^2 = t0^2 + x^2/v^2 (Yilmaz 2001, hyperbolic moveout). */
 struct event { double t0, v, amp; };
 
 static float *make_gather(const struct event *ev, size_t nev, size_t ntr, double dx,
@@ -248,7 +248,7 @@ static float *run_panel(const struct event *ev, size_t nev, int threads, size_t 
 
 /* Semblance is near 1 at the event's (t0, v) and semblance x stack power
  * peaks there (Taner and Koehler 1969); the panel is bitwise identical for 1
- * and 3 threads (DESIGN.md: determinism). */
+ * and 3 threads (DEVELOPERS.md, threads: bitwise-identical output). */
 START_TEST(test_panel_peak_and_threads)
 {
   const struct event ev[] = { { 0.5, 2200, 1.0 } };
@@ -300,7 +300,7 @@ START_TEST(test_autopick)
     ck_assert_double_eq_tol(pk[i].velocity_mps, ev[i].v, 0.01 * ev[i].v);
     ck_assert(pk[i].semblance > 0.5);
   }
-  /* Dix (1955) interval velocity from the first two picks (REFERENCE.md §3.6). */
+  /* Dix (1955) interval velocity from the first two picks. */
   double vi = sqrt((pk[1].velocity_mps * pk[1].velocity_mps * pk[1].time_s -
                     pk[0].velocity_mps * pk[0].velocity_mps * pk[0].time_s) /
                    (pk[1].time_s - pk[0].time_s));
@@ -390,8 +390,8 @@ START_TEST(test_power_floor)
 }
 END_TEST
 
-/* Supergathers join the gathers of a CMP range in gather order (issue #6:
- * K neighbouring CMPs either side; common practice). */
+/* Supergathers join the gathers of a CMP range in gather order (K
+ * neighbouring CMPs either side; common practice). */
 START_TEST(test_supergather)
 {
   float s1[2 * 3] = { 1, 2, 3, 4, 5, 6 }, s2[3] = { 7, 8, 9 }, s3[3] = { 10, 11, 12 };
@@ -441,7 +441,7 @@ START_TEST(test_params)
 }
 END_TEST
 
-/* Velocity lists for constant-velocity stacks (issue #6 syntax, our own). */
+/* Velocity lists for constant-velocity stacks (list syntax of tzero-cvs(1), our own). */
 START_TEST(test_velocity_lists)
 {
   double *v;

@@ -1,6 +1,6 @@
 /* check_simd.c -- the AVX2 kernels give the same bits as the portable code.
  *
- * Source of the rule: issue #5 and DESIGN.md require the stacked section to be
+ * Source of the rule: DEVELOPERS.md (threads and SIMD) requires the stacked section to be
  * bitwise reproducible; the SIMD paths (src/moveout/nmo.c, src/io/segy_conv.c) are only
  * allowed because they perform the portable code's IEEE operations lane by
  * lane. The portable paths themselves are checked against outside references
@@ -35,7 +35,7 @@ static double unif(uint64_t *s, double a, double b)
  * zero, both signs, decoded in runs of every length 0..40 from odd offsets: the
  * block decoder against the one-word converter, and the overflow count against
  * the value computed in double (IBM: 16^(e - 64) x fraction / 2^24,
- * REFERENCE.md §1.7). */
+ * IBM System/360 Principles of Operation, hexadecimal floating point). */
 START_TEST(test_ibm_blocks)
 {
   enum { N = 4096 };

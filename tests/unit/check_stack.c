@@ -1,8 +1,8 @@
 /* check_stack.c -- the stack module: CMP lists, trace kinds, plan, run, collect.
  *
- * Sources: SEG-Y rev 1 trace identification codes (REFERENCE.md §1.5: 1 seismic,
+ * Sources: SEG-Y rev 1 trace identification codes (SEG-Y rev 1 (2002), standard trace header: 1 seismic,
  * 2 dead, 3 dummy, 4 time break ...); nominal roll-along fold N dg / (2 ds)
- * (REFERENCE.md §3.9); DESIGN.md "Quality" (bitwise identical output for any
+ * (Sheriff & Geldart 1995); DEVELOPERS.md "Threads" (bitwise identical output for any
  * thread count). The survey is a tiny off-end line written here with the segy
  * writer; expected folds are counted by hand below from its geometry.
  */
@@ -182,7 +182,7 @@ START_TEST(test_plan_fold)
   ck_assert_int_eq(stack_plan_skipped(p, STACK_SKIP_DEAD), 1);
   ck_assert_int_eq(stack_plan_skipped(p, STACK_SKIP_AUXILIARY), 1);
   ck_assert_int_eq(stack_plan_stackable(p), NSH * NCH - 2);
-  /* nominal N dg / (2 ds) = 12 * 10 / 40 = 3 (REFERENCE.md §3.9) */
+  /* nominal N dg / (2 ds) = 12 * 10 / 40 = 3 (Sheriff & Geldart 1995; common practice) */
   ck_assert_double_eq_tol(stack_plan_nominal_fold(p), 3.0, 1e-9);
   ck_assert_int_eq(stack_plan_first_cmp(p), 2);    /* first midpoint 5 m: CMP 1 + 5/5 */
   for (int32_t c = stack_plan_first_cmp(p); c <= stack_plan_last_cmp(p); c++) {
@@ -209,7 +209,7 @@ static stack_section *run(const stack_plan *p, const velocity_table *v, int thre
   return s;
 }
 
-/* The header pass on 1 and 3 threads gives the same plan (DESIGN.md "Quality"). */
+/* The header pass on 1 and 3 threads gives the same plan (DEVELOPERS.md, threads: bitwise-identical output for any thread count). */
 START_TEST(test_plan_threads)
 {
   job_spec *j1 = job(", \"threads\": 1"), *j3 = job(", \"threads\": 3");

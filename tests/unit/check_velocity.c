@@ -1,5 +1,5 @@
-/* check_velocity.c -- velocity tables (DESIGN.md format and interpolation rules),
- * Dix conversion (Dix 1955; REFERENCE.md §3.6 and §4 #15-#16), checks. */
+/* check_velocity.c -- velocity tables (format and interpolation rules of docs/velocity-table.md),
+ * Dix conversion (Dix 1955; check values 15-16 of docs/references.md), checks. */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -32,7 +32,7 @@ static void parse_bad(const char *txt, int64_t line, const char *needle)
   ck_assert_msg(strstr(e.msg, needle), "message '%s' lacks '%s'", e.msg, needle);
 }
 
-/* The example of DESIGN.md, with a second CMP. */
+/* The example of docs/velocity-table.md, with a second CMP. */
 static const char *TABLE =
     "# stacking velocities, line 4\n"
     "cmp,time_ms,velocity_mps\n"
@@ -61,7 +61,7 @@ START_TEST(test_parse_and_query)
 }
 END_TEST
 
-/* Interpolation rules of DESIGN.md: linear in time between knots, constant outside;
+/* Interpolation rules of docs/velocity-table.md: linear in time between knots, constant outside;
  * linear in CMP number between control CMPs at equal time, constant outside.
  * Expected values worked by hand from those rules. */
 START_TEST(test_sampling_rules)
@@ -135,7 +135,7 @@ START_TEST(test_constant_table)
 }
 END_TEST
 
-/* Each invalid-table case of issue #4 / DESIGN.md names its line. */
+/* Each invalid table names its line (docs/velocity-table.md). */
 START_TEST(test_errors_name_line)
 {
   parse_bad("120,0,1500\n", 1, "missing header");
@@ -180,7 +180,7 @@ START_TEST(test_builder_and_write_roundtrip)
   FILE *fp = open_memstream(&buf, &len);
   ck_assert_int_eq(velocity_table_write_stream(t, fp, "mem", &e), TZ_OK);
   fclose(fp);
-  /* The file format of DESIGN.md, written out literally. */
+  /* The file format of docs/velocity-table.md, written out literally. */
   ck_assert_str_eq(buf, "cmp,time_ms,velocity_mps,eta\n5,0,1500,0\n5,250,1750.5,0.02\n"
                         "9,100,2000,0.03\n");
   velocity_table *u = parse_ok(buf);
@@ -191,7 +191,7 @@ START_TEST(test_builder_and_write_roundtrip)
 }
 END_TEST
 
-/* REFERENCE.md §4 #15: Dix (1955) worked example. */
+/* Dix (1955) worked example, computed (check value 15 of docs/references.md). */
 START_TEST(test_dix_worked_example)
 {
   double t[] = { 1.0, 1.5 }, v[] = { 2000, 2500 };
@@ -207,16 +207,16 @@ START_TEST(test_dix_worked_example)
   ck_assert_double_eq_tol(iv[1].z_base_m, 1819.68, 1e-2);
   ck_assert_double_eq_tol(velocity_depth(iv, 2, 1.5), 1819.68, 1e-2);
   ck_assert_double_eq_tol(velocity_depth(iv, 2, 0.5), 500.0, 1e-9);
-  /* Round trip of §3.6: interval -> RMS gives 2500 back. */
+  /* Round trip of Dix 1955: interval -> RMS gives 2500 back. */
   double vi[] = { iv[0].v_int_mps, iv[1].v_int_mps }, vr[2];
   ck_assert_int_eq(velocity_rms_from_interval(t, vi, 2, vr, &e), TZ_OK);
   ck_assert_double_eq_tol(vr[0], 2000.0, 1e-9);
   ck_assert_double_eq_tol(vr[1], 2500.0, 1e-9);
-  /* §3.6: equal RMS at two times returns the same velocity. */
+  /* Dix 1955: equal RMS at two times returns the same velocity. */
   double t2[] = { 1.0, 2.0 }, v2[] = { 2000, 2000 };
   ck_assert_int_eq(velocity_dix(t2, v2, 2, iv, &e), TZ_OK);
   ck_assert_double_eq_tol(iv[1].v_int_mps, 2000.0, 1e-9);
-  /* §3.4 definition: layers 3000 m/s for 1 s then 2000 m/s for 1 s ->
+  /* Taner & Koehler 1969 definition: layers 3000 m/s for 1 s then 2000 m/s for 1 s ->
    * V_rms = sqrt((9e6 + 4e6)/2) = 2549.51 m/s. */
   double tl[] = { 1.0, 2.0 }, vl[] = { 3000, 2000 };
   ck_assert_int_eq(velocity_rms_from_interval(tl, vl, 2, vr, &e), TZ_OK);
@@ -224,7 +224,7 @@ START_TEST(test_dix_worked_example)
 }
 END_TEST
 
-/* REFERENCE.md §4 #16: imaginary interval velocity is flagged, not hidden. */
+/* computed from Dix 1955 (check value 16 of docs/references.md): imaginary interval velocity is flagged, not hidden. */
 START_TEST(test_dix_imaginary_flagged)
 {
   double t[] = { 1.0, 1.2, 1.6 }, v[] = { 2500, 2000, 2600 };
@@ -239,7 +239,7 @@ START_TEST(test_dix_imaginary_flagged)
   ck_assert(isnan(iv[2].z_base_m));        /* depth unknown below it */
   ck_assert(isnan(velocity_depth(iv, 3, 1.5)));
   ck_assert(!isnan(velocity_depth(iv, 3, 0.9)));
-  /* Non-increasing times are rejected (§3.6). */
+  /* Non-increasing times are rejected (Dix 1955). */
   double tb[] = { 1.0, 1.0 };
   ck_assert_int_eq(velocity_dix(tb, v, 2, iv, &e), TZ_E_ARG);
 }

@@ -24,7 +24,7 @@ measured 1e-6). The ends are left out:
 within the filter's reach (about 143 input samples / ratio, that is about 143
 output samples: 36 ms at 44.1 kHz -> 4 kHz) both see the zeros beyond the file.
 The float file (amplitude 2.5, no 16-bit rounding) is written as IBM floats,
-whose hexadecimal mantissa keeps at least 21 bits (REFERENCE.md: IBM format):
+whose hexadecimal mantissa keeps at least 21 bits (IBM System/360 Principles of Operation, hexadecimal floating point):
 2.5 x 2^-21 ~ 1.2e-6, so 2e-5 is the bound there.
 
 FLAC is not tested: nothing in Python's standard library writes it, and the

@@ -17,7 +17,7 @@ NS, DT_US = 400, 2000
 
 
 def ricker(t, t0, f=28.0):
-    # Ricker (1953), REFERENCE.md §3.12
+    # Ricker (1953)
     u = np.pi * f * (t - t0)
     return (1 - 2 * u**2) * np.exp(-u**2)
 

@@ -3,14 +3,14 @@
 Route: the library runs through the small driver build/tests/condition_driver
 (tests/unit/condition_driver.c) on raw float32 traces. The references below are
 written in float64 NumPy from the documents only:
-  - trapezoid band-pass (REFERENCE.md §3.14): np.fft.rfft / irfft of the trace
+  - trapezoid band-pass (Ormsby 1961): np.fft.rfft / irfft of the trace
     zero-padded to the documented length (smallest 2^a 3^b 5^c >= 2 ns), times
     A(|f|) on np.fft.rfftfreq; and, separately, a direct time-domain convolution
     with the sampled Ormsby wavelet (np.convolve), which no FFT is involved in;
   - spherical divergence t V_rms^2(t) / (t_ref V_rms^2(t_ref)) (Newman 1973,
-    REFERENCE.md §3.11) with V_rms from np.interp of the table knots (DESIGN.md
+    Newman 1973) with V_rms from np.interp of the table knots (docs/velocity-table.md
     rules), times clamped to one sample interval as docs/conditioning.md says;
-  - power gain (t / t_ref)^alpha (REFERENCE.md §3.11);
+  - power gain (t / t_ref)^alpha (Claerbout 1985);
   - AGC: window RMS / mean |x| by np.convolve with a box of 2h+1 samples, cut at
     the trace ends, guard 1e-6 of the whole-trace level (docs/conditioning.md).
 Tolerances: 2e-5 of the trace peak for the FFT route (float32 FFTW against float64
@@ -63,7 +63,7 @@ def bandpass_fft(x, dt, c):
 
 
 def ormsby(t, c):
-    """REFERENCE.md §3.14, with np.sinc(u) = sin(pi u)/(pi u)."""
+    """Ormsby 1961, with np.sinc(u) = sin(pi u)/(pi u)."""
     f1, f2, f3, f4 = c
     s = lambda f: f * f * np.sinc(f * t) ** 2
     return (s(f4) - s(f3)) / (f4 - f3) - (s(f2) - s(f1)) / (f2 - f1)
@@ -124,7 +124,7 @@ for c in ([5, 10, 40, 50], [2, 6, 90, 140], [20, 20.5, 21, 30]):
     arg = "bandpass:" + ",".join(str(v) for v in c)
     got = run(x, tf, dt, [arg])
     close(got, bandpass_fft(x, dt, c), 2e-5, f"band-pass {c} Hz = NumPy rfft/irfft on random data")
-    if c[1] - c[0] >= 4:   # steep ramps ring for seconds (REFERENCE.md §3.14): tails alias more
+    if c[1] - c[0] >= 4:   # steep ramps ring for seconds (Ormsby 1961): tails alias more
         close(got, bandpass_conv(x, dt, c), 2e-3,
               f"band-pass {c} Hz = convolution with the Ormsby wavelet")
 
@@ -140,7 +140,7 @@ close(got, x * t / 0.8, 1e-6, "spherical divergence, constant velocity = t / t_r
 got = run(x, -0.04, dt, ["power:1.7,0.5"])
 close(got, x * (t / 0.5) ** 1.7, 1e-5, "power gain (t / t_ref)^1.7")
 
-# Spherical divergence from a velocity table (np.interp of the knots, REFERENCE.md §3.11).
+# Spherical divergence from a velocity table (np.interp of the knots, Newman 1973).
 tab = os.path.join(WORK, "cond_vel.csv")
 with open(tab, "w") as fp:
     fp.write(TABLE)
@@ -170,7 +170,7 @@ ok(p.returncode == 1 and "f4 = 250 Hz is at or above the Nyquist frequency 250 H
 
 # ---- `tzero stack` and `tzero nmo` with a "conditioning" job key, on a file written by
 # segyio. Zero-offset traces (source = receiver), one per CMP: NMO is then the identity
-# (t = t0, REFERENCE.md §3.1) and each CMP stacks one trace, so the section must be the
+# (t = t0, Yilmaz 2001, hyperbolic moveout) and each CMP stacks one trace, so the section must be the
 # conditioned input. Reference: the NumPy chain above (independent of tzero).
 import json  # noqa: E402
 

@@ -1,8 +1,8 @@
 """test_fit_numpy -- `tzero fit` against NumPy's least-squares polyfit.
 
 Reference: NumPy `np.polyfit(x**2, t**2, 1)` (Debian python3-numpy), the
-x^2-t^2 method of Green (1938) as given in REFERENCE.md §3.8; exact picks from
-REFERENCE.md §4 #22.
+x^2-t^2 method of Green (1938) (Sheriff's Encyclopedic Dictionary, X2-T2 analysis); exact
+picks computed from the hyperbola (check value 22 of docs/references.md).
 """
 import json
 import os
@@ -28,15 +28,15 @@ def fit(path):
     return json.loads(p.stdout)
 
 
-# REFERENCE.md §4 #22: exact picks, t0 = 1 s, v = 2000 m/s.
+# computed from Green 1938 (check value 22 of docs/references.md): exact picks, t0 = 1 s, v = 2000 m/s.
 x = np.array([0, 500, 1000, 1500, 2000], float)
 t = np.sqrt(1.0 + x**2 / 2000.0**2)
 r = fit(write_picks("exact.csv", x, t))
 ok(r is not None and abs(r["velocity_mps"] - 2000.0) < 2000e-6 and abs(r["t0_ms"] - 1000.0) < 1e-3,
-   "exact hyperbola picks give v = 2000 m/s, t0 = 1000 ms (REFERENCE.md §4 #22)",
+   "exact hyperbola picks give v = 2000 m/s, t0 = 1000 ms (computed from Green 1938; check value 22 of docs/references.md)",
    str(r and (r["velocity_mps"], r["t0_ms"])))
 ok(r is not None and abs(r["slope_s2_per_m2"] - 2.5e-7) < 2.5e-13,
-   "slope 2.5e-7 s^2/m^2 (REFERENCE.md §4 #22)")
+   "slope 2.5e-7 s^2/m^2 (computed from Green 1938; check value 22 of docs/references.md)")
 
 # Noisy picks on a split spread: compare coefficients with NumPy polyfit.
 rng = np.random.default_rng(20261201)

@@ -2,9 +2,9 @@
 independent count of midpoints made here from the layout alone.
 
 References: the layout rules of docs/layout.md, re-implemented here in Python;
-midpoint and offset formulas of REFERENCE.md §3.9; CMP numbering of DESIGN.md
+midpoint and offset formulas of Sheriff & Geldart 1995; common practice; CMP numbering of tzero-geometry(1)
 "Processing line and bins" (s = (m - o).u, CMP = first + round(s / size));
-nominal fold N dg / (2 ds) (REFERENCE.md §3.9, common practice). The geometry
+nominal fold N dg / (2 ds) (Sheriff & Geldart 1995; common practice). The geometry
 table is written here from the same Python positions (segyio-free path).
 """
 import collections

@@ -4,7 +4,7 @@ A band-limited signal (a sum of unit cosines with random phases at frequencies u
 half the Nyquist frequency) is sampled exactly, corrected by the library through the
 driver build/tests/nmo_driver (constant velocity, one trace), and compared with the
 same analytic signal evaluated at the exact moveout time t = sqrt(t0^2 + x^2/v^2)
-(REFERENCE.md §3.1) in float64 NumPy. No tzero output is used as a reference.
+(Yilmaz 2001, hyperbolic moveout) in float64 NumPy. No tzero output is used as a reference.
 Stated bound (docs/nmo.md): sinc8 error <= 0.006 per unit cosine amplitude for
 content up to 0.5 Nyquist; linear interpolation is far worse there (its error for
 a cosine of angular frequency w per sample is up to 1 - cos(w/2), 0.29 at 0.5 Nyquist).

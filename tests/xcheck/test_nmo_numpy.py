@@ -1,15 +1,14 @@
 """test_nmo_numpy -- tzero's NMO against an independent NumPy implementation.
 
-Route (simplest honest one): `tzero nmo` belongs to another part and needs a job
-file, so this script writes a gather and its offsets as raw float32 files and runs
+Route: `tzero nmo` needs a job file and a whole survey, so this script writes a gather and its offsets as raw float32 files and runs
 the library through the tiny driver build/tests/nmo_driver (tests/unit/nmo_driver.c).
 The reference below re-implements, in float64 NumPy and from the documents only:
-  - velocity sampling of DESIGN.md (np.interp in time, constant outside the knots;
+  - velocity sampling of docs/velocity-table.md (np.interp in time, constant outside the knots;
     linear in CMP number between control CMPs);
-  - exact hyperbolic pull NMO t = sqrt(t0^2 + x^2/v(t0)^2) (REFERENCE.md §3.1) with
+  - exact hyperbolic pull NMO t = sqrt(t0^2 + x^2/v(t0)^2) (Yilmaz 2001, hyperbolic moveout) with
     linear interpolation (np.interp) and, separately, the 8-point Kaiser(beta 5)
     windowed sinc documented in docs/nmo.md (np.i0, np.sinc);
-  - the stretch mute (t - t0)/t0 > limit (REFERENCE.md §3.3) and the trace-end rule.
+  - the stretch mute (t - t0)/t0 > limit (Yilmaz 2001, NMO stretch) and the trace-end rule.
 Tolerance: 1e-3 of the unit event amplitude (float32 arithmetic in tzero against
 float64 here; the sinc8 table quantises the fractional position to 1/2048 sample),
 and at most one sample per trace where the live masks differ (edge rounding).
@@ -37,7 +36,7 @@ CMP, TF, DT, NS, LIMIT = 160, 0.05, 0.002, 700, 45.0
 
 
 def velocity_numpy(t):
-    """DESIGN.md rules, written independently: CMP 160 is 0.3 of the way 100 -> 300."""
+    """docs/velocity-table.md rules, written independently: CMP 160 is 0.3 of the way 100 -> 300."""
     k100 = (np.array([0, 400, 900, 1400]) / 1e3, np.array([1550, 1800, 2300, 2600.0]))
     k300 = (np.array([0, 500, 1200]) / 1e3, np.array([1500, 2000, 2800.0]))
     w = (CMP - 100) / (300 - 100)
@@ -45,7 +44,7 @@ def velocity_numpy(t):
 
 
 def ricker(t, fp=25.0):
-    a = (np.pi * fp * t) ** 2   # Ricker 1953; REFERENCE.md §3.12
+    a = (np.pi * fp * t) ** 2   # Ricker 1953
     return (1 - 2 * a) * np.exp(-a)
 
 

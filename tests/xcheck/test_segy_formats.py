@@ -2,10 +2,10 @@
 file-structure options, written by an independent generator and read by tzero.
 
 The files come from tests/data/segy/segygen.py, written from the SEG-Y rev 1
-(2002) and rev 2.0 (2017) byte tables (REFERENCE.md §1) with Python's struct
+(2002) and rev 2.0 (2017) byte tables with Python's struct
 and codecs modules; expected sample values come from NumPy's float32 rounding
 of the stored numbers and, for IBM floats, from the defining formula
-(-1)^S * F/2^24 * 16^(E-64) (REFERENCE.md §1.7). segyio cannot write most of
+(-1)^S * F/2^24 * 16^(E-64) (IBM System/360 Principles of Operation, hexadecimal floating point). segyio cannot write most of
 these formats, hence the separate generator.
 """
 import json
@@ -23,7 +23,7 @@ rng = np.random.default_rng(7)
 
 
 def ibm_value(w):
-    """Defining formula of the IBM System/360 single (REFERENCE.md §1.7)."""
+    """Defining formula of the IBM System/360 single (IBM System/360 Principles of Operation, hexadecimal floating point)."""
     s = -1.0 if w >> 31 else 1.0
     return s * (w & 0xFFFFFF) / 2.0 ** 24 * 16.0 ** (((w >> 24) & 0x7F) - 64)
 
@@ -75,17 +75,17 @@ HEADERS = [{"field_record": 77, "channel": k + 1, "coord_scalar": -100, "source_
 def check_headers(j, name):
     good = len(j["headers"]) == 3
     for k, h in enumerate(j["headers"][:3]):
-        # REFERENCE.md §4 #9: 123456 with -100 -> 1234.56; -5000 with -100 -> -50;
+        # SEG-Y rev 1 (2002), coordinate scalar, bytes 71-72 (check value 9 of docs/references.md): 123456 with -100 -> 1234.56; -5000 with -100 -> -50;
         # +10 multiplies: 12 -> 120.
         good &= h["field_record"] == 77 and h["channel"] == k + 1
         good &= abs(h["source_x"] - 1234.56) < 1e-9 and abs(h["receiver_x"] + 50 * (k + 1)) < 1e-9
         good &= h["receiver_elev"] == 120 and h["offset"] == -250 + 100 * k
-    ok(good, f"{name}: header values with scalars (REFERENCE.md §4 #9)",
+    ok(good, f"{name}: header values with scalars (SEG-Y rev 1 (2002), coordinate scalar, bytes 71-72 ; check value 9 of docs/references.md)",
        json.dumps(j["headers"][:1]))
 
 
 # 1. every format, big- and little-endian (little flagged by the rev 2 constant,
-#    and unflagged rev 1 found by the format-code plausibility test, §5.4)
+#    and unflagged rev 1 found by the format-code plausibility test, common practice with field SEG-Y files)
 for fmt, vals in VALUES.items():
     want = expected(fmt, vals)
     for order, rev in (("big", 1), ("little", 2), ("little", 1)):
@@ -105,7 +105,7 @@ for fmt, vals in VALUES.items():
         if fmt in (5, 9) and order == "big":
             check_headers(j, name)
 
-# 2. pair-swapped byte order (rev 2 constant 0x02010403, REFERENCE.md §1.2)
+# 2. pair-swapped byte order (rev 2 constant 0x02010403, SEG-Y rev 2.0 (2017), byte-order constant, bytes 3297-3300)
 for fmt in (1, 2, 3, 5):
     path = os.path.join(WORK, f"pairs_{fmt}.sgy")
     segygen.write(path, fmt=fmt, order="pairs", rev=2, traces=[VALUES[fmt]] * 3, headers=HEADERS)
@@ -124,7 +124,7 @@ j = inspect(path, "--byte-order", "little", "--format", "5")
 ok(j is not None and samples(j)[1].tolist() == [1.0, 2.0],
    "--byte-order little --format 5 reads a file with no usable format code")
 
-# 4. extended textual headers: fixed count and the -1 variable form (rev 1, §1.3)
+# 4. extended textual headers: fixed count and the -1 variable form (SEG-Y rev 1 (2002), binary file header)
 trs = [[float(k) for k in range(8)]] * 2
 recs = [segygen.stanza_record(["((SEG: Location Data ver 1.0))", "INVENTED"], "ebcdic")] * 2
 path = os.path.join(WORK, "ext2.sgy")
@@ -141,7 +141,7 @@ j = inspect(path)
 ok(j is not None and j["extended_textual_headers"] == 3 and j["first_trace_byte"] == 3600 + 9600,
    "variable extended textual headers end at the ((SEG: EndText)) record")
 
-# 5. rev 2: first-trace offset, trace header extensions, data trailers (§1.3, §1.6)
+# 5. rev 2: first-trace offset, trace header extensions, data trailers (SEG-Y rev 2.0 (2017): binary file header, trace header extension 1)
 path = os.path.join(WORK, "rev2_offset.sgy")
 segygen.write(path, rev=2, first_offset=5000, traces=trs)
 j = inspect(path)
@@ -210,7 +210,7 @@ for enc in ("ascii", "ebcdic"):
     j = inspect(path)
     ok(j is not None and j["text_encoding"] == enc
        and j["textual_header"][1] == ("C 2 " + line).rstrip(),
-       f"{enc} textual header detected and decoded (REFERENCE.md §2; Python codecs cp037)",
+       f"{enc} textual header detected and decoded (SEG-Y rev 1 (2002), textual file header; Python codecs cp037)",
        j and j["textual_header"][1])
 
 # 7. variable-length traces (fixed-length flag 0): lengths from bytes 115-116
@@ -222,7 +222,7 @@ ok(j is not None and j["traces"] == 3 and not j["fixed_length"]
    and [len(s) for s in samples(j)] == [10, 14, 10] and samples(j)[1][0] == 2.0,
    "variable-length file walked by the trace headers' sample counts")
 
-# 8. rev 0: bytes 3501-3506 not trusted (REFERENCE.md §5.6)
+# 8. rev 0: bytes 3501-3506 not trusted (common practice with field SEG-Y files)
 path = os.path.join(WORK, "rev0.sgy")
 data = bytearray(segygen.write(path, rev=0, traces=trs))
 data[3504:3506] = b"\x77\x77"
@@ -231,7 +231,7 @@ j = inspect(path)
 ok(j is not None and j["traces"] == 2 and j["extended_textual_headers"] == 0
    and j["revision"] == "0.0", "rev 0: garbage in 3505-3506 ignored")
 
-# 9. sample count fallback: binary header 0, first trace header 8 (REFERENCE.md §5.1)
+# 9. sample count fallback: binary header 0, first trace header 8 (common practice with field SEG-Y files)
 path = os.path.join(WORK, "fallback.sgy")
 segygen.write(path, rev=1, traces=trs, bin_samples=0)
 j = inspect(path)

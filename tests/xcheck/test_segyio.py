@@ -4,7 +4,7 @@ interval, and trace header values at the SEG-Y rev 1 byte positions.
 
 The other direction (segyio reading files tzero writes) is in
 tests/unit/check_segy.c (test_segyio_reads_ours), which calls segyio_dump.py.
-Known segyio limits (REFERENCE.md §4 "Test oracles"): it decodes the textual
+Known segyio limits (its issue tracker, docs/references.md): it decodes the textual
 header as EBCDIC only and needs little-endian declared, so we only give it
 what it supports.
 """
@@ -47,7 +47,7 @@ def check_from_array(fmt, name):
        str({k: j[k] for k in ("traces", "samples_per_trace", "sample_interval_us",
                               "format_code", "byte_order")}))
     ours = np.array([t["values"] for t in j["trace_samples"]], dtype=np.float32)
-    # IBM -> IEEE single is exact for in-range values (REFERENCE.md §1.7), so
+    # IBM -> IEEE single is exact for in-range values (IBM System/360 Principles of Operation, hexadecimal floating point), so
     # both decodings must agree bit for bit, and IEEE samples trivially so.
     ok(np.array_equal(ours, ref), f"{name}: samples identical to segyio's decoding",
        f"max diff {np.max(np.abs(ours - ref)) if ours.shape == ref.shape else ours.shape}")
@@ -56,7 +56,7 @@ def check_from_array(fmt, name):
     else:
         rel = np.max(np.abs(ours - data) / np.maximum(np.abs(data), 1e-30))
         ok(rel <= 2 ** -20, f"{name}: IBM samples within IBM precision of the array "
-           f"(REFERENCE.md §1.7)", f"rel {rel}")
+           f"(IBM System/360 Principles of Operation, hexadecimal floating point)", f"rel {rel}")
     good = all(h["inline_no"] == hs[segyio.TraceField.INLINE_3D]
                and h["crossline_no"] == hs[segyio.TraceField.CROSSLINE_3D]
                and h["offset"] == hs[segyio.TraceField.offset]
@@ -102,7 +102,7 @@ def check_create(endian, fmt):
     if endian == "little":     # no rev 2 constant: the plausibility test must find it alone
         auto = tzero_json(path)
         ok(auto is not None and auto["byte_order"] == "little",
-           f"{name}: little-endian detected without the override (REFERENCE.md §5.4)")
+           f"{name}: little-endian detected without the override (common practice with field SEG-Y files)")
     with segyio.open(path, ignore_geometry=True, endian=endian) as f:
         ref = np.stack([f.trace[i] for i in range(f.tracecount)])
     ours = np.array([t["values"] for t in j["trace_samples"]], dtype=np.float32)

@@ -2,16 +2,16 @@
 
 A four-layer model (three flat reflectors) is recorded with `tzero synth`, with
 random noise of RMS 0.01 (about 3 % of the strongest reflection)
-(exact ray-traced reflection times, REFERENCE.md §3.13). References:
+(exact ray-traced reflection times: Snell's law through flat layers, Sheriff & Geldart 1995). References:
 - the exact RMS velocities, computed here from the model's interval
   velocities by the definition of Taner and Koehler (1969):
-  V_rms^2(t0) = sum v_k^2 dtau_k / t0 (REFERENCE.md §3.4);
+  V_rms^2(t0) = sum v_k^2 dtau_k / t0 (Taner & Koehler 1969);
 - segyio (Debian python3-segyio) reads every SEG-Y file tzero writes, and
   NumPy computes the stack comparisons independently of `tzero compare`.
-Checks: automatic picks within 2 % of V_rms at every reflector (issue #6);
+Checks: automatic picks within 2 % of V_rms at every reflector (common practice: a 20 m/s scan step resolves about 1 %);
 the stack with the picked table reproduces the true-velocity stack (measure:
-zero-lag normalised correlation >= 0.99 and RMS difference <= 10 % of the
-true stack's RMS at every full-fold CMP); a stack with velocities 10 % too
+zero-lag normalised correlation >= 0.996 and RMS difference <= 8 % of the
+true stack's RMS at every full-fold CMP, the allowance of picks on a 20 m/s grid); a stack with velocities 10 % too
 fast is weaker than the true one at every reflector and every full-fold CMP
 (stack power, Taner and Koehler 1969); a stack compared with itself differs
 by zero; constant-velocity panels focus each reflector best at its velocity.
@@ -90,15 +90,15 @@ for c in res["cmps"]:
        f"picked {np.round(at, 1)}, exact {np.round(vrms, 1)}")
     ok(np.all(np.abs(tms - np.array(t0) * 1000) < 4), f"CMP {c['cmp']}: pick times within 4 ms of t0")
     ok(all(0.5 < x["semblance"] <= 1 for x in pk), f"CMP {c['cmp']}: strong semblance at the picks")
-    # Dix (1955) interval velocities from the picks, REFERENCE.md §3.6
+    # Dix (1955) interval velocities from the picks
     dix = np.sqrt(np.diff(vp**2 * tms) / np.diff(tms))
     ok(np.allclose([x["interval_velocity_mps"] for x in pk[1:]], dix, rtol=1e-9),
        f"CMP {c['cmp']}: reported interval velocities are the Dix values")
 
-# The velocity table is in the DESIGN.md format and matches the JSON picks.
+# The velocity table is in the format of docs/velocity-table.md and matches the JSON picks.
 rows = np.genfromtxt(PICKED, delimiter=",", names=True, comments="#")
 ok(list(rows.dtype.names) == ["cmp", "time_ms", "velocity_mps"] and len(rows) == 9,
-   "velocity table has the DESIGN.md columns and 9 rows")
+   "velocity table has the docs/velocity-table.md columns and 9 rows")
 
 # Panels: one trace per trial velocity, CMP in 21-24, velocity in 37-40, 0 <= S <= 1.
 with segyio.open(PANELS, ignore_geometry=True) as f:
@@ -146,9 +146,14 @@ full = fold == fold.max()
 ok(fold.max() == 12 and full.sum() >= 40, "the line has 40 or more full-fold (12) CMPs")
 corr = np.array([x @ y / np.sqrt((x @ x) * (y @ y)) for x, y in zip(a[full], b[full])])
 rel = np.array([np.sqrt(np.mean((y - x) ** 2) / np.mean(x * x)) for x, y in zip(a[full], b[full])])
-ok(corr.min() >= 0.99, "picked-velocity stack: zero-lag correlation with the true stack >= 0.99 "
+# How close the picked stack can come: picks sit on the 20 m/s trial grid (up to
+# 1 % of V_rms off), and a 1 % velocity error leaves a residual moveout of a few
+# milliseconds at the far offsets of this line, a few per cent of a 25 Hz wavelet's
+# amplitude; the bounds below are that allowance (measured: correlation 0.998,
+# difference 6.6 %), not a loose margin.
+ok(corr.min() >= 0.996, "picked-velocity stack: zero-lag correlation with the true stack >= 0.996 "
    "at every full-fold CMP", f"lowest {corr.min():.4f}")
-ok(rel.max() <= 0.10, "picked-velocity stack: RMS difference <= 10 % of the true stack at every "
+ok(rel.max() <= 0.08, "picked-velocity stack: RMS difference <= 8 % of the true stack at every "
    "full-fold CMP", f"largest {rel.max():.3f}")
 
 lo, hi = ct[full].min(), ct[full].max()
@@ -174,7 +179,7 @@ for k, t in enumerate(t0):
 p = run("compare", "--json", S_TRUE, S_TRUE)
 r = json.loads(p.stdout) if p.returncode == 0 else {"cmps": []}
 ok(r["cmps"] and all(c["rms_difference"] == 0 and c["lag_ms"] == 0 and c["b_is"] == "similar"
-                     for c in r["cmps"]), "a stack compared with itself: zero difference, lag 0")
+                     for c in r["cmps"]), "consistency check: a stack compared with itself gives zero difference, lag 0")
 
 # ---- constant-velocity stacks
 CVS = os.path.join(D, "out", "cvs.sgy")
@@ -200,7 +205,8 @@ for t in t0:
 want = [vels[int(np.argmin(np.abs(np.array(vels) - v)))] for v in vrms]
 ok(best == want, "cvs: each reflector is strongest on the panel nearest its RMS velocity",
    f"strongest {best}, nearest {want}")
-# A cvs panel at the true constant velocity is the stack of a constant table: same as stack.
+# Consistency check (tzero with itself): a cvs panel at the true constant velocity is the
+# stack of a constant table, so it must equal the stack.
 CONST = os.path.join(D, "const.csv")
 with open(CONST, "w") as f:
     f.write("cmp,time_ms,velocity_mps\n60,0,2120\n")
@@ -209,5 +215,5 @@ stack(CONST, S_CONST)
 cs, _, sc = read(S_CONST)
 sel = (cs >= 60) & (cs <= 70)
 ok(np.array_equal(sc[sel].astype(np.float32), cv[22:33].astype(np.float32)),
-   "cvs panel at 2120 m/s equals `tzero stack` with a constant 2120 m/s table")
+   "consistency check: cvs panel at 2120 m/s equals `tzero stack` with a constant 2120 m/s table")
 done()

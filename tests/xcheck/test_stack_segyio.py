@@ -2,17 +2,18 @@
 
 The survey is written here, independently of tzero, with the Debian `segyio`
 package and NumPy: a roll-along off-end 2D line with flat reflectors whose
-traveltimes are exact hyperbolas t = sqrt(t0^2 + x^2 / v^2) (REFERENCE.md §3.1)
-carrying a 25 Hz Ricker wavelet (Ricker 1953, REFERENCE.md §3.12).
+traveltimes are exact hyperbolas t = sqrt(t0^2 + x^2 / v^2) (Yilmaz 2001, hyperbolic moveout)
+carrying a 25 Hz Ricker wavelet (Ricker 1953).
 
 Checks (each names its source):
   - fold per CMP equals a brute-force count of midpoints from the layout, and
-    interior CMPs reach the nominal fold N dg / (2 ds) (REFERENCE.md §3.9;
+    interior CMPs reach the nominal fold N dg / (2 ds) (Sheriff & Geldart 1995; common practice;
     common practice);
   - stacked event times equal the model's zero-offset times within one sample
-    (exact NMO with the model velocities flattens the hyperbolas; §3.1);
+    (exact NMO with the model velocities flattens the hyperbolas; Yilmaz 2001, hyperbolic moveout);
   - the section read back with segyio has the documented headers (SEG-Y rev 1
-    byte positions, REFERENCE.md §1.3, §1.5, §3.10);
+    byte positions of the binary and trace headers; common practice for the stacked-trace
+    headers);
   - stacking with velocities 10 % too slow or too fast gives lower event
     energy than the true ones (common practice: a wrong stacking velocity
     leaves residual moveout and reduces stack power);
@@ -151,7 +152,7 @@ def main():
     want = expected_fold()
     dt = DT_US * 1e-6
 
-    # --- fold (REFERENCE.md §3.9 brute-force count; nominal N dg/(2 ds))
+    # --- fold (brute-force count; nominal N dg/(2 ds), Sheriff & Geldart 1995)
     got = {c["cmp"]: c["fold"] for c in rep["cmps"]}
     missing = [k for k in want if got.get(k, 0) != want[k]]
     extra = [k for k in got if got[k] and k not in want]
@@ -168,7 +169,7 @@ def main():
           "QC trace counts: all read, one dead and one auxiliary skipped", str(rep["traces"]))
 
     # --- full-fold time = where the stretch mute reaches the CMP's far offset:
-    # x_mute = v t0 sqrt((1 + s)^2 - 1) (REFERENCE.md §3.3, check value #13), so
+    # x_mute = v t0 sqrt((1 + s)^2 - 1) (Yilmaz 2001; check value 13 of docs/references.md), so
     # t0 = x_max / (v sqrt((1 + s)^2 - 1)) with v = 1800 m/s above 300 ms
     s_lim = 0.5
     bad_ff = []
@@ -182,9 +183,9 @@ def main():
           "two samples", str(bad_ff[:3]))
     by = [c for c in rep["mute"]["by_offset"] if c["traces"] > 0]
     tz.ok(all(a["stretch_muted_fraction"] < b["stretch_muted_fraction"] for a, b in zip(by, by[1:])),
-          "stretch-muted fraction grows with offset class (stretch grows with x, §3.3)")
+          "stretch-muted fraction grows with offset class (stretch grows with x, Yilmaz 2001, NMO stretch)")
 
-    # --- headers, read back with segyio (SEG-Y rev 1 positions, REFERENCE.md §1.3, §1.5)
+    # --- headers, read back with segyio (SEG-Y rev 1 (2002) binary and trace header positions)
     with segyio.open(sec, ignore_geometry=True) as f:
         ok_hdr = (f.bin[3229] == 4 and f.bin[3227] == int(nominal) and f.bin[3501] == 0x0100
                   and f.bin[3503] == 1 and f.bin[3217] == DT_US and f.bin[3221] == NS)
@@ -209,7 +210,7 @@ def main():
               "offset 0, kind 1 (2 for zero fold), samples and interval", str(bad[:3]))
         data = np.stack([f.trace[i] for i in range(f.tracecount)])
 
-    # --- event times (exact NMO flattens the model hyperbolas; REFERENCE.md §3.1)
+    # --- event times (exact NMO flattens the model hyperbolas; Yilmaz 2001, hyperbolic moveout)
     full = [i for i, c in enumerate(cmps) if want.get(c, 0) == nominal]
     worst = 0.0
     for i in full:
@@ -224,8 +225,12 @@ def main():
           f"stacked event peaks at the model t0 within one sample ({dt * 1e3:g} ms) "
           f"at {len(full)} full-fold CMPs", f"worst {worst * 1e3:.3f} ms")
     amp = data[full][:, [int(round(t0 / dt)) for t0, _ in EVENTS]]
-    tz.ok(np.all(np.abs(amp - 1) < 0.15),
-          "live-fold normalisation keeps the unit event amplitude (REFERENCE.md §3.10)",
+    # Not exactly 1: linear interpolation in the NMO lowers a sampled 25 Hz peak
+    # (2 ms sampling) by up to about 1.5 %, and the stretch at far offsets widens
+    # the wavelet a little more (measured 0.984-0.991); 3 % is that allowance.
+    tz.ok(np.all(np.abs(amp - 1) < 0.03),
+          "live-fold normalisation keeps the unit event amplitude within 3 % (Yilmaz 2001, "
+          "CMP stacking)",
           f"range {amp.min():.3f}..{amp.max():.3f}")
 
     # --- wrong velocities reduce stack power (common practice)
@@ -239,7 +244,7 @@ def main():
         tz.ok(p.returncode == 0 and e < 0.95 * e_true,
               f"velocities 10 % too {name} give lower event energy than the true ones",
               f"{e:.2f} vs {e_true:.2f}")
-    # --- tzero nmo: gathers in CMP order, traces by offset, flat events (§3.1)
+    # --- tzero nmo: gathers in CMP order, traces by offset, flat events (Yilmaz 2001, hyperbolic moveout)
     g = os.path.join(d, "out", "gathers.sgy")
     p = tz.run("nmo", "--job", job, "--cmps", "250-260:5,300", "--out", g, "--quiet")
     tz.ok(p.returncode == 0, "tzero nmo writes gathers for a CMP list", p.stderr.strip())

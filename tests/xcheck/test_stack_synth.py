@@ -2,16 +2,20 @@
 
 A small off-end roll-along line over flat layers is synthesised with tzero synth
 (which also writes the model's exact RMS velocity table) and stacked with a job
-that takes its geometry from the layout. Checks, each with its source:
+that takes its geometry from the layout. Synth and stack are both tzero, so the
+checks of the stack against the model are consistency checks of the two; what
+makes them more is that every expected figure is computed here from the layout
+and the model, not taken from tzero. Checks, each with its source:
   - fold per CMP equals an independent count done here from the layout
     (receivers ahead of the source at near + c dg; midpoints binned at dg/2),
-    and interior CMPs reach the nominal fold N dg / (2 ds) (REFERENCE.md §3.9,
+    and interior CMPs reach the nominal fold N dg / (2 ds) (Sheriff & Geldart 1995; common practice,
     common practice);
   - stacked reflection peaks sit at the model's zero-offset times
     t0 = 2 sum h_k / v_k within one sample (exact NMO with the RMS velocities
-    of Taner and Koehler 1969 flattens the reflections; REFERENCE.md §3.1, §3.4);
+    of Taner and Koehler 1969 flattens the reflections; Yilmaz 2001);
   - the section read with segyio carries CMP numbers, fold and the binary
-    header fields documented for stacked data (REFERENCE.md §1.3, §1.5, §3.10).
+    header fields documented for stacked data (SEG-Y rev 1 (2002), binary and trace headers; common practice for stacked
+    data).
 """
 import json
 import os
@@ -58,7 +62,7 @@ def main():
         tz.done()
     rep = json.load(open(os.path.join(d, "qc.json")))
 
-    # Independent fold count from the layout (REFERENCE.md §3.9)
+    # Independent fold count from the layout (Sheriff & Geldart 1995; common practice)
     mids = []
     for s in range(SHOTS):
         sx = s * DS

@@ -6,7 +6,7 @@ Ricker wavelets of Ricker 1953, a reversed, a noisy and a dead trace).
 Checks (the criteria of the land-statics work, sources as named):
 - first-break picks within one sample of the true first arrival (the centre of
   the first-arrival wavelet) on at least 98 % of the live traces;
-- picks bitwise identical for 1 and 2 threads (DESIGN.md rule);
+- picks bitwise identical for 1 and 2 threads (DEVELOPERS.md, threads);
 """
 import os
 import subprocess

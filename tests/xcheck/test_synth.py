@@ -6,7 +6,7 @@ CMP 21, trace kind 29, offset 37, elevations 41/45, source depth 49, scalars
 69/71, source and receiver X/Y 73-88, samples 115, interval 117, CMP X/Y
 181/185; binary header 3217, 3221, 3225, 3229). Positions are recomputed here
 from the layout rules of docs/layout.md; traveltimes from Pythagoras on the
-image source (REFERENCE.md §3.1); RMS velocities from Taner and Koehler (1969).
+image source (Yilmaz 2001, hyperbolic moveout); RMS velocities from Taner and Koehler (1969).
 """
 import json
 import math
@@ -96,7 +96,7 @@ with segyio.open(os.path.join(out, files[2]), ignore_geometry=True) as f:
 # RMS velocity table: V_rms^2 = sum v^2 dt / t0 (Taner and Koehler 1969).
 rows = [l.strip().split(",") for l in open(os.path.join(out, "rms_velocity.csv"))
         if l.strip() and not l.startswith("#")]
-ok(rows[0] == ["cmp", "time_ms", "velocity_mps"], "velocity table header (DESIGN.md)")
+ok(rows[0] == ["cmp", "time_ms", "velocity_mps"], "velocity table header (docs/velocity-table.md)")
 dt = [0.2, 150 * 2 / 2600.0]
 t0 = np.cumsum(dt)
 vr = np.sqrt(np.cumsum(np.array([2000.0, 2600.0]) ** 2 * dt) / t0)

@@ -69,6 +69,6 @@ os.makedirs(P("mixed"), exist_ok=True)
 segygen.write(P("mixed/a.sgy"), traces=TR, headers=HDR)
 segygen.write(P("mixed/b.segy"), traces=TR, headers=HDR, truncate=3)
 segygen.write(P("mixed/c.sgy"), traces=TR[:2], headers=HDR)
-# IEEE samples under an IBM format code (REFERENCE.md §5.3, "wrong format code")
+# IEEE samples under an IBM format code ("wrong format code", a pitfall of field SEG-Y files, common practice)
 vals = [((k * 7919) % 2001 - 1000) * 0.37 for k in range(200)]
 segygen.write(P("ieee_as_ibm.sgy"), fmt=5, raw_format=1, traces=[vals] * 3, headers=HDR)

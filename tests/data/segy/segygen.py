@@ -1,7 +1,7 @@
 """segygen -- a small, independent SEG-Y writer for tests (Python standard library).
 
 Written from the SEG-Y rev 1 (2002) and rev 2.0 (2017) byte tables as given in
-REFERENCE.md §1, not from tzero's code, so that tzero's reader is checked
+SEG-Y rev 1 (2002) and rev 2.0 (2017), not from tzero's code, so that tzero's reader is checked
 against a second reading of the standard. It can write every sample format,
 big- or little-endian or pair-swapped, rev 0/1/2 options (extended textual
 headers, first-trace offset, trace header extensions, trailers), ASCII or
@@ -18,7 +18,7 @@ FORMATS = {  # code: (bytes per sample, struct code or None for 3-byte / IBM)
 
 
 def ibm_word(v):
-    """IEEE value -> IBM System/360 single (REFERENCE.md §1.7 encode recipe, rounded)."""
+    """IEEE value -> IBM System/360 single (encoding after IBM System/360 Principles of Operation, hexadecimal floating point, rounded)."""
     if v == 0:
         return 0
     sign = 0x80000000 if v < 0 else 0
