@@ -1,7 +1,7 @@
 # test_spectrum.sh -- `tzero spectrum` from the command line: files and --job, CSV
 # and JSON, output only when complete, and refusals with their exit statuses. The
 # survey is written with segyio by tests/xcheck/test_stack_segyio.py (independent
-# of tzero); its wavelet is a 25 Hz Ricker (REFERENCE.md 3.12: the amplitude
+# of tzero); its wavelet is a 25 Hz Ricker (Ricker 1953: the amplitude
 # spectrum peaks at f_p). Statuses: sysexits(3).
 . "$TOP/tests/e2e/lib.sh"
 D="$T/sv"

@@ -5,7 +5,7 @@ Checks and sources:
   - a pure sinusoid's spectrum peaks at its frequency, within half a frequency step
     (Fourier analysis; the step is 1 / (nfft dt), nfft the documented padding);
   - a Ricker wavelet's amplitude spectrum is f^2 exp(-f^2 / f_p^2), peaking at f_p
-    (Ricker 1953; REFERENCE.md 3.12): the normalised curve within 1 % of it;
+    (Ricker 1953): the normalised curve within 1 % of it;
   - the whole averaged curve equals NumPy's np.fft.rfft of the same tapered,
     zero-padded windows (docs/spectra.md), 1e-5 of the peak;
   - selections by record, channel, |offset| and time window pick the traces and

@@ -6,7 +6,7 @@ of a damped two-pole resonance, poles in the left half-plane: minimum phase; Rob
 & Treitel 1980), the reverberation filter 1 / (1 + c z^P) applied with
 scipy.signal.lfilter (Debian python3-scipy); reflection amplitude R 1000 m / (t v)
 over a half-space (Newman 1973, docs/earth-model.md); exact traveltime sqrt(t0^2 +
-x^2/v^2) (REFERENCE.md 3.1); the dispersive train's sum of cosines written here from
+x^2/v^2) (Yilmaz 2001); the dispersive train's sum of cosines written here from
 docs/earth-model.md.
 """
 import json
