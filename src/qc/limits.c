@@ -481,6 +481,27 @@ static int largest_abs(const cJSON *o, const char *const *paths, double *out)
   return any;
 }
 
+/* Largest |key| over the statics' source and receiver stations; 0 when no
+ * station has it. */
+static int stations_largest(const cJSON *statics, const char *key, double *out)
+{
+  static const char *const lists[] = { "sources", "receivers" };
+  int any = 0;
+  double m = 0;
+  for (int i = 0; i < 2; i++) {
+    const cJSON *a = cJSON_GetObjectItemCaseSensitive(statics, lists[i]);
+    for (const cJSON *x = cJSON_IsArray(a) ? a->child : NULL; x; x = x->next) {
+      const cJSON *v = cJSON_GetObjectItemCaseSensitive(x, key);
+      if (cJSON_IsNumber(v) && isfinite(v->valuedouble)) {
+        m = fmax(m, fabs(v->valuedouble));
+        any = 1;
+      }
+    }
+  }
+  *out = m;
+  return any;
+}
+
 static int measure(const ctx *c, const limits_set *l, int k, limits_outcome *o)
 {
   const cJSON *R = c->R;
@@ -589,9 +610,8 @@ static int measure(const ctx *c, const limits_set *l, int k, limits_outcome *o)
     break;
   }
   case LIMITS_MAX_STATIC_MS: {
-    static const char *const paths[] = { "total_ms.min", "total_ms.max", "total_min_ms",
-                                         "total_max_ms", "applied_min_ms", "applied_max_ms",
-                                         NULL };
+    /* the applied totals (source + receiver static of every trace shifted) */
+    static const char *const paths[] = { "applied.min_ms", "applied.max_ms", NULL };
     const cJSON *s = at(R, "statics");
     if (!cJSON_IsObject(s) || !largest_abs(s, paths, &v)) {
       o->applies = 0;
@@ -604,10 +624,13 @@ static int measure(const ctx *c, const limits_set *l, int k, limits_outcome *o)
     break;
   }
   case LIMITS_MAX_RESIDUAL_STATIC_MS: {
-    static const char *const paths[] = { "residual_ms.min", "residual_ms.max",
-                                         "residual_min_ms", "residual_max_ms", NULL };
+    /* residual statics: a "residual" summary, else each station's residual_ms */
+    static const char *const paths[] = { "residual.min_ms", "residual.max_ms", NULL };
     const cJSON *s = at(R, "statics");
-    if (!cJSON_IsObject(s) || !largest_abs(s, paths, &v)) {
+    int any = cJSON_IsObject(s) && largest_abs(s, paths, &v);
+    if (cJSON_IsObject(s) && !any)
+      any = stations_largest(s, "residual_ms", &v);
+    if (!any) {
       o->applies = 0;
       o->held = 1;
       o->note = "no residual statics in this report";

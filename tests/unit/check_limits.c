@@ -47,7 +47,9 @@ static const char *const report =
     "                   {\"offset_from_m\": 100, \"offset_to_m\": 200, \"traces\": 100, \"muted_fraction\": 0.1},"
     "                   {\"offset_from_m\": 200, \"offset_to_m\": null, \"traces\": 560, \"muted_fraction\": 0.05}]},"
     " \"velocity\": {\"file\": \"v.csv\", \"control_cmps\": 2, \"warnings\": [{}, {}, {}]},"
-    " \"statics\": {\"total_ms\": {\"min\": -14.5, \"max\": 9}},"
+    " \"statics\": {\"applied\": {\"traces\": 900, \"min_ms\": -14.5, \"max_ms\": 9},"
+    "   \"sources\": [{\"station\": 1, \"residual_ms\": 1.5}],"
+    "   \"receivers\": [{\"station\": 1, \"residual_ms\": -2.25}, {\"station\": 2}]},"
     " \"timing_s\": {}}";
 
 static qc_report *load(void)
@@ -114,6 +116,8 @@ START_TEST(test_each_limit)
     { "{\"max_killed_traces_pct\": 4}", 0, 5 },
     { "{\"max_static_ms\": 14.5}", 1, 14.5 },      /* largest |total static| */
     { "{\"max_static_ms\": 14}", 0, 14.5 },
+    { "{\"max_residual_static_ms\": 2.25}", 1, 2.25 },   /* largest |station residual| */
+    { "{\"max_residual_static_ms\": 2}", 0, 2.25 },
   };
   limits_result *res = check(cases[_i].json);
   const char *name = cases[_i].json + 2;
@@ -267,7 +271,7 @@ static Suite *limits_suite(void)
 {
   Suite *s = suite_create("limits");
   TCase *tc = tcase_create("core");
-  tcase_add_loop_test(tc, test_each_limit, 0, 24);
+  tcase_add_loop_test(tc, test_each_limit, 0, 26);
   tcase_add_test(tc, test_ranges);
   tcase_add_test(tc, test_by_offset);
   tcase_add_test(tc, test_not_applicable);

@@ -20,6 +20,12 @@ Checks (each names its source):
   - missing shots: `min_fold` and `max_low_fold_run_cmps` break at the CMP runs
     the NumPy count puts below the limit;
   - several reports with one failing: exit 1 naming it; all holding: exit 0;
+  - muting: with the stretch mute off and a hard top mute T(|x|) in recorded
+    time, an output sample t0 is muted when its moveout time sqrt(t0^2 + x^2/v^2)
+    (exact hyperbolic NMO, Taner & Koehler 1969) comes before T; the muted
+    percentage counted here, overall and for offsets below 240 m, is the one
+    max_muted_pct and max_muted_pct_by_offset measure: each holds 0.5 % above
+    it and breaks 0.5 % below;
   - `stack --check` writes a complete section (read back with segyio) and
     report before it exits 1.
 """
@@ -202,6 +208,50 @@ tz.ok(p.returncode == 1 and len(out) == 4 and out[1].startswith(qa) and "broken:
 p = tz.run("report", "--check", lim, qb, qb, check=False)
 tz.ok(p.returncode == 0 and p.stdout.splitlines()[-1] == "2 reports: 2 held, 0 broken",
       "all holding: exit 0", p.stdout)
+
+# ---- mutes: a hard top mute, no stretch mute, constant velocity
+VM = 2000.0
+MUTE = [(0.0, 101.0), (475.0, 301.0)]      # (|offset| m, recorded time ms)
+with open(os.path.join(B, "v2000.csv"), "w") as f:
+    f.write("cmp,time_ms,velocity_mps\n1,0,2000\n")
+jm = json.load(open(os.path.join(B, "line.json")))
+jm.update({"velocity": "v2000.csv", "moveout": {"stretch_limit_pct": 0},
+           "mute": {"top": [list(p) for p in MUTE], "taper_ms": 0},
+           "output": {"section": "out/mute.sgy", "report": "out/mute.json"}})
+with open(os.path.join(B, "mute.json"), "w") as f:
+    json.dump(jm, f)
+p = tz.run("stack", "--job", os.path.join(B, "mute.json"), "--quiet", check=False)
+tz.ok(p.returncode == 0, "stack the clean line with a top mute", p.stderr)
+t0 = np.arange(NS) * DT_US * 1e-6
+muted = {}
+for c in range(CHANNELS):
+    x = abs(offset(c))
+    tmute = np.interp(x, [m[0] for m in MUTE], [m[1] for m in MUTE]) * 1e-3
+    muted[x] = int(np.count_nonzero(np.sqrt(t0 ** 2 + x * x / VM ** 2) < tmute))
+per_trace = [muted[abs(offset(c))] for s in range(SHOTS) for c in range(CHANNELS)]
+want_all = 100.0 * sum(per_trace) / (len(per_trace) * NS)
+near = [muted[abs(offset(c))] for s in range(SHOTS) for c in range(CHANNELS) if abs(offset(c)) < 240]
+want_near = 100.0 * sum(near) / (len(near) * NS)
+rm = json.load(open(os.path.join(B, "out", "mute.json")))
+tz.ok(abs(100 * rm["mute"]["muted_fraction"] - want_all) < 1e-3,
+      f"muted percentage {want_all:.3f} % as counted with NumPy",
+      f"{100 * rm['mute']['muted_fraction']}")
+for delta, code, what in ((0.5, 0, "holds"), (-0.5, 1, "breaks")):
+    lm = os.path.join(B, "mute_limits.json")
+    with open(lm, "w") as f:
+        json.dump({"max_muted_pct": round(want_all + delta, 3),
+                   "max_muted_pct_by_offset": [[0, 240, round(want_near + delta, 3)]]}, f)
+    p = tz.run("report", "--check", "--json", lm, os.path.join(B, "out", "mute.json"), check=False)
+    res = json.loads(p.stdout) if p.stdout.strip().startswith("[") else []
+    vals = {o["name"]: o for o in res}
+    bo = vals.get("max_muted_pct_by_offset", {})
+    tz.ok(p.returncode == code and len(res) == 2 and
+          all(o["held"] == (code == 0) for o in res) and
+          abs(vals["max_muted_pct"]["value"] - want_all) < 1e-3 and
+          abs(bo.get("value", 0) - want_near) < 1e-3,
+          f"max_muted_pct and max_muted_pct_by_offset [0, 240) {what} {abs(delta)} % "
+          f"{'above' if delta > 0 else 'below'} the NumPy count ({want_near:.3f} % near)",
+          p.stdout[:400])
 
 # ---- missing shots: low-fold runs inside the full-fold part
 C = os.path.join(root, "gap")
