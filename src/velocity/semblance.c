@@ -255,8 +255,8 @@ int semblance_supergather(const stack_gathers *gs, int32_t first_cmp, int32_t la
   size_t at = 0;
   for (size_t i = 0; i < gs->n; i++) {
     const stack_gather *g = &gs->g[i];
-    if (g->cmp < first_cmp || g->cmp > last_cmp)
-      continue;
+    if (g->cmp < first_cmp || g->cmp > last_cmp || !g->ntraces)
+      continue;   /* an empty CMP (past the line end) has no sample buffer */
     memcpy(s + at * ns, g->samples, g->ntraces * ns * sizeof *s);
     memcpy(o + at, g->offset_m, g->ntraces * sizeof *o);
     at += g->ntraces;
