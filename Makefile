@@ -99,6 +99,7 @@ PREFIX_LIST = \
   limits \
   lsq \
   merge \
+  migrate \
   nmo \
   picture \
   qc \

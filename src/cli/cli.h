@@ -30,6 +30,7 @@ int cmd_picture(int argc, char **argv);
 int cmd_audio(int argc, char **argv);
 int cmd_spectrum(int argc, char **argv);
 int cmd_merge(int argc, char **argv);
+int cmd_migrate(int argc, char **argv);
 int cmd_firstbreaks(int argc, char **argv);
 
 /* `tzero picture --spectrum A.csv,B.csv` / `--fk-record N FILE` (picture_spectrum.c):

@@ -28,6 +28,7 @@ static const struct subcmd subcmds[] = {
   { "fit",       cmd_fit,       "x^2-t^2 least-squares fit of reflection picks" },
   { "stack",     cmd_stack,     "the whole flow from a job file: stacked section and QC report" },
   { "merge",     cmd_merge,     "join the parts of a line stacked by separate runs (--cmp-range)" },
+  { "migrate",   cmd_migrate,   "post-stack time migration of a section (phase shift, Kirchhoff)" },
   { "report",    cmd_report,    "print a saved QC report, one CMP, or its fold table" },
   { "compare",   cmd_compare,   "compare two stacks of the same line CMP by CMP" },
   { "picture",   cmd_picture,   "draw a section, gather or fold chart as a PNG picture" },
