@@ -93,6 +93,13 @@ typedef struct spectrum_result {
 int spectrum_of_files(const char *const *paths, size_t n, const spectrum_request *rq,
                       spectrum_result *out, tz_err *err);
 void spectrum_result_free(spectrum_result *r);
+/* The same for traces in memory (n headers and n x ns samples at interval_us; the
+ * delay of each header places the window), e.g. after the job's conditioning. */
+int spectrum_of_traces(const segy_trace_header *h, const float *samples, size_t n, size_t ns,
+                       uint32_t interval_us, const spectrum_request *rq, spectrum_result *out,
+                       tz_err *err);
+/* 1 when the request selects this trace (data trace, record, channel, |offset|). */
+int spectrum_selects(const spectrum_request *rq, const segy_trace_header *h);
 
 /* ---- pictures (docs/spectra.md) ---- */
 

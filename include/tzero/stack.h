@@ -261,6 +261,23 @@ void stack_gathers_free(stack_gathers *g);   /* NULL is a no-op */
 int stack_write_nmo_gathers(const stack_plan *p, const stack_gathers *g, const stack_run_opts *o,
                             const char *path, int format_code, int64_t *ntraces, tz_err *err);
 
+/* The traces of the field records in ranges rg[0 .. nrg-1] ([first, last],
+ * inclusive; bytes 9-12) after the pre-NMO chain (edits, statics, conditioning
+ * chain c, as stack_collect() applies it), before NMO, in (field record, channel)
+ * order; only traces the stack would use. TZ_E_ARG when there are none. On
+ * success *out owns its arrays: stack_record_traces_free(). */
+typedef struct stack_record_traces {
+  size_t n, ns;
+  nmo_axis axis;
+  uint32_t interval_us;
+  segy_trace_header *headers;    /* n, as read */
+  float *samples;                /* n * ns */
+} stack_record_traces;
+int stack_collect_records(const stack_plan *p, const int64_t (*rg)[2], size_t nrg,
+                          const condition_chain *c, const velocity_table *v,
+                          stack_record_traces *out, tz_err *err);
+void stack_record_traces_free(stack_record_traces *r);   /* NULL is a no-op */
+
 /* Parses a CMP list: "250", "200,250,300", "200-300", "200-900:50" and commas
  * between any of these. On success *out owns a sorted array without duplicates
  * (free()). TZ_E_ARG with the offending item named. At most STACK_MAX_CMPS. */

@@ -9,6 +9,7 @@
 
 #include "cli.h"
 #include "tzero/fileio.h"
+#include "tzero/flow.h"
 #include "tzero/job.h"
 #include "tzero/segy.h"
 #include "tzero/spectrum.h"
@@ -27,6 +28,11 @@ static void help(void)
          "\n"
          "options:\n"
          "  --job FILE          take the shot files (and header map) of a job file\n"
+         "  --conditioned       with --job and --records: the traces after the job's\n"
+         "                      edits, statics and conditioning (whole records, as the\n"
+         "                      stack sees them before NMO), not as recorded\n"
+         "  --traces-out FILE   with --conditioned: also write the selected traces as\n"
+         "                      SEG-Y (IEEE floats), e.g. for tzero picture\n"
          "  --records LIST      field record numbers (trace bytes 9-12), e.g. 10-20,25\n"
          "  --channels LIST     channels within the record (bytes 13-16), e.g. 1-24\n"
          "  --offsets MIN:MAX   |offset| range in metres (bytes 37-40); MAX may be empty\n"
@@ -113,10 +119,105 @@ static cJSON *to_json(const spectrum_result *r, size_t nout)
   return o;
 }
 
+static int emit(const spectrum_result *rp, const char *out, int json, int quiet, double max_hz)
+{
+  const spectrum_result r = *rp;
+  tz_err err;
+  tz_err_init(&err);
+  fileio_out *fo = NULL;
+  int rc, ex;
+  size_t nout = r.nfreq;
+  while (nout > 1 && (double)(nout - 1) * r.df_hz > max_hz)
+    nout--;
+  ex = EX_OK;
+  if (json && !out) {
+    ex = cli_print_json(to_json(&r, nout));
+  } else if (!out) {
+    write_csv(stdout, &r, nout);
+  } else if ((rc = fileio_create(&fo, out, &err))) {
+    ex = cli_report("spectrum", &err);
+  } else {
+    if (json) {
+      cJSON *o = to_json(&r, nout);
+      char *text = o ? cJSON_Print(o) : NULL;
+      if (text)
+        fprintf(fileio_stream(fo), "%s\n", text);
+      free(text);
+      cJSON_Delete(o);
+    } else {
+      write_csv(fileio_stream(fo), &r, nout);
+    }
+    if ((rc = fileio_commit(fo, &err)))
+      ex = cli_report("spectrum", &err);
+    else if (!quiet)
+      printf("spectrum of %lld traces (window %.6g-%.6g ms), peak %.6g Hz: %s\n",
+             (long long)r.traces, r.start_ms, r.end_ms, r.peak_hz, out);
+  }
+  return ex;
+}
+
+/* Writes the selected traces (IEEE floats, headers as read) through a temporary file. */
+static int write_traces(const char *path, const stack_record_traces *rt,
+                        const spectrum_request *rq, tz_err *err)
+{
+  segy_writer_opts o = { .revision = 1, .format_code = 5, .samples = (uint32_t)rt->ns,
+                         .interval_us = rt->interval_us, .sorting_code = 1,
+                         .text = "tzero spectrum --conditioned: traces after the job's chain" };
+  segy_writer *w = NULL;
+  int rc = segy_writer_open(&w, path, &o, err);
+  for (size_t j = 0; j < rt->n && !rc; j++)
+    if (spectrum_selects(rq, &rt->headers[j]))
+      rc = segy_trace_write(w, &rt->headers[j], rt->samples + j * rt->ns, err);
+  if (rc) {
+    segy_writer_abort(w);
+    return rc;
+  }
+  return segy_writer_finish(w, err);
+}
+
+static int conditioned_spectrum(const char *job_path, const spectrum_request *rq,
+                                const char *out, const char *traces_out, int json, int quiet,
+                                double max_hz)
+{
+  tz_err err;
+  tz_err_init(&err);
+  flow_setup fs;
+  memset(&fs, 0, sizeof fs);
+  int64_t rg[SPECTRUM_MAX_RANGES][2];
+  for (size_t i = 0; i < rq->nrecords; i++) {
+    rg[i][0] = rq->records[i].lo;
+    rg[i][1] = rq->records[i].hi;
+  }
+  stack_record_traces rt;
+  memset(&rt, 0, sizeof rt);
+  spectrum_result r;
+  memset(&r, 0, sizeof r);
+  int rc = flow_setup_load(&fs, job_path, NULL, 0, NULL, NULL, &err);
+  if (!rc && out)
+    rc = fileio_probe(out, &err);
+  if (!rc)
+    rc = stack_collect_records(fs.plan, (const int64_t(*)[2])rg, rq->nrecords,
+                               fs.job->conditioning.n ? &fs.job->conditioning : NULL,
+                               fs.velocity, &rt, &err);
+  if (!rc)
+    rc = spectrum_of_traces(rt.headers, rt.samples, rt.n, rt.ns, rt.interval_us, rq, &r, &err);
+  if (!rc && traces_out)
+    rc = write_traces(traces_out, &rt, rq, &err);
+  int ex = rc ? (rc == TZ_E_ARG ? cli_usage_error("spectrum", "%s", err.msg)
+                                : cli_report("spectrum", &err))
+              : emit(&r, out, json, quiet, max_hz);
+  spectrum_result_free(&r);
+  stack_record_traces_free(&rt);
+  flow_setup_free(&fs);
+  return ex;
+}
+
 int cmd_spectrum(int argc, char **argv)
 {
   static const struct option opts[] = {
     { "job", required_argument, NULL, 'J' },
+    { "conditioned", no_argument, NULL, 'C' },
+    { "traces-out", required_argument, NULL, 'T' },
     { "records", required_argument, NULL, 'r' },
     { "channels", required_argument, NULL, 'c' },
     { "offsets", required_argument, NULL, 'o' },
@@ -131,7 +232,8 @@ int cmd_spectrum(int argc, char **argv)
   };
   static spectrum_range rec[SPECTRUM_MAX_RANGES], chan[SPECTRUM_MAX_RANGES];
   spectrum_request rq = { .offset_max_m = -1, .taper_pct = 10 };
-  const char *job_path = NULL, *out = NULL;
+  const char *job_path = NULL, *out = NULL, *traces_out = NULL;
+  int conditioned = 0;
   double max_hz = INFINITY, omax = -1;
   int json = 0, quiet = 0, c, has, ex;
   optind = 1;
@@ -139,6 +241,8 @@ int cmd_spectrum(int argc, char **argv)
   while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
     switch (c) {
     case 'J': job_path = optarg; break;
+    case 'C': conditioned = 1; break;
+    case 'T': traces_out = optarg; break;
     case 'r':
       if ((ex = ranges("--records", optarg, rec, &rq.nrecords)))
         return ex;
@@ -186,6 +290,12 @@ int cmd_spectrum(int argc, char **argv)
   }
   if (!job_path == !(argc - optind))
     return cli_usage_error("spectrum", "give shot or section files, or --job FILE (not both)");
+  if (conditioned && (!job_path || !rq.nrecords))
+    return cli_usage_error("spectrum", "--conditioned needs --job and --records (the records "
+                           "to run through the job's chain)");
+  if (traces_out && !conditioned)
+    return cli_usage_error("spectrum", "--traces-out writes conditioned traces: give "
+                           "--conditioned (the recorded ones are in the shot files)");
   tz_err err;
   tz_err_init(&err);
   job_spec *job = NULL;
@@ -195,6 +305,8 @@ int cmd_spectrum(int argc, char **argv)
   const char *const *paths = (const char *const *)argv + optind;
   size_t npaths = (size_t)(argc - optind);
   int rc = TZ_OK;
+  if (conditioned)
+    return conditioned_spectrum(job_path, &rq, out, traces_out, json, quiet, max_hz);
   if (job_path) {
     if (!(rc = job_load(&job, job_path, &err))) {
       paths = (const char *const *)job->shots;
@@ -205,7 +317,6 @@ int cmd_spectrum(int argc, char **argv)
       }
     }
   }
-  fileio_out *fo = NULL;
   if (!rc && out) {
     for (size_t i = 0; i < npaths && !rc; i++)
       rc = fileio_check_not_input(out, paths[i], "the spectrum", &err);
@@ -221,33 +332,7 @@ int cmd_spectrum(int argc, char **argv)
     job_free(job);
     return ex;
   }
-  size_t nout = r.nfreq;
-  while (nout > 1 && (double)(nout - 1) * r.df_hz > max_hz)
-    nout--;
-  ex = EX_OK;
-  if (json && !out) {
-    ex = cli_print_json(to_json(&r, nout));
-  } else if (!out) {
-    write_csv(stdout, &r, nout);
-  } else if ((rc = fileio_create(&fo, out, &err))) {
-    ex = cli_report("spectrum", &err);
-  } else {
-    if (json) {
-      cJSON *o = to_json(&r, nout);
-      char *text = o ? cJSON_Print(o) : NULL;
-      if (text)
-        fprintf(fileio_stream(fo), "%s\n", text);
-      free(text);
-      cJSON_Delete(o);
-    } else {
-      write_csv(fileio_stream(fo), &r, nout);
-    }
-    if ((rc = fileio_commit(fo, &err)))
-      ex = cli_report("spectrum", &err);
-    else if (!quiet)
-      printf("spectrum of %lld traces (window %.6g-%.6g ms), peak %.6g Hz: %s\n",
-             (long long)r.traces, r.start_ms, r.end_ms, r.peak_hz, out);
-  }
+  ex = emit(&r, out, json, quiet, max_hz);
   spectrum_result_free(&r);
   job_free(job);
   return ex;

@@ -227,16 +227,16 @@ typedef struct axis {
   size_t i0, nwin;
 } axis;
 
-/* The window's samples on the first file's axis. */
-static int set_axis(axis *ax, const spectrum_request *rq, const segy_trace_header *h,
-                    const char *path, tz_err *err)
+/* The window's samples on the first selected trace's axis. */
+static int set_axis(axis *ax, const spectrum_request *rq, uint32_t ns, uint32_t interval_us,
+                    int16_t delay_ms, const char *path, tz_err *err)
 {
   ax->set = 1;
-  ax->ns = h->samples;
-  ax->interval_us = h->interval_us;
-  ax->delay_ms = h->delay_ms;
-  double dt_ms = h->interval_us / 1000.0, t0 = h->delay_ms;
-  double tend = t0 + dt_ms * (h->samples - 1);
+  ax->ns = ns;
+  ax->interval_us = interval_us;
+  ax->delay_ms = delay_ms;
+  double dt_ms = interval_us / 1000.0, t0 = delay_ms;
+  double tend = t0 + dt_ms * (ns - 1);
   double a = rq->start_ms, b = rq->end_ms;
   if (!(b > a)) {
     a = t0;
@@ -244,7 +244,7 @@ static int set_axis(axis *ax, const spectrum_request *rq, const segy_trace_heade
   }
   double i0 = ceil((a - t0) / dt_ms - 1e-9), i1 = floor((b - t0) / dt_ms + 1e-9);
   i0 = i0 < 0 ? 0 : i0;
-  i1 = i1 > (double)h->samples - 1 ? (double)h->samples - 1 : i1;
+  i1 = i1 > (double)ns - 1 ? (double)ns - 1 : i1;
   if (!(i1 - i0 >= 1))
     return tz_fail_at(err, TZ_E_ARG, -1, -1, "%s: the window %.10g-%.10g ms holds fewer than "
                       "two samples of the traces (%.10g to %.10g ms)", path, a, b, t0, tend);
@@ -253,16 +253,107 @@ static int set_axis(axis *ax, const spectrum_request *rq, const segy_trace_heade
   return TZ_OK;
 }
 
+/* The sums of one request: traces are offered one by one. */
+typedef struct collector {
+  const spectrum_request *rq;
+  axis ax;
+  spectrum_plan *p;
+  spectrum_acc *acc;
+  int64_t dead;
+} collector;
+
+int spectrum_selects(const spectrum_request *rq, const segy_trace_header *h)
+{
+  if ((h->kind != 1 && h->kind != 0) || !in_ranges(rq->records, rq->nrecords, h->field_record) ||
+      !in_ranges(rq->channels, rq->nchannels, h->channel))
+    return 0;
+  double off = fabs(h->offset);
+  return !(off < rq->offset_min_m || (rq->offset_max_m >= 0 && off > rq->offset_max_m));
+}
+
+/* Sets the axis from the first trace offered; later ones must share it. */
+static int collect_axis(collector *c, const segy_trace_header *h, uint32_t ns,
+                        uint32_t interval_us, const char *path, int64_t trace, tz_err *err)
+{
+  if (!c->ax.set)
+    return set_axis(&c->ax, c->rq, ns, interval_us, h->delay_ms, path, err) ||
+                   spectrum_plan_new(&c->p, c->ax.nwin, interval_us * 1e-6, c->rq->taper_pct,
+                                     err) ||
+                   spectrum_acc_new(&c->acc, c->p, err)
+               ? err->status
+               : TZ_OK;
+  if (ns != c->ax.ns || interval_us != c->ax.interval_us || h->delay_ms != c->ax.delay_ms) {
+    tz_fail_at(err, TZ_E_FORMAT, trace, -1, "%u samples at %u us from %d ms, but the first "
+               "trace selected has %u at %u us from %d ms: spectra need one time axis", ns,
+               interval_us, h->delay_ms, c->ax.ns, c->ax.interval_us, c->ax.delay_ms);
+    return tz_err_path(err, path);
+  }
+  return TZ_OK;
+}
+
+static void collect_add(collector *c, const float *x)
+{
+  const float *w = x + c->ax.i0;
+  double e = 0;
+  for (size_t k = 0; k < c->ax.nwin; k++)
+    e += fabs(w[k]);
+  if (e > 0)
+    spectrum_acc_add(c->acc, w);
+  else
+    c->dead++;
+}
+
+static int collect_finish(collector *c, spectrum_result *out, tz_err *err)
+{
+  if (!c->acc || !spectrum_acc_count(c->acc))
+    return tz_fail(err, TZ_E_ARG, "no live data trace matches the selection (%lld selected "
+                   "traces were all zero in the window)", (long long)c->dead);
+  out->nfreq = spectrum_plan_nfreq(c->p);
+  out->df_hz = spectrum_plan_df_hz(c->p);
+  out->amplitude = malloc(out->nfreq * sizeof *out->amplitude);
+  out->db = malloc(out->nfreq * sizeof *out->db);
+  if (!out->amplitude || !out->db)
+    return tz_fail(err, TZ_E_NOMEM, "spectrum of %zu frequencies", out->nfreq);
+  spectrum_acc_mean(c->acc, out->amplitude);
+  double mx = 0;
+  size_t kmax = 0;
+  for (size_t k = 0; k < out->nfreq; k++)
+    if (out->amplitude[k] > mx) {
+      mx = out->amplitude[k];
+      kmax = k;
+    }
+  for (size_t k = 0; k < out->nfreq; k++)
+    out->amplitude[k] = mx > 0 ? out->amplitude[k] / mx : 0;
+  spectrum_to_db(out->amplitude, out->nfreq, out->db);
+  out->peak_hz = (double)kmax * out->df_hz;
+  out->traces = spectrum_acc_count(c->acc);
+  out->traces_dead = c->dead;
+  double dt_ms = c->ax.interval_us / 1000.0;
+  out->interval_ms = dt_ms;
+  out->samples = c->ax.nwin;
+  out->start_ms = c->ax.delay_ms + dt_ms * (double)c->ax.i0;
+  out->end_ms = out->start_ms + dt_ms * (double)(c->ax.nwin - 1);
+  return TZ_OK;
+}
+
+static int collect_end(collector *c, int rc, spectrum_result *out, tz_err *err)
+{
+  if (!rc)
+    rc = collect_finish(c, out, err);
+  if (rc)
+    spectrum_result_free(out);
+  spectrum_acc_free(c->acc);
+  spectrum_plan_free(c->p);
+  return rc;
+}
+
 int spectrum_of_files(const char *const *paths, size_t n, const spectrum_request *rq,
                       spectrum_result *out, tz_err *err)
 {
   memset(out, 0, sizeof *out);
-  spectrum_plan *p = NULL;
-  spectrum_acc *acc = NULL;
+  collector c = { .rq = rq };
   float *x = NULL;
   segy_file *f = NULL;
-  axis ax = { 0 };
-  int64_t dead = 0;
   int rc = TZ_OK;
   for (size_t i = 0; i < n && !rc; i++) {
     if ((rc = segy_open(&f, paths[i], rq->open, err)))
@@ -272,82 +363,36 @@ int spectrum_of_files(const char *const *paths, size_t n, const spectrum_request
       segy_trace_header h;
       if ((rc = segy_header_read(f, t, &h, err)))
         break;
-      if ((h.kind != 1 && h.kind != 0) || !in_ranges(rq->records, rq->nrecords, h.field_record) ||
-          !in_ranges(rq->channels, rq->nchannels, h.channel))
+      if (!spectrum_selects(rq, &h))
         continue;
-      double off = fabs(h.offset);
-      if (off < rq->offset_min_m || (rq->offset_max_m >= 0 && off > rq->offset_max_m))
-        continue;
-      if (!ax.set) {
-        if ((rc = set_axis(&ax, rq, &h, paths[i], err)) ||
-            (rc = spectrum_plan_new(&p, ax.nwin, ax.interval_us * 1e-6, rq->taper_pct, err)) ||
-            (rc = spectrum_acc_new(&acc, p, err)))
-          break;
-        if (!(x = malloc(ax.ns * sizeof *x))) {
-          rc = tz_fail(err, TZ_E_NOMEM, "trace of %u samples", ax.ns);
-          break;
-        }
-      } else if (h.samples != ax.ns || h.interval_us != ax.interval_us ||
-                 h.delay_ms != ax.delay_ms) {
-        rc = tz_fail_at(err, TZ_E_FORMAT, t, -1, "%u samples at %u us from %d ms, but the "
-                        "first trace selected has %u at %u us from %d ms: spectra need one "
-                        "time axis", h.samples, h.interval_us, h.delay_ms, ax.ns,
-                        ax.interval_us, ax.delay_ms);
-        tz_err_path(err, paths[i]);
+      if ((rc = collect_axis(&c, &h, h.samples, h.interval_us, paths[i], t, err)))
+        break;
+      if (!x && !(x = malloc(c.ax.ns * sizeof *x))) {
+        rc = tz_fail(err, TZ_E_NOMEM, "trace of %u samples", c.ax.ns);
         break;
       }
-      if ((rc = segy_trace_read(f, t, &h, x, ax.ns, err)))
-        break;
-      const float *w = x + ax.i0;
-      double e = 0;
-      for (size_t k = 0; k < ax.nwin; k++)
-        e += fabs(w[k]);
-      if (!(e > 0)) {
-        dead++;
-        continue;
-      }
-      spectrum_acc_add(acc, w);
+      if (!(rc = segy_trace_read(f, t, &h, x, c.ax.ns, err)))
+        collect_add(&c, x);
     }
     segy_close(f);
     f = NULL;
   }
-  if (!rc && (!acc || !spectrum_acc_count(acc)))
-    rc = tz_fail(err, TZ_E_ARG, "no live data trace matches the selection (%lld selected traces "
-                 "were all zero in the window)", (long long)dead);
-  if (!rc) {
-    out->nfreq = spectrum_plan_nfreq(p);
-    out->df_hz = spectrum_plan_df_hz(p);
-    out->amplitude = malloc(out->nfreq * sizeof *out->amplitude);
-    out->db = malloc(out->nfreq * sizeof *out->db);
-    if (!out->amplitude || !out->db) {
-      rc = tz_fail(err, TZ_E_NOMEM, "spectrum of %zu frequencies", out->nfreq);
-    } else {
-      spectrum_acc_mean(acc, out->amplitude);
-      double mx = 0;
-      size_t kmax = 0;
-      for (size_t k = 0; k < out->nfreq; k++)
-        if (out->amplitude[k] > mx) {
-          mx = out->amplitude[k];
-          kmax = k;
-        }
-      for (size_t k = 0; k < out->nfreq; k++)
-        out->amplitude[k] = mx > 0 ? out->amplitude[k] / mx : 0;
-      spectrum_to_db(out->amplitude, out->nfreq, out->db);
-      out->peak_hz = (double)kmax * out->df_hz;
-      out->traces = spectrum_acc_count(acc);
-      out->traces_dead = dead;
-      double dt_ms = ax.interval_us / 1000.0;
-      out->interval_ms = dt_ms;
-      out->samples = ax.nwin;
-      out->start_ms = ax.delay_ms + dt_ms * (double)ax.i0;
-      out->end_ms = out->start_ms + dt_ms * (double)(ax.nwin - 1);
-    }
-  }
-  if (rc)
-    spectrum_result_free(out);
-  segy_close(f);
   free(x);
-  spectrum_acc_free(acc);
-  spectrum_plan_free(p);
-  return rc;
+  return collect_end(&c, rc, out, err);
+}
+
+int spectrum_of_traces(const segy_trace_header *h, const float *samples, size_t n, size_t ns,
+                       uint32_t interval_us, const spectrum_request *rq, spectrum_result *out,
+                       tz_err *err)
+{
+  memset(out, 0, sizeof *out);
+  collector c = { .rq = rq };
+  int rc = TZ_OK;
+  if (ns > SPECTRUM_MAX_SAMPLES)
+    rc = tz_fail(err, TZ_E_ARG, "traces of %zu samples (at most %d)", ns, SPECTRUM_MAX_SAMPLES);
+  for (size_t j = 0; j < n && !rc; j++)
+    if (spectrum_selects(rq, &h[j]) &&
+        !(rc = collect_axis(&c, &h[j], (uint32_t)ns, interval_us, "", (int64_t)j, err)))
+      collect_add(&c, samples + j * ns);
+  return collect_end(&c, rc, out, err);
 }

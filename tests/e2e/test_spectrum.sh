@@ -55,3 +55,29 @@ expect_stderr 'frequency_hz and amplitude_db' "the message names the columns it 
 expect_no_file "$D/out/x.png" "no picture after a failure"
 expect_status 64 "labels and spectra of different counts" -- "$TZERO" picture \
   --spectrum "$D/out/a.csv" --labels "a,b" --out "$D/out/x.png"
+
+# --- after the job's chain: a spiking deconvolution widens the band (the wavelet is
+# whitened, Robinson & Treitel 1980), and the conditioned traces can be written
+"$PYTHON" - "$J" "$D/decon.json" <<'PY'
+import json, sys
+job = json.load(open(sys.argv[1]))
+job["conditioning"] = [{"step": "deconvolution", "operator_ms": 100, "prewhitening_pct": 1,
+                        "window": [[0, 50, 950]], "ensemble": "record"}]
+json.dump(job, open(sys.argv[2], "w"))
+PY
+expect_status 0 "spectrum after the job's chain" -- "$TZERO" spectrum --job "$D/decon.json" \
+  --records 3-5 --conditioned --json --out "$D/out/after.json" --traces-out "$D/out/rec.sgy"
+expect_status 0 "the same records as recorded" -- "$TZERO" spectrum --job "$D/decon.json" \
+  --records 3-5 --json --out "$D/out/before.json"
+"$PYTHON" - "$D/out/before.json" "$D/out/after.json" <<'PY' && ok "deconvolution widens the -20 dB band" || notok "decon did not widen the band"
+import json, sys
+def width(p):
+    d = json.load(open(p))
+    return sum(1 for v in d["amplitude_db"] if v > -20) * d["frequency_step_hz"]
+b, a = width(sys.argv[1]), width(sys.argv[2])
+print(f"# -20 dB band: {b:.1f} Hz recorded, {a:.1f} Hz after deconvolution")
+sys.exit(0 if a > 1.3 * b else 1)
+PY
+"$PYTHON" -c 'import segyio,sys; f=segyio.open(sys.argv[1], ignore_geometry=True); sys.exit(0 if f.tracecount >= 60 else 1)' \
+  "$D/out/rec.sgy" && ok "--traces-out writes the conditioned records (segyio reads them)" || notok "--traces-out"
+expect_status 64 "--conditioned without --records" -- "$TZERO" spectrum --job "$D/decon.json" --conditioned
