@@ -528,6 +528,8 @@ static int extras(segy_file *f, const opts *o, const long *idx, size_t nidx, cJS
   }
   if (!o->samples_trace)
     return TZ_OK;
+  if (o->samples_trace < 0 && n == 0)
+    return TZ_OK;                       /* --samples all of a file without traces */
   int64_t first = o->samples_trace > 0 ? o->samples_trace - 1 : 0;
   int64_t last = o->samples_trace > 0 ? first + 1 : n;
   if (first >= n)

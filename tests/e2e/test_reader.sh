@@ -162,3 +162,9 @@ for b in 2147483647 2147483646 2147483645 7.7e110; do
   expect_status 65 "job header_map byte $b" -- "$TZERO" stack --job mapjob.json --quiet
   expect_no_file never.sgy "no section written ($b)"
 done
+
+# A file of headers only: --samples all prints nothing and exits 0 (it was 64,
+# "no such trace", found by mutating the layout seeds)
+head -c 3600 a/sv/shot_000001.sgy >headers_only.sgy
+expect_status 0 "--samples all of a file without traces" -- "$TZERO" inspect --quiet --samples all headers_only.sgy
+expect_stdout "headers_only.sgy: 0 traces" "zero traces reported"
