@@ -88,6 +88,7 @@ PREFIX_LIST = \
   compare \
   condition \
   digest \
+  edits \
   fileio \
   firstbreak \
   fit \
@@ -109,6 +110,7 @@ PREFIX_LIST = \
   semblance \
   spectrum \
   stack \
+  statics \
   survey \
   synth \
   table \

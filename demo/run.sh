@@ -1,11 +1,13 @@
 #!/bin/sh
 # run.sh -- the demo: the invented Tarrowvane valley scenario (demo/tarrowvane/).
 #
-# Two lines: TV-GW-01, a shallow groundwater line (48-channel split spread, 2 m
+# Three lines: TV-GW-01, a shallow groundwater line (48-channel split spread, 2 m
 # stations) for the (invented) Brindlecote Water Co-operative, and TV-DX-04, a deeper
 # exploration-style line (120-channel trailing spread, 12.5 m stations) with a
 # dipping interface for the (invented) Quarrendine Exploration, taken through
-# velocity analysis (semblance picks), stacking and comparison. Steps run one
+# velocity analysis (semblance picks), stacking and comparison; and TV-RT-07, a line
+# across the rough terrain of the Tarrowvane escarpment for the (invented) Harrowell
+# Aggregates Trust, stacked with and without elevation statics. Steps run one
 # after another; outputs go to demo/out/ (ignored by git).
 set -eu
 B=${B:-build}
@@ -94,6 +96,25 @@ echo "   the skipped shot point 133 shows as low fold; a broken limit answers wi
 "$TZ" report --check "$D/limits_gw01_strict.json" "$O/gw01_qc.json" || echo "(exit $?)"
 
 echo
+echo "== TV-RT-07: a third line across the rough terrain of the Tarrowvane escarpment (60 m of"
+echo "   relief, a weathering layer 4-9 m thick, shots 6 m deep with uphole times)"
+"$TZ" synth --model "$D/model_escarpment.json" --layout "$D/layout_rt07.json" --out "$O/rt07" \
+  --record-ms 1200 --interval-ms 2 --peak-hz 30 --noise 0.02 --seed 7 --no-direct \
+  --line-name TV-RT-07 | tail -n 1
+"$TZ" statics elevation --job "$D/rt07.job.json" --out "$O/rt07_elevation_statics.csv"
+
+echo
+echo "== TV-RT-07: stacked without statics, then with elevation and uphole statics to a 120 m datum"
+"$TZ" stack --job "$D/rt07_nostatics.job.json" --quiet
+"$TZ" stack --job "$D/rt07.job.json" | grep -E '^(edits|statics|fold) '
+"$TZ" compare "$O/rt07_stack.sgy" "$O/rt07_stack_nostatics.sgy" | tail -n 2
+"$TZ" picture "$O/rt07_stack.sgy" --out "$O/rt07_stack.png" --time-ms 0-1000
+"$TZ" picture "$O/rt07_stack_nostatics.sgy" --out "$O/rt07_stack_nostatics.png" --time-ms 0-1000
+"$TZ" picture --statics "$O/rt07_qc.json" --out "$O/rt07_statics.png"
+
+echo
 echo "outputs in $O/: gw01_stack.sgy, gw01_qc.json, gw01_stack.png (.pdf), gw01_fold.png (.svg),"
-echo "  dx04_velocity.csv, dx04_stack.sgy, dx04_qc.json, dx04_stack.png, dx04_panels.png"
+echo "  dx04_velocity.csv, dx04_stack.sgy, dx04_qc.json, dx04_stack.png, dx04_panels.png,"
+echo "  rt07_stack.png (with statics), rt07_stack_nostatics.png, rt07_statics.png,"
+echo "  rt07_elevation_statics.csv"
 echo "A processed section is an interpretation aid: have it reviewed by a qualified geophysicist."

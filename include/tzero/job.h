@@ -18,6 +18,7 @@
 #include <stddef.h>
 #include <stdint.h>
 #include "tzero/condition.h"
+#include "tzero/edits.h"
 #include "tzero/error.h"
 #include "tzero/limits.h"
 
@@ -46,6 +47,24 @@ typedef struct job_mute_point {
   double offset_m;    /* absolute offset */
   double time_ms;     /* recorded time before correction */
 } job_mute_point;
+
+#define JOB_MAX_STATICS_TABLES 16
+
+/* "statics" object. present = 0: no statics (every static is 0). */
+typedef struct job_statics {
+  int present;
+  double datum_m;                  /* flat datum elevation (required) */
+  double replacement_velocity_mps; /* required, > 0 */
+  int elevation;                   /* 1: elevation statics from the station elevations
+                                    * (default 1 when the object is given) */
+  double weathering_velocity_mps;  /* 0 = not given; needed by uphole */
+  int uphole;                      /* 1: uphole times (95-96) and source depth (49-52)
+                                    * for the source term and the weathering thickness */
+  size_t ntables;                  /* station statics tables, added to the elevation term */
+  char *tables[JOB_MAX_STATICS_TABLES];
+  double floating_datum_smooth_m;  /* 0 = flat datum */
+  double station_interval_m;       /* 0 = the receiver interval of the geometry */
+} job_statics;
 
 typedef struct job_spec {
   char *path;                 /* the job file as given ("" when built in memory) */
@@ -99,6 +118,12 @@ typedef struct job_spec {
   limits_set limits;
   char *limits_file;          /* the limits file when "limits" named one, else NULL */
 
+  /* "edits": kill, reverse, automatic kills (docs/statics.md); empty = none */
+  edits_spec edits;
+
+  /* "statics": field statics to a datum (docs/statics.md) */
+  job_statics statics;
+
   int threads;                /* 0 = the machine's online cores */
   int skip_bad_files;         /* 0 = a missing or corrupt shot file stops the run */
 } job_spec;
@@ -115,6 +140,11 @@ int job_parse(job_spec **out, const char *text, size_t len, const char *name,
               const char *dir, tz_err *err);
 void job_free(job_spec *j);                          /* NULL is a no-op */
 
+/* Reads an edits file for --edits: a JSON object with the keys of the job's
+ * "edits" object (kill, reverse, auto). Messages name the file and the JSON
+ * path ($.kill[0].channels). On success *out owns its lists (edits_spec_free). */
+int job_load_edits(edits_spec *out, const char *path, tz_err *err);
+
 /* Command-line overrides; NULL / negative / NaN means "not given". */
 typedef struct job_overrides {
   const char *velocity;
@@ -124,6 +154,7 @@ typedef struct job_overrides {
   int interpolation;          /* -1 = not given */
   int threads;                /* -1 = not given */
   int skip_bad_files;         /* -1 = not given */
+  const char *edits;          /* an edits file replacing the job's "edits" (job_load_edits) */
   int has_cmp_range;          /* 0 = not given */
   int64_t cmp_first, cmp_last;
 } job_overrides;

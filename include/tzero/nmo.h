@@ -105,6 +105,16 @@ int nmo_inverse(nmo_workspace *ws, const nmo_params *p, const nmo_axis *ax,
                 double offset_m, const float *in, const float *vel_mps, const float *eta,
                 float *out, tz_err *err);
 
+/* Static time shift (statics): out(t) = in(t - shift_s) on the same axis, read
+ * with the sinc8 kernel of this workspace (docs/nmo.md gives its error bound),
+ * so a positive shift moves the data later. Input samples beyond the trace are
+ * zero. *live_lo / *live_hi (may be NULL) get the output span [lo, hi) whose
+ * source time lies inside the recorded trace: samples shifted in from outside
+ * are 0 and are not live. |shift_s| may exceed the trace (then nothing is live).
+ * Allocates nothing; out may not alias in. */
+int nmo_shift(nmo_workspace *ws, const nmo_axis *ax, double shift_s, const float *in,
+              float *out, size_t *live_lo, size_t *live_hi, tz_err *err);
+
 /* ---- Formulas (Yilmaz 2001: hyperbolic moveout, NMO stretch; Alkhalifah & Tsvankin 1995) ---- */
 
 /* Two-way time at offset x: sqrt(t0^2 + x^2/v^2 - 2 eta x^4/(v^2 (t0^2 v^2 + (1+2eta) x^2))). */

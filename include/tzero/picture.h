@@ -272,6 +272,32 @@ int picture_draw_fold(const picture_fold *f, const char *title, uint32_t width, 
 int picture_render_fold(const picture_fold *f, const char *title, uint32_t width,
                         uint32_t height, picture_image *img, picture_info *info, tz_err *err);
 
+/* ---- statics chart (src/qc/picture_statics.c) ---- */
+
+typedef struct picture_statics_point {
+  double station, elevation_m, static_ms;
+} picture_statics_point;
+
+typedef struct picture_statics {
+  picture_statics_point *pt[2];   /* [0] sources, [1] receivers; owned: picture_statics_free() */
+  size_t n[2];
+  double datum_m;
+} picture_statics;
+
+void picture_statics_free(picture_statics *s);   /* NULL is a no-op */
+/* Reads statics.datum_m and statics.sources[] / statics.receivers[] (station,
+ * elevation_m, static_ms) from a QC report. A report without statics, or a bad
+ * value, is TZ_E_FORMAT naming the file and the JSON path. */
+int picture_statics_parse(picture_statics *out, const char *json, size_t len, const char *name,
+                          tz_err *err);
+int picture_statics_load(picture_statics *out, const char *path, tz_err *err);
+/* Elevation profile (receivers as a line, sources as dots) with the datum dashed
+ * on top; source and receiver statics (ms) below; station numbers along the
+ * bottom. width/height 0 choose defaults (4 px per station, 560 px high). */
+int picture_draw_statics(const picture_statics *s, const char *title, uint32_t width,
+                         uint32_t height, int format, picture_ctx **out, picture_info *info,
+                         tz_err *err);
+
 /* ---- SEG-Y panels ---- */
 
 typedef struct picture_select {

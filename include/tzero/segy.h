@@ -46,6 +46,11 @@ typedef struct segy_trace_header {
   double source_x, source_y;     /* 73-80 scaled by coord_scalar */
   double receiver_x, receiver_y; /* 81-88 scaled by coord_scalar */
   int16_t coord_units;       /* 89-90 1 length, 2 arc-seconds, 3 degrees, 4 DMS */
+  double uphole_source_ms;   /* 95-96  uphole time at the source, scaled by 215-216 */
+  double uphole_receiver_ms; /* 97-98  uphole time at the group */
+  double source_static_ms;   /* 99-100 source static correction */
+  double receiver_static_ms; /* 101-102 group static correction */
+  double total_static_ms;    /* 103-104 total static applied */
   int16_t delay_ms;          /* 109-110 delay recording time (scaled by 215-216 on read) */
   int16_t mute_start_ms;     /* 111-112 */
   int16_t mute_end_ms;       /* 113-114 */

@@ -138,6 +138,36 @@ int stack_plan_classify(const stack_plan *p, const segy_trace_header *h, int64_t
                         int32_t *cmp, double *offset_abs_m, double *offset_signed_m,
                         int *reason);
 
+/* ---- stations and their statics (docs/statics.md) ---- */
+
+/* One source or receiver station as the plan found it. Stations are numbered
+ * round(s / interval) from their distance s along the processing line (for a
+ * layout, from the layout's station 0, so they are the layout's station
+ * numbers; halves round up); interval = statics.station_interval_m, default
+ * the receiver interval of the geometry. */
+typedef struct stack_station {
+  int kind;                  /* enum statics_kind */
+  int32_t station;
+  double x_m, y_m, elevation_m;  /* as first seen */
+  double depth_m;            /* sources: mean source depth (bytes 49-52), else 0 */
+  double uphole_ms;          /* sources: mean uphole time (bytes 95-96); NAN when none */
+  double weathering_m;       /* weathering thickness used (uphole statics), NAN when none */
+  double elevation_ms;       /* the elevation term (0 when statics.elevation is false) */
+  double table_ms;           /* the sum of the station statics tables */
+  double static_ms;          /* elevation_ms + table_ms */
+  int64_t traces;            /* traces using the station */
+} stack_station;
+
+/* The plan's stations of one kind, sorted by number (NULL, 0 when the job has
+ * no statics and no station edits). Borrowed from the plan. */
+const stack_station *stack_plan_stations(const stack_plan *p, int kind, size_t *n);
+/* The floating datum at a CMP of the plan's range: its elevation and the static
+ * 2 (F - D) / v_r (ms) applied before NMO and removed from the stacked trace.
+ * Returns 0 (and nothing) with a flat datum or outside the range. */
+int stack_plan_floating(const stack_plan *p, int32_t cmp, double *elevation_m, double *ms);
+/* The station interval in use (0 when stations are not numbered). */
+double stack_plan_station_interval(const stack_plan *p);
+
 /* ---- the data pass ---- */
 
 typedef struct stack_run_opts {
@@ -190,6 +220,14 @@ typedef struct stack_section {
   int64_t traces_stacked;
   int64_t skipped[STACK_SKIP__COUNT];
   int64_t bad_samples;           /* NaN, infinite or out-of-range input samples, read as 0 */
+  /* edits (traces of the section's CMP range) */
+  int64_t killed[EDITS_KILL__COUNT];   /* removed by edits, by reason (edits_reason_name) */
+  int64_t reversed;              /* stacked with their polarity reversed */
+  size_t nkill_entries, nreverse_entries;
+  int64_t *kill_hits, *reverse_hits;   /* traces each entry selected (all records read); owned */
+  /* statics applied (stacked traces) */
+  int64_t static_traces;
+  double static_min_ms, static_max_ms, static_rms_ms;
   int64_t bytes_read;            /* input bytes of the files read */
   /* mute statistics over all stacked traces */
   int64_t samples_total, muted_stretch, muted_top, muted_end;
@@ -222,7 +260,10 @@ typedef struct stack_gather {
   size_t ntraces;                /* sorted by |offset|, then input order */
   double *offset_m;              /* |offset| per trace */
   double *offset_signed_m;       /* SEG-Y signed offset per trace */
-  double *static_ms;             /* total static applied per trace (ms) */
+  double *static_ms;             /* total static applied per trace (ms); also in the
+                                  * headers' bytes 99-104 fields (source, receiver, total) */
+  size_t *live_lo, *live_hi;     /* per trace: samples [lo, hi) hold recorded data; the
+                                  * rest was shifted in by the static (zero, not live) */
   segy_trace_header *headers;    /* as read, per trace */
   float *samples;                /* ntraces * axis.ns */
 } stack_gather;

@@ -40,11 +40,44 @@ typedef struct synth_dip {
   double velocity_below_mps, density_below_kgm3;
 } synth_dip;
 
+#define SYNTH_MAX_NS_POINTS 256
+
+/* Near-surface model (docs/earth-model.md): the layered earth lies below a flat
+ * datum; between the surface (the layout's station elevations) and the datum
+ * there is a weathering layer (thickness and velocity linear in the along-line
+ * position between control points, held beyond them; none when n = 0) over
+ * material of the replacement velocity. Each station delays every reflection
+ * by its vertical time to the datum. */
+typedef struct synth_near_surface {
+  int present;
+  double datum_m;
+  double replacement_velocity_mps;
+  size_t n;
+  double along_m[SYNTH_MAX_NS_POINTS];
+  double thickness_m[SYNTH_MAX_NS_POINTS];
+  double velocity_mps[SYNTH_MAX_NS_POINTS];
+} synth_near_surface;
+
 typedef struct synth_model {
   size_t nlayers;            /* >= 1; nlayers - 1 flat reflectors */
   synth_layer layer[SYNTH_MAX_LAYERS];
   synth_dip dip;
+  synth_near_surface ns;
 } synth_model;
+
+/* Weathering thickness and velocity at an along-line position (0 and the
+ * replacement velocity without a weathering layer or near-surface model). */
+void synth_weathering_at(const synth_model *m, double along_m, double *thickness_m,
+                         double *velocity_mps);
+/* Vertical time (s) from a point `depth_m` below the surface at elevation
+ * `elevation_m`, along-line position along_m, down to the datum: (h - d) / v_w +
+ * (E - h - D) / v_r above the weathering base, (E - d - D) / v_r below it; 0
+ * without a near-surface model. The station's true static is minus this. */
+double synth_station_delay(const synth_model *m, double along_m, double elevation_m,
+                           double depth_m);
+/* Vertical time (s) from a source at depth d up to the surface: d / v_w inside the
+ * weathering, h / v_w + (d - h) / v_r below it. */
+double synth_uphole_time(const synth_model *m, double along_m, double depth_m);
 
 /* Parses model JSON (NUL-terminated; docs/earth-model.md). Unknown keys are
  * TZ_E_FORMAT naming the key and the nearest known one. */
@@ -153,6 +186,12 @@ int synth_survey(const synth_model *m, const geometry_layout *l, const synth_par
 /* Writes the model's exact RMS velocity table (flat layers; docs/velocity-table.md format,
  * header cmp,time_ms,velocity_mps) for control CMPs first_cmp and last_cmp
  * (one CMP when they are equal), through a temporary file. */
+/* Writes the true station statics of the layout under the near-surface model
+ * (docs/statics.md table format; static = -delay, stations numbered
+ * floor(along / receiver interval + 1/2) from the layout's station 0). */
+int synth_write_true_statics(const synth_model *m, const geometry_layout *l, const char *path,
+                             tz_err *err);
+
 int synth_write_rms_table(const synth_model *m, int32_t first_cmp, int32_t last_cmp,
                           const char *path, tz_err *err);
 

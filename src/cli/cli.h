@@ -32,6 +32,7 @@ int cmd_spectrum(int argc, char **argv);
 int cmd_merge(int argc, char **argv);
 int cmd_migrate(int argc, char **argv);
 int cmd_firstbreaks(int argc, char **argv);
+int cmd_statics(int argc, char **argv);   /* verbs: src/cli/statics.c */
 
 /* `tzero picture --spectrum A.csv,B.csv` / `--fk-record N FILE` (picture_spectrum.c):
  * the option strings as given (NULL when absent). */

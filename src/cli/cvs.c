@@ -8,6 +8,7 @@
 #include <sysexits.h>
 
 #include "cli.h"
+#include "jobopts.h"
 #include "tzero/job.h"
 #include "tzero/segy.h"
 #include "tzero/semblance.h"
@@ -33,6 +34,7 @@ static void help(void)
          "                        the velocity in m/s in bytes 37-40, fold in 33-34\n"
          "  --stretch-limit PCT   override the job's stretch mute limit, %%\n"
          "  --threads N           worker threads (default: the job's, 0 = all cores)\n"
+         CLI_EDITS_HELP
          "  --json                print a summary as JSON\n"
          "  --quiet               print nothing but errors\n"
          "  -h, --help            this text\n"
@@ -51,6 +53,7 @@ int cmd_cvs(int argc, char **argv)
     { "out", required_argument, NULL, O_OUT },
     { "stretch-limit", required_argument, NULL, O_STRETCH },
     { "threads", required_argument, NULL, O_THREADS },
+    { "edits", required_argument, NULL, JOBOPT_EDITS },
     { "json", no_argument, NULL, O_JSON },
     { "quiet", no_argument, NULL, O_QUIET },
     { "help", no_argument, NULL, 'h' },
@@ -60,12 +63,14 @@ int cmd_cvs(int argc, char **argv)
   double stretch = NAN;
   long long threads = -1;
   int json = 0, quiet = 0, c;
+  const char *edits = NULL;
   optind = 1;
   opterr = 0;
   while ((c = getopt_long(argc, argv, "h", lo, NULL)) != -1) {
     int bad = 0;
     switch (c) {
     case O_JOB: jobpath = optarg; break;
+    case JOBOPT_EDITS: edits = optarg; break;
     case O_CMPS: cmptext = optarg; break;
     case O_VELS: veltext = optarg; break;
     case O_OUT: out = optarg; break;
@@ -117,6 +122,7 @@ int cmd_cvs(int argc, char **argv)
     job_overrides_init(&ov);
     ov.stretch_limit_pct = stretch;
     ov.threads = (int)threads;
+    ov.edits = edits;
     rc = job_apply_overrides(job, &ov, &err);
   }
   if (!rc)

@@ -39,6 +39,9 @@ int cli_job_option(const char *cmd, int c, const char *arg, job_overrides *ov)
   case JOBOPT_SKIP_BAD:
     ov->skip_bad_files = 1;
     return 1;
+  case JOBOPT_EDITS:
+    ov->edits = arg;
+    return 1;
   default:
     return 0;
   }

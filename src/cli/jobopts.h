@@ -8,17 +8,24 @@
 #include "tzero/job.h"
 
 /* getopt_long entries for the overrides; their `val`s are the JOBOPT_* codes. */
-enum { JOBOPT_VELOCITY = 1000, JOBOPT_STRETCH, JOBOPT_INTERP, JOBOPT_THREADS, JOBOPT_SKIP_BAD };
+enum { JOBOPT_VELOCITY = 1000, JOBOPT_STRETCH, JOBOPT_INTERP, JOBOPT_THREADS, JOBOPT_SKIP_BAD,
+       JOBOPT_EDITS };
 #define JOBOPTS_LONG                                                  \
   { "velocity", required_argument, NULL, JOBOPT_VELOCITY },           \
   { "stretch-limit", required_argument, NULL, JOBOPT_STRETCH },       \
   { "interpolation", required_argument, NULL, JOBOPT_INTERP },        \
   { "threads", required_argument, NULL, JOBOPT_THREADS },             \
-  { "skip-bad-files", no_argument, NULL, JOBOPT_SKIP_BAD }
+  { "skip-bad-files", no_argument, NULL, JOBOPT_SKIP_BAD },         \
+  { "edits", required_argument, NULL, JOBOPT_EDITS }
 
 /* Handles one JOBOPT_* option into ov. Returns 1 when handled, 0 when `c` is
  * not a job option, -1 after printing a usage error. */
 int cli_job_option(const char *cmd, int c, const char *arg, job_overrides *ov);
+
+/* The --help line of --edits, shared by stack, nmo, semblance and cvs. */
+#define CLI_EDITS_HELP                                                               \
+  "  --edits FILE.json         trace edits replacing the job's \"edits\" (kill, reverse,\n" \
+  "                            auto; docs/statics.md)\n"
 
 /* A progress line on stderr, drawn only when stderr is a terminal. */
 typedef struct cli_progress {

@@ -26,6 +26,7 @@ static const struct subcmd subcmds[] = {
   { "cvs",       cmd_cvs,       "constant-velocity stack panels over a CMP range" },
   { "spectrum",  cmd_spectrum,  "average amplitude spectra of chosen traces of shot files or a section" },
   { "fit",       cmd_fit,       "x^2-t^2 least-squares fit of reflection picks" },
+  { "statics",   cmd_statics,   "station statics tables: elevation (to a flat datum)" },
   { "stack",     cmd_stack,     "the whole flow from a job file: stacked section and QC report" },
   { "merge",     cmd_merge,     "join the parts of a line stacked by separate runs (--cmp-range)" },
   { "migrate",   cmd_migrate,   "post-stack time migration of a section (phase shift, Kirchhoff)" },

@@ -33,6 +33,7 @@ static void help(void)
          "  --stretch-limit PCT    stretch mute limit in percent (0 = off)\n"
          "  --interpolation NAME   linear or sinc8\n"
          "  --skip-bad-files       leave out missing or corrupt shot files\n"
+         CLI_EDITS_HELP
          "  --json                 print what was written as JSON\n"
          "  --quiet                print nothing on success\n"
          "  -h, --help             this text\n"

@@ -21,6 +21,7 @@ static void help(void)
          "       tzero picture --fold QC.json --out FILE.png|.svg|.pdf [--width W --height H]\n"
          "       tzero picture --spectrum A.csv[,B.csv...] [--labels A,B] --out FILE\n"
          "       tzero picture --fk-record N SHOT.sgy --out FILE [--spacing M] [--fan V,...]\n"
+         "       tzero picture --statics QC.json --out FILE.png|.svg|.pdf\n"
          "\n"
          "Draws a SEG-Y panel (a stacked section, CMP gathers, semblance panels) as a\n"
          "picture: time in ms increasing downward, traces left to right, labelled\n"
@@ -65,6 +66,8 @@ static void help(void)
          "  --fan V,...             dashed lines f = V |k| at these velocities, m/s\n"
          "  --max-hz F, --min-db D  frequency and level ranges of a spectrum picture\n"
          "                          (defaults: Nyquist; -80 dB, -60 dB for f-k)\n"
+         "  --statics QC.json       draw the statics chart of a QC report: elevations with\n"
+         "                          the datum, source and receiver statics (ms) by station\n"
          "  --json                  print what was drawn (size, plot area, clip) as JSON\n"
          "  --quiet                 print nothing but errors\n"
          "  -h, --help              this text\n"
@@ -223,11 +226,55 @@ static int run_fold(const char *qc, const char *out, int format, const char *tit
   return EX_OK;
 }
 
+static int run_statics(const char *qc, const char *out, int format, const char *title,
+                       uint32_t w, uint32_t h, int json, int quiet)
+{
+  tz_err err;
+  tz_err_init(&err);
+  picture_statics s = { 0 };
+  picture_ctx *ctx = NULL;
+  picture_info in;
+  char t[PICTURE_MAX_TITLE + 1];
+  int rc = fileio_check_not_input(out, qc, "--out", &err);
+  if (!rc)
+    rc = picture_statics_load(&s, qc, &err);
+  if (!rc) {
+    if (!title) {
+      snprintf(t, sizeof t, "Statics along the line, %s, datum %g m", base_name(qc), s.datum_m);
+      title = t;
+    }
+    rc = picture_draw_statics(&s, title, w, h, format, &ctx, &in, &err);
+  }
+  if (!rc)
+    rc = picture_ctx_write(ctx, out, &err);
+  size_t ns = s.n[0], nr = s.n[1];
+  picture_statics_free(&s);
+  picture_ctx_free(ctx);
+  if (rc)
+    return cli_report(cmd, &err);
+  if (quiet)
+    return EX_OK;
+  if (json) {
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddStringToObject(o, "path", out);
+    cJSON_AddStringToObject(o, "picture", "statics");
+    cJSON_AddStringToObject(o, "format", picture_format_name(format));
+    cJSON_AddNumberToObject(o, "width_px", in.width);
+    cJSON_AddNumberToObject(o, "height_px", in.height);
+    cJSON_AddNumberToObject(o, "source_stations", (double)ns);
+    cJSON_AddNumberToObject(o, "receiver_stations", (double)nr);
+    return cli_print_json(o);
+  }
+  printf("wrote %s (%u x %u px): statics chart of %zu source and %zu receiver stations\n", out,
+         in.width, in.height, ns, nr);
+  return EX_OK;
+}
+
 int cmd_picture(int argc, char **argv)
 {
   enum { O_OUT = 256, O_CMPS, O_TIME, O_PCT, O_CLIP, O_MAP, O_STYLE, O_W, O_H, O_TITLE, O_FOLD,
          O_JSON, O_QUIET, O_FORMAT, O_SPECTRUM, O_LABELS, O_FK, O_SPACING, O_MAXHZ, O_MINDB,
-         O_FAN };
+         O_FAN, O_STATICS };
   static const struct option opts[] = {
     { "out", required_argument, NULL, O_OUT },
     { "cmps", required_argument, NULL, O_CMPS },
@@ -240,6 +287,7 @@ int cmd_picture(int argc, char **argv)
     { "height", required_argument, NULL, O_H },
     { "title", required_argument, NULL, O_TITLE },
     { "fold", required_argument, NULL, O_FOLD },
+    { "statics", required_argument, NULL, O_STATICS },
     { "json", no_argument, NULL, O_JSON },
     { "quiet", no_argument, NULL, O_QUIET },
     { "format", required_argument, NULL, O_FORMAT },
@@ -255,7 +303,7 @@ int cmd_picture(int argc, char **argv)
   };
   static const char *const maps[] = { "diverging", "grey", "semblance", NULL };
   static const char *const styles[] = { "auto", "density", "wiggle", "both", NULL };
-  const char *out = NULL, *title = NULL, *fold = NULL;
+  const char *out = NULL, *title = NULL, *fold = NULL, *statics = NULL;
   picture_opts po = { 0 };
   picture_select sel = { 0 };
   cli_spectrum_pic sp = { 0 };
@@ -303,6 +351,7 @@ int cmd_picture(int argc, char **argv)
     case O_MAXHZ: sp.max_hz = optarg; break;
     case O_MINDB: sp.min_db = optarg; break;
     case O_FAN: sp.fan = optarg; break;
+    case O_STATICS: statics = optarg; break;
     case O_JSON: json = 1; break;
     case O_QUIET: quiet = 1; break;
     case O_FORMAT:
@@ -321,7 +370,7 @@ int cmd_picture(int argc, char **argv)
   if (format < 0 && (format = picture_format_from_path(out)) < 0) {
     tz_err e; /* an output onto the input is the graver mistake: say that first */
     tz_err_init(&e);
-    const char *in = fold ? fold : optind < argc ? argv[optind] : NULL;
+    const char *in = fold ? fold : statics ? statics : optind < argc ? argv[optind] : NULL;
     if (in && fileio_check_not_input(out, in, "--out", &e))
       return cli_report(cmd, &e);
     return cli_usage_error(cmd, "--out %s: name a .png, .svg or .pdf file, or give --format",
@@ -332,6 +381,12 @@ int cmd_picture(int argc, char **argv)
       return cli_usage_error(cmd, "expected at most one SEG-Y file, got %d", argc - optind);
     return cli_picture_spectrum(&sp, optind < argc ? argv[optind] : NULL, out, format, title,
                                 po.width, po.height, quiet);
+  }
+  if (statics) {
+    if (argc - optind != 0 || fold)
+      return cli_usage_error(cmd, "--statics draws a QC report; no SEG-Y file or --fold goes "
+                             "with it");
+    return run_statics(statics, out, format, title, po.width, po.height, json, quiet);
   }
   if (fold) {
     if (argc - optind != 0)

@@ -10,6 +10,7 @@
 #include <unistd.h>
 
 #include "cli.h"
+#include "jobopts.h"
 #include "tzero/fileio.h"
 #include "tzero/job.h"
 #include "tzero/segy.h"
@@ -61,6 +62,7 @@ static void help(void)
          "  --panels FILE.sgy        semblance panels: per CMP one trace per trial\n"
          "                           velocity (CMP in bytes 21-24, trial velocity in m/s\n"
          "                           in bytes 37-40, its index in 25-28)\n"
+         CLI_EDITS_HELP
          "  --json                   print the picks with their semblance as JSON\n"
          "  --quiet                  print nothing but errors\n"
          "  -h, --help               this text\n"
@@ -75,6 +77,7 @@ static void help(void)
 #define SEMBLANCE_CLI_BATCH 256   /* CMPs whose gathers are held at once */
 
 struct opts {
+  const char *edits;
   const char *job, *cmps, *out, *panels;
   long long supergather;
   long long min_fold;
@@ -126,6 +129,7 @@ static int parse(int argc, char **argv, struct opts *o)
     { "allow-inversions", no_argument, NULL, O_INV },
     { "out", required_argument, NULL, O_OUT },
     { "panels", required_argument, NULL, O_PANELS },
+    { "edits", required_argument, NULL, JOBOPT_EDITS },
     { "json", no_argument, NULL, O_JSON },
     { "quiet", no_argument, NULL, O_QUIET },
     { "help", no_argument, NULL, 'h' },
@@ -139,6 +143,7 @@ static int parse(int argc, char **argv, struct opts *o)
     int bad = 0;
     switch (c) {
     case O_JOB: o->job = optarg; break;
+    case JOBOPT_EDITS: o->edits = optarg; break;
     case O_CMPS: o->cmps = optarg; break;
     case O_SUPER: bad = cli_parse_i64(cmd, "--supergather", optarg, &o->supergather); break;
     case O_VMIN: bad = cli_parse_f64(cmd, "--velocity-min", optarg, &o->sp.velocity_min_mps); break;
@@ -383,6 +388,7 @@ int cmd_semblance(int argc, char **argv)
   job_overrides_init(&ov);
   ov.stretch_limit_pct = o.stretch;
   ov.threads = (int)o.threads;
+  ov.edits = o.edits;
   if ((rc = job_apply_overrides(job, &ov, &err)) ||
       (rc = job_check_output(job, o.out, "--out", 0, &err)) ||
       (rc = job_check_output(job, o.panels, "--panels", 0, &err)) ||

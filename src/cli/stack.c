@@ -45,6 +45,7 @@ static void help(void)
          "  --check                after the section and report are written, hold\n"
          "                         the report to the job's \"limits\" (docs/qc-report.md\n"
          "                         \"Limits\"): one line per limit, exit 1 when one broke\n"
+         CLI_EDITS_HELP
          "  --json                 print the QC report instead of the summary\n"
          "  --brief                print one line instead: line, exit status, CMPs,\n"
          "                         fold, muted %%, skipped traces, velocity warnings\n"

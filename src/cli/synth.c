@@ -64,6 +64,10 @@ static void help(void)
          "  -h, --help                this text\n"
          "\n"
          "Amplitudes are reflection coefficient x 1000 m / spreading distance.\n"
+         "A model with a near_surface object (docs/earth-model.md) delays every\n"
+         "reflection by each station's vertical time to its datum, adds the direct\n"
+         "and head waves of the weathering layer, writes uphole times (bytes 95-96)\n"
+         "for buried sources and the true station statics to DIR/true_statics.csv.\n"
          "\n%s", CLI_CAUTION);
 }
 
@@ -248,7 +252,7 @@ int cmd_synth(int argc, char **argv)
     return cli_report(cmd, &err);
   synth_summary s;
   int rc = synth_survey(&m, &l, &p, out, &s, &err);
-  char rms_path[4200];
+  char rms_path[4200], true_path[4200] = "";
   if (!rc) {
     if (!rms) {
       snprintf(rms_path, sizeof rms_path, "%s/rms_velocity.csv", out);
@@ -274,6 +278,10 @@ int cmd_synth(int argc, char **argv)
     }
     if (!rc)
       rc = synth_write_rms_table(&m, first, last, rms, &err);
+    if (!rc && m.ns.present) {
+      snprintf(true_path, sizeof true_path, "%s/true_statics.csv", out);
+      rc = synth_write_true_statics(&m, &l, true_path, &err);
+    }
   }
   geometry_layout_free(&l);
   if (rc)
@@ -293,6 +301,8 @@ int cmd_synth(int argc, char **argv)
       cJSON_AddNumberToObject(o, "last_cmp", s.last_cmp);
     }
     cJSON_AddStringToObject(o, "rms_table", rms);
+    if (true_path[0])
+      cJSON_AddStringToObject(o, "true_statics", true_path);
     char *txt = cJSON_Print(o);
     cJSON_Delete(o);
     if (!txt)
@@ -306,6 +316,8 @@ int cmd_synth(int argc, char **argv)
     if (s.last_cmp >= s.first_cmp)
       printf(", CMPs %d to %d", (int)s.first_cmp, (int)s.last_cmp);
     printf("\nRMS velocity table: %s\n", rms);
+    if (true_path[0])
+      printf("true station statics (near-surface model): %s\n", true_path);
   }
   return EX_OK;
 }

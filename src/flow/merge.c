@@ -399,6 +399,41 @@ static int assemble(const flow_setup *su, const part *pt, size_t n, stack_sectio
     s->skipped[r] = r == STACK_SKIP_CMP_RANGE ? 0 : inum(r0, key);
   }
   int rc = TZ_OK;
+  /* edits and statics: counts add up over the parts; the applied statics' range and
+   * RMS combine (the RMS through the sums of squares) */
+  const cJSON *hk0 = at(r0, "edits.kill_selected"), *hr0 = at(r0, "edits.reverse_selected");
+  s->nkill_entries = cJSON_IsArray(hk0) ? (size_t)cJSON_GetArraySize(hk0) : 0;
+  s->nreverse_entries = cJSON_IsArray(hr0) ? (size_t)cJSON_GetArraySize(hr0) : 0;
+  s->kill_hits = calloc(s->nkill_entries + 1, sizeof *s->kill_hits);
+  s->reverse_hits = calloc(s->nreverse_entries + 1, sizeof *s->reverse_hits);
+  if (!s->kill_hits || !s->reverse_hits)
+    rc = tz_fail(err, TZ_E_NOMEM, "merged edit counts");
+  double st_sq = 0;
+  for (size_t k = 0; k < n && !rc; k++) {
+    const cJSON *r = pt[k].root;
+    for (int q = 0; q < EDITS_KILL__COUNT; q++) {
+      char key[80];
+      snprintf(key, sizeof key, "traces.killed.%s", edits_reason_name(q));
+      s->killed[q] += inum(r, key);
+    }
+    s->reversed += inum(r, "traces.reversed");
+    const cJSON *hk = at(r, "edits.kill_selected"), *hr = at(r, "edits.reverse_selected");
+    for (size_t e = 0; e < s->nkill_entries; e++)
+      s->kill_hits[e] += (int64_t)cJSON_GetNumberValue(cJSON_GetArrayItem(hk, (int)e));
+    for (size_t e = 0; e < s->nreverse_entries; e++)
+      s->reverse_hits[e] += (int64_t)cJSON_GetNumberValue(cJSON_GetArrayItem(hr, (int)e));
+    int64_t nt = inum(r, "statics.applied.traces");
+    if (nt > 0) {
+      double lo = num_or_nan(at(r, "statics.applied"), "min_ms");
+      double hi = num_or_nan(at(r, "statics.applied"), "max_ms");
+      double rms = num_or_nan(at(r, "statics.applied"), "rms_ms");
+      s->static_min_ms = s->static_traces && s->static_min_ms < lo ? s->static_min_ms : lo;
+      s->static_max_ms = s->static_traces && s->static_max_ms > hi ? s->static_max_ms : hi;
+      s->static_traces += nt;
+      st_sq += rms * rms * (double)nt;
+    }
+  }
+  s->static_rms_ms = s->static_traces ? sqrt(st_sq / (double)s->static_traces) : 0;
   for (size_t k = 0; k < n && !rc; k++) {
     const cJSON *r = pt[k].root;
     s->traces_stacked += inum(r, "traces.stacked");
@@ -444,6 +479,8 @@ static int assemble(const flow_setup *su, const part *pt, size_t n, stack_sectio
   int64_t other = 0;
   for (int r = 0; r < STACK_SKIP__COUNT; r++)
     other += s->skipped[r];
+  for (int q = 0; q < EDITS_KILL__COUNT; q++)
+    other += s->killed[q];
   s->skipped[STACK_SKIP_CMP_RANGE] = s->traces_read - s->traces_stacked - other;
   if (rc) {
     stack_section_free(s);

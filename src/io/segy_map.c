@@ -49,6 +49,11 @@ static const segy_field segy_fields[] = {
   F(receiver_x, 81, 4, SEGY_K_COORD),
   F(receiver_y, 85, 4, SEGY_K_COORD),
   F(coord_units, 89, 2, SEGY_K_I16),
+  F(uphole_source_ms, 95, 2, SEGY_K_TIMED),
+  F(uphole_receiver_ms, 97, 2, SEGY_K_TIMED),
+  F(source_static_ms, 99, 2, SEGY_K_TIMED),
+  F(receiver_static_ms, 101, 2, SEGY_K_TIMED),
+  F(total_static_ms, 103, 2, SEGY_K_TIMED),
   F(delay_ms, 109, 2, SEGY_K_TIME),
   F(mute_start_ms, 111, 2, SEGY_K_TIME),
   F(mute_end_ms, 113, 2, SEGY_K_TIME),
@@ -121,6 +126,11 @@ static void set_field(segy_trace_header *h, const segy_field *fd, double v, int 
   case SEGY_K_RAW:
     memcpy(m, &v, sizeof v);
     break;
+  case SEGY_K_TIMED: {
+    double x = is_float ? v : scaled(v, h->time_scalar);
+    memcpy(m, &x, sizeof x);
+    break;
+  }
   case SEGY_K_ELEV:
   case SEGY_K_COORD: {
     double x = is_float ? v : scaled(v, fd->kind == SEGY_K_ELEV ? h->elev_scalar
@@ -139,7 +149,7 @@ void segy_header_decode(const unsigned char *raw, int order, const segy_header_m
   for (size_t j = 0; j < 2 * segy_nfields; j++) {
     const segy_field *fd = &segy_fields[j % segy_nfields];
     int scaled_kind = fd->kind == SEGY_K_ELEV || fd->kind == SEGY_K_COORD ||
-                      fd->kind == SEGY_K_TIME;
+                      fd->kind == SEGY_K_TIME || fd->kind == SEGY_K_TIMED;
     if (scaled_kind != (j >= segy_nfields))
       continue;
     int byte = fd->byte, width = fd->width, is_float = 0;
@@ -204,6 +214,15 @@ int segy_header_encode(const segy_trace_header *h, uint32_t samples, uint32_t in
     case SEGY_K_U16:
       v = !strcmp(fd->name, "samples") ? samples : interval_us;
       break;
+    case SEGY_K_TIMED: {
+      double d;
+      memcpy(&d, m, sizeof d);
+      if (!remove_scalar(d, h->time_scalar, &v) || v < INT16_MIN || v > INT16_MAX)
+        return tz_fail(err, TZ_E_ARG,
+                       "%s = %g ms does not fit trace header bytes %d-%d with time scalar %d",
+                       fd->name, d, fd->byte, fd->byte + 1, h->time_scalar);
+      break;
+    }
     case SEGY_K_RAW:
     case SEGY_K_ELEV:
     case SEGY_K_COORD: {

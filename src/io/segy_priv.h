@@ -22,7 +22,9 @@ enum segy_kind {
   SEGY_K_RAW,      /* double member, not scaled */
   SEGY_K_ELEV,     /* double member, scaled by 69-70 */
   SEGY_K_COORD,    /* double member, scaled by 71-72 */
-  SEGY_K_TIME      /* int16_t member, scaled by 215-216 */
+  SEGY_K_TIME,     /* int16_t member, scaled by 215-216 */
+  SEGY_K_TIMED     /* double member, scaled by 215-216 (statics and uphole times, which
+                    * must keep their fractions of a millisecond) */
 };
 
 typedef struct segy_field {

@@ -668,6 +668,254 @@ static int parse_conditioning(job_spec *j, const cJSON *v, tz_err *err)
   return TZ_OK;
 }
 
+/* ---------------------------------------------------------------- edits */
+
+
+
+/* A selector value: a number, a string of numbers and ranges, or an array of those. */
+static int parse_selector(edits_set *set, const cJSON *v, const char *jp, tz_err *err)
+{
+  if (cJSON_IsArray(v)) {
+    if (!v->child)
+      return tz_fail(err, TZ_E_JOB, "%s: empty array", jp);
+    size_t i = 0;
+    for (const cJSON *c = v->child; c; c = c->next, i++) {
+      char ip[96];
+      snprintf(ip, sizeof ip, "%s[%zu]", jp, i);
+      if (cJSON_IsArray(c))
+        return tz_fail(err, TZ_E_JOB, "%s: expected a number or a string like \"30-32\", got %s",
+                       ip, json_doc_kind_name(c));
+      int rc = parse_selector(set, c, ip, err);
+      if (rc)
+        return rc;
+    }
+    return TZ_OK;
+  }
+  if (cJSON_IsNumber(v)) {
+    int64_t x;
+    int rc = json_doc_int(v, jp, INT32_MIN, INT32_MAX, &x, TZ_E_JOB, err);
+    return rc ? rc : edits_set_add(set, x, x, jp, err);
+  }
+  if (cJSON_IsString(v) && v->valuestring)
+    return edits_set_parse_text(set, v->valuestring, jp, err);
+  return tz_fail(err, TZ_E_JOB, "%s: expected a number, a string like \"30-32\" or \"1,3,7-9\", "
+                 "or an array of those, got %s", jp, json_doc_kind_name(v));
+}
+
+static int parse_edit_entry(edits_entry *e, const cJSON *v, const char *jp, tz_err *err)
+{
+  static const char *const keys[] = { "record", "channels", "source_station",
+                                      "receiver_station", "file", NULL };
+  memset(e, 0, sizeof *e);
+  snprintf(e->where, sizeof e->where, "%s", jp);
+  int rc = want_object(v, jp, err);
+  if (!rc)
+    rc = json_doc_check_keys(v, jp, keys, TZ_E_JOB, err);
+  if (rc)
+    return rc;
+  edits_set *sets[4] = { &e->record, &e->channel, &e->source_station, &e->receiver_station };
+  int any = 0;
+  for (int k = 0; k < 4; k++) {
+    const cJSON *x = ITEM(v, keys[k]);
+    if (!x)
+      continue;
+    char kp[96];
+    snprintf(kp, sizeof kp, "%s.%s", jp, keys[k]);
+    if ((rc = parse_selector(sets[k], x, kp, err)))
+      return rc;
+    any = 1;
+  }
+  const cJSON *f = ITEM(v, "file");
+  if (f) {
+    char kp[96];
+    const char *name;
+    snprintf(kp, sizeof kp, "%s.file", jp);
+    if ((rc = json_doc_string(f, kp, &name, TZ_E_JOB, err)))
+      return rc;
+    if (strlen(name) >= sizeof e->file)
+      return tz_fail(err, TZ_E_JOB, "%s: file name longer than %zu characters", kp,
+                     sizeof e->file - 1);
+    snprintf(e->file, sizeof e->file, "%s", name);
+    any = 1;
+  }
+  if (!any)
+    return tz_fail(err, TZ_E_JOB, "%s: an edit needs at least one of record, channels, "
+                   "source_station, receiver_station or file", jp);
+  return TZ_OK;
+}
+
+static int parse_edit_list(edits_entry **out, size_t *n, const cJSON *v, const char *jp,
+                           tz_err *err)
+{
+  if (!cJSON_IsArray(v))
+    return tz_fail(err, TZ_E_JOB, "%s: expected an array of edits, got %s", jp, json_doc_kind_name(v));
+  size_t m = (size_t)cJSON_GetArraySize(v), i = 0;
+  if (m > EDITS_MAX_ENTRIES)
+    return tz_fail(err, TZ_E_JOB, "%s: %zu edits, at most %d", jp, m, EDITS_MAX_ENTRIES);
+  free(*out);
+  *out = NULL;
+  *n = 0;
+  if (!m)
+    return TZ_OK;
+  if (!(*out = calloc(m, sizeof **out)))
+    return tz_fail(err, TZ_E_NOMEM, "edit list");
+  for (const cJSON *c = v->child; c; c = c->next, i++) {
+    char ep[64];
+    snprintf(ep, sizeof ep, "%s[%zu]", jp, i);
+    int rc = parse_edit_entry(&(*out)[i], c, ep, err);
+    if (rc)
+      return rc;
+    *n = i + 1;
+  }
+  return TZ_OK;
+}
+
+/* The "edits" object; `base` is its JSON path ("$.edits", or "$" in an edits file). */
+static int parse_edits_obj(edits_spec *ed, const cJSON *v, const char *base, tz_err *err)
+{
+  static const char *const keys[] = { "kill", "reverse", "auto", NULL };
+  static const char *const akeys[] = { "dead", "rms_ratio_max", "window_ms", NULL };
+  char jp[64];
+  int rc = want_object(v, base, err);
+  if (!rc)
+    rc = json_doc_check_keys(v, base, keys, TZ_E_JOB, err);
+  if (rc)
+    return rc;
+  const cJSON *e;
+  snprintf(jp, sizeof jp, "%s.kill", strcmp(base, "$") ? base : "$");
+  if ((e = ITEM(v, "kill")) && (rc = parse_edit_list(&ed->kill, &ed->nkill, e, jp, err)))
+    return rc;
+  snprintf(jp, sizeof jp, "%s.reverse", base);
+  if ((e = ITEM(v, "reverse")) &&
+      (rc = parse_edit_list(&ed->reverse, &ed->nreverse, e, jp, err)))
+    return rc;
+  if ((e = ITEM(v, "auto"))) {
+    snprintf(jp, sizeof jp, "%s.auto", base);
+    if ((rc = want_object(e, jp, err)) || (rc = json_doc_check_keys(e, jp, akeys, TZ_E_JOB, err)))
+      return rc;
+    const cJSON *x;
+    char kp[96];
+    snprintf(kp, sizeof kp, "%s.dead", jp);
+    if ((x = ITEM(e, "dead")) && (rc = json_doc_bool(x, kp, &ed->auto_dead, TZ_E_JOB, err)))
+      return rc;
+    snprintf(kp, sizeof kp, "%s.rms_ratio_max", jp);
+    if ((x = ITEM(e, "rms_ratio_max")) && (rc = json_doc_number(x, kp, 1, 1e6, &ed->rms_ratio_max, TZ_E_JOB, err)))
+      return rc;
+    snprintf(kp, sizeof kp, "%s.window_ms", jp);
+    if ((x = ITEM(e, "window_ms"))) {
+      if (!cJSON_IsArray(x) || cJSON_GetArraySize(x) != 2)
+        return tz_fail(err, TZ_E_JOB, "%s: expected [start, end] in ms", kp);
+      char k0[112], k1[112];
+      snprintf(k0, sizeof k0, "%s[0]", kp);
+      snprintf(k1, sizeof k1, "%s[1]", kp);
+      if ((rc = json_doc_number(x->child, k0, 0, 1e7, &ed->window_start_ms, TZ_E_JOB, err)) ||
+          (rc = json_doc_number(x->child->next, k1, 0, 1e7, &ed->window_end_ms, TZ_E_JOB, err)))
+        return rc;
+      if (ed->window_end_ms <= ed->window_start_ms)
+        return tz_fail(err, TZ_E_JOB, "%s: end %g ms is not after start %g ms", kp,
+                       ed->window_end_ms, ed->window_start_ms);
+    }
+  }
+  return TZ_OK;
+}
+
+int job_load_edits(edits_spec *out, const char *path, tz_err *err)
+{
+  char *text = NULL;
+  size_t len = 0;
+  edits_spec_init(out);
+  int rc = fileio_read_all(path, JOB_MAX_BYTES, &text, &len, err);
+  if (rc) {
+    if (rc == TZ_E_IO || rc == TZ_E_CREATE)
+      rc = err->status = TZ_E_NOINPUT;
+    return tz_err_path(err, path);
+  }
+  cJSON *root = NULL;
+  rc = json_doc_parse(&root, text, len, path, "edits file", TZ_E_FORMAT, err);
+  if (rc) {
+    free(text);
+    return tz_err_path(err, path);
+  }
+  rc = parse_edits_obj(out, root, "$", err);
+  cJSON_Delete(root);
+  free(text);
+  if (rc) {
+    edits_spec_free(out);
+    if (rc == TZ_E_JOB)
+      err->status = TZ_E_FORMAT;      /* a bad input file, exit 65 as a bad job is */
+    return tz_err_path(err, path);
+  }
+  return TZ_OK;
+}
+
+/* ---------------------------------------------------------------- statics */
+
+static int parse_statics(job_spec *j, const cJSON *v, const char *dir, tz_err *err)
+{
+  static const char *const keys[] = { "datum_m", "replacement_velocity_mps", "elevation",
+                                      "weathering_velocity_mps", "uphole", "tables",
+                                      "floating_datum_smooth_m", "station_interval_m", NULL };
+  job_statics *st = &j->statics;
+  int rc = want_object(v, "$.statics", err);
+  if (!rc)
+    rc = json_doc_check_keys(v, "$.statics", keys, TZ_E_JOB, err);
+  if (rc)
+    return rc;
+  const cJSON *e;
+  st->present = 1;
+  st->elevation = 1;
+  if (!(e = ITEM(v, "datum_m")))
+    return tz_fail(err, TZ_E_JOB, "$.statics.datum_m: required key missing (flat datum "
+                   "elevation, m)");
+  if ((rc = json_doc_number(e, "$.statics.datum_m", -1e4, 1e4, &st->datum_m, TZ_E_JOB, err)))
+    return rc;
+  if (!(e = ITEM(v, "replacement_velocity_mps")))
+    return tz_fail(err, TZ_E_JOB, "$.statics.replacement_velocity_mps: required key missing "
+                   "(m/s)");
+  if ((rc = json_doc_number(e, "$.statics.replacement_velocity_mps", 100, 20000,
+                       &st->replacement_velocity_mps, TZ_E_JOB, err)))
+    return rc;
+  if ((e = ITEM(v, "elevation")) && (rc = json_doc_bool(e, "$.statics.elevation", &st->elevation, TZ_E_JOB, err)))
+    return rc;
+  if ((e = ITEM(v, "weathering_velocity_mps")) &&
+      (rc = json_doc_number(e, "$.statics.weathering_velocity_mps", 50, 20000,
+                       &st->weathering_velocity_mps, TZ_E_JOB, err)))
+    return rc;
+  if ((e = ITEM(v, "uphole")) && (rc = json_doc_bool(e, "$.statics.uphole", &st->uphole, TZ_E_JOB, err)))
+    return rc;
+  if (st->uphole && !st->weathering_velocity_mps)
+    return tz_fail(err, TZ_E_JOB, "$.statics.uphole: needs weathering_velocity_mps (the "
+                   "weathering thickness under a shot hole comes from its uphole time)");
+  if (st->weathering_velocity_mps && st->weathering_velocity_mps >= st->replacement_velocity_mps)
+    return tz_fail(err, TZ_E_JOB, "$.statics.weathering_velocity_mps: %g m/s is not below the "
+                   "replacement velocity %g m/s", st->weathering_velocity_mps,
+                   st->replacement_velocity_mps);
+  if ((e = ITEM(v, "tables"))) {
+    if (!cJSON_IsArray(e))
+      return tz_fail(err, TZ_E_JOB, "$.statics.tables: expected an array of file names, got %s",
+                     json_doc_kind_name(e));
+    size_t i = 0;
+    for (const cJSON *c = e->child; c; c = c->next, i++) {
+      char jp[48];
+      snprintf(jp, sizeof jp, "$.statics.tables[%zu]", i);
+      if (i >= JOB_MAX_STATICS_TABLES)
+        return tz_fail(err, TZ_E_JOB, "%s: at most %d tables", jp, JOB_MAX_STATICS_TABLES);
+      if ((rc = get_path(c, jp, dir, 1, &st->tables[i], err)))
+        return rc;
+      st->ntables = i + 1;
+    }
+  }
+  if ((e = ITEM(v, "floating_datum_smooth_m")) &&
+      (rc = json_doc_number(e, "$.statics.floating_datum_smooth_m", 0, 1e6,
+                       &st->floating_datum_smooth_m, TZ_E_JOB, err)))
+    return rc;
+  if ((e = ITEM(v, "station_interval_m")) &&
+      (rc = json_doc_number(e, "$.statics.station_interval_m", 0.01, 1e5, &st->station_interval_m,
+                       TZ_E_JOB, err)))
+    return rc;
+  return TZ_OK;
+}
+
 /* "limits": a limits file (relative to the job's folder) or the object inline. */
 static int parse_limits(job_spec *j, const cJSON *v, const char *dir, tz_err *err)
 {
@@ -707,8 +955,8 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
 {
   static const char *const keys[] = { "name", "shots", "geometry", "header_map", "bins",
                                       "velocity", "moveout", "mute", "selection", "output",
-                                      "conditioning", "limits", "threads", "skip_bad_files",
-                                      "interval_us", NULL };
+                                      "conditioning", "edits", "statics", "limits", "threads",
+                                      "skip_bad_files", "interval_us", NULL };
   int rc;
   if (!cJSON_IsObject(root))
     return tz_fail(err, TZ_E_JOB, "$: expected an object, got %s", json_doc_kind_name(root));
@@ -748,6 +996,10 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
   if ((e = ITEM(root, "output")) && (rc = parse_output(j, e, dir, err)))
     return rc;
   if ((e = ITEM(root, "conditioning")) && (rc = parse_conditioning(j, e, err)))
+    return rc;
+  if ((e = ITEM(root, "edits")) && (rc = parse_edits_obj(&j->edits, e, "$.edits", err)))
+    return rc;
+  if ((e = ITEM(root, "statics")) && (rc = parse_statics(j, e, dir, err)))
     return rc;
   if ((e = ITEM(root, "limits")) && (rc = parse_limits(j, e, dir, err)))
     return rc;
@@ -841,6 +1093,9 @@ void job_free(job_spec *j)
   free(j->report);
   free(j->limits_file);
   limits_clear(&j->limits);
+  edits_spec_free(&j->edits);
+  for (size_t i = 0; i < j->statics.ntables; i++)
+    free(j->statics.tables[i]);
   free(j);
 }
 
@@ -892,6 +1147,13 @@ int job_apply_overrides(job_spec *j, const job_overrides *o, tz_err *err)
   }
   if (o->skip_bad_files >= 0)
     j->skip_bad_files = o->skip_bad_files ? 1 : 0;
+  if (o->edits) {
+    edits_spec ed;
+    if ((rc = job_load_edits(&ed, o->edits, err)))
+      return rc;
+    edits_spec_free(&j->edits);
+    j->edits = ed;
+  }
   if (o->has_cmp_range) {
     if (o->cmp_last < o->cmp_first)
       return tz_fail(err, TZ_E_ARG, "CMP range: last %lld is before first %lld",
@@ -1012,6 +1274,66 @@ static cJSON *condition_step_json(const condition_step *s)
   return o;
 }
 
+static cJSON *edits_set_json(const edits_set *set)
+{
+  char buf[EDITS_MAX_RANGES * 28] = "";
+  size_t n = 0;
+  for (size_t i = 0; i < set->n && n < sizeof buf; i++) {
+    if (set->r[i].lo == set->r[i].hi)
+      n += (size_t)snprintf(buf + n, sizeof buf - n, "%s%lld", i ? "," : "",
+                            (long long)set->r[i].lo);
+    else
+      n += (size_t)snprintf(buf + n, sizeof buf - n, "%s%lld-%lld", i ? "," : "",
+                            (long long)set->r[i].lo, (long long)set->r[i].hi);
+  }
+  return cJSON_CreateString(buf);
+}
+
+static cJSON *edit_list_json(const edits_entry *e, size_t n)
+{
+  cJSON *a = cJSON_CreateArray();
+  for (size_t i = 0; a && i < n; i++) {
+    cJSON *o = cJSON_CreateObject();
+    if (!o)
+      break;
+    if (e[i].record.n)
+      cJSON_AddItemToObject(o, "record", edits_set_json(&e[i].record));
+    if (e[i].channel.n)
+      cJSON_AddItemToObject(o, "channels", edits_set_json(&e[i].channel));
+    if (e[i].source_station.n)
+      cJSON_AddItemToObject(o, "source_station", edits_set_json(&e[i].source_station));
+    if (e[i].receiver_station.n)
+      cJSON_AddItemToObject(o, "receiver_station", edits_set_json(&e[i].receiver_station));
+    if (e[i].file[0])
+      cJSON_AddStringToObject(o, "file", e[i].file);
+    cJSON_AddItemToArray(a, o);
+  }
+  return a;
+}
+
+static cJSON *edits_json(const edits_spec *ed)
+{
+  cJSON *o = cJSON_CreateObject();
+  if (!o)
+    return NULL;
+  cJSON_AddItemToObject(o, "kill", edit_list_json(ed->kill, ed->nkill));
+  cJSON_AddItemToObject(o, "reverse", edit_list_json(ed->reverse, ed->nreverse));
+  cJSON *a = cJSON_AddObjectToObject(o, "auto");
+  if (a) {
+    cJSON_AddBoolToObject(a, "dead", ed->auto_dead);
+    if (ed->rms_ratio_max > 0)
+      cJSON_AddNumberToObject(a, "rms_ratio_max", ed->rms_ratio_max);
+    else
+      cJSON_AddNullToObject(a, "rms_ratio_max");
+    double w[2] = { ed->window_start_ms, ed->window_end_ms };
+    if (ed->window_end_ms > 0)
+      cJSON_AddItemToObject(a, "window_ms", cJSON_CreateDoubleArray(w, 2));
+    else
+      cJSON_AddNullToObject(a, "window_ms");
+  }
+  return o;
+}
+
 int job_to_json(const job_spec *j, char **out, tz_err *err)
 {
   cJSON *r = cJSON_CreateObject(), *o;
@@ -1091,6 +1413,30 @@ int job_to_json(const job_spec *j, char **out, tz_err *err)
     o = cJSON_AddArrayToObject(r, "conditioning");
     for (size_t i = 0; o && i < j->conditioning.n; i++)
       bad |= !cJSON_AddItemToArray(o, condition_step_json(&j->conditioning.step[i]));
+    if (edits_spec_active(&j->edits))
+      bad |= !cJSON_AddItemToObject(r, "edits", edits_json(&j->edits));
+    if (j->statics.present) {
+      const job_statics *st = &j->statics;
+      o = cJSON_AddObjectToObject(r, "statics");
+      if (o) {
+        cJSON_AddNumberToObject(o, "datum_m", st->datum_m);
+        cJSON_AddNumberToObject(o, "replacement_velocity_mps", st->replacement_velocity_mps);
+        cJSON_AddBoolToObject(o, "elevation", st->elevation);
+        if (st->weathering_velocity_mps > 0)
+          cJSON_AddNumberToObject(o, "weathering_velocity_mps", st->weathering_velocity_mps);
+        else
+          cJSON_AddNullToObject(o, "weathering_velocity_mps");
+        cJSON_AddBoolToObject(o, "uphole", st->uphole);
+        cJSON *t = cJSON_AddArrayToObject(o, "tables");
+        for (size_t i = 0; t && i < st->ntables; i++)
+          cJSON_AddItemToArray(t, cJSON_CreateString(st->tables[i]));
+        cJSON_AddNumberToObject(o, "floating_datum_smooth_m", st->floating_datum_smooth_m);
+        if (st->station_interval_m > 0)
+          cJSON_AddNumberToObject(o, "station_interval_m", st->station_interval_m);
+        else
+          cJSON_AddNullToObject(o, "station_interval_m");
+      }
+    }
     if (j->limits.given) {
       char *lt = NULL;
       tz_err le;

@@ -727,3 +727,55 @@ int nmo_inverse(nmo_workspace *ws, const nmo_params *p, const nmo_axis *ax,
   }
   return TZ_OK;
 }
+
+int nmo_shift(nmo_workspace *ws, const nmo_axis *ax, double shift_s, const float *in,
+              float *out, size_t *live_lo, size_t *live_hi, tz_err *err)
+{
+  size_t ns = ax->ns;
+  if (!(ax->dt_s > 0) || ns == 0 || ns > ws->ns_max || !isfinite(shift_s))
+    return tz_fail(err, TZ_E_ARG, "static shift: bad axis (dt %g s, %zu samples) or shift %g s",
+                   ax->dt_s, ns, shift_s);
+  /* output sample j reads input index u = j - d, d = shift / dt = q + f (0 <= f < 1) */
+  double d = shift_s / ax->dt_s;
+  double fl = floor(d);
+  double f = d - fl;            /* u = j - fl - f = (j - fl - 1) + (1 - f) */
+  size_t ph = (size_t)((1.0 - f) * NPHASE + 0.5);
+  int64_t base = -(int64_t)fl - 1;   /* floor(u) = j + base when f > 0 */
+  if (ph == NPHASE) {           /* f = 0 (or within half a table step): whole samples */
+    ph = 0;
+    base += 1;
+  }
+  /* live span: u in [0, ns - 1] */
+  double lo = ceil(d), hi = floor(d + (double)(ns - 1));
+  size_t l0 = lo < 0 ? 0 : lo > (double)ns ? ns : (size_t)lo;
+  size_t l1 = hi < 0 ? 0 : hi + 1 > (double)ns ? ns : (size_t)(hi + 1);
+  if (l1 < l0)
+    l1 = l0;
+  const float *c = ws->sinc + ph * 8;
+  /* taps q - 3 .. q + 4 with q = j + base; the live span [l0, l1) has u inside
+   * the trace, so only taps near its two ends can fall outside: those samples
+   * take the bounds-checked sum, the rest the plain one */
+  memset(out, 0, ns * sizeof *out);
+  int64_t in0 = (SINC_HALF - 1) - base, in1 = (int64_t)ns - SINC_HALF - base;
+  for (size_t j = l0; j < l1; j++) {
+    int64_t q = (int64_t)j + base;
+    float acc = 0;
+    if ((int64_t)j >= in0 && (int64_t)j < in1) {
+      const float *x = in + q - (SINC_HALF - 1);
+      for (int m = 0; m < 8; m++)
+        acc += c[m] * x[m];
+    } else {
+      for (int m = 0; m < 8; m++) {
+        int64_t k = q - (SINC_HALF - 1) + m;
+        if (k >= 0 && k < (int64_t)ns)
+          acc += c[m] * in[k];
+      }
+    }
+    out[j] = acc;
+  }
+  if (live_lo)
+    *live_lo = l0;
+  if (live_hi)
+    *live_hi = l1;
+  return TZ_OK;
+}

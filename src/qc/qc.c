@@ -20,6 +20,7 @@
 #include <time.h>
 
 #include "tzero/fileio.h"
+#include "tzero/statics.h"
 #include "qc/qc_int.h"
 #include "util/json_doc.h"
 #include "util/strbuf.h"
@@ -139,6 +140,103 @@ static int add_velocity(cJSON *r, const qc_build_args *a, tz_err *err)
   return TZ_OK;
 }
 
+/* "edits": entries that selected no trace are warnings naming the entry. */
+static void add_edits(cJSON *r, const job_spec *j, const stack_section *s)
+{
+  if (!edits_spec_active(&j->edits))
+    return;
+  cJSON *e = cJSON_AddObjectToObject(r, "edits");
+  cJSON *w = cJSON_AddArrayToObject(e, "warnings");
+  cJSON *hk = cJSON_AddArrayToObject(e, "kill_selected");
+  cJSON *hr = cJSON_AddArrayToObject(e, "reverse_selected");
+  char msg[160];
+  for (size_t i = 0; i < s->nkill_entries && i < j->edits.nkill; i++) {
+    cJSON_AddItemToArray(hk, cJSON_CreateNumber((double)s->kill_hits[i]));
+    if (!s->kill_hits[i]) {
+      snprintf(msg, sizeof msg, "%s selects no trace", j->edits.kill[i].where);
+      cJSON_AddItemToArray(w, cJSON_CreateString(msg));
+    }
+  }
+  for (size_t i = 0; i < s->nreverse_entries && i < j->edits.nreverse; i++) {
+    cJSON_AddItemToArray(hr, cJSON_CreateNumber((double)s->reverse_hits[i]));
+    if (!s->reverse_hits[i]) {
+      snprintf(msg, sizeof msg, "%s selects no trace", j->edits.reverse[i].where);
+      cJSON_AddItemToArray(w, cJSON_CreateString(msg));
+    }
+  }
+}
+
+static cJSON *stations_json(const stack_station *st, size_t n)
+{
+  cJSON *a = cJSON_CreateArray();
+  for (size_t i = 0; a && i < n; i++) {
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddNumberToObject(o, "station", st[i].station);
+    cJSON_AddNumberToObject(o, "x_m", round_to(st[i].x_m, 1e-3));
+    cJSON_AddNumberToObject(o, "y_m", round_to(st[i].y_m, 1e-3));
+    cJSON_AddNumberToObject(o, "elevation_m", round_to(st[i].elevation_m, 1e-3));
+    if (st[i].kind == STATICS_SOURCE) {
+      cJSON_AddNumberToObject(o, "depth_m", round_to(st[i].depth_m, 1e-3));
+      cJSON_AddItemToObject(o, "uphole_ms", num_or_null(round_to(st[i].uphole_ms, 1e-4)));
+    }
+    cJSON_AddItemToObject(o, "weathering_m", num_or_null(round_to(st[i].weathering_m, 1e-3)));
+    cJSON_AddNumberToObject(o, "elevation_ms", round_to(st[i].elevation_ms, 1e-4));
+    cJSON_AddNumberToObject(o, "table_ms", round_to(st[i].table_ms, 1e-4));
+    cJSON_AddNumberToObject(o, "static_ms", round_to(st[i].static_ms, 1e-4));
+    cJSON_AddItemToArray(a, o);
+  }
+  return a;
+}
+
+/* "statics": datum, velocities, per-station statics, the applied totals. */
+static void add_statics(cJSON *r, const job_spec *j, const stack_plan *p, const stack_section *s)
+{
+  const job_statics *js = &j->statics;
+  if (!js->present)
+    return;
+  cJSON *o = cJSON_AddObjectToObject(r, "statics");
+  cJSON_AddNumberToObject(o, "datum_m", js->datum_m);
+  cJSON_AddNumberToObject(o, "replacement_velocity_mps", js->replacement_velocity_mps);
+  cJSON_AddItemToObject(o, "weathering_velocity_mps",
+                        num_or_null(js->weathering_velocity_mps > 0 ? js->weathering_velocity_mps
+                                                                    : NAN));
+  cJSON_AddBoolToObject(o, "elevation", js->elevation);
+  cJSON_AddBoolToObject(o, "uphole", js->uphole);
+  cJSON_AddStringToObject(o, "time_reference",
+                          js->floating_datum_smooth_m > 0
+                              ? "floating datum for NMO and velocity analysis; section at the "
+                                "flat datum"
+                              : "flat datum");
+  cJSON_AddNumberToObject(o, "floating_datum_smooth_m", js->floating_datum_smooth_m);
+  if (js->floating_datum_smooth_m > 0) {
+    cJSON *fa = cJSON_AddArrayToObject(o, "floating_datum");
+    for (int32_t c = stack_plan_first_cmp(p); c <= stack_plan_last_cmp(p); c++) {
+      double el, ms;
+      if (!stack_plan_floating(p, c, &el, &ms))
+        continue;
+      cJSON *x = cJSON_CreateObject();
+      cJSON_AddNumberToObject(x, "cmp", c);
+      cJSON_AddNumberToObject(x, "elevation_m", round_to(el, 1e-3));
+      cJSON_AddNumberToObject(x, "shift_ms", round_to(ms, 1e-4));
+      cJSON_AddItemToArray(fa, x);
+    }
+  }
+  cJSON_AddNumberToObject(o, "station_interval_m", stack_plan_station_interval(p));
+  cJSON *t = cJSON_AddArrayToObject(o, "tables");
+  for (size_t i = 0; i < js->ntables; i++)
+    cJSON_AddItemToArray(t, cJSON_CreateString(js->tables[i]));
+  size_t n;
+  const stack_station *st = stack_plan_stations(p, STATICS_SOURCE, &n);
+  cJSON_AddItemToObject(o, "sources", stations_json(st, n));
+  st = stack_plan_stations(p, STATICS_RECEIVER, &n);
+  cJSON_AddItemToObject(o, "receivers", stations_json(st, n));
+  cJSON *ap = cJSON_AddObjectToObject(o, "applied");
+  cJSON_AddNumberToObject(ap, "traces", (double)s->static_traces);
+  cJSON_AddNumberToObject(ap, "min_ms", round_to(s->static_min_ms, 1e-4));
+  cJSON_AddNumberToObject(ap, "max_ms", round_to(s->static_max_ms, 1e-4));
+  cJSON_AddNumberToObject(ap, "rms_ms", round_to(s->static_rms_ms, 1e-4));
+}
+
 int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
 {
   const stack_plan *p = a->plan;
@@ -220,6 +318,16 @@ int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
   }
   cJSON_AddNumberToObject(tr, "skipped_total", (double)skipped);
   cJSON_AddNumberToObject(tr, "bad_samples", (double)s->bad_samples);
+  cJSON *kl = cJSON_AddObjectToObject(tr, "killed");
+  int64_t killed = 0;
+  for (int k = 0; k < EDITS_KILL__COUNT; k++) {
+    cJSON_AddNumberToObject(kl, edits_reason_name(k), (double)s->killed[k]);
+    killed += s->killed[k];
+  }
+  cJSON_AddNumberToObject(tr, "killed_total", (double)killed);
+  cJSON_AddNumberToObject(tr, "reversed", (double)s->reversed);
+  add_edits(r, a->job, s);
+  add_statics(r, a->job, p, s);
 
   cJSON *cm = cJSON_AddArrayToObject(r, "cmps");
   int64_t fmin = INT64_MAX, fmax = 0, fsum = 0, zero = 0;
@@ -566,6 +674,23 @@ int qc_report_summary(const qc_report *r, char **text, tz_err *err)
   if (numv(R, "traces.bad_samples") > 0)
     tz_buf_put(&b, "samples     %.0f NaN, infinite or out-of-range input samples were stacked as 0\n",
         numv(R, "traces.bad_samples"));
+  if (at(R, "edits")) {
+    tz_buf_put(&b, "edits       %.0f killed (listed %.0f, dead %.0f, noisy %.0f), %.0f reversed\n",
+        numv(R, "traces.killed_total"), numv(R, "traces.killed.listed"),
+        numv(R, "traces.killed.dead"), numv(R, "traces.killed.noisy"),
+        numv(R, "traces.reversed"));
+    const cJSON *w = at(R, "edits.warnings");
+    for (const cJSON *c = w ? w->child : NULL; c; c = c->next)
+      if (cJSON_IsString(c))
+        tz_buf_put(&b, "warning     %s\n", c->valuestring);
+  }
+  if (at(R, "statics"))
+    tz_buf_put(&b, "statics     datum %g m, replacement velocity %g m/s: %.0f traces shifted by "
+        "%.2f to %.2f ms (RMS %.2f ms); times: %s\n",
+        numv(R, "statics.datum_m"), numv(R, "statics.replacement_velocity_mps"),
+        numv(R, "statics.applied.traces"), numv(R, "statics.applied.min_ms"),
+        numv(R, "statics.applied.max_ms"), numv(R, "statics.applied.rms_ms"),
+        strv(R, "statics.time_reference", "flat datum"));
   tz_buf_put(&b, "section     %s: CMPs %.0f-%.0f (%.0f CMPs), %.0f samples at %.0f us from %.1f ms\n",
       strv(R, "section.path", "(not written)"), numv(R, "section.cmp_first"),
       numv(R, "section.cmp_last"), numv(R, "section.cmps"), numv(R, "section.samples"),

@@ -117,6 +117,8 @@ void stack_gathers_free(stack_gathers *g)
     free(g->g[i].offset_m);
     free(g->g[i].offset_signed_m);
     free(g->g[i].static_ms);
+    free(g->g[i].live_lo);
+    free(g->g[i].live_hi);
     free(g->g[i].headers);
     free(g->g[i].samples);
   }
@@ -138,13 +140,19 @@ static int grow(stack_gather *g, size_t *cap, size_t ns, tz_err *err)
   double *st = realloc(g->static_ms, nc * sizeof *st);
   if (st)
     g->static_ms = st;
+  size_t *l0 = realloc(g->live_lo, nc * sizeof *l0);
+  if (l0)
+    g->live_lo = l0;
+  size_t *l1 = realloc(g->live_hi, nc * sizeof *l1);
+  if (l1)
+    g->live_hi = l1;
   segy_trace_header *h = realloc(g->headers, nc * sizeof *h);
   if (h)
     g->headers = h;
   float *s = realloc(g->samples, nc * ns * sizeof *s);
   if (s)
     g->samples = s;
-  if (!o || !os || !st || !h || !s)
+  if (!o || !os || !st || !l0 || !l1 || !h || !s)
     return tz_fail(err, TZ_E_NOMEM, "gather of CMP %d", (int)g->cmp);
   *cap = nc;
   return TZ_OK;
@@ -170,10 +178,11 @@ static int sort_gather(stack_gather *g, size_t ns, tz_err *err)
     return TZ_OK;
   okey *k = malloc(n * sizeof *k);
   double *o = malloc(n * sizeof *o), *os = malloc(n * sizeof *os), *st = malloc(n * sizeof *st);
+  size_t *l0 = malloc(n * sizeof *l0), *l1 = malloc(n * sizeof *l1);
   segy_trace_header *h = malloc(n * sizeof *h);
   float *s = malloc(n * ns * sizeof *s);
-  if (!k || !o || !os || !st || !h || !s) {
-    free(k); free(o); free(os); free(st); free(h); free(s);
+  if (!k || !o || !os || !st || !l0 || !l1 || !h || !s) {
+    free(k); free(o); free(os); free(st); free(l0); free(l1); free(h); free(s);
     return tz_fail(err, TZ_E_NOMEM, "sorting gather of CMP %d", (int)g->cmp);
   }
   for (size_t i = 0; i < n; i++) {
@@ -186,6 +195,8 @@ static int sort_gather(stack_gather *g, size_t ns, tz_err *err)
     o[i] = g->offset_m[j];
     os[i] = g->offset_signed_m[j];
     st[i] = g->static_ms[j];
+    l0[i] = g->live_lo[j];
+    l1[i] = g->live_hi[j];
     h[i] = g->headers[j];
     memcpy(s + i * ns, g->samples + j * ns, ns * sizeof *s);
   }
@@ -193,8 +204,12 @@ static int sort_gather(stack_gather *g, size_t ns, tz_err *err)
   free(g->offset_m);
   free(g->offset_signed_m);
   free(g->static_ms);
+  free(g->live_lo);
+  free(g->live_hi);
   free(g->headers);
   free(g->samples);
+  g->live_lo = l0;
+  g->live_hi = l1;
   g->offset_m = o;
   g->offset_signed_m = os;
   g->static_ms = st;
@@ -267,7 +282,7 @@ int stack_collect(const stack_plan *p, const int32_t *cmps, size_t ncmps,
         size_t j = (size_t)(t - a);
         int reason;
         rg[j] = -1;
-        ti[j].read = 0;
+        ti[j].read = ti[j].counted = 0;
         if ((rc = segy_header_read(f, t, &rh[j], err))) {
           tz_err_path(err, p->inputs[fi].path);
           break;
@@ -279,6 +294,7 @@ int stack_collect(const stack_plan *p, const int32_t *cmps, size_t ncmps,
         int32_t *at = bsearch(&ti[j].cmp, want, n, sizeof *want, cmp_i32);
         if (at) {
           rg[j] = at - want;
+          ti[j].counted = 1;
           hits++;
         }
       }
@@ -310,6 +326,13 @@ int stack_collect(const stack_plan *p, const int32_t *cmps, size_t ncmps,
         g->offset_m[q] = ti[j].off_abs;
         g->offset_signed_m[q] = ti[j].off_signed;
         g->static_ms[q] = ti[j].static_ms;
+        g->live_lo[q] = ti[j].live_lo;
+        g->live_hi[q] = ti[j].live_hi;
+        if (p->job->statics.present) {
+          g->headers[q].source_static_ms = ti[j].static_src_ms;
+          g->headers[q].receiver_static_ms = ti[j].static_rcv_ms;
+          g->headers[q].total_static_ms = ti[j].static_ms;
+        }
       }
     }
     segy_close(f);
@@ -359,6 +382,12 @@ int stack_section_write(const stack_section *s, const stack_plan *p, const char 
   const job_spec *j = p->job;
   char text[38 * 80];
   stack_line_info li = p->line_info;
+  char datum[160] = "times at the recording surface (no statics)";
+  if (j->statics.present)
+    snprintf(datum, sizeof datum, "times at the flat datum %g m, replacement velocity %g m/s%s",
+             j->statics.datum_m, j->statics.replacement_velocity_mps,
+             j->statics.floating_datum_smooth_m > 0 ? "\nNMO at a smoothed floating datum, "
+                                                      "stack shifted to the flat datum" : "");
   snprintf(text, sizeof text,
            "tzero stacked section (CMP stack, NMO corrected, live-fold normalised)\n"
            "line: %s\n"
@@ -366,11 +395,11 @@ int stack_section_write(const stack_section *s, const stack_plan *p, const char 
            "velocity: %.60s\n"
            "stretch limit %.1f %%, interpolation %s\n"
            "coordinates: CMP X/Y in bytes 181-188, scalar in 71-72\n"
-           "fold in bytes 33-34; trace kind 2 marks zero-fold CMPs",
+           "fold in bytes 33-34; trace kind 2 marks zero-fold CMPs\n%s",
            j->name && j->name[0] ? j->name : "(unnamed)", (int)s->first_cmp,
            (int)(s->first_cmp + (int32_t)s->ncmps - 1), li.size_m, li.origin_x_m, li.origin_y_m,
            li.azimuth_deg, j->velocity ? j->velocity : "(given in code)", j->stretch_limit_pct,
-           job_interp_name(j->interpolation));
+           job_interp_name(j->interpolation), datum);
   segy_writer_opts o;
   memset(&o, 0, sizeof o);
   o.revision = 1;
@@ -417,6 +446,18 @@ int stack_section_write(const stack_section *s, const stack_plan *p, const char 
   return segy_writer_finish(w, err);
 }
 
+/* The finest time scalar (bytes 215-216: -100, -10 or 1) that keeps every time
+ * of bytes 95-114 in its 16-bit slot, so sub-millisecond statics survive. */
+int16_t stack_time_scalar(const segy_trace_header *h)
+{
+  double m = fmax(fmax(fabs(h->uphole_source_ms), fabs(h->uphole_receiver_ms)),
+                  fmax(fabs(h->source_static_ms), fabs(h->receiver_static_ms)));
+  m = fmax(m, fabs(h->total_static_ms));
+  m = fmax(m, fmax(fabs((double)h->delay_ms), fmax(fabs((double)h->mute_start_ms),
+                                                   fabs((double)h->mute_end_ms))));
+  return m * 100 <= 32767 ? -100 : m * 10 <= 32767 ? -10 : 1;
+}
+
 int stack_write_nmo_gathers(const stack_plan *p, const stack_gathers *G, const stack_run_opts *o,
                             const char *path, int format_code, int64_t *ntraces, tz_err *err)
 {
@@ -458,6 +499,7 @@ int stack_write_nmo_gathers(const stack_plan *p, const stack_gathers *G, const s
     eta = malloc(ns * sizeof *eta);
   nmo_workspace *ws = NULL;
   segy_writer *w = NULL;
+  nmo_top_mute tm;
   int rc = TZ_OK;
   if (!vel || !out || (use_eta && !eta)) {
     rc = tz_fail(err, TZ_E_NOMEM, "gather buffers");
@@ -472,9 +514,9 @@ int stack_write_nmo_gathers(const stack_plan *p, const stack_gathers *G, const s
       continue;
     velocity_sample(o->velocity, g->cmp, G->axis.t_first_s, G->axis.dt_s, ns, vel, eta);
     for (size_t k = 0; k < g->ntraces && !rc; k++) {
-      rc = nmo_apply(ws, &o->nmo, o->mute.n ? &o->mute : NULL, &G->axis, g->offset_m[k],
-                     g->samples + k * ns,
-                     vel, use_eta ? eta : NULL, out, NULL, NULL, err);
+      rc = stack_nmo_trace(ws, &o->nmo, o->mute.n ? &o->mute : NULL, &G->axis, g->offset_m[k],
+                           g->samples + k * ns, vel, use_eta ? eta : NULL, g->live_lo[k],
+                           g->live_hi[k], out, NULL, NULL, &tm, err);
       if (rc)
         break;
       segy_trace_header h = g->headers[k];
@@ -485,6 +527,8 @@ int stack_write_nmo_gathers(const stack_plan *p, const stack_gathers *G, const s
       h.offset = g->offset_signed_m[k];
       h.cmp_x = g->x_m;
       h.cmp_y = g->y_m;
+      if (j->statics.present)
+        h.time_scalar = stack_time_scalar(&h);
       rc = segy_trace_write(w, &h, out, err);
     }
   }

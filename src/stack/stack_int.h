@@ -7,6 +7,8 @@
 #include "tzero/geometry.h"
 #include "tzero/stack.h"
 #include "tzero/survey.h"
+#include "tzero/edits.h"
+#include "tzero/statics.h"
 
 /* A shot file's field records: runs of consecutive traces with the same field
  * record number (bytes 9-12), at most STACK_MAX_RECORD_TRACES each (a longer run
@@ -49,6 +51,18 @@ struct stack_plan {
   size_t ninputs;
   stack_input *inputs;            /* owned */
   stack_records *records;         /* ninputs, owned: field records of each input */
+  /* stations (stack_stations.c): numbered when the job has statics or station edits */
+  int has_stations;
+  double st_ox, st_oy, st_sin, st_cos, st_interval;
+  stack_station *stations[2];     /* per kind, sorted by number; owned */
+  size_t nstations[2];
+  /* floating datum (statics.floating_datum_smooth_m > 0): per CMP of the plan's
+   * range, the elevation F of the smoothed datum and 2 (F - D) / v_r in ms, the
+   * static added before NMO and taken off the stacked trace; NULL when flat */
+  double *fd_elev_m, *fd_ms;
+  int32_t fd_first;               /* CMP of fd_*[0]: the whole line's span of stations,
+                                   * whatever the CMP range of this run */
+  size_t fd_n;
   int64_t max_record;             /* most traces in one record */
   int64_t traces, stackable;
   int64_t skipped[STACK_SKIP__COUNT];
@@ -78,6 +92,22 @@ int stack_plan_in_range(const stack_plan *p, int32_t cmp);
 /* Record k of input i: traces [*a, *a + *n). */
 void stack_record_span(const stack_plan *p, size_t i, size_t k, int64_t *a, int64_t *n);
 
+/* ---- stations (stack_stations.c) ---- */
+
+/* Numbers the stations and computes their statics: the station frame from the
+ * line (or layout), a header pass over every input collecting source and
+ * receiver stations, then the elevation term and the job's tables. Called by
+ * stack_plan_build() when the job has statics or station edits. */
+int stack_stations_build(stack_plan *p, tz_err *err);
+void stack_stations_free(stack_plan *p);
+/* The floating-datum static of a CMP (0 with a flat datum); CMPs beyond the
+ * plan's range take the nearest end's. */
+double stack_floating_ms(const stack_plan *p, int32_t cmp);
+/* Station number of the point (x, y); only when p->has_stations. */
+int32_t stack_station_of(const stack_plan *p, double x, double y);
+/* The station of (kind, number), or NULL. */
+const stack_station *stack_station_find(const stack_plan *p, int kind, int32_t station);
+
 /* ---- the pre-NMO chain, record by record (stack_chain.c) ----
  *
  * For each record, in input order: edits (kill, reverse), statics (sub-sample
@@ -88,15 +118,29 @@ void stack_record_span(const stack_plan *p, size_t i, size_t k, int64_t *a, int6
 typedef struct stack_tinfo {
   int read;                  /* samples were read */
   int stackable;             /* data with geometry, on the line, within offset limits */
+  int counted;               /* the run produces this trace's CMP: its edits are counted
+                              * (so the counts of the parts of a line add up) */
   int32_t cmp;               /* when stackable */
   double off_abs, off_signed;
   geometry_trace g;          /* when stackable */
-  int killed;                /* set by the chain: an edit removed the trace */
-  double static_ms;          /* set by the chain: total static applied */
+  int killed;                /* set by the chain: 0, or 1 + enum edits_reason */
+  int reversed;              /* set by the chain: polarity reversed */
+  double static_ms;          /* set by the chain: total static applied (processing datum) */
+  double static_src_ms, static_rcv_ms;   /* its source and receiver terms */
+  size_t live_lo, live_hi;   /* set by the chain: samples holding recorded data
+                              * after the shift (others were shifted in: not live) */
 } stack_tinfo;
 
 typedef struct stack_chain stack_chain;
 typedef struct stack_chain_ws stack_chain_ws;
+
+/* How often each edit entry selected a trace (for "selects nothing" warnings),
+ * summed over the records a workspace processed. */
+typedef struct stack_chain_counts {
+  size_t nkill, nreverse;
+  int64_t *kill_hits, *reverse_hits;
+} stack_chain_counts;
+const stack_chain_counts *stack_chain_ws_counts(const stack_chain_ws *ws);
 
 /* Builds the chain of the plan's job with conditioning chain `c` (NULL = none)
  * and velocity table v (for a table-based spherical gain; may be NULL when the
@@ -116,5 +160,19 @@ void stack_chain_ws_free(stack_chain_ws *ws);
  * are processed; errors name the file and trace. */
 int stack_chain_record(const stack_chain *ch, stack_chain_ws *ws, size_t file, int64_t a,
                        size_t n, float *samples, stack_tinfo *ti, tz_err *err);
+
+/* The finest time scalar (-100, -10 or 1) for which every time of bytes 95-114
+ * of h fits its 16-bit slot. */
+int16_t stack_time_scalar(const segy_trace_header *h);
+
+/* NMO of one trace after the chain: as nmo_apply, but samples outside
+ * [live_lo, live_hi) (shifted in by a static) are not live: an input time
+ * before live_lo is muted like a top mute (the later of it and `mute` at this
+ * offset, with the mute's taper), and the trace ends at live_hi. `scratch`
+ * holds the combined mute. */
+int stack_nmo_trace(nmo_workspace *ws, const nmo_params *np, const nmo_top_mute *mute,
+                    const nmo_axis *ax, double offset_m, const float *in, const float *vel,
+                    const float *eta, size_t live_lo, size_t live_hi, float *out, float *w,
+                    nmo_trace_info *info, nmo_top_mute *scratch, tz_err *err);
 
 #endif

@@ -735,6 +735,7 @@ void stack_plan_free(stack_plan *p)
   for (size_t i = 0; p->records && i < p->ninputs; i++)
     free(p->records[i].start);
   free(p->records);
+  stack_stations_free(p);
   free(p->inputs);
   free(p);
 }
@@ -857,6 +858,12 @@ int stack_plan_build(stack_plan **out, const job_spec *job, stack_progress_fn pr
     cp->acquired_fold = st.fold;
   }
   full_fold_part(p, acq, lay);
+  if (job->statics.present || edits_use_stations(&job->edits)) {
+    if ((rc = stack_stations_build(p, err))) {
+      tz_err_path(err, job->path);
+      goto fail;
+    }
+  }
   bins_fold_free(fold);
   bins_fold_free(acq);
   *out = p;

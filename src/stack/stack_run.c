@@ -138,7 +138,11 @@ typedef struct worker {
   int failed;
   int64_t skipped[STACK_SKIP__COUNT];
   int64_t read, stacked;
-  int64_t killed;            /* stackable traces in the run range removed by edits */
+  int64_t killed[EDITS_KILL__COUNT];   /* traces in the run range removed by edits */
+  int64_t reversed;
+  int64_t st_n;              /* statics of the stacked traces */
+  double st_min, st_max, st_sq;
+  nmo_top_mute tm;           /* scratch: a static's dead zone as a top mute */
   int64_t bad_samples;       /* NaN/Inf/out-of-range samples the reader replaced by 0 */
   int64_t muted_stretch, muted_top, muted_end, samples;
   stack_mute_class cls[STACK_MUTE_CLASSES];
@@ -170,6 +174,7 @@ struct run_shared {
   int use_eta;
   stack_chain *chain;        /* edits, statics, conditioning; made before the threads start */
   int whole;                 /* the chain needs every stackable trace of a record */
+  int chain_statics;         /* the job applies statics */
   size_t cap;                /* traces one batch buffer holds */
   batch bt[3];               /* read, chain and stack stages */
   size_t nclasses;
@@ -213,7 +218,7 @@ static int read_slice(worker *w, const batch *b, int64_t lo, int64_t hi)
     int rc;
     stack_tinfo *ti = &b->ti[j];
     b->bidx[j] = -1;
-    ti->read = ti->stackable = 0;
+    ti->read = ti->stackable = ti->counted = 0;
     w->read++;
     int64_t bad0 = segy_bad_samples(w->f);   /* counted for the stacked traces only */
     if (!axis_ok) {
@@ -239,6 +244,7 @@ static int read_slice(worker *w, const batch *b, int64_t lo, int64_t hi)
         (rc = segy_trace_read(w->f, t, &h, buf, sh->ns, &w->err)))
       return tz_err_path(&w->err, p->inputs[b->file].path);
     ti->read = !sh->subset || in_run || sh->whole;
+    ti->counted = in_run;
     if (in_run)
       w->bad_samples += segy_bad_samples(w->f) - bad0;
   }
@@ -265,8 +271,16 @@ static int chain_share(worker *w, batch *b)
           (int64_t)ti->cmp >= sh->first + (int64_t)sh->ncmps)
         continue;
       if (ti->killed) {
-        w->killed++;
+        w->killed[ti->killed - 1]++;
         continue;
+      }
+      w->reversed += ti->reversed;
+      if (sh->chain_statics) {
+        double v = ti->static_ms;
+        w->st_min = w->st_n && w->st_min < v ? w->st_min : v;
+        w->st_max = w->st_n && w->st_max > v ? w->st_max : v;
+        w->st_sq += v * v;
+        w->st_n++;
       }
       b->bidx[j] = ti->cmp - sh->first;
       b->boff[j] = ti->off_abs;
@@ -385,8 +399,9 @@ static int stack_slice(worker *w, const batch *b)
     velocity_of(sh, ci, &vel, &eta);
     nmo_trace_info info;
     const float *in = b->in + j * sh->ns;    /* after the chain (chain_share) */
-    int rc = nmo_apply(w->ws, &sh->o->nmo, mute, ax, b->boff[j], in, vel, eta, w->out, w->w,
-                     &info, &w->err);
+    const stack_tinfo *ti = &b->ti[j];
+    int rc = stack_nmo_trace(w->ws, &sh->o->nmo, mute, ax, b->boff[j], in, vel, eta, ti->live_lo,
+                             ti->live_hi, w->out, w->w, &info, &w->tm, &w->err);
     if (rc) {
       tz_err_path(&w->err, sh->p->inputs[b->file].path);
       w->err.trace = b->a + (int64_t)j;
@@ -545,6 +560,8 @@ void stack_section_free(stack_section *s)
     return;
   free(s->samples);
   free(s->cmps);
+  free(s->kill_hits);
+  free(s->reverse_hits);
   free(s);
 }
 
@@ -655,8 +672,10 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
   for (size_t c = 0; c < sh.cache_n; c++)
     sh.tag[c] = -1;
   int rc = stack_chain_new(&sh.chain, p, o->conditioning, o->velocity, err);
-  if (!rc)
+  if (!rc) {
     sh.whole = stack_chain_whole_records(sh.chain);
+    sh.chain_statics = p->job->statics.present;
+  }
   for (int t = 0; t < sh.T && !rc; t++) {
     worker *w = &sh.wk[t];
     w->id = t;
@@ -741,6 +760,16 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
     for (size_t i = 0; i < sh.ns; i++)
       S[i] = W[i] > 0 ? S[i] / W[i] : 0.0f;
     int32_t cmp = sh.first + (int32_t)c;
+    double fd = stack_floating_ms(p, cmp);   /* floating datum -> flat datum */
+    if (fd != 0) {
+      if ((rc = nmo_shift(sh.wk[0].ws, &p->axis, -fd * 1e-3, S, sh.wk[0].out, NULL, NULL, err))) {
+        free(cr);
+        free(s);
+        free_shared(&sh);
+        return rc;
+      }
+      memcpy(S, sh.wk[0].out, sh.ns * sizeof *S);
+    }
     const stack_cmp_plan *cp = &p->cmps[cmp - p->first_cmp];
     stack_cmp_result *r = &cr[c];
     r->cmp = cmp;
@@ -767,8 +796,35 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
     s->classes[k].offset_from_m = (double)k * sh.class_m;
     s->classes[k].offset_to_m = k + 1 < sh.nclasses ? (double)(k + 1) * sh.class_m : INFINITY;
   }
+  double st_sq = 0;
+  const stack_chain_counts *c0 = stack_chain_ws_counts(sh.wk[0].cws);
+  s->nkill_entries = c0->nkill;
+  s->nreverse_entries = c0->nreverse;
+  s->kill_hits = calloc(c0->nkill ? c0->nkill : 1, sizeof *s->kill_hits);
+  s->reverse_hits = calloc(c0->nreverse ? c0->nreverse : 1, sizeof *s->reverse_hits);
+  if (!s->kill_hits || !s->reverse_hits) {
+    stack_section_free(s);
+    free_shared(&sh);
+    return tz_fail(err, TZ_E_NOMEM, "section");
+  }
   for (int t = 0; t < sh.T; t++) {
     worker *w = &sh.wk[t];
+    const stack_chain_counts *cc = stack_chain_ws_counts(w->cws);
+    for (size_t e = 0; e < cc->nkill; e++)
+      s->kill_hits[e] += cc->kill_hits[e];
+    for (size_t e = 0; e < cc->nreverse; e++)
+      s->reverse_hits[e] += cc->reverse_hits[e];
+    for (int r = 0; r < EDITS_KILL__COUNT; r++)
+      s->killed[r] += w->killed[r];
+    s->reversed += w->reversed;
+    if (w->st_n) {
+      s->static_min_ms = s->static_traces && s->static_min_ms < w->st_min ? s->static_min_ms
+                                                                          : w->st_min;
+      s->static_max_ms = s->static_traces && s->static_max_ms > w->st_max ? s->static_max_ms
+                                                                          : w->st_max;
+      s->static_traces += w->st_n;
+      st_sq += w->st_sq;
+    }
     s->traces_read += w->read;
     s->traces_stacked += w->stacked;
     s->bad_samples += w->bad_samples;
@@ -794,6 +850,7 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
       s->bytes_read += p->inputs[i].bytes;
     }
   }
+  s->static_rms_ms = s->static_traces ? sqrt(st_sq / (double)s->static_traces) : 0;
   s->threads = sh.T;
   free_shared(&sh);
   s->elapsed_s = now_s() - t0;

@@ -104,7 +104,7 @@ static int do_record(worker *w, size_t u)
   for (int64_t t = a; t < a + m; t++) {
     size_t j = (size_t)(t - a);
     int reason;
-    w->ti[j].read = 0;
+    w->ti[j].read = w->ti[j].counted = 0;
     if ((rc = segy_header_read(w->f, t, &w->h[j], err)))
       return tz_err_path(err, p->inputs[un->file].path);
     w->ti[j].stackable = stack_locate(p, &w->h[j], t, &w->ti[j].cmp, &w->ti[j].off_abs,

@@ -33,12 +33,16 @@
 #include "tzero/fileio.h"
 #include "util/json_doc.h"
 #include "tzero/segy.h"
+#include "tzero/statics.h"
 
 #define MODEL_MAX_BYTES (4u << 20)
 
 /* ---- model JSON ---- */
 
-static const char *const model_keys[] = { "layers", "dipping_interface", "description", NULL };
+static const char *const model_keys[] = { "layers", "dipping_interface", "near_surface",
+                                           "description", NULL };
+static const char *const ns_keys[] = { "datum_m", "replacement_velocity_mps", "weathering", NULL };
+static const char *const w_keys[] = { "along_m", "thickness_m", "velocity_mps", NULL };
 static const char *const layer_keys[] = { "thickness_m", "velocity_mps", "density_kgm3", NULL };
 static const char *const dip_keys[] = {
   "depth_m", "along_m", "dip_deg", "velocity_above_mps", "density_above_kgm3",
@@ -137,6 +141,58 @@ static int model_from_json(synth_model *m, const cJSON *root, tz_err *err)
   return TZ_OK;
 }
 
+static int near_surface_from_json(synth_near_surface *N, const cJSON *v, tz_err *err)
+{
+  if (!cJSON_IsObject(v))
+    return tz_fail(err, TZ_E_FORMAT, "$.near_surface: expected an object");
+  if (json_doc_check_keys(v, "$.near_surface", ns_keys, TZ_E_FORMAT, err))
+    return err->status;
+  N->present = 1;
+  const cJSON *d = cJSON_GetObjectItemCaseSensitive(v, "datum_m");
+  const cJSON *r = cJSON_GetObjectItemCaseSensitive(v, "replacement_velocity_mps");
+  if (!d || !r)
+    return tz_fail(err, TZ_E_FORMAT, "$.near_surface: datum_m and replacement_velocity_mps "
+                   "are required");
+  if (num(d, "$.near_surface.datum_m", -1e4, 1e4, &N->datum_m, err) ||
+      num(r, "$.near_surface.replacement_velocity_mps", 100, 20000,
+          &N->replacement_velocity_mps, err))
+    return err->status;
+  const cJSON *w = cJSON_GetObjectItemCaseSensitive(v, "weathering");
+  if (!w)
+    return TZ_OK;
+  if (!cJSON_IsArray(w) || cJSON_GetArraySize(w) > SYNTH_MAX_NS_POINTS)
+    return tz_fail(err, TZ_E_FORMAT, "$.near_surface.weathering: expected an array of at "
+                   "most %d points", SYNTH_MAX_NS_POINTS);
+  const cJSON *pt;
+  size_t i = 0;
+  cJSON_ArrayForEach(pt, w) {
+    char path[64], sub[96];
+    snprintf(path, sizeof path, "$.near_surface.weathering[%zu]", i);
+    if (!cJSON_IsObject(pt))
+      return tz_fail(err, TZ_E_FORMAT, "%s: expected an object", path);
+    if (json_doc_check_keys(pt, path, w_keys, TZ_E_FORMAT, err))
+      return err->status;
+    double *dst[3] = { &N->along_m[i], &N->thickness_m[i], &N->velocity_mps[i] };
+    const double lo[3] = { -1e8, 0, 50 }, hi[3] = { 1e8, 1e4, 20000 };
+    for (int k = 0; k < 3; k++) {
+      const cJSON *it = cJSON_GetObjectItemCaseSensitive(pt, w_keys[k]);
+      snprintf(sub, sizeof sub, "%s.%s", path, w_keys[k]);
+      if (!it)
+        return tz_fail(err, TZ_E_FORMAT, "%s: missing", sub);
+      if (num(it, sub, lo[k], hi[k], dst[k], err))
+        return err->status;
+    }
+    if (N->velocity_mps[i] >= N->replacement_velocity_mps)
+      return tz_fail(err, TZ_E_FORMAT, "%s.velocity_mps: %g m/s is not below the replacement "
+                     "velocity %g m/s", path, N->velocity_mps[i], N->replacement_velocity_mps);
+    if (i && N->along_m[i] <= N->along_m[i - 1])
+      return tz_fail(err, TZ_E_FORMAT, "%s.along_m: positions must increase", path);
+    i++;
+  }
+  N->n = i;
+  return TZ_OK;
+}
+
 int synth_model_parse(synth_model *m, const char *json, size_t len, const char *name,
                       tz_err *err)
 {
@@ -145,6 +201,9 @@ int synth_model_parse(synth_model *m, const char *json, size_t len, const char *
   if (json_doc_parse(&root, json, len, name, "model", TZ_E_FORMAT, err))
     return err->status;
   int rc = model_from_json(m, root, err);
+  const cJSON *ns = rc ? NULL : cJSON_GetObjectItemCaseSensitive(root, "near_surface");
+  if (ns)
+    rc = near_surface_from_json(&m->ns, ns, err);
   cJSON_Delete(root);
   if (rc)
     tz_err_path(err, name);
@@ -161,6 +220,54 @@ int synth_model_load(synth_model *m, const char *path, tz_err *err)
   int rc = synth_model_parse(m, text, len, path, err);
   free(text);
   return rc;
+}
+
+/* ---- near surface ---- */
+
+void synth_weathering_at(const synth_model *m, double along_m, double *h, double *v)
+{
+  const synth_near_surface *N = &m->ns;
+  *h = 0;
+  *v = N->present ? N->replacement_velocity_mps : m->layer[0].velocity_mps;
+  if (!N->present || !N->n)
+    return;
+  if (along_m <= N->along_m[0] || N->n == 1) {
+    *h = N->thickness_m[0];
+    *v = N->velocity_mps[0];
+    return;
+  }
+  if (along_m >= N->along_m[N->n - 1]) {
+    *h = N->thickness_m[N->n - 1];
+    *v = N->velocity_mps[N->n - 1];
+    return;
+  }
+  size_t k = 1;
+  while (N->along_m[k] < along_m)
+    k++;
+  double w = (along_m - N->along_m[k - 1]) / (N->along_m[k] - N->along_m[k - 1]);
+  *h = N->thickness_m[k - 1] + w * (N->thickness_m[k] - N->thickness_m[k - 1]);
+  *v = N->velocity_mps[k - 1] + w * (N->velocity_mps[k] - N->velocity_mps[k - 1]);
+}
+
+double synth_station_delay(const synth_model *m, double along_m, double elevation_m,
+                           double depth_m)
+{
+  if (!m->ns.present)
+    return 0;
+  double h, vw, vr = m->ns.replacement_velocity_mps, D = m->ns.datum_m;
+  synth_weathering_at(m, along_m, &h, &vw);
+  if (depth_m < h)
+    return (h - depth_m) / vw + (elevation_m - h - D) / vr;
+  return (elevation_m - depth_m - D) / vr;
+}
+
+double synth_uphole_time(const synth_model *m, double along_m, double depth_m)
+{
+  if (!m->ns.present)
+    return 0;
+  double h, vw, vr = m->ns.replacement_velocity_mps;
+  synth_weathering_at(m, along_m, &h, &vw);
+  return depth_m < h ? depth_m / vw : h / vw + (depth_m - h) / vr;
 }
 
 /* ---- kinematics ---- */
@@ -456,6 +563,14 @@ void synth_render(const synth_model *m, const synth_params *p, const synth_frame
   double dt = p->interval_us * 1e-6, fp = p->peak_hz;
   memset(out, 0, ns * sizeof *out);
   double x = g->offset_abs, v1 = m->layer[0].velocity_mps;
+  /* near surface: each station's vertical time to the datum delays every event
+   * from below it (zero without a near-surface model) */
+  double su0, cu0;
+  geometry_sincos_deg(f->azimuth_deg, &su0, &cu0);
+  double s_al = (g->source_x - f->x0) * su0 + (g->source_y - f->y0) * cu0;
+  double r_al = (g->receiver_x - f->x0) * su0 + (g->receiver_y - f->y0) * cu0;
+  double delay = synth_station_delay(m, s_al, g->source_z, g->source_depth) +
+                 synth_station_delay(m, r_al, g->receiver_z, 0);
   if (p->reflections)
     for (size_t k = 0; k + 1 < m->nlayers; k++) {
       double t;
@@ -463,7 +578,8 @@ void synth_render(const synth_model *m, const synth_params *p, const synth_frame
         continue;
       double vr = synth_vrms(m, k);
       double dist = t * vr * vr / v1;                 /* Newman (1973) divergence */
-      add_body(p, out, ns, dt, fp, t, synth_reflection(m, k) * SYNTH_REF_DISTANCE_M / dist);
+      add_body(p, out, ns, dt, fp, t + delay,
+               synth_reflection(m, k) * SYNTH_REF_DISTANCE_M / dist);
     }
   if (p->dipping && m->dip.present) {
     double su, cu;
@@ -474,15 +590,36 @@ void synth_render(const synth_model *m, const synth_params *p, const synth_frame
                               rdx * cu - rdy * su);
     const synth_dip *d = &m->dip;
     if (t > 0)
-      add_body(p, out, ns, dt, fp, t,
+      add_body(p, out, ns, dt, fp, t + delay,
                rc(d->velocity_above_mps, d->density_above_kgm3, d->velocity_below_mps,
-                     d->density_below_kgm3) * SYNTH_REF_DISTANCE_M / (t * d->velocity_above_mps));
+                  d->density_below_kgm3) * SYNTH_REF_DISTANCE_M / (t * d->velocity_above_mps));
   }
-  if (p->direct && x > 0)
-    add_body(p, out, ns, dt, fp, x / v1, p->direct_scale * SYNTH_REF_DISTANCE_M / x);
-  double th;
-  if (p->head && synth_head_time(m, x, &th))
-    add_body(p, out, ns, dt, fp, th, p->head_scale * SYNTH_REF_DISTANCE_M / (v1 * th));
+  if (m->ns.present) {
+    /* first arrivals: the direct wave in the weathering (mean slowness of the two
+     * ends) and the head wave along the weathering base (time-term form, Sheriff
+     * and Geldart 1995: t = x / v_r + delta_s + delta_r, delta = h cos(i_c) / v_w) */
+    double hs, vs, hr, vrc, vr = m->ns.replacement_velocity_mps;
+    synth_weathering_at(m, s_al, &hs, &vs);
+    synth_weathering_at(m, r_al, &hr, &vrc);
+    hs = hs > g->source_depth ? hs - g->source_depth : 0;
+    if (p->direct && x > 0) {
+      double slow = (hs > 0 ? 1.0 / vs : 1.0 / vr) + (hr > 0 ? 1.0 / vrc : 1.0 / vr);
+      add_body(p, out, ns, dt, fp, 0.5 * x * slow, p->direct_scale * SYNTH_REF_DISTANCE_M / x);
+    }
+    if (p->head && (hs > 0 || hr > 0)) {
+      double cs = sqrt(1 - (vs / vr) * (vs / vr)), cr = sqrt(1 - (vrc / vr) * (vrc / vr));
+      double xc = hs * (vs / vr) / cs + hr * (vrc / vr) / cr;   /* h tan(i_c) at each end */
+      double th = x / vr + hs * cs / vs + hr * cr / vrc;
+      if (x > xc)
+        add_body(p, out, ns, dt, fp, th, p->head_scale * SYNTH_REF_DISTANCE_M / (vr * th));
+    }
+  } else {
+    if (p->direct && x > 0)
+      add_body(p, out, ns, dt, fp, x / v1, p->direct_scale * SYNTH_REF_DISTANCE_M / x);
+    double th;
+    if (p->head && synth_head_time(m, x, &th))
+      add_body(p, out, ns, dt, fp, th, p->head_scale * SYNTH_REF_DISTANCE_M / (v1 * th));
+  }
   if (p->reverb_period_s > 0 && p->reverb_coefficient != 0)   /* body waves only */
     synth_reverberate(out, ns, (size_t)floor(p->reverb_period_s / dt + 0.5), p->reverb_coefficient);
   if (p->train_amplitude != 0 && p->train_velocity_mps > 0) {
@@ -660,6 +797,13 @@ int synth_survey(const synth_model *m, const geometry_layout *l, const synth_par
       if (!p->bare_headers) {
         geometry_to_header(&g, &h);
         h.source_point = sh.shot_point;
+        if (m->ns.present && g.source_depth > 0) {
+          double su1, cu1;
+          geometry_sincos_deg(fr.azimuth_deg, &su1, &cu1);
+          double al = (g.source_x - fr.x0) * su1 + (g.source_y - fr.y0) * cu1;
+          h.uphole_source_ms = synth_uphole_time(m, al, g.source_depth) * 1e3;
+          h.time_scalar = -100;     /* hundredths of a millisecond */
+        }
         bins_loc loc;
         if (bins_locate(line, g.midpoint_x, g.midpoint_y, &loc) == BINS_OUT_OF_RANGE) {
           segy_writer_abort(w);
@@ -744,4 +888,68 @@ int synth_write_rms_table(const synth_model *m, int32_t first_cmp, int32_t last_
       fprintf(fp, "%d,%.6f,%.6f\n", (int)cmps[c], synth_t0(m, k) * 1000.0, synth_vrms(m, k));
   }
   return fileio_commit(o, err);
+}
+
+/* One station of the true statics table, kept unique by (kind, number). */
+static int add_true(statics_row **v, size_t *n, size_t *cap, int kind, int32_t st, double x,
+                    double y, double z, double ms, tz_err *err)
+{
+  for (size_t i = *n; i-- > 0;)
+    if ((*v)[i].kind == kind && (*v)[i].station == st)
+      return TZ_OK;
+  if (*n == *cap) {
+    size_t nc = *cap ? *cap * 2 : 256;
+    statics_row *r = realloc(*v, nc * sizeof *r);
+    if (!r)
+      return tz_fail(err, TZ_E_NOMEM, "true statics table");
+    *v = r;
+    *cap = nc;
+  }
+  statics_row *r = &(*v)[(*n)++];
+  memset(r, 0, sizeof *r);
+  r->kind = kind;
+  r->station = st;
+  r->x_m = x;
+  r->y_m = y;
+  r->elevation_m = z;
+  r->static_ms = ms;
+  return TZ_OK;
+}
+
+int synth_write_true_statics(const synth_model *m, const geometry_layout *l, const char *path,
+                             tz_err *err)
+{
+  if (!m->ns.present)
+    return tz_fail(err, TZ_E_ARG, "the model has no near_surface object");
+  double su, cu, dg = l->receiver_interval_m;
+  geometry_sincos_deg(l->azimuth_deg, &su, &cu);
+  size_t nsh = geometry_layout_shots(l), nch = geometry_layout_channels(l), n = 0, cap = 0;
+  statics_row *v = NULL;
+  int rc = TZ_OK;
+  for (size_t k = 0; k < nsh && !rc; k++)
+    for (size_t c = 0; c < nch && !rc; c++) {
+      geometry_trace g;
+      if ((rc = geometry_layout_trace(l, k, c, &g, err)))
+        break;
+      double sa = (g.source_x - l->first_station_x_m) * su + (g.source_y - l->first_station_y_m) * cu;
+      double ra = (g.receiver_x - l->first_station_x_m) * su +
+                  (g.receiver_y - l->first_station_y_m) * cu;
+      if (c == 0)
+        rc = add_true(&v, &n, &cap, STATICS_SOURCE, (int32_t)floor(sa / dg + 0.5 + 1e-9),
+                      g.source_x, g.source_y, g.source_z,
+                      -synth_station_delay(m, sa, g.source_z, g.source_depth) * 1e3, err);
+      if (!rc)
+        rc = add_true(&v, &n, &cap, STATICS_RECEIVER, (int32_t)floor(ra / dg + 0.5 + 1e-9),
+                      g.receiver_x, g.receiver_y, g.receiver_z,
+                      -synth_station_delay(m, ra, g.receiver_z, 0) * 1e3, err);
+    }
+  if (!rc) {
+    char note[200];
+    snprintf(note, sizeof note, "true station statics of the near-surface model (tzero synth)\n"
+             "datum %g m, replacement velocity %g m/s", m->ns.datum_m,
+             m->ns.replacement_velocity_mps);
+    rc = statics_table_write(path, v, n, note, err);
+  }
+  free(v);
+  return rc;
 }
