@@ -1,9 +1,10 @@
 # test_statics.sh -- the "statics" and "edits" job keys, `tzero statics elevation`,
 # --edits, and bad station statics tables (exit 65 naming the file and line,
 # nothing written). The line is made by `tzero synth` with a near-surface model.
-# Sources: sysexits(3) statuses (65 bad input data, 64 usage); DESIGN.md (a failed run
+# Sources: sysexits(3) statuses (65 bad input data, 64 usage); docs/job-file.md (a failed run
 # leaves no output; job errors name the JSON path); the elevation static -(E - D)/v_r
-# (common practice); bitwise identity for any thread count (DESIGN.md "Quality").
+# (common practice); bitwise identity for any thread count and parts equal to the whole
+# line (docs/performance.md, tzero-merge(1)).
 . "$TOP/tests/e2e/lib.sh"
 D="$T/line"
 mkdir -p "$D/out"
@@ -88,7 +89,7 @@ grep -q '"floating_datum":' "$D/out/fd1.json" && grep -q 'floating datum for NMO
   ok "report lists the floating datum and the time reference" || notok "report lacks the floating datum"
 expect_status 0 "floating datum part run" -- "$TZERO" stack --job "$D/fd.json" --cmp-range 20-30 \
   --out "$D/out/fdp.sgy" --report "$D/out/fdp.json" --quiet
-# a part equals the same CMPs of the whole line (DESIGN.md: parts give the same bits)
+# a part equals the same CMPs of the whole line (tzero-merge(1): parts give the same bits)
 "$PYTHON" - "$D/out/fd1.sgy" "$D/out/fdp.sgy" <<'PY' && ok "floating datum: the part is bitwise the whole line's CMPs" || notok "floating datum: the part differs from the whole line"
 import sys, segyio, numpy as np
 a = segyio.open(sys.argv[1], ignore_geometry=True)

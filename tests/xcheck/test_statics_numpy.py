@@ -113,7 +113,7 @@ for k, j in jobs.items():
     p = tz.run("stack", "--job", j, "--quiet")
     tz.ok(p.returncode == 0, f"stack {k}", p.stderr)
 ref = read_section(os.path.join(W, "flat.sgy"))
-nominal = 48 * 10 / (2 * 20)        # N dg / (2 ds), REFERENCE: Yilmaz 2001 sec. 1.2
+nominal = 48 * 10 / (2 * 20)        # N dg / (2 ds), Yilmaz 2001 (CMP fold; common practice)
 n, c_st, lag_st = compare(ref, read_section(os.path.join(W, "topo_st.sgy")), nominal)
 tz.ok(n > 50 and c_st >= 0.99 and lag_st <= 0.25,
       f"topography + elevation statics = flat line: {n} CMPs, worst correlation {c_st:.4f} "
