@@ -91,6 +91,12 @@ static int run_check(int nfiles, char **files, int json, int quiet)
       return cli_usage_error("report", "--check %s: a QC report is required after the limits "
                              "file", files[0]);
     }
+    if (len > LIMITS_MAX_BYTES) {
+      free(text);
+      tz_err_path(&e, files[0]);
+      tz_fail(&e, TZ_E_FORMAT, "a limits file of %zu bytes: more than %u", len, LIMITS_MAX_BYTES);
+      return cli_report("report", &e);
+    }
     int rc = limits_parse(&lim, text, len, files[0], "$", &e);
     free(text);
     if (rc)
