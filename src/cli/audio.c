@@ -219,7 +219,7 @@ int cmd_audio(int argc, char **argv)
   int32_t *chans = NULL;
   long long ll, first = 1;
   int json = 0, quiet = 0, have_first = 0, c, rc;
-  optind = 1;
+  cli_opt_begin();
   while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
     rc = 0;
     switch (c) {
@@ -281,7 +281,7 @@ int cmd_audio(int argc, char **argv)
     case O_JSON: json = 1; break;
     case O_QUIET: quiet = 1; break;
     case 'h': free(chans); help(); return EX_OK;
-    default: rc = cli_usage_error(cmd, "unknown option");
+    default: rc = cli_opt_error(cmd, argv);
     }
     if (rc) {
       free(chans);
@@ -303,7 +303,6 @@ int cmd_audio(int argc, char **argv)
   tz_err_init(&err);
   audio_batch *b = NULL;
   audio_result *res = NULL;
-  cJSON *o = NULL;
   geometry_source *geo = NULL;
   if (layout) {
     geometry_layout l;
@@ -322,16 +321,11 @@ int cmd_audio(int argc, char **argv)
   if (!rc)
     rc = audio_batch_run(b, out, &p, res, &err);
   if (!rc && json) {
-    char *txt = NULL;
-    if (!(o = json_summary(b, res, out)) || !(txt = cJSON_Print(o)))
+    if (cli_print_json(json_summary(b, res, out)) != EX_OK)
       rc = tz_fail(&err, TZ_E_NOMEM, "JSON summary");
-    else
-      printf("%s\n", txt);
-    free(txt);
   } else if (!rc && !quiet) {
     print_text(b, res, out);
   }
-  cJSON_Delete(o);
   free(res);
   audio_batch_free(b);
   geometry_source_free(geo);

@@ -52,6 +52,12 @@ int cli_usage_error(const char *cmd, const char *fmt, ...)
  * and deletes it; takes the tree (NULL is allowed). EX_OK, or EX_OSERR when the
  * text could not be made. */
 int cli_print_json(void *tree);
+/* Every subcommand's getopt_long loop starts with cli_opt_begin() (optind = 1,
+ * opterr = 0: getopt prints nothing, the messages are ours) and ends its switch
+ * with `default: return cli_opt_error(cmd, argv);`, the usage error naming the
+ * option getopt did not accept (unknown, or missing its value). */
+void cli_opt_begin(void);
+int cli_opt_error(const char *cmd, char **argv);
 /* Checked option parsers: on failure print a usage error naming the option. */
 int cli_parse_i64(const char *cmd, const char *opt, const char *s, long long *out);
 int cli_parse_f64(const char *cmd, const char *opt, const char *s, double *out);

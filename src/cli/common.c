@@ -1,6 +1,7 @@
 /* common.c -- error printing and option parsing shared by the subcommands. */
 #include "cli.h"
 
+#include <getopt.h>
 #include <stdarg.h>
 #include <string.h>
 #include <sysexits.h>
@@ -30,6 +31,18 @@ int cli_usage_error(const char *cmd, const char *fmt, ...)
   va_end(ap);
   fprintf(stderr, "\nTry 'tzero %s --help'.\n", cmd);
   return EX_USAGE;
+}
+
+void cli_opt_begin(void)
+{
+  optind = 1;
+  opterr = 0;
+}
+
+int cli_opt_error(const char *cmd, char **argv)
+{
+  return cli_usage_error(cmd, "unknown or incomplete option '%s'",
+                         optind > 0 ? argv[optind - 1] : "");
 }
 
 int cli_parse_i64(const char *cmd, const char *opt, const char *s, long long *out)

@@ -245,8 +245,7 @@ int cmd_compare(int argc, char **argv)
   int json = 0, quiet = 0, per = 0, check = 0, c;
   double max_db = NAN;
   const char *cmps_text = NULL;
-  optind = 1;
-  opterr = 0;
+  cli_opt_begin();
   while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
     int bad = 0;
     switch (c) {
@@ -263,7 +262,7 @@ int cmd_compare(int argc, char **argv)
     case O_QUIET: quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_usage_error("compare", "unknown or incomplete option '%s'", argv[optind - 1]);
+      return cli_opt_error("compare", argv);
     }
     if (bad)
       return bad;

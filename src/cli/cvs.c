@@ -64,8 +64,7 @@ int cmd_cvs(int argc, char **argv)
   long long threads = -1;
   int json = 0, quiet = 0, c;
   const char *edits = NULL;
-  optind = 1;
-  opterr = 0;
+  cli_opt_begin();
   while ((c = getopt_long(argc, argv, "h", lo, NULL)) != -1) {
     int bad = 0;
     switch (c) {
@@ -80,7 +79,7 @@ int cmd_cvs(int argc, char **argv)
     case O_QUIET: quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_usage_error(cmd, "unknown or incomplete option '%s'", argv[optind - 1]);
+      return cli_opt_error(cmd, argv);
     }
     if (bad)
       return bad;

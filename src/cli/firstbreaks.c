@@ -81,8 +81,7 @@ int cmd_firstbreaks(int argc, char **argv)
   job_overrides_init(&ov);
   firstbreak_line_opts fo;
   firstbreak_line_opts_init(&fo);
-  optind = 1;
-  opterr = 0;
+  cli_opt_begin();
   while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
     int k = cli_job_option("firstbreaks", c, optarg, &ov);
     if (k < 0)
@@ -129,8 +128,7 @@ int cmd_firstbreaks(int argc, char **argv)
     case 'q': quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_usage_error("firstbreaks", "unknown or incomplete option '%s'",
-                             argv[optind - 1]);
+      return cli_opt_error("firstbreaks", argv);
     }
   }
   if (optind < argc)

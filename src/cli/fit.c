@@ -72,15 +72,14 @@ int cmd_fit(int argc, char **argv)
     { NULL, 0, NULL, 0 },
   };
   int json = 0, quiet = 0, c;
-  optind = 1;
-  opterr = 0;
+  cli_opt_begin();
   while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
     switch (c) {
     case 'j': json = 1; break;
     case 'q': quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_usage_error("fit", "unknown or incomplete option '%s'", argv[optind - 1]);
+      return cli_opt_error("fit", argv);
     }
   }
   if (argc - optind != 1)

@@ -541,7 +541,7 @@ int cmd_geometry(int argc, char **argv)
   double bin = 0, ox = NAN, oy = NAN, az = NAN, maxoff = 0, oclass = 0;
   long long first = 1;
   int has_first = 0, json = 0, quiet = 0, c;
-  optind = 1;
+  cli_opt_begin();
   while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
     switch (c) {
     case O_JOB: job_path = optarg; break;
@@ -575,7 +575,7 @@ int cmd_geometry(int argc, char **argv)
     case O_JSON: json = 1; break;
     case O_QUIET: quiet = 1; break;
     case 'h': help(); return EX_OK;
-    default: return cli_usage_error(cmd, "unknown option");
+    default: return cli_opt_error(cmd, argv);
     }
   }
   if (layout_path && table_path)
@@ -605,7 +605,6 @@ int cmd_geometry(int argc, char **argv)
   memset(&fig, 0, sizeof fig);
   bins_fold *pred = NULL;
   const char *kind = "headers", *gfile = NULL;
-  cJSON *out = NULL;
 
   if (job_path) {
     if ((rc = job_load(&job, job_path, &err)))
@@ -697,19 +696,14 @@ int cmd_geometry(int argc, char **argv)
       goto done;
   }
   if (json) {
-    char *txt = NULL;
-    out = json_summary(&r, pred, kind, gfile, &fig);
-    if (!out || !(txt = cJSON_Print(out))) {
+    if (cli_print_json(json_summary(&r, pred, kind, gfile, &fig)) != EX_OK) {
       rc = tz_fail(&err, TZ_E_NOMEM, "JSON summary");
       goto done;
     }
-    printf("%s\n", txt);
-    free(txt);
   } else if (!quiet) {
     print_text(&r, pred, kind, &fig);
   }
 done:
-  cJSON_Delete(out);
   free(nx);
   free(ny);
   free(r.shots);

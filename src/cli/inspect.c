@@ -710,8 +710,7 @@ int cmd_inspect(int argc, char **argv)
   const char *map_path = NULL;
   long long v;
   int c;
-  optind = 1;
-  opterr = 0;
+  cli_opt_begin();
   while ((c = getopt_long(argc, argv, "h", lo, NULL)) != -1) {
     switch (c) {
     case 'H':
@@ -764,7 +763,7 @@ int cmd_inspect(int argc, char **argv)
     case 'q': o.quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_usage_error("inspect", "unknown or incomplete option '%s'", argv[optind - 1]);
+      return cli_opt_error("inspect", argv);
     }
   }
   if (optind >= argc)

@@ -52,8 +52,7 @@ int cmd_merge(int argc, char **argv)
   };
   merge_opts mo = { .tool_version = TZERO_VERSION };
   int json = 0, quiet = 0, c;
-  optind = 1;
-  opterr = 0;
+  cli_opt_begin();
   while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
     switch (c) {
     case 'o': mo.section = optarg; break;
@@ -62,7 +61,7 @@ int cmd_merge(int argc, char **argv)
     case 'q': quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_usage_error("merge", "unknown or incomplete option '%s'", argv[optind - 1]);
+      return cli_opt_error("merge", argv);
     }
   }
   if (optind >= argc)

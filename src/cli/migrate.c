@@ -279,8 +279,7 @@ int cmd_migrate(int argc, char **argv)
   migrate_params_init(&p);
   int c, have_cmps = 0;
   long long ll;
-  optind = 1;
-  opterr = 0;
+  cli_opt_begin();
   while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
     switch (c) {
     case 'v': a.velocity = optarg; break;
@@ -334,7 +333,7 @@ int cmd_migrate(int argc, char **argv)
     case 'q': a.quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_usage_error("migrate", "unknown or incomplete option '%s'", argv[optind - 1]);
+      return cli_opt_error("migrate", argv);
     }
   }
   if (optind >= argc)

@@ -56,8 +56,7 @@ int cmd_nmo(int argc, char **argv)
   int json = 0, quiet = 0, c;
   job_overrides ov;
   job_overrides_init(&ov);
-  optind = 1;
-  opterr = 0;
+  cli_opt_begin();
   while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
     int k = cli_job_option("nmo", c, optarg, &ov);
     if (k < 0)
@@ -72,7 +71,7 @@ int cmd_nmo(int argc, char **argv)
     case 'q': quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_usage_error("nmo", "unknown or incomplete option '%s'", argv[optind - 1]);
+      return cli_opt_error("nmo", argv);
     }
   }
   if (optind < argc)

@@ -308,8 +308,7 @@ int cmd_picture(int argc, char **argv)
   picture_select sel = { 0 };
   cli_spectrum_pic sp = { 0 };
   int json = 0, quiet = 0, format = -1, c;
-  optind = 1;
-  opterr = 0;
+  cli_opt_begin();
   while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
     int bad = 0;
     double a, b;
@@ -360,7 +359,7 @@ int cmd_picture(int argc, char **argv)
       break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_usage_error(cmd, "unknown or incomplete option '%s'", argv[optind - 1]);
+      return cli_opt_error(cmd, argv);
     }
     if (bad)
       return bad;

@@ -188,8 +188,7 @@ int cmd_report(int argc, char **argv)
   long long cmp = 0;
   int has_cmp = 0, json = 0, quiet = 0, check = 0, c;
   const char *csv = NULL;
-  optind = 1;
-  opterr = 0;
+  cli_opt_begin();
   while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
     switch (c) {
     case 'c':
@@ -203,7 +202,7 @@ int cmd_report(int argc, char **argv)
     case 'q': quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_usage_error("report", "unknown or incomplete option '%s'", argv[optind - 1]);
+      return cli_opt_error("report", argv);
     }
   }
   if (check) {

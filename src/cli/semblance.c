@@ -137,8 +137,7 @@ static int parse(int argc, char **argv, struct opts *o)
   };
   const char *cmd = "semblance";
   int c;
-  optind = 1;
-  opterr = 0;
+  cli_opt_begin();
   while ((c = getopt_long(argc, argv, "h", lo, NULL)) != -1) {
     int bad = 0;
     switch (c) {
@@ -168,7 +167,7 @@ static int parse(int argc, char **argv, struct opts *o)
     case O_QUIET: o->quiet = 1; break;
     case 'h': help(); return -1;
     default:
-      return cli_usage_error(cmd, "unknown or incomplete option '%s'", argv[optind - 1]);
+      return cli_opt_error(cmd, argv);
     }
     if (bad)
       return bad;

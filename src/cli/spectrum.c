@@ -236,8 +236,7 @@ int cmd_spectrum(int argc, char **argv)
   int conditioned = 0;
   double max_hz = INFINITY, omax = -1;
   int json = 0, quiet = 0, c, has, ex;
-  optind = 1;
-  opterr = 0;
+  cli_opt_begin();
   while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
     switch (c) {
     case 'J': job_path = optarg; break;
@@ -285,7 +284,7 @@ int cmd_spectrum(int argc, char **argv)
     case 'q': quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_usage_error("spectrum", "unknown or incomplete option '%s'", argv[optind - 1]);
+      return cli_opt_error("spectrum", argv);
     }
   }
   if (!job_path == !(argc - optind))

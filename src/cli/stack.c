@@ -189,8 +189,7 @@ int cmd_stack(int argc, char **argv)
   int json = 0, quiet = 0, check = 0, brief = 0, c;
   job_overrides ov;
   job_overrides_init(&ov);
-  optind = 1;
-  opterr = 0;
+  cli_opt_begin();
   while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
     int k = cli_job_option("stack", c, optarg, &ov);
     if (k < 0)
@@ -212,7 +211,7 @@ int cmd_stack(int argc, char **argv)
     case 'q': quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_usage_error("stack", "unknown or incomplete option '%s'", argv[optind - 1]);
+      return cli_opt_error("stack", argv);
     }
   }
   if (optind < argc)

@@ -120,7 +120,7 @@ int cmd_synth(int argc, char **argv)
   long long ll, samples = -1;
   double reverb_c = 0.5;
   int json = 0, quiet = 0, c;
-  optind = 1;
+  cli_opt_begin();
   while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
     switch (c) {
     case O_MODEL: model_path = optarg; break;
@@ -221,7 +221,7 @@ int cmd_synth(int argc, char **argv)
     case O_JSON: json = 1; break;
     case O_QUIET: quiet = 1; break;
     case 'h': help(); return EX_OK;
-    default: return cli_usage_error(cmd, "unknown option");
+    default: return cli_opt_error(cmd, argv);
     }
   }
   if (p.reverb_period_s > 0)
@@ -303,12 +303,8 @@ int cmd_synth(int argc, char **argv)
     cJSON_AddStringToObject(o, "rms_table", rms);
     if (true_path[0])
       cJSON_AddStringToObject(o, "true_statics", true_path);
-    char *txt = cJSON_Print(o);
-    cJSON_Delete(o);
-    if (!txt)
+    if (cli_print_json(o) != EX_OK)
       return EX_OSERR;
-    printf("%s\n", txt);
-    free(txt);
   } else if (!quiet) {
     printf("wrote %zu shot files (%lld traces, %.1f MB) to %s\n", s.files, (long long)s.traces,
            (double)s.bytes / 1e6, out);

@@ -349,8 +349,7 @@ int cmd_velocity(int argc, char **argv)
   };
   struct opts op = { .dt_ms = 4, .length_ms = -1, .first_ms = 0 };
   int c;
-  optind = 1;
-  opterr = 0;
+  cli_opt_begin();
   while ((c = getopt_long(argc, argv, "ho:q", lopts, NULL)) != -1) {
     switch (c) {
     case 'c':
@@ -391,7 +390,7 @@ int cmd_velocity(int argc, char **argv)
     case 'q': op.quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_usage_error(CMD, "unknown or incomplete option '%s'", argv[optind - 1]);
+      return cli_opt_error(CMD, argv);
     }
   }
   if (argc - optind < 1)
