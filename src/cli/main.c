@@ -2,12 +2,24 @@
  *
  * Each subcommand lives in its own file (src/cli/<name>.c), parses its own
  * options, calls the library and prints. No processing happens here.
+ *
+ * Signals. SIGINT, SIGTERM and SIGHUP are blocked before any thread exists (so
+ * every worker inherits the mask) and taken by one thread with sigwait(3): it
+ * removes the temporaries of the run (fileio_remove_temporaries) and exits with
+ * 128 + the signal number (130, 143, 129), the shell's convention for a run
+ * ended by a signal. SIGXFSZ is ignored, so a file-size limit (ulimit -f) makes
+ * the write fail with EFBIG and the run ends with its usual I/O error (74)
+ * instead of being killed with its temporaries left.
  */
+#include <pthread.h>
+#include <signal.h>
 #include <stdio.h>
 #include <string.h>
 #include <sysexits.h>
+#include <unistd.h>
 
 #include "cli.h"
+#include "tzero/fileio.h"
 
 struct subcmd {
   const char *name;
@@ -50,6 +62,51 @@ static void usage(FILE *fp)
   fprintf(fp, "\noptions: --help, --version\n\n%s", CLI_CAUTION);
 }
 
+static void *signal_thread(void *arg)
+{
+  const sigset_t *set = arg;
+  int sig = 0;
+  if (sigwait(set, &sig) != 0)
+    return NULL;
+  fileio_remove_temporaries();
+  const char *name = sig == SIGINT ? "SIGINT" : sig == SIGTERM ? "SIGTERM" : "SIGHUP";
+  char msg[96];
+  int n = snprintf(msg, sizeof msg, "tzero: stopped by %s; temporary files removed\n", name);
+  if (n > 0 && write(STDERR_FILENO, msg, (size_t)n) < 0) {
+    /* nothing more to say */
+  }
+  _exit(128 + sig);
+}
+
+static void signals_start(void)
+{
+  static sigset_t set;   /* read by the signal thread for the life of the process */
+  signal(SIGXFSZ, SIG_IGN);
+  sigemptyset(&set);
+  static const int sigs[] = { SIGINT, SIGTERM, SIGHUP };
+  int any = 0;
+  for (size_t i = 0; i < sizeof sigs / sizeof sigs[0]; i++) {
+    struct sigaction old;
+    /* a signal ignored by the caller (nohup, a background job) stays ignored */
+    if (sigaction(sigs[i], NULL, &old) == 0 && old.sa_handler == SIG_IGN)
+      continue;
+    sigaddset(&set, sigs[i]);
+    any = 1;
+  }
+  if (!any || pthread_sigmask(SIG_BLOCK, &set, NULL) != 0)
+    return;
+  pthread_attr_t at;
+  pthread_t th;
+  int ok = pthread_attr_init(&at) == 0;
+  if (ok) {
+    pthread_attr_setdetachstate(&at, PTHREAD_CREATE_DETACHED);
+    ok = pthread_create(&th, &at, signal_thread, &set) == 0;
+    pthread_attr_destroy(&at);
+  }
+  if (!ok)   /* no thread to take them: keep the default actions */
+    pthread_sigmask(SIG_UNBLOCK, &set, NULL);
+}
+
 static const struct subcmd *find(const char *name)
 {
   for (size_t i = 0; i < NSUB; i++)
@@ -87,6 +144,8 @@ int main(int argc, char **argv)
     return s->run(2, hargv);
   }
   const struct subcmd *s = find(name);
+  if (s)
+    signals_start();
   if (!s) {
     fprintf(stderr, "tzero: unknown subcommand '%s'\nTry 'tzero --help'.\n", name);
     return EX_USAGE;

@@ -281,8 +281,7 @@ int cmd_stack(int argc, char **argv)
   if (rep_out) {
     FILE *fp = fileio_stream(rep_out);
     if (fputs(report, fp) == EOF || fputc('\n', fp) == EOF) {
-      rc = tz_fail(&e, TZ_E_IO, "write failed");
-      tz_err_path(&e, job->report);
+      rc = fileio_fail(rep_out, -1, &e);   /* with the OS reason */
       fileio_abort(rep_out);
     } else {
       rc = fileio_commit(rep_out, &e);

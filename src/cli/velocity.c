@@ -8,6 +8,7 @@
 #include <cjson/cJSON.h>
 #include <getopt.h>
 #include <math.h>
+#include <errno.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -122,7 +123,7 @@ static int write_intervals(const velocity_table *t, FILE *fp, tz_err *err)
     }
     free(iv);
   }
-  return ferror(fp) ? tz_fail(err, TZ_E_IO, "write failed") : TZ_OK;
+  return ferror(fp) ? tz_fail_os(err, TZ_E_IO, errno ? errno : EIO, "write failed") : TZ_OK;
 }
 
 /* Runs `fn` into --out (atomically) or stdout. */
@@ -273,7 +274,7 @@ static int at_fn(const velocity_table *t, FILE *fp, tz_err *err, void *vctx)
       fprintf(fp, ",%.6g", c->e[i]);
     fputc('\n', fp);
   }
-  return ferror(fp) ? tz_fail(err, TZ_E_IO, "write failed") : TZ_OK;
+  return ferror(fp) ? tz_fail_os(err, TZ_E_IO, errno ? errno : EIO, "write failed") : TZ_OK;
 }
 
 static int do_at(const struct opts *op, const velocity_table *t, tz_err *err)

@@ -38,6 +38,7 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
+#include "tzero/fileio.h"
 #include "tzero/geometry.h"
 #include "tzero/segy.h"
 #include "tzero/table.h"
@@ -104,17 +105,15 @@ static double full_scale(int format)
 static int sfin_open(sfin *f, const char *path, audio_info *info, tz_err *err)
 {
   memset(f, 0, sizeof *f);
-  f->fd = open(path, O_RDONLY | O_CLOEXEC);
-  if (f->fd < 0) {
-    int e = errno;
-    tz_err_path(err, path);
-    return tz_fail_os(err, TZ_E_NOINPUT, e, "cannot open");
-  }
+  f->fd = -1;
+  if (fileio_open_input(path, &f->fd, err))   /* a named pipe would block the open */
+    return err->status;
   struct stat st;
-  if (fstat(f->fd, &st) != 0 || !S_ISREG(st.st_mode)) {
+  if (fstat(f->fd, &st) != 0) {
+    int e = errno;
     sfin_close(f);
     tz_err_path(err, path);
-    return tz_fail(err, TZ_E_NOINPUT, "not a regular file");
+    return tz_fail_os(err, TZ_E_NOINPUT, e, "cannot open");
   }
   if (st.st_size == 0) {
     sfin_close(f);
@@ -659,8 +658,10 @@ static int add_folder(audio_batch *b, const char *dir, tz_err *err)
     struct stat st;
     if (!p) {
       rc = tz_fail(err, TZ_E_NOMEM, "input list");
-    } else if (stat(p, &st) != 0 || !S_ISREG(st.st_mode)) {
+    } else if (lstat(p, &st) == 0 && S_ISDIR(st.st_mode)) {
       free(p);
+    } else if ((rc = fileio_check_input(p, err))) {
+      free(p);   /* a named pipe would block the run: refused, not skipped */
     } else {
       rc = add_path(b, p, err);
     }
@@ -968,17 +969,6 @@ static int convert_all(const audio_batch *b, const audio_params *p, const char *
   return rc;
 }
 
-static void remove_staged(const audio_batch *b, const char *stage)
-{
-  for (size_t i = 0; i < b->n; i++) {
-    char *f = join(stage, b->names[i]);
-    if (f)
-      unlink(f);                           /* absent ones (never written, moved): ENOENT */
-    free(f);
-  }
-  rmdir(stage);
-}
-
 int audio_batch_run(const audio_batch *b, const char *out_dir, const audio_params *p,
                     audio_result *results, tz_err *err)
 {
@@ -1035,17 +1025,16 @@ int audio_batch_run(const audio_batch *b, const char *out_dir, const audio_param
   } else {
     created = 1;
   }
-  char *stage = join(out_dir, ".tzero-audio-XXXXXX");
-  if (!stage) {
+  /* staged in a temporary folder inside the output folder (registered, so a
+   * signal removes it; swept when a killed run left it) */
+  fileio_tmpdir *td = NULL;
+  char *stage_name = join(out_dir, "tzero-audio");
+  const char *stage = NULL;
+  if (!stage_name)
     rc = tz_fail(err, TZ_E_NOMEM, "output path");
-  } else if (!mkdtemp(stage)) {
-    int e = errno;
-    tz_err_path(err, out_dir);
-    rc = tz_fail_os(err, TZ_E_CREATE, e, "cannot create a temporary folder in the output "
-                    "folder");
-    free(stage);
-    stage = NULL;
-  }
+  else if (!(rc = fileio_tmpdir_create(&td, stage_name, err)))
+    stage = fileio_tmpdir_path(td);
+  free(stage_name);
   if (!rc)
     rc = convert_all(b, p, stage, seq, res, err);
   for (size_t i = 0; !rc && i < b->n; i++) {
@@ -1060,13 +1049,9 @@ int audio_batch_run(const audio_batch *b, const char *out_dir, const audio_param
     free(from);
     free(to);
   }
-  if (stage) {
-    if (rc)
-      remove_staged(b, stage);
-    else
-      rmdir(stage);
-    free(stage);
-  }
+  fileio_tmpdir_remove(td);   /* empty after the moves, or what a failure left */
+  if (!rc)
+    rc = fileio_sync_folder(out_dir, err);
   if (rc && created)
     rmdir(out_dir);
 done:

@@ -32,6 +32,7 @@
 #include <unistd.h>
 
 #include "segy_priv.h"
+#include "tzero/fileio.h"
 
 #define WINDOW_BYTES (1u << 20)
 #define MAX_EXTENDED_TEXT 100000   /* 3200-byte records: over 300 MB of text is absurd */
@@ -901,14 +902,12 @@ int segy_open(segy_file **out, const char *path, const segy_open_opts *o, tz_err
     return tz_fail(err, TZ_E_NOMEM, "file handle");
   f->fd = -1;
   int rc = TZ_OK;
-  f->fd = open(path, O_RDONLY | O_CLOEXEC);
-  if (f->fd < 0) {
-    rc = tz_fail_os(err, TZ_E_NOINPUT, errno, "cannot open");
+  /* a named pipe or device is refused before it can block the run */
+  if ((rc = fileio_open_input(path, &f->fd, err)))
     goto fail;
-  }
   struct stat st;
-  if (fstat(f->fd, &st) != 0 || !S_ISREG(st.st_mode)) {
-    rc = tz_fail(err, TZ_E_NOINPUT, "not a regular file");
+  if (fstat(f->fd, &st) != 0) {
+    rc = tz_fail_os(err, TZ_E_NOINPUT, errno, "cannot open");
     goto fail;
   }
   segy_info *in = &f->info;

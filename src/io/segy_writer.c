@@ -119,9 +119,9 @@ int segy_writer_open(segy_writer **out, const char *path, const segy_writer_opts
   text_header(&o, w->buf);
   binary_header(&o, w->buf + SEGY_TEXT_BYTES);
   if (fwrite(w->buf, 1, 3600, fileio_stream(w->out)) != 3600) {
+    rc = fileio_fail(w->out, -1, err);   /* with the OS reason */
     segy_writer_abort(w);
-    tz_err_path(err, path);
-    return tz_fail(err, TZ_E_IO, "write failed");
+    return rc;
   }
   *out = w;
   return TZ_OK;
@@ -143,10 +143,8 @@ int segy_trace_write(segy_writer *w, const segy_trace_header *h, const float *sa
   else
     for (uint32_t i = 0; i < n; i++, p += 4)
       be32_store(p, f32_bits(samples[i]));
-  if (fwrite(w->buf, 1, w->len, fileio_stream(w->out)) != w->len) {
-    tz_err_path(err, fileio_path(w->out));
-    return tz_fail_at(err, TZ_E_IO, w->traces, -1, "write failed");
-  }
+  if (fwrite(w->buf, 1, w->len, fileio_stream(w->out)) != w->len)
+    return fileio_fail(w->out, w->traces, err);   /* with the OS reason */
   w->traces++;
   return TZ_OK;
 }
@@ -159,8 +157,7 @@ int segy_writer_finish(segy_writer *w, tz_err *err)
     be64_store(b, (uint64_t)w->traces);
     if (fseeko(fp, 3512, SEEK_SET) != 0 || fwrite(b, 1, 8, fp) != 8 ||
         fseeko(fp, 0, SEEK_END) != 0) {
-      tz_err_path(err, fileio_path(w->out));
-      tz_fail(err, TZ_E_IO, "write failed");
+      fileio_fail(w->out, -1, err);
       segy_writer_abort(w);
       return err->status;
     }

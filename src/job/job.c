@@ -5,9 +5,11 @@
  * file walks the tree object by object, checks each object's keys against a
  * fixed list (an unknown key is reported with the nearest known key),
  * converts every value with a message naming its JSON path, fills the
- * defaults and frees the tree. Shot patterns are expanded with glob(3) (each
- * pattern's matches sorted, patterns kept in the order written, a file named
- * twice is kept once) relative to the job file's folder.
+ * defaults and frees the tree. Shot patterns are expanded by fileio_glob
+ * (bounded in matches, folder entries read and wildcard levels; each pattern's
+ * matches sorted, patterns kept in the order written) relative to the job
+ * file's folder; a file reached twice (two patterns, two spellings, a linked
+ * folder) is kept once, judged by device and inode.
  *
  * Not here: what the values mean to geometry, NMO or stacking (src/stack/),
  * and reading the files they name (velocity.c, geometry.c, src/io/segy_*.c).
@@ -16,7 +18,6 @@
 
 #include <cjson/cJSON.h>
 #include <errno.h>
-#include <glob.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -62,6 +63,8 @@ static int need_file(const char *path, const char *jpath, tz_err *err)
   }
   if (S_ISDIR(st.st_mode))
     return tz_fail(err, TZ_E_NOINPUT, "%s: '%s' is a folder, expected a file", jpath, path);
+  if (!S_ISREG(st.st_mode))   /* a named pipe would block the run when opened */
+    return tz_fail(err, TZ_E_NOINPUT, "%s: '%s' is not a regular file", jpath, path);
   return TZ_OK;
 }
 
@@ -107,18 +110,33 @@ static int add_shot(job_spec *j, const char *path, size_t *cap, tz_err *err)
 
 typedef struct shot_key {
   const char *path;
+  dev_t dev;
+  ino_t ino;
+  int known;   /* dev and ino are valid (stat succeeded) */
   size_t idx;
 } shot_key;
 
 static int cmp_shot_key(const void *a, const void *b)
 {
   const shot_key *x = a, *y = b;
-  int c = strcmp(x->path, y->path);
+  if (x->known != y->known)
+    return x->known - y->known;
+  int c = x->known ? (x->dev > y->dev) - (x->dev < y->dev) : strcmp(x->path, y->path);
+  if (!c && x->known)
+    c = (x->ino > y->ino) - (x->ino < y->ino);
   return c ? c : (x->idx > y->idx) - (x->idx < y->idx);
 }
 
-/* A file matched by several patterns is kept once, at its first place:
- * sort (path, index) pairs, drop all but the first of each path, compact. */
+static int same_shot(const shot_key *x, const shot_key *y)
+{
+  if (x->known != y->known)
+    return 0;
+  return x->known ? x->dev == y->dev && x->ino == y->ino : !strcmp(x->path, y->path);
+}
+
+/* A file reached by several patterns or spellings (a pattern and "./sv/a.sgy",
+ * or through a linked folder) is kept once, at its first place: sort keys of
+ * (device, inode, index), drop all but the first of each file, compact. */
 static int dedupe_shots(job_spec *j, tz_err *err)
 {
   size_t n = j->nshots;
@@ -132,12 +150,16 @@ static int dedupe_shots(job_spec *j, tz_err *err)
     return tz_fail(err, TZ_E_NOMEM, "shot list");
   }
   for (size_t i = 0; i < n; i++) {
+    struct stat st;
     k[i].path = j->shots[i];
     k[i].idx = i;
+    k[i].known = stat(j->shots[i], &st) == 0;
+    k[i].dev = k[i].known ? st.st_dev : 0;
+    k[i].ino = k[i].known ? st.st_ino : 0;
   }
   qsort(k, n, sizeof *k, cmp_shot_key);
   for (size_t i = 1; i < n; i++)
-    if (!strcmp(k[i].path, k[i - 1].path))
+    if (same_shot(&k[i], &k[i - 1]))
       drop[k[i].idx] = 1;
   size_t m = 0;
   for (size_t i = 0; i < n; i++) {
@@ -181,32 +203,38 @@ static int parse_shots(job_spec *j, const cJSON *v, const char *dir, tz_err *err
     char *full = resolve(dir, pat);
     if (!full)
       return tz_fail(err, TZ_E_NOMEM, "shot pattern");
-    glob_t g;
-    memset(&g, 0, sizeof g);
-    int grc = glob(full, 0, NULL, &g);   /* glob sorts its matches */
-    if (grc == GLOB_NOMATCH) {
-      globfree(&g);
-      rc = tz_fail(err, TZ_E_NOINPUT, "%s: pattern '%s' matches no file", jp, full);
+    char **paths = NULL;
+    size_t np = 0;
+    tz_err ge;
+    tz_err_init(&ge);
+    if ((rc = fileio_glob(full, NULL, &paths, &np, &ge))) {
+      rc = tz_fail(err, rc, "%s: %s", jp, ge.msg);
       free(full);
       return rc;
     }
-    if (grc != 0) {
-      globfree(&g);
-      rc = tz_fail(err, grc == GLOB_NOSPACE ? TZ_E_NOMEM : TZ_E_NOINPUT,
-                 "%s: cannot expand pattern '%s'", jp, full);
+    if (np == 0) {
+      fileio_glob_free(paths, np);
+      rc = tz_fail(err, TZ_E_NOINPUT, "%s: pattern '%s' matches no file", jp, full);
       free(full);
       return rc;
     }
     free(full);
     size_t added = 0;
-    for (size_t k = 0; k < g.gl_pathc && !rc; k++) {
+    for (size_t k = 0; k < np && !rc; k++) {
       struct stat st;
-      if (stat(g.gl_pathv[k], &st) == 0 && S_ISDIR(st.st_mode))
+      if (stat(paths[k], &st) == 0 && S_ISDIR(st.st_mode))
         continue;
-      rc = add_shot(j, g.gl_pathv[k], &cap, err);
+      /* a named pipe matched would block the header pass: refused now */
+      tz_err fe;
+      tz_err_init(&fe);
+      if (fileio_check_input(paths[k], &fe)) {
+        rc = tz_fail_os(err, fe.status, fe.oserr, "%s: '%s' %s", jp, paths[k], fe.msg);
+        break;
+      }
+      rc = add_shot(j, paths[k], &cap, err);
       added++;
     }
-    globfree(&g);
+    fileio_glob_free(paths, np);
     if (rc)
       return rc;
     if (!added)
@@ -1220,8 +1248,7 @@ int job_check_outputs(const job_spec *j, tz_err *err)
   if ((rc = job_check_output(j, j->section, "the section ($.output.section or --out)", 1, err)) ||
       (rc = job_check_output(j, j->report, "the report ($.output.report or --report)", 1, err)))
     return rc;
-  if (j->section && j->report &&
-      (!strcmp(j->section, j->report) || fileio_same_file(j->section, j->report))) {
+  if (j->section && j->report && fileio_same_output(j->section, j->report)) {
     tz_err_path(err, j->report);
     return tz_fail(err, TZ_E_CREATE, "the report and the section are the same file");
   }

@@ -482,9 +482,14 @@ int picture_ctx_write(picture_ctx *c, const char *path, tz_err *err)
     bad = encode(c, to_file, fp) != CAIRO_STATUS_SUCCESS;
   }
   if (bad) {
+    if (ferror(fp)) {
+      rc = fileio_fail(o, -1, err);   /* the OS reason */
+    } else {
+      tz_err_path(err, path);
+      rc = tz_fail(err, TZ_E_IO, "%s write failed", picture_format_name(c->format));
+    }
     fileio_abort(o);
-    tz_err_path(err, path);
-    return tz_fail(err, TZ_E_IO, "%s write failed", picture_format_name(c->format));
+    return rc;
   }
   return fileio_commit(o, err);
 }
@@ -531,9 +536,13 @@ int picture_write_png(const picture_image *img, const char *path, tz_err *err)
   int rc = fileio_create(&o, path, err);
   if (!rc && cairo_surface_write_to_png_stream(s, to_file, fileio_stream(o)) !=
                CAIRO_STATUS_SUCCESS) {
+    if (ferror(fileio_stream(o))) {
+      rc = fileio_fail(o, -1, err);   /* the OS reason */
+    } else {
+      tz_err_path(err, path);
+      rc = tz_fail(err, TZ_E_IO, "PNG write failed");
+    }
     fileio_abort(o);
-    tz_err_path(err, path);
-    rc = tz_fail(err, TZ_E_IO, "PNG write failed");
   } else if (!rc) {
     rc = fileio_commit(o, err);
   }

@@ -440,9 +440,9 @@ int qc_write_text(const char *path, const char *text, tz_err *err)
   size_t n = strlen(text);
   int nl = n == 0 || text[n - 1] != '\n';
   if (fwrite(text, 1, n, fileio_stream(o)) != n || (nl && fputc('\n', fileio_stream(o)) == EOF)) {
+    rc = fileio_fail(o, -1, err);   /* with the OS reason */
     fileio_abort(o);
-    tz_err_path(err, path);
-    return tz_fail(err, TZ_E_IO, "write failed");
+    return rc;
   }
   return fileio_commit(o, err);
 }

@@ -639,24 +639,6 @@ void synth_render(const synth_model *m, const synth_params *p, const synth_frame
 
 /* ---- surveys ---- */
 
-static int remove_tree(const char *dir)
-{
-  DIR *d = opendir(dir);
-  if (!d)
-    return -1;
-  struct dirent *e;
-  char path[4096];
-  while ((e = readdir(d))) {
-    if (!strcmp(e->d_name, ".") || !strcmp(e->d_name, ".."))
-      continue;
-    int n = snprintf(path, sizeof path, "%s/%s", dir, e->d_name);
-    if (n > 0 && (size_t)n < sizeof path)
-      unlink(path);
-  }
-  closedir(d);
-  return rmdir(dir);
-}
-
 /* Moves every file of tmp into dir (dir exists) and removes tmp. */
 static int move_files(const char *tmp, const char *dir, tz_err *err)
 {
@@ -683,8 +665,7 @@ static int move_files(const char *tmp, const char *dir, tz_err *err)
     }
   }
   closedir(d);
-  remove_tree(tmp);
-  return rcode;
+  return rcode ? rcode : fileio_sync_folder(dir, err);
 }
 
 static void card_text(char *buf, size_t cap, const synth_model *m, const geometry_layout *l,
@@ -726,22 +707,21 @@ int synth_survey(const synth_model *m, const geometry_layout *l, const synth_par
   size_t dl = strlen(dir);
   while (dl > 1 && dir[dl - 1] == '/')
     dl--;
-  char target[4096], tmp[4096];
+  char target[4096];
   if (dl + 40 >= sizeof target) {
     bins_line_free(line);
     return tz_fail(err, TZ_E_ARG, "output folder name too long");
   }
   memcpy(target, dir, dl);
   target[dl] = '\0';
-  const char *slash = strrchr(target, '/');
-  size_t pl = slash ? (size_t)(slash - target) + 1 : 0;
-  int tn = snprintf(tmp, sizeof tmp, "%.*s.%s.tmp-XXXXXX", (int)pl, target, target + pl);
-  if (tn < 0 || (size_t)tn >= sizeof tmp || !mkdtemp(tmp)) {
-    int e = errno;
+  /* registered: a signal removes it, and a run killed outright leaves it to the
+   * next run's sweep */
+  fileio_tmpdir *td = NULL;
+  if (fileio_tmpdir_create(&td, target, err)) {
     bins_line_free(line);
-    tz_err_path(err, target);
-    return tz_fail_os(err, TZ_E_CREATE, e, "cannot create a temporary folder beside it");
+    return err->status;
   }
+  const char *tmp = fileio_tmpdir_path(td);
   size_t nsh = geometry_layout_shots(l), nch = geometry_layout_channels(l);
   float *buf = malloc(p->samples * sizeof *buf);
   int rcode = TZ_OK;
@@ -841,24 +821,19 @@ int synth_survey(const synth_model *m, const geometry_layout *l, const synth_par
   line = NULL;
   struct stat st;
   if (stat(target, &st) != 0) {
-    /* mkdtemp makes 0700; the survey folder gets the usual umask-governed mode */
-    mode_t um = umask(0);
-    umask(um);
-    if (chmod(tmp, 0777 & ~um) != 0) {
-      /* not fatal: the folder is still usable by its owner */
-    }
-    if (rename(tmp, target) != 0) {
-      int e = errno;
-      tz_err_path(err, target);
-      rcode = tz_fail_os(err, TZ_E_CREATE, e, "cannot move the survey into place");
-      goto fail;
-    }
+    /* the folder has 0777 less the umask already (fileio_tmpdir_create) */
+    if ((rcode = fileio_tmpdir_commit(td, target, err)))
+      return rcode;   /* the handle is taken */
+    td = NULL;
   } else if (!S_ISDIR(st.st_mode)) {
     tz_err_path(err, target);
     rcode = tz_fail(err, TZ_E_CREATE, "exists and is not a folder");
     goto fail;
-  } else if ((rcode = move_files(tmp, target, err))) {
-    return rcode;
+  } else {
+    rcode = move_files(tmp, target, err);
+    fileio_tmpdir_remove(td);
+    if (rcode)
+      return rcode;
   }
   if (sum)
     *sum = s;
@@ -866,7 +841,7 @@ int synth_survey(const synth_model *m, const geometry_layout *l, const synth_par
 fail:
   free(buf);
   bins_line_free(line);
-  remove_tree(tmp);
+  fileio_tmpdir_remove(td);
   return rcode;
 }
 

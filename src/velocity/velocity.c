@@ -13,6 +13,7 @@
  */
 #include "tzero/velocity.h"
 
+#include <errno.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -398,7 +399,7 @@ int velocity_table_write_stream(const velocity_table *t, FILE *fp, const char *n
     }
   if (ferror(fp)) {
     tz_err_path(err, name);
-    return tz_fail(err, TZ_E_IO, "write failed");
+    return tz_fail_os(err, TZ_E_IO, errno ? errno : EIO, "write failed");
   }
   return TZ_OK;
 }

@@ -48,7 +48,8 @@ expect_stderr "outside the line" "range outside the line explained"
 expect_no_file "$D/x.sgy" "no output after failures"
 expect_status 66 "missing job" -- "$TZERO" cvs --job "$D/none.json" --cmps 20 --velocities 2000 \
   --out "$D/x.sgy"
-expect_status 73 "output folder missing" -- "$TZERO" cvs --job "$J" --cmps 20 --velocities 2000 \
-  --out "$D/no/dir/x.sgy"
+expect_status 73 "output below a file, not a folder" -- "$TZERO" cvs --job "$J" --cmps 20 \
+  --velocities 2000 --out "$J/x.sgy"
+expect_stderr "is not a folder" "the file in the way is named"
 expect_status 0 "cvs --help" -- "$TZERO" cvs --help
 expect_stdout "qualified" "--help carries the caution (project rule)"

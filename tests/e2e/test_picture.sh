@@ -66,9 +66,11 @@ expect_status 64 "width below the minimum" -- "$TZERO" picture "$T/s.sgy" --widt
 expect_stderr "width 50 px out of range" "minimum size is named"
 expect_no_file "$T/x.png" "no PNG after a bad size"
 
-expect_status 73 "unwritable output" -- "$TZERO" picture "$T/s.sgy" --out "$T/no/such/dir/x.png"
-expect_stderr "cannot create output" "unwritable output is explained"
-expect_no_file "$T/no/such/dir/x.png" "no PNG in a missing folder"
+expect_status 73 "output below a file, not a folder" -- "$TZERO" picture "$T/s.sgy" --out "$T/s.sgy/x.png"
+expect_stderr "cannot create output: .*s\.sgy is not a folder" "uncreatable output is explained"
+# missing folders of an output are created, as mkdir -p makes them (common practice)
+expect_status 0 "picture in a missing folder" -- "$TZERO" picture "$T/s.sgy" --out "$T/no/such/dir/x.png"
+[ -s "$T/no/such/dir/x.png" ] && ok "the folders were created" || notok "no PNG in the new folder"
 
 expect_status 66 "missing QC report" -- "$TZERO" picture --fold "$T/none.json" --out "$T/f.png"
 printf '{"format": "tzero-qc/1", "fold": {"nominal": 3}, "cmps": [{"cmp": 1, "fold": 2}]}' >"$T/qc.json"

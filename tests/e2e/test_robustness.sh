@@ -33,10 +33,11 @@ expect_stderr "sv: is a folder" "message names the folder"
 expect_status 66 "job file that is a folder" -- "$TZERO" stack --job sv --out x.sgy
 expect_status 66 "geometry table that is a folder" -- "$TZERO" geometry --table sv sv/shot_000001.sgy
 expect_status 66 "layout that is a folder" -- "$TZERO" geometry --layout sv sv/shot_000001.sgy
-# an endless input (a device) was read without limit into memory
-expect_status 65 "table from an endless device is refused at the size cap" -- \
+# an endless input (a device) was read without limit into memory; it is now
+# refused before any read as not a regular file (66)
+expect_status 66 "table from an endless device is refused" -- \
   "$TZERO" velocity check /dev/zero
-expect_stderr "/dev/zero: file larger than" "message names the device and the cap"
+expect_stderr "/dev/zero: not a regular file" "message names the device"
 no_leftovers "folders and devices as inputs"
 
 # --- a successful velocity load left its path in the error record, so a later
@@ -293,16 +294,40 @@ expect_status 73 "output through a link to nowhere" -- "$TZERO" velocity interva
 rm -f target.csv link.csv pipe dangling.csv
 no_leftovers "links, pipes"
 
-# --- an output in a folder that does not exist was found only when the result
-# was written, after the whole data pass (stack, nmo) or the whole analysis
-# (semblance); now a probe finds it first. Same status (73), no probe file left.
-expect_status 73 "stack section in a missing folder" -- "$TZERO" stack --job job.json \
-  --out nodir/x.sgy --quiet
-expect_stderr "nodir/x\.sgy: cannot create output" "message names the section"
-expect_status 73 "nmo gathers in a missing folder" -- "$TZERO" nmo --job job.json --cmps 8 \
-  --out nodir/x.sgy --quiet
-expect_status 73 "semblance table in a missing folder" -- "$TZERO" semblance --job job.json \
-  --cmps 8 --out nodir/x.csv --quiet
+# --- an output that cannot be created (its path runs through a file that is not
+# a folder) was found only when the result was written, after the whole data
+# pass (stack, nmo) or the whole analysis (semblance); now a probe finds it
+# first. Status 73, the file in the way named, no probe file left.
+expect_status 73 "stack section below a file" -- "$TZERO" stack --job job.json \
+  --out vel.csv/x.sgy --quiet
+expect_stderr "vel\.csv/x\.sgy: cannot create output: vel\.csv is not a folder" \
+  "message names the section and the file in the way"
+expect_status 73 "nmo gathers below a file" -- "$TZERO" nmo --job job.json --cmps 8 \
+  --out vel.csv/x.sgy --quiet
+expect_status 73 "semblance table below a file" -- "$TZERO" semblance --job job.json \
+  --cmps 8 --out vel.csv/deeper/x.csv --quiet
+no_leftovers "outputs below a file"
+
+# --- an output in a folder that does not exist was refused (73) after the
+# run; missing folders of requested outputs are now created with the mode
+# mkdir -p gives them (0777 less the umask; common practice).
+(umask 022 && "$TZERO" stack --job job.json --out made/a/x.sgy --report made/b/qc.json --quiet)
+[ -s made/a/x.sgy ] && [ -s made/b/qc.json ] && ok "stack creates the folders of its outputs" ||
+  notok "stack outputs in new folders missing"
+m=$(stat -c %a made/a 2>/dev/null)
+[ "$m" = 755 ] && ok "a created folder's mode follows the umask (755)" || notok "created folder mode $m"
+expect_status 0 "nmo gathers in a new folder" -- "$TZERO" nmo --job job.json --cmps 8 \
+  --out made/c/g.sgy --quiet
+expect_status 0 "semblance table in a new folder" -- "$TZERO" semblance --job job.json \
+  --cmps 8 --out made/d/v.csv --quiet
+expect_status 0 "cvs panels in a new folder" -- "$TZERO" cvs --job job.json --cmps 6-8 \
+  --velocities 1500 --out made/e/c.sgy --quiet
+expect_status 0 "picture in a new folder" -- "$TZERO" picture made/a/x.sgy --out made/f/p.png --quiet
+expect_status 0 "report fold table in a new folder" -- "$TZERO" report made/b/qc.json \
+  --fold-csv made/g/fold.csv
+[ -s made/c/g.sgy ] && [ -s made/d/v.csv ] && [ -s made/e/c.sgy ] && [ -s made/f/p.png ] &&
+  [ -s made/g/fold.csv ] && ok "every output is in its new folder" || notok "an output is missing"
+rm -rf made
 no_leftovers "outputs in missing folders"
 
 # --- a conditioning step that the sample interval rules out (checked after the

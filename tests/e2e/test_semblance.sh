@@ -74,8 +74,8 @@ expect_stderr "nojob.json" "missing job file is named"
 printf '{ "shots": ["shots/*.sgy"], "geometri": "headers" }\n' >"$D/bad.json"
 expect_status 65 "job with an unknown key" -- "$TZERO" semblance --job "$D/bad.json" --cmps 30
 expect_stderr "geometri" "unknown job key is named"
-expect_status 73 "panels in a missing folder" -- "$TZERO" semblance --job "$J" --cmps 30 $S \
-  --panels "$D/no/such/dir/p.sgy"
+expect_status 73 "panels below a file, not a folder" -- "$TZERO" semblance --job "$J" --cmps 30 $S \
+  --panels "$J/p.sgy"
 expect_status 0 "semblance --help" -- "$TZERO" semblance --help
 expect_stdout "qualified" "--help carries the caution (project rule)"
 expect_stdout "velocity-step V +trial velocity step, m/s" "--help gives units"

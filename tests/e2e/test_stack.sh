@@ -141,11 +141,11 @@ expect_no_file "$D/out/short.sgy" "no section when a trace has no geometry"
 
 # --- an uncreatable report stops the run before the section appears
 rm -f "$D/out/nr.sgy"
-expect_status 73 "report in a missing folder" -- "$TZERO" stack --job "$J" --out "$D/out/nr.sgy" \
-  --report "$D/nofolder/qc.json" --quiet
+expect_status 73 "report below a file, not a folder" -- "$TZERO" stack --job "$J" --out "$D/out/nr.sgy" \
+  --report "$J/qc.json" --quiet
 expect_no_file "$D/out/nr.sgy" "no section when the report cannot be created"
-expect_status 73 "section in a missing folder" -- "$TZERO" stack --job "$J" \
-  --out "$D/nofolder/st.sgy" --report "$D/out/nr.json" --quiet
+expect_status 73 "section below a file, not a folder" -- "$TZERO" stack --job "$J" \
+  --out "$J/st.sgy" --report "$D/out/nr.json" --quiet
 expect_no_file "$D/out/nr.json" "no report when the section cannot be created"
 
 # --- options

@@ -65,8 +65,9 @@ expect_status 66 "missing file" -- "$TZERO" velocity check "$T/nonexistent.csv"
 expect_status 64 "at without --cmp" -- "$TZERO" velocity at "$T/v.csv"
 expect_status 64 "unknown action" -- "$TZERO" velocity frobnicate "$T/v.csv"
 expect_status 64 "bad --dt-ms" -- "$TZERO" velocity at "$T/v.csv" --cmp 1 --dt-ms -4
-expect_status 73 "unwritable --out" -- "$TZERO" velocity intervals "$T/v.csv" --out "$T/no/such/dir/x.csv"
-expect_no_file "$T/no/such/dir/x.csv" "no output after a failed write"
+expect_status 73 "--out below a file, not a folder" -- "$TZERO" velocity intervals "$T/v.csv" \
+  --out "$T/v.csv/x.csv"
+expect_no_file "$T/v.csv/x.csv" "no output after a failed create"
 expect_status 65 "intervals of an invalid table" -- "$TZERO" velocity intervals "$T/duplicate.csv" --out "$T/dup_iv.csv"
 expect_no_file "$T/dup_iv.csv" "no half-written output for an invalid table"
 expect_status 0 "--help" -- "$TZERO" velocity --help

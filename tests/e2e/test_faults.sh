@@ -1,0 +1,190 @@
+# test_faults.sh -- fault injection against the guarantees of docs/robustness.md:
+# signals (SIGINT, SIGTERM, SIGHUP, SIGKILL), file-size limits, named pipes as
+# inputs, one output reached by two spellings, one shot file reached by two,
+# patterns that would walk the whole file system, stale temporaries.
+# Exit statuses: BSD sysexits(3) (65 data, 66 no input, 73 cannot create,
+# 74 I/O); 128 + N for a run ended by signal N is the shell's convention
+# (POSIX.1-2017, Shell Command Language 2.8.2). Each case failed before the
+# behaviour it checks was built; the comment says how.
+. "$TOP/tests/e2e/lib.sh"
+cd "$T" || exit 1
+cat >model.json <<'JSON'
+{"layers": [{"thickness_m": 50, "velocity_mps": 1500}, {"thickness_m": 80, "velocity_mps": 1900}, {"velocity_mps": 2200}]}
+JSON
+cat >layout.json <<'JSON'
+{"receiver_interval_m": 5, "source_interval_m": 10, "shot_count": 4, "channels": 8}
+JSON
+"$TZERO" synth --model model.json --layout layout.json --out sv --record-ms 200 \
+  --interval-ms 2 --rms-table vel.csv --quiet || { notok "synth survey"; exit 1; }
+cat >job.json <<'JSON'
+{"shots": ["sv/*.sgy"], "velocity": "vel.csv", "output": {"section": "out.sgy", "report": "qc.json"}}
+JSON
+# no_tmp DESC [DIR]: no temporary of ours (".NAME.tmp-XXXXXX") anywhere below DIR
+no_tmp() {
+  left=$(find "${2:-.}" -name '.*.tmp-*' | tr '\n' ' ')
+  if [ -z "$left" ]; then ok "$1: no temporary left"; else notok "$1: left $left"; fi
+}
+traces_read() { "$PYTHON" -c "import json; print(json.load(open('$1'))['traces']['read'])"; }
+
+# --- signals. A run stopped by SIGINT, SIGTERM or SIGHUP left its hidden
+# temporaries (synth: whole survey folders). Each run here is caught while its
+# temporary exists (SIGSTOP), sent the signal, resumed (SIGCONT); it must exit
+# 128 + N and leave nothing. Python starts it with the default dispositions (a
+# shell's background job would have SIGINT ignored, POSIX 2.11).
+sigrun() { # desc signal want-exit watch-glob -- cmd...
+  desc=$1 sig=$2 want=$3 watch=$4; shift 5
+  "$PYTHON" - "$desc" "$sig" "$want" "$watch" "$@" <<'PY'
+import glob, os, signal, subprocess, sys, time
+desc, sig, want, watch, cmd = sys.argv[1], sys.argv[2], int(sys.argv[3]), sys.argv[4], sys.argv[5:]
+def dflt():
+    for s in (signal.SIGINT, signal.SIGTERM, signal.SIGHUP):
+        signal.signal(s, signal.SIG_DFL)
+for attempt in range(5):
+    p = subprocess.Popen(cmd, preexec_fn=dflt, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
+    seen = False
+    deadline = time.time() + 60
+    while p.poll() is None and time.time() < deadline:
+        if glob.glob(watch, recursive=True):
+            p.send_signal(signal.SIGSTOP)
+            seen = bool(glob.glob(watch, recursive=True))
+            if seen:
+                break
+            p.send_signal(signal.SIGCONT)
+    if not seen:
+        p.wait()
+        continue   # finished before its temporary was seen: try again
+    p.send_signal(getattr(signal, sig))
+    p.send_signal(signal.SIGCONT)
+    rc = p.wait()
+    err = p.stderr.read().decode()
+    print(("ok - " if rc == want else "not ok - ") + f"{desc}: exit {rc}" +
+          ("" if rc == want else f", expected {want}; stderr {err!r}"))
+    print(("ok - " if "stopped by " + sig in err else "not ok - ") + f"{desc}: says it was stopped")
+    break
+else:
+    print(f"not ok - {desc}: the temporary {watch} was never seen")
+PY
+}
+cat >big.json <<'JSON'
+{"receiver_interval_m": 5, "source_interval_m": 10, "shot_count": 60, "channels": 48}
+JSON
+sigrun "synth stopped by SIGTERM" SIGTERM 143 '.bigsv.tmp-*' -- \
+  "$TZERO" synth --model model.json --layout big.json --out bigsv --record-ms 2000 --interval-ms 1
+no_tmp "synth stopped by SIGTERM"
+[ -e bigsv ] && notok "no survey folder after SIGTERM" || ok "no survey folder after SIGTERM"
+"$TZERO" synth --model model.json --layout big.json --out bigsv --record-ms 2000 --interval-ms 1 \
+  --rms-table bigvel.csv --quiet
+printf '{"shots": ["bigsv/*.sgy"], "velocity": "bigvel.csv", "moveout": {"interpolation": "sinc8"}, "output": {"section": "bout.sgy", "report": "bqc.json"}}' >bigjob.json
+sigrun "stack stopped by SIGINT" SIGINT 130 '.bqc.json.tmp-*' -- \
+  "$TZERO" stack --job bigjob.json --threads 1
+no_tmp "stack stopped by SIGINT"
+expect_no_file bout.sgy "no section after SIGINT"
+expect_no_file bqc.json "no report after SIGINT"
+sigrun "stack stopped by SIGHUP" SIGHUP 129 '.bqc.json.tmp-*' -- \
+  "$TZERO" stack --job bigjob.json --threads 2
+no_tmp "stack stopped by SIGHUP"
+"$PYTHON" - <<'PY'
+import math, struct, wave
+for k in range(6):
+    with wave.open(f"rec_{k + 1}.wav", "wb") as w:
+        w.setnchannels(8); w.setsampwidth(2); w.setframerate(8000)
+        fr = bytearray()
+        for i in range(40000):
+            fr += struct.pack("<h", int(8000 * math.sin(2 * math.pi * 30 * i / 8000))) * 8
+        w.writeframes(bytes(fr))
+PY
+mkdir field && mv rec_*.wav field/
+sigrun "audio stopped by SIGTERM" SIGTERM 143 'segy/.tzero-audio.tmp-*' -- \
+  "$TZERO" audio field --out segy --threads 1
+no_tmp "audio stopped by SIGTERM"
+ls segy/*.sgy >/dev/null 2>&1 && notok "no converted file after SIGTERM" ||
+  ok "no converted file after SIGTERM"
+rm -rf segy
+
+# --- SIGKILL cannot be caught: its temporary stays, unlocked, and the next run
+# writing the same output removes it (the sweep); a live run's is never taken.
+"$PYTHON" - <<'PY'
+import glob, signal, subprocess, time
+p = subprocess.Popen(["sh", "-c", 'exec "$TZERO" stack --job bigjob.json --threads 1 --quiet'])
+deadline = time.time() + 60
+while p.poll() is None and time.time() < deadline and not glob.glob(".bqc.json.tmp-*"):
+    pass
+p.send_signal(signal.SIGKILL)
+p.wait()
+PY
+set -- .bqc.json.tmp-*
+[ -e "$1" ] && ok "SIGKILL leaves its temporary" || notok "SIGKILL left no temporary to sweep"
+expect_status 0 "the next run" -- "$TZERO" stack --job bigjob.json --quiet
+no_tmp "the next run swept the killed run's temporary"
+echo live >.bout.sgy.tmp-LiVe01
+flock .bout.sgy.tmp-LiVe01 sleep 30 &
+holder=$!
+sleep 0.2
+expect_status 0 "a run beside another live run's temporary" -- "$TZERO" stack --job bigjob.json --quiet
+[ -e .bout.sgy.tmp-LiVe01 ] && ok "a locked temporary is left alone" || notok "a live temporary was removed"
+kill "$holder" 2>/dev/null
+wait "$holder" 2>/dev/null
+rm -f .bout.sgy.tmp-LiVe01
+rm -rf bigsv bigvel.csv bigjob.json bout.sgy bqc.json big.json
+
+# --- a file-size limit (ulimit -f) killed the run with SIGXFSZ, temporaries
+# left; SIGXFSZ is ignored now, so the write fails with EFBIG (setrlimit(2)) and
+# the run ends with 74 and the OS reason.
+(ulimit -f 8 && "$TZERO" stack --job job.json --out lim.sgy --report lim.json --quiet) 2>"$T/err"
+rc=$?
+[ "$rc" -eq 74 ] && ok "section beyond the file-size limit (exit 74)" || notok "file-size limit: exit $rc"
+expect_stderr "lim\.sgy: .*write failed .*: File too large" "message gives the OS reason"
+expect_no_file lim.sgy "no section beyond the limit"
+expect_no_file lim.json "no report when the section failed"
+no_tmp "file-size limit"
+
+# --- a named pipe as an input blocked forever in open(2); refused at once (66)
+# everywhere an input is opened. `timeout` turns a hang into exit 124.
+mkfifo pipe.sgy pipe.csv pipe.json pipe.wav
+expect_status 66 "inspect of a named pipe" -- timeout 20 "$TZERO" inspect pipe.sgy
+expect_stderr "pipe\.sgy: not a regular file" "message names the pipe"
+expect_status 66 "velocity check of a named pipe" -- timeout 20 "$TZERO" velocity check pipe.csv
+expect_status 66 "stack --job of a named pipe" -- timeout 20 "$TZERO" stack --job pipe.json
+expect_status 66 "a velocity table that is a named pipe" -- timeout 20 "$TZERO" stack --job job.json \
+  --velocity pipe.csv --quiet
+expect_status 66 "audio of a named pipe" -- timeout 20 "$TZERO" audio pipe.wav --out a1
+mkdir pipes && mkfifo pipes/shot_9.sgy pipes/rec.wav
+cp sv/shot_000001.sgy pipes/
+printf '{"shots": ["pipes/*.sgy"], "velocity": "vel.csv", "output": {"section": "p.sgy"}}' >pjob.json
+expect_status 66 "a shot pattern matching a named pipe" -- timeout 20 "$TZERO" stack --job pjob.json --quiet
+expect_stderr "shot_9\.sgy.* not a regular file" "message names the pipe"
+expect_status 66 "audio of a folder holding a named pipe" -- timeout 20 "$TZERO" audio pipes --out a2
+expect_no_file p.sgy "no section"
+rm -rf pipes pipe.sgy pipe.csv pipe.json pipe.wav pjob.json a1 a2
+
+# --- `stack --out x.sgy --report ./x.sgy` (x.sgy new) compared only existing
+# inodes: exit 0, the report replaced the section. Paths are compared by folder
+# identity and name (73).
+expect_status 73 "report and section one new file by two spellings" -- "$TZERO" stack --job job.json \
+  --out x.sgy --report ./x.sgy --quiet
+expect_stderr "the report and the section are the same file" "message says why"
+mkdir real && ln -s real linked
+expect_status 73 "report and section one new file through a linked folder" -- "$TZERO" stack \
+  --job job.json --out real/x.sgy --report linked/sub/../x.sgy --quiet
+expect_no_file x.sgy "nothing written"
+expect_no_file real/x.sgy "nothing written through the link"
+rm -rf real linked
+
+# --- one shot file reached by two spellings (or through a linked folder) was
+# stacked twice; it is used once (device and inode).
+"$TZERO" stack --job job.json --out once.sgy --report once.json --quiet
+ln -s sv svlink
+printf '{"shots": ["sv/*.sgy", "./sv/shot_000001.sgy", "svlink/shot_00000[12].sgy"], "velocity": "vel.csv", "output": {"section": "twice.sgy", "report": "twice.json"}}' >twice.json.job
+expect_status 0 "stack with a shot file given three ways" -- "$TZERO" stack --job twice.json.job --quiet
+[ "$(traces_read twice.json)" = "$(traces_read once.json)" ] && ok "each file is read once" ||
+  notok "traces read $(traces_read twice.json), expected $(traces_read once.json)"
+cmp -s once.sgy twice.sgy && ok "the same section as with each file once" || notok "sections differ"
+rm -f svlink once.sgy once.json twice.sgy twice.json twice.json.job
+
+# --- a shot pattern like "//*/*///*/*/*" walked the whole file system (minutes,
+# 500 MB of names). Expansion is bounded in wildcard levels and entries read.
+printf '{"shots": ["//*/*///*/*/*"], "velocity": "vel.csv", "output": {"section": "g.sgy"}}' >wide.json
+expect_status 65 "a pattern with too many wildcard levels" -- timeout 60 "$TZERO" stack --job wide.json --quiet
+expect_stderr '\$\.shots\[0\]: pattern .* levels with wildcards, more than 4' "message names the key and the bound"
+rm -f wide.json
+no_tmp "all faults"
