@@ -51,8 +51,17 @@ int tz_err_path(tz_err *e, const char *path);
 const char *tz_strstatus(int status);   /* static strings, never NULL */
 int tz_exit_status(int status);         /* <sysexits.h> code for a status */
 
+/* Copies `s` into `buf` (`cap` bytes, always NUL-terminated, cut short when it
+ * does not fit) with what a terminal would act on made visible: C0 controls and
+ * DEL as \n, \r, \t, \e or \xHH, C1 controls (U+0080 to U+009F, UTF-8 C2 80 to
+ * C2 9F) as \u00HH, and bytes that are not well-formed UTF-8 as \xHH. Text from
+ * input files (names, keys, paths, headers) goes through it before printing.
+ * Returns the length the whole escaped text has (as snprintf does). */
+size_t tz_escape(const char *s, char *buf, size_t cap);
+
 /* Formats the record as one line: "PATH: line L: trace T: byte B: MSG (STATUS)",
- * with T counted from 1 as SEG-Y trace sequence numbers are.
+ * with T counted from 1 as SEG-Y trace sequence numbers are. PATH and MSG are
+ * escaped with tz_escape(), so the line is always one line.
  * Does not include strerror(oserr); the front end appends it. */
 void tz_err_format(const tz_err *e, char *buf, size_t cap);
 

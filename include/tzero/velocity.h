@@ -26,6 +26,10 @@
 #define VELOCITY_MIN_MPS 1.0
 #define VELOCITY_MAX_MPS 1.0e5
 #define VELOCITY_MAX_TIME_MS 1.0e7
+/* Control CMP numbers lie in [-VELOCITY_MAX_CMP, VELOCITY_MAX_CMP], the range a
+ * job allows for CMP numbers, so that differences of CMP numbers in the
+ * interpolation between control CMPs cannot overflow. */
+#define VELOCITY_MAX_CMP 1000000000
 
 typedef struct velocity_table velocity_table;
 

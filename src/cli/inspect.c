@@ -357,7 +357,11 @@ static void print_text(const char *path, const segy_info *in, const segy_stats *
     int e = 80;
     while (e > 0 && in->text[80 * l + e - 1] == ' ')
       e--;
-    printf("  %.*s\n", e, in->text + 80 * l);
+    char raw[81], safe[81 * 6];   /* a card from the file, control characters escaped */
+    memcpy(raw, in->text + 80 * l, (size_t)e);
+    raw[e] = '\0';
+    tz_escape(raw, safe, sizeof safe);
+    printf("  %s\n", safe);
   }
   printf("\nbinary header:\n  %-11s %20s  %s\n", "bytes", "value", "meaning");
   for (size_t i = 0; i < NBIN; i++) {

@@ -580,6 +580,13 @@ static const char *strv(const cJSON *o, const char *path, const char *dflt)
   return cJSON_IsString(v) ? v->valuestring : dflt;
 }
 
+/* A string of the report made safe to print (control characters escaped) in buf. */
+static const char *sv(const cJSON *o, const char *path, const char *dflt, char *buf, size_t cap)
+{
+  tz_escape(strv(o, path, dflt), buf, cap);
+  return buf;
+}
+
 /* A growable text buffer. */
 /* Text is built in a tz_buf (util/strbuf.h): one check of b.bad at the end. */
 static int finish(tz_buf *b, char **text, tz_err *err)
@@ -630,6 +637,8 @@ int qc_report_brief(const qc_report *r, int exit_status, int json, char **text, 
     return TZ_OK;
   }
   tz_buf b = { 0 };
+  char e1[4200];   /* the line name, control characters escaped */
+  line = sv(R, "line", "", e1, sizeof e1);
   tz_buf_put(&b, "%s  exit %d  CMPs %.0f-%.0f  fold %.0f/%.2f/%.0f (nominal %.1f)  muted %.2f %%  "
       "skipped %.0f of %.0f  warnings %d\n", line[0] ? line : "(unnamed)", exit_status,
       numv(R, "section.cmp_first"), numv(R, "section.cmp_last"), numv(R, "fold.min"),
@@ -642,7 +651,8 @@ int qc_report_summary(const qc_report *r, char **text, tz_err *err)
 {
   const cJSON *R = r->root;
   tz_buf b = { 0 };
-  const char *line = strv(R, "line", "");
+  char e1[4200];   /* escaped strings of the report: a name, path or message each */
+  const char *line = sv(R, "line", "", e1, sizeof e1);
   tz_buf_put(&b, "line        %s\n", line[0] ? line : "(unnamed)");
   const cJSON *in = at(R, "inputs");
   double bytes = 0, traces = 0;
@@ -660,14 +670,15 @@ int qc_report_summary(const qc_report *r, char **text, tz_err *err)
     tz_buf_put(&b, "bad files   %d skipped:\n", nbad);
     for (const cJSON *c = in ? in->child : NULL; c; c = c->next)
       if (cJSON_IsTrue(at(c, "bad")))
-        tz_buf_put(&b, "              %s\n", strv(c, "error", strv(c, "path", "?")));
+        tz_buf_put(&b, "              %s\n", sv(c, "error", strv(c, "path", "?"), e1, sizeof e1));
   }
   tz_buf_put(&b, "traces      %.0f read, %.0f stacked", numv(R, "traces.read"), numv(R, "traces.stacked"));
   const cJSON *sk = at(R, "traces.skipped");
   int any = 0;
   for (const cJSON *c = sk ? sk->child : NULL; c; c = c->next)
     if (cJSON_IsNumber(c) && c->valuedouble > 0) {
-      tz_buf_put(&b, "%s %s %.0f", any ? "," : "; skipped:", c->string, c->valuedouble);
+      tz_escape(c->string, e1, sizeof e1);
+      tz_buf_put(&b, "%s %s %.0f", any ? "," : "; skipped:", e1, c->valuedouble);
       any = 1;
     }
   tz_buf_put(&b, "%s\n", any ? "" : "; none skipped");
@@ -692,13 +703,13 @@ int qc_report_summary(const qc_report *r, char **text, tz_err *err)
         numv(R, "statics.applied.max_ms"), numv(R, "statics.applied.rms_ms"),
         strv(R, "statics.time_reference", "flat datum"));
   tz_buf_put(&b, "section     %s: CMPs %.0f-%.0f (%.0f CMPs), %.0f samples at %.0f us from %.1f ms\n",
-      strv(R, "section.path", "(not written)"), numv(R, "section.cmp_first"),
+      sv(R, "section.path", "(not written)", e1, sizeof e1), numv(R, "section.cmp_first"),
       numv(R, "section.cmp_last"), numv(R, "section.cmps"), numv(R, "section.samples"),
       numv(R, "section.interval_us"), numv(R, "section.start_time_ms"));
   tz_buf_put(&b, "line geom   origin (%.2f, %.2f) m, azimuth %.3f deg, bin %.3f m, first CMP %.0f (%s",
       numv(R, "geometry.line.origin_x_m"), numv(R, "geometry.line.origin_y_m"),
       numv(R, "geometry.line.azimuth_deg"), numv(R, "geometry.line.bin_size_m"),
-      numv(R, "geometry.line.first_cmp"), strv(R, "geometry.line.origin", "?"));
+      numv(R, "geometry.line.first_cmp"), sv(R, "geometry.line.origin", "?", e1, sizeof e1));
   if (isfinite(numv(R, "geometry.line.fit_rms_off_line_m")))
     tz_buf_put(&b, ", RMS off line %.2f m", numv(R, "geometry.line.fit_rms_off_line_m"));
   tz_buf_put(&b, ")\n");
@@ -720,11 +731,12 @@ int qc_report_summary(const qc_report *r, char **text, tz_err *err)
   }
   const cJSON *w = at(R, "velocity.warnings");
   int nw = cJSON_GetArraySize(w);
-  tz_buf_put(&b, "velocity    %s: %.0f control CMPs, %d warning%s\n", strv(R, "velocity.file", "(none)"),
+  tz_buf_put(&b, "velocity    %s: %.0f control CMPs, %d warning%s\n",
+      sv(R, "velocity.file", "(none)", e1, sizeof e1),
       numv(R, "velocity.control_cmps"), nw, nw == 1 ? "" : "s");
   int shown = 0;
   for (const cJSON *c = w ? w->child : NULL; c && shown < 10; c = c->next, shown++)
-    tz_buf_put(&b, "              %s\n", strv(c, "message", "?"));
+    tz_buf_put(&b, "              %s\n", sv(c, "message", "?", e1, sizeof e1));
   if (nw > shown)
     tz_buf_put(&b, "              ... %d more in the report\n", nw - shown);
   tz_buf_put(&b, "timing      header pass %.2f s, data pass %.2f s, write %.2f s, total %.2f s\n",

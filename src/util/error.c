@@ -108,6 +108,67 @@ int tz_exit_status(int status)
   }
 }
 
+/* Length of the well-formed UTF-8 sequence at p (RFC 3629 section 4), 0 if none. */
+static size_t utf8_len(const unsigned char *p)
+{
+  if (p[0] < 0x80)
+    return 1;
+  size_t n = p[0] >= 0xC2 && p[0] <= 0xDF ? 2 : p[0] >= 0xE0 && p[0] <= 0xEF ? 3
+             : p[0] >= 0xF0 && p[0] <= 0xF4 ? 4 : 0;
+  if (!n)
+    return 0;
+  for (size_t i = 1; i < n; i++)
+    if ((p[i] & 0xC0) != 0x80)
+      return 0;
+  /* overlong three- and four-byte forms, surrogates, beyond U+10FFFF */
+  if ((p[0] == 0xE0 && p[1] < 0xA0) || (p[0] == 0xED && p[1] > 0x9F) ||
+      (p[0] == 0xF0 && p[1] < 0x90) || (p[0] == 0xF4 && p[1] > 0x8F))
+    return 0;
+  return n;
+}
+
+size_t tz_escape(const char *s, char *buf, size_t cap)
+{
+  size_t n = 0;
+  const unsigned char *p = (const unsigned char *)(s ? s : "");
+  while (*p) {
+    char tmp[8];
+    size_t k;
+    const char *piece = tmp;
+    size_t u = utf8_len(p);
+    if (*p < 0x20 || *p == 0x7F) {
+      switch (*p) {
+      case '\n': piece = "\\n"; break;
+      case '\r': piece = "\\r"; break;
+      case '\t': piece = "\\t"; break;
+      case 0x1B: piece = "\\e"; break;
+      default: snprintf(tmp, sizeof tmp, "\\x%02X", *p);
+      }
+      k = strlen(piece);
+      u = 1;
+    } else if (u == 2 && p[0] == 0xC2 && p[1] <= 0x9F) {
+      snprintf(tmp, sizeof tmp, "\\u%04X", p[1]);
+      k = strlen(tmp);
+    } else if (!u) {
+      snprintf(tmp, sizeof tmp, "\\x%02X", *p);
+      k = strlen(tmp);
+      u = 1;
+    } else {
+      piece = (const char *)p;
+      k = u;
+    }
+    if (cap && n + k < cap)
+      memcpy(buf + n, piece, k);
+    else if (cap && n < cap)
+      cap = n + 1;   /* stop at a whole piece */
+    n += k;
+    p += u;
+  }
+  if (cap)
+    buf[n < cap ? n : cap - 1] = '\0';
+  return n;
+}
+
 void tz_err_format(const tz_err *e, char *buf, size_t cap)
 {
   size_t n = 0;
@@ -116,10 +177,13 @@ void tz_err_format(const tz_err *e, char *buf, size_t cap)
   buf[0] = '\0';
 #define PUT(...) do { int k_ = snprintf(buf + n, cap - n, __VA_ARGS__); \
     if (k_ > 0) n = (size_t)k_ >= cap - n ? cap - 1 : n + (size_t)k_; } while (0)
-  if (e->path[0]) PUT("%s: ", e->path);
+  char safe[4 * sizeof e->msg];   /* escaping at most quadruples a byte */
+  tz_escape(e->path, safe, sizeof safe);
+  if (e->path[0]) PUT("%s: ", safe);
   if (e->line >= 0) PUT("line %lld: ", (long long)e->line);
   if (e->trace >= 0) PUT("trace %lld: ", (long long)e->trace + 1); /* 1-based, as SEG-Y counts */
   if (e->byte >= 0) PUT("byte %lld: ", (long long)e->byte);
-  PUT("%s (%s)", e->msg, tz_strstatus(e->status));
+  tz_escape(e->msg, safe, sizeof safe);
+  PUT("%s (%s)", safe, tz_strstatus(e->status));
 #undef PUT
 }

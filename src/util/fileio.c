@@ -1023,7 +1023,7 @@ static int glob_walk(glob_state *g, const char *base, const char *rest)
   }
   closedir(d);
   free(comp);
-  if (!rc)
+  if (!rc && nn > 1)
     qsort(names, nn, sizeof *names, cmp_str);
   for (size_t i = 0; !rc && i < nn; i++) {
     size_t k = bl + strlen(names[i]) + 2;

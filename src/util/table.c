@@ -50,6 +50,11 @@ static int make(table_reader **out, const char *name, char *text, size_t len, tz
     table_close(t);
     return rc;
   }
+  /* A UTF-8 byte-order mark (EF BB BF, Unicode 15.0 section 23.8), as spreadsheet
+   * programs write, is not part of the first column's name. */
+  if (len >= 3 && (unsigned char)text[0] == 0xEF && (unsigned char)text[1] == 0xBB &&
+      (unsigned char)text[2] == 0xBF)
+    t->pos = 3;
   *out = t;
   return TZ_OK;
 }

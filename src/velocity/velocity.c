@@ -187,6 +187,9 @@ static int add_knot(velocity_table *t, int64_t cmp, double time_s, double v, dou
 {
   int st = line > 0 ? TZ_E_FORMAT : TZ_E_ARG;
   int64_t ln = line > 0 ? line : -1;
+  if (cmp < -VELOCITY_MAX_CMP || cmp > VELOCITY_MAX_CMP)
+    return tz_fail_line(err, st, ln, "cmp %lld is outside -%d to %d, the CMP numbers a job "
+                        "allows", (long long)cmp, VELOCITY_MAX_CMP, VELOCITY_MAX_CMP);
   if (!isfinite(time_s) || time_s < 0 || time_s * 1e3 > VELOCITY_MAX_TIME_MS)
     return tz_fail_line(err, st, ln, "cmp %lld: time %.10g ms must be >= 0 (and at most %g)",
                         (long long)cmp, time_s * 1e3, VELOCITY_MAX_TIME_MS);

@@ -187,4 +187,41 @@ printf '{"shots": ["//*/*///*/*/*"], "velocity": "vel.csv", "output": {"section"
 expect_status 65 "a pattern with too many wildcard levels" -- timeout 60 "$TZERO" stack --job wide.json --quiet
 expect_stderr '\$\.shots\[0\]: pattern .* levels with wildcards, more than 4' "message names the key and the bound"
 rm -f wide.json
+# --- hostile text in inputs. A job name with a newline or an escape sequence
+# was printed raw to the terminal (ECMA-48 control functions); every string
+# from an input file is printed with its control characters escaped.
+printf '{"name": "line 4\\n\\u001b[2Jcleared", "shots": ["sv/*.sgy"], "velocity": "vel.csv", "output": {"section": "n.sgy", "report": "n.json"}}' >named.json
+expect_status 0 "stack with control characters in the job name" -- "$TZERO" stack --job named.json
+if LC_ALL=C grep -q "$(printf '\033')" "$T/out"; then notok "an escape character reached the terminal"
+else ok "no escape character reaches the terminal"; fi
+expect_stdout '^line +line 4\\n\\e\[2Jcleared$' "the name is shown escaped on one line"
+printf '{"shots": ["sv/*.sgy"], "velocity": "vel.csv", "bins": {"size_\\u001b[31m": 1}}' >badkey.json
+expect_status 65 "an unknown key with an escape sequence" -- "$TZERO" stack --job badkey.json
+if LC_ALL=C grep -q "$(printf '\033')" "$T/err"; then notok "an escape character reached stderr"
+else ok "the unknown key is printed escaped"; fi
+rm -f named.json badkey.json n.sgy n.json
+
+# --- a CSV table saved by a spreadsheet starts with a UTF-8 byte-order mark:
+# "unknown column 'cmp' ... expected 'cmp'" (the mark was part of the name).
+printf '\357\273\277cmp,time_ms,velocity_mps\r\n1,0,1500\r\n1,400,2000\r\n' >bom.csv
+expect_status 0 "velocity table with a byte-order mark" -- "$TZERO" velocity check bom.csv
+rm -f bom.csv
+
+# --- control CMPs at the ends of the 64-bit range overflowed the interpolation:
+# `velocity at --cmp -1` printed 1.38e22 m/s, and stack muted everything, exit 0.
+printf 'cmp,time_ms,velocity_mps\n-9223372036854775808,0,1500\n9223372036854775807,0,2500\n' >huge.csv
+expect_status 65 "control CMPs beyond +-1e9" -- "$TZERO" velocity at huge.csv --cmp -1
+expect_stderr "huge\.csv: line 2: cmp -9223372036854775808 is outside -1000000000 to 1000000000" \
+  "message names the file, line and limit"
+expect_status 65 "stack with such a table" -- "$TZERO" stack --job job.json --velocity huge.csv --quiet
+expect_no_file out.sgy "no section"
+rm -f huge.csv
+
+# --- out of memory exits 71 (sysexits(3) EX_OSERR), and signals 128 + N; no
+# man page said so.
+for m in "$TOP"/docs/tzero.1 "$TOP"/docs/tzero-*.1; do
+  if grep -q '71' "$m" && grep -q '130' "$m" && grep -q '143' "$m"; then :; else
+    notok "$(basename "$m") documents 71, 130 and 143"; continue; fi
+  ok "$(basename "$m") documents 71, 130 and 143"
+done
 no_tmp "all faults"

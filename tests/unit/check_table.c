@@ -34,6 +34,32 @@ START_TEST(test_rows_and_lines)
 }
 END_TEST
 
+START_TEST(test_byte_order_mark_is_skipped)
+{
+  /* a spreadsheet's UTF-8 export starts with EF BB BF (Unicode 15.0 section
+   * 23.8); it made the first column "\xEF\xBB\xBFcmp" ("unknown column 'cmp'") */
+  const char *txt = "\xEF\xBB\xBF" "cmp,time_ms,velocity_mps\n120,0,1500\n";
+  table_reader *t;
+  tz_err e;
+  tz_err_init(&e);
+  ck_assert_int_eq(table_open_mem(&t, "v.csv", txt, strlen(txt), &e), TZ_OK);
+  size_t n;
+  ck_assert_int_eq(table_next(t, &n, &e), TZ_OK);
+  ck_assert_uint_eq(n, 3);
+  ck_assert_str_eq(table_field(t, 0), "cmp");
+  ck_assert_int_eq(table_line(t), 1);
+  table_close(t);
+  /* a mark anywhere else is data */
+  const char *mid = "cmp\n\xEF\xBB\xBF" "120\n";
+  tz_err_init(&e);
+  ck_assert_int_eq(table_open_mem(&t, "v.csv", mid, strlen(mid), &e), TZ_OK);
+  ck_assert_int_eq(table_next(t, &n, &e), TZ_OK);
+  ck_assert_int_eq(table_next(t, &n, &e), TZ_OK);
+  ck_assert_str_eq(table_field(t, 0), "\xEF\xBB\xBF" "120");
+  table_close(t);
+}
+END_TEST
+
 START_TEST(test_bad_number_names_line)
 {
   const char *txt = "a,b\n1,x2\n";
@@ -92,6 +118,7 @@ static Suite *table_suite(void)
   Suite *s = suite_create("table");
   TCase *tc = tcase_create("core");
   tcase_add_test(tc, test_rows_and_lines);
+  tcase_add_test(tc, test_byte_order_mark_is_skipped);
   tcase_add_test(tc, test_bad_number_names_line);
   tcase_add_test(tc, test_parse);
   tcase_add_test(tc, test_missing_file);

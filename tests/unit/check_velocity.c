@@ -164,6 +164,31 @@ START_TEST(test_errors_name_line)
 }
 END_TEST
 
+START_TEST(test_control_cmps_beyond_the_job_range_are_refused)
+{
+  /* INT64_MIN and INT64_MAX as control CMPs made the interpolation weight
+   * overflow (1.38e22 m/s at CMP -1); CMP numbers are limited as the job's are. */
+  parse_bad("cmp,time_ms,velocity_mps\n-9223372036854775808,0,1500\n"
+            "9223372036854775807,0,2500\n", 2, "outside -1000000000 to 1000000000");
+  parse_bad("cmp,time_ms,velocity_mps\n1,0,1500\n1000000001,0,2500\n", 3, "outside");
+  /* the extremes themselves are fine, and CMP 0 lies on the straight line
+   * between them (linear in CMP number at equal time: 2000 m/s) */
+  const char *txt = "cmp,time_ms,velocity_mps\n-1000000000,0,1500\n1000000000,0,2500\n";
+  velocity_table *t;
+  tz_err e;
+  tz_err_init(&e);
+  ck_assert_int_eq(velocity_table_parse(&t, "v.csv", txt, strlen(txt), &e), TZ_OK);
+  float v[4];
+  velocity_sample(t, 0, 0.0, 0.001, 4, v, NULL);
+  ck_assert_float_eq_tol(v[0], 2000.0f, 1e-3f);
+  velocity_sample(t, INT64_MIN, 0.0, 0.001, 4, v, NULL);   /* held constant outside */
+  ck_assert_float_eq_tol(v[3], 1500.0f, 1e-3f);
+  ck_assert_double_eq_tol(velocity_at(t, INT64_MAX, 0.0, NULL), 2500.0, 1e-9);
+  ck_assert_double_eq_tol(velocity_at(t, -1, 0.0, NULL), 2000.0 - 0.0000005, 1e-6);
+  velocity_table_free(t);
+}
+END_TEST
+
 START_TEST(test_builder_and_write_roundtrip)
 {
   velocity_table *t = NULL;
@@ -347,6 +372,7 @@ static Suite *velocity_suite(void)
   tcase_add_test(tc, test_control_cmps_unsorted_and_eta);
   tcase_add_test(tc, test_constant_table);
   tcase_add_test(tc, test_errors_name_line);
+  tcase_add_test(tc, test_control_cmps_beyond_the_job_range_are_refused);
   tcase_add_test(tc, test_builder_and_write_roundtrip);
   tcase_add_test(tc, test_dix_worked_example);
   tcase_add_test(tc, test_dix_imaginary_flagged);
