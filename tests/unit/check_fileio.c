@@ -185,7 +185,7 @@ START_TEST(test_stale_temporaries_are_swept_but_locked_ones_kept)
   put(at(".out.sgy.tmp-AbC123"), "stale");
   put(at(".out.sgy.tmp-LIVE00"), "live");
   put(at(".other.sgy.tmp-AbC123"), "not this output's");
-  put(at(".out.sgy.tmp-toolong7"), "not our naming");
+  put(at(".out.sgy.tmp-tooooolong9"), "not our naming");
   ck_assert_int_eq(mkdir(at(".out.sgy.tmp-Dir456"), 0777), 0);
   put(at(".out.sgy.tmp-Dir456/shot.sgy"), "stale folder content");
   int live = open(at(".out.sgy.tmp-LIVE00"), O_RDONLY);
@@ -199,14 +199,14 @@ START_TEST(test_stale_temporaries_are_swept_but_locked_ones_kept)
   ck_assert_int_eq(access(at(".out.sgy.tmp-Dir456"), F_OK), -1);
   ck_assert_int_eq(access(at(".out.sgy.tmp-LIVE00"), F_OK), 0);
   ck_assert_int_eq(access(at(".other.sgy.tmp-AbC123"), F_OK), 0);
-  ck_assert_int_eq(access(at(".out.sgy.tmp-toolong7"), F_OK), 0);
+  ck_assert_int_eq(access(at(".out.sgy.tmp-tooooolong9"), F_OK), 0);
   /* and this run's own temporary is locked against another run's sweep */
   DIR *d = opendir(dir);
   struct dirent *de;
   int mine = 0;
   while ((de = readdir(d))) {
     if (strncmp(de->d_name, ".out.sgy.tmp-", 13) || !strcmp(de->d_name, ".out.sgy.tmp-LIVE00") ||
-        !strcmp(de->d_name, ".out.sgy.tmp-toolong7"))
+        !strcmp(de->d_name, ".out.sgy.tmp-tooooolong9"))
       continue;
     int fd = open(at(de->d_name), O_RDONLY);
     ck_assert_int_ge(fd, 0);
