@@ -79,6 +79,13 @@ UNIT_BIN = $(UNIT_SRC:tests/unit/%.c=$(B)/tests/%)
 # Small drivers the cross-checks run (tests/unit/*_driver.c; not Check suites).
 DRIVER_BIN = $(patsubst tests/unit/%.c,$(B)/tests/%,$(wildcard tests/unit/*_driver.c))
 BENCH_BIN = $(BENCH_SRC:bench/%.c=$(B)/bench/%)
+# Fuzz targets, one per parser (tests/fuzz/fuzz_NAME.c). `make fuzz` links them
+# with clang's libFuzzer (scripts/fuzz.sh); `make check` links each with the
+# plain driver tests/fuzz/replay.c and replays the saved crashing inputs
+# (tests/data/fuzz-regress/NAME/) and the seeds (tests/data/fuzz-seeds/NAME/).
+FUZZ_NAMES = $(patsubst tests/fuzz/fuzz_%.c,%,$(wildcard tests/fuzz/fuzz_*.c))
+REPLAY_BIN = $(FUZZ_NAMES:%=$(B)/fuzz/replay_%)
+FUZZ_SECONDS ?= 60
 
 # Every exported symbol of the library carries one of the module prefixes.
 # (one per line, sorted: add yours in its place)
@@ -122,7 +129,7 @@ space := $(empty) $(empty)
 PREFIXES = $(subst $(space),|,$(strip $(PREFIX_LIST)))
 
 .PHONY: all check check-run unit e2e xcheck check-symbols sanitize demo demo-run bench \
-        bench-run install uninstall clean deps
+        bench-run install uninstall clean deps fuzz
 all: $(B)/libtzero.a $(B)/tzero
 
 deps:
@@ -149,6 +156,10 @@ $(B)/tests/%: tests/unit/%.c $(B)/libtzero.a tests/unit/unit.h
 	$(CC) $(ALL_CPPFLAGS) $(CHECK_CFLAGS) $(ALL_CFLAGS) -MMD -MP -o $@ $< $(B)/libtzero.a \
 	  $(CHECK_LIBS) $(LDLIBS_ALL)
 
+$(B)/fuzz/replay_%: tests/fuzz/fuzz_%.c tests/fuzz/replay.c tests/fuzz/fuzz_util.h $(B)/libtzero.a
+	@mkdir -p $(dir $@)
+	$(CC) $(ALL_CPPFLAGS) $(ALL_CFLAGS) -o $@ $< tests/fuzz/replay.c $(B)/libtzero.a $(LDLIBS_ALL)
+
 $(B)/bench/%: bench/%.c $(B)/libtzero.a
 	@mkdir -p $(dir $@)
 	$(CC) $(ALL_CPPFLAGS) $(ALL_CFLAGS) -MMD -MP -o $@ $< $(B)/libtzero.a $(LDLIBS_ALL)
@@ -158,7 +169,7 @@ $(B)/bench/%: bench/%.c $(B)/libtzero.a
 check: $(if $(MISSING_BUILD)$(MISSING_TEST),deps)
 	@$(MAKE) --no-print-directory check-run
 
-check-run: all $(UNIT_BIN) $(DRIVER_BIN) check-symbols
+check-run: all $(UNIT_BIN) $(DRIVER_BIN) $(REPLAY_BIN) check-symbols
 	@B=$(B) PYTHON=$(PYTHON) tests/run.sh
 
 check-symbols: $(B)/libtzero.a
@@ -179,6 +190,13 @@ xcheck: all $(DRIVER_BIN)
 sanitize: $(if $(MISSING_BUILD)$(MISSING_TEST),deps)
 	@LSAN_OPTIONS="suppressions=$(CURDIR)/tests/lsan.supp$${LSAN_OPTIONS:+:$$LSAN_OPTIONS}" \
 	  $(MAKE) --no-print-directory B=build/san SANITIZE=address,undefined OPT="-O1 -g" check-run
+
+# Coverage-guided fuzzing (clang, libFuzzer, ASan, UBSan): each target runs
+# FUZZ_SECONDS (default 60); FUZZ_TARGETS="segy job" picks some. Not part of
+# `make check` or CI; crashing inputs land in tests/data/fuzz-regress/NAME/.
+fuzz: all
+	@FUZZ_SECONDS=$(FUZZ_SECONDS) FUZZ_TARGETS="$(or $(FUZZ_TARGETS),$(FUZZ_NAMES))" \
+	  PKG_LIBS="$(LDLIBS_ALL)" PKG_CFLAGS="$(PKG_CFLAGS)" TZERO=$(B)/tzero scripts/fuzz.sh
 
 demo: $(if $(MISSING_BUILD)$(MISSING_TEST),deps)
 	@$(MAKE) --no-print-directory demo-run

@@ -816,6 +816,27 @@ int geometry_source_trace(const geometry_source *s, const segy_trace_header *h, 
                         "coordinate units %d (angles, not lengths): project the coordinates "
                         "first or give a layout or geometry table",
                         (int)h->coord_units);
+    /* Coordinates decoded with the trace's own scalars (bytes 69-72) may be
+     * absurd (a scalar of 32767): refused here, naming the input file and
+     * trace, rather than when an output header cannot hold them. Heights get
+     * the coordinate bound too: junk in an unused elevation field is common. */
+    {
+      static const struct { const char *name; int byte; int height; } chk[] = {
+        { "source x", 73, 0 }, { "source y", 77, 0 }, { "receiver x", 81, 0 },
+        { "receiver y", 85, 0 }, { "receiver elevation", 41, 1 },
+        { "source elevation", 45, 1 }, { "source depth", 49, 1 },
+      };
+      const double v[] = { h->source_x, h->source_y, h->receiver_x, h->receiver_y,
+                           h->receiver_elev, h->source_elev, h->source_depth };
+      for (size_t i = 0; i < sizeof chk / sizeof chk[0]; i++) {
+        double lim = GEOMETRY_MAX_COORD_M;   /* fits the output's scalar -100 */
+        if (!(fabs(v[i]) <= lim))
+          return tz_fail_at(err, TZ_E_FORMAT, trace, chk[i].byte - 1,
+                            "%s %.6g m (bytes %d-%d with scalar %d) is beyond %g m",
+                            chk[i].name, v[i], chk[i].byte, chk[i].byte + 3,
+                            (int)(chk[i].height ? h->elev_scalar : h->coord_scalar), lim);
+      }
+    }
     memset(g, 0, sizeof *g);
     g->field_record = h->field_record;
     g->channel = h->channel;

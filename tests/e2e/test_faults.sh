@@ -224,4 +224,46 @@ for m in "$TOP"/docs/tzero.1 "$TOP"/docs/tzero-*.1; do
     notok "$(basename "$m") documents 71, 130 and 143"; continue; fi
   ok "$(basename "$m") documents 71, 130 and 143"
 done
+# --- an input coordinate scalar of 32767 made coordinates beyond any map
+# (3.3e7 m); the failure came late, naming the output header or the CMP span.
+# Refused when the trace is read, naming the input file, trace and bytes.
+"$PYTHON" - <<'PY'
+import shutil, struct
+b = bytearray(open('sv/shot_000002.sgy', 'rb').read())
+ns = struct.unpack('>H', b[3220:3222])[0]
+off = 3600 + 3 * (240 + 4 * ns)           # trace 4; bytes 71-72 coordinate scalar (SEG-Y rev 1)
+b[off + 70:off + 72] = struct.pack('>h', 32767)
+import os
+os.makedirs('scal', exist_ok=True)
+shutil.copy('sv/shot_000001.sgy', 'scal/shot_000001.sgy')
+open('scal/shot_000002.sgy', 'wb').write(b)
+PY
+printf '{"shots": ["scal/*.sgy"], "velocity": "vel.csv", "output": {"section": "s.sgy"}}' >scal.json
+expect_status 65 "stack of a trace with coordinate scalar 32767" -- "$TZERO" stack --job scal.json --quiet
+expect_stderr "scal/shot_000002\.sgy: trace 4: .*source x 3\.2767e\+07 m \(bytes 73-76 with scalar 32767\)" \
+  "message names the input file, trace and bytes"
+expect_status 65 "geometry --write of that trace" -- "$TZERO" geometry --write scalout scal/shot_000002.sgy --quiet
+expect_stderr "scal/shot_000002\.sgy: trace 4: " "geometry names the input file and trace"
+expect_no_file scalout "no output folder"
+rm -rf scal scal.json s.sgy
+
+# --- a key given twice in a layout, earth model or header map was accepted
+# (the layout took the last, the model the first); JSON nested 100000 deep was
+# "not valid JSON". RFC 8259 section 4: names within an object SHOULD be unique.
+printf '{"receiver_interval_m": 5, "source_interval_m": 10, "shot_count": 4, "channels": 8, "channels": 12}' >twice_layout.json
+expect_status 65 "layout with a key given twice" -- "$TZERO" synth --model model.json --layout twice_layout.json --out tw --quiet
+expect_stderr "twice_layout\.json: .*channels.*given twice" "message names the layout and the key"
+printf '{"layers": [{"thickness_m": 50, "velocity_mps": 1500, "velocity_mps": 1600}, {"velocity_mps": 2200}]}' >twice_model.json
+expect_status 65 "earth model with a key given twice" -- "$TZERO" synth --model twice_model.json --layout layout.json --out tw --quiet
+expect_stderr "twice_model\.json: .*velocity_mps.*given twice" "message names the model and the key"
+printf '{"cmp": {"byte": 21, "width": 4}, "cmp": {"byte": 25, "width": 4}}' >twice_map.json
+expect_status 65 "header map with a key given twice" -- "$TZERO" inspect --header-map twice_map.json sv/shot_000001.sgy
+expect_stderr "twice_map\.json: .*cmp.*given twice" "message names the map and the key"
+"$PYTHON" -c "print('[' * 100000 + ']' * 100000)" >deep.json
+expect_status 65 "a job nested 100000 deep" -- "$TZERO" stack --job deep.json --quiet
+expect_stderr "deep\.json: .*nested too deeply" "message says nested too deeply"
+expect_status 65 "a layout nested 100000 deep" -- "$TZERO" synth --model model.json --layout deep.json --out tw --quiet
+expect_stderr "nested too deeply" "layout: nested too deeply"
+expect_no_file tw "no survey"
+rm -f twice_layout.json twice_model.json twice_map.json deep.json
 no_tmp "all faults"
