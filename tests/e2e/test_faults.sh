@@ -221,7 +221,7 @@ rm -f huge.csv
 # man page said so.
 for m in "$TOP"/docs/tzero.1 "$TOP"/docs/tzero-*.1; do
   if grep -q '71' "$m" && grep -q '130' "$m" && grep -q '143' "$m"; then :; else
-    notok "$(basename "$m") documents 71, 130 and 143"; continue; fi
+    notok "$(basename "$m") documents 71, 130 and 143 (add the EXIT STATUS paragraph the other pages share)"; continue; fi
   ok "$(basename "$m") documents 71, 130 and 143"
 done
 # --- an input coordinate scalar of 32767 made coordinates beyond any map

@@ -318,7 +318,7 @@ m=$(stat -c %a made/a 2>/dev/null)
 [ "$m" = 755 ] && ok "a created folder's mode follows the umask (755)" || notok "created folder mode $m"
 expect_status 0 "nmo gathers in a new folder" -- "$TZERO" nmo --job job.json --cmps 8 \
   --out made/c/g.sgy --quiet
-expect_status 0 "semblance table in a new folder" -- "$TZERO" semblance --job job.json \
+expect_status 0 "semblance table in a new folder" -- "$TZERO" semblance --job job.json --min-fold 2 \
   --cmps 8 --out made/d/v.csv --quiet
 expect_status 0 "cvs panels in a new folder" -- "$TZERO" cvs --job job.json --cmps 6-8 \
   --velocities 1500 --out made/e/c.sgy --quiet
