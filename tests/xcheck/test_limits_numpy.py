@@ -26,6 +26,12 @@ Checks (each names its source):
     percentage counted here, overall and for offsets below 240 m, is the one
     max_muted_pct and max_muted_pct_by_offset measure: each holds 0.5 % above
     it and breaks 0.5 % below;
+  - edits and statics: channels 11-15 killed on every record are 5/96 of the
+    traces read (max_killed_traces_pct), keep the nominal fold 24 and break
+    min_fold_pct 99 at the CMPs those channels feed (NumPy count); elevation
+    statics of stations at 0 m to a datum at -10 m with 2000 m/s are
+    -(E - D)/v = -5 ms per station, -10 ms per trace (Sheriff & Geldart 1995,
+    elevation correction), which max_static_ms 10 holds and 9.99 breaks;
   - `stack --check` writes a complete section (read back with segyio) and
     report before it exits 1.
 """
@@ -252,6 +258,40 @@ for delta, code, what in ((0.5, 0, "holds"), (-0.5, 1, "breaks")):
           f"max_muted_pct and max_muted_pct_by_offset [0, 240) {what} {abs(delta)} % "
           f"{'above' if delta > 0 else 'below'} the NumPy count ({want_near:.3f} % near)",
           p.stdout[:400])
+
+# ---- edits and elevation statics
+KILL = range(10, 15)                        # channel indices of channels 11-15
+je = json.load(open(os.path.join(B, "line.json")))
+je.update({"edits": {"kill": [{"channels": "11-15"}]},
+           "statics": {"datum_m": -10, "replacement_velocity_mps": 2000},
+           "output": {"section": "out/edits.sgy", "report": "out/edits.json"}})
+with open(os.path.join(B, "edits.json"), "w") as f:
+    json.dump(je, f)
+p = tz.run("stack", "--job", os.path.join(B, "edits.json"), "--quiet", check=False)
+tz.ok(p.returncode == 0, "stack the clean line with kills and elevation statics", p.stderr)
+acq_e, live_e = folds(dead=KILL)
+want_kill = 100.0 * len(KILL) / CHANNELS
+low_e = ranges([k for k in range(ff[0], ff[1] + 1) if live_e.get(k, 0) * 100 < 99 * nominal])
+for lim_k, lim_s, code, what in ((5.21, 10, 0, "hold"), (5.2, 9.99, 1, "break")):
+    lm = os.path.join(B, "edit_limits.json")
+    with open(lm, "w") as f:
+        json.dump({"max_killed_traces_pct": lim_k, "max_static_ms": lim_s}, f)
+    p = tz.run("report", "--check", "--json", lm, os.path.join(B, "out", "edits.json"), check=False)
+    res = {o["name"]: o for o in json.loads(p.stdout)} if p.stdout.strip().startswith("[") else {}
+    k, st = res.get("max_killed_traces_pct", {}), res.get("max_static_ms", {})
+    tz.ok(p.returncode == code and k.get("applies") and st.get("applies") and
+          abs(k.get("value", 0) - want_kill) < 1e-9 and abs(st.get("value", 0) - 10) < 1e-6 and
+          k.get("held") == (code == 0) and st.get("held") == (code == 0),
+          f"killed {want_kill:.4f} % and statics 10 ms: max_killed_traces_pct {lim_k} and "
+          f"max_static_ms {lim_s} {what}", p.stdout[:500])
+with open(lim, "w") as f:
+    json.dump({"min_fold_pct": 99, "min_nominal_fold": 24}, f)
+p = tz.run("report", "--check", lim, os.path.join(B, "out", "edits.json"), check=False)
+m = re.search(r"^min_fold_pct .* broken  CMP (.*)$", p.stdout, re.M)
+tz.ok(p.returncode == 1 and m is not None and m.group(1) == ranges_text(low_e) and
+      re.search(r"^min_nominal_fold +limit 24 +value 24 +held", p.stdout, re.M) is not None,
+      f"killed channels keep the nominal 24 and break min_fold_pct 99 at CMP {ranges_text(low_e)}",
+      p.stdout)
 
 # ---- missing shots: low-fold runs inside the full-fold part
 C = os.path.join(root, "gap")
