@@ -112,9 +112,45 @@ echo
 echo "== The QC gate: TV-GW-01 against stricter line limits (every full-fold CMP at nominal fold)"
 echo "   the skipped shot point 133 shows as low fold; a broken limit answers with exit 1"
 "$TZ" report --check "$D/limits_gw01_strict.json" "$O/gw01_qc.json" || echo "(exit $?)"
+
+echo
+echo "== TV-RT-07 re-shot with a long source: minimum-phase wavelet, a 40 ms reverberation"
+echo "   (1/(1 + 0.5 z^P)) and dispersive ground roll (350-700 m/s, 8 Hz)"
+"$TZ" synth --model "$D/model_escarpment.json" --layout "$D/layout_rt07.json" --out "$O/rt07s" \
+  --record-ms 1200 --interval-ms 2 --peak-hz 30 --noise 0.002 --seed 8 --no-direct \
+  --wavelet minimum-phase --reverb-period-ms 40 --reverb-coefficient 0.5 \
+  --noise-train-amplitude 0.4 --noise-train-velocity 350 --noise-train-velocity-max 700 \
+  --noise-train-hz 8 --line-name TV-RT-07 | tail -n 1
+REC=7040
+SHOT="$O/rt07s/shot_00$REC.sgy"
+echo "record $REC: spectra as recorded, after deconvolution, after deconvolution and the f-k fan"
+"$TZ" spectrum --job "$D/rt07_signal_raw.job.json" --records $REC --window 150:1150 --quiet \
+  --out "$O/rt07s_spectrum_raw.csv"
+for step in decon fk; do
+  "$TZ" spectrum --job "$D/rt07_signal_$step.job.json" --records $REC --window 150:1150 \
+    --conditioned --traces-out "$O/rt07s_record_$step.sgy" --quiet --out "$O/rt07s_spectrum_$step.csv"
+done
+"$TZ" picture --spectrum "$O/rt07s_spectrum_raw.csv,$O/rt07s_spectrum_decon.csv,$O/rt07s_spectrum_fk.csv" \
+  --labels "as recorded,after deconvolution,after deconvolution and f-k" --max-hz 100 \
+  --title "TV-RT-07 record $REC: amplitude spectra (150-1150 ms)" --out "$O/rt07s_spectra.png"
+"$TZ" picture "$SHOT" --out "$O/rt07s_record_raw.png" --title "TV-RT-07 record $REC as recorded"
+"$TZ" picture "$O/rt07s_record_decon.sgy" --out "$O/rt07s_record_decon.png" \
+  --title "TV-RT-07 record $REC after statics and spiking deconvolution (120 ms, per record)"
+"$TZ" picture "$O/rt07s_record_fk.sgy" --out "$O/rt07s_record_fk.png" \
+  --title "TV-RT-07 record $REC after deconvolution and the f-k reject fan 0-800 m/s"
+"$TZ" picture --fk-record $REC "$SHOT" --spacing 10 --fan 350,700 --max-hz 60 --out "$O/rt07s_fk_raw.png" \
+  --title "TV-RT-07 record $REC: f-k spectrum as recorded (10 m: 350 m/s aliases above 17.5 Hz)"
+"$TZ" picture --fk-record $REC "$O/rt07s_record_fk.sgy" --spacing 10 --fan 350,700 --max-hz 60 \
+  --out "$O/rt07s_fk_after.png" --title "TV-RT-07 record $REC: f-k spectrum after the fan"
+for step in raw decon fk; do
+  "$TZ" stack --job "$D/rt07_signal_$step.job.json" --quiet
+  "$TZ" picture "$O/rt07s_stack_$step.sgy" --out "$O/rt07s_stack_$step.png" --time-ms 0-1000 --quiet
+done
+"$TZ" compare "$O/rt07s_stack_fk.sgy" "$O/rt07s_stack_raw.sgy" | tail -n 1
 echo
 echo "outputs in $O/: gw01_stack.sgy, gw01_qc.json, gw01_stack.png (.pdf), gw01_fold.png (.svg),"
 echo "  dx04_velocity.csv, dx04_stack.sgy, dx04_qc.json, dx04_stack.png, dx04_panels.png,"
 echo "  rt07_stack.png (with statics), rt07_stack_nostatics.png, rt07_statics.png,"
-echo "  rt07_elevation_statics.csv"
+echo "  rt07_elevation_statics.csv, rt07s_spectra.png, rt07s_record_{raw,decon,fk}.png,"
+echo "  rt07s_fk_{raw,after}.png, rt07s_stack_{raw,decon,fk}.png (deconvolution and f-k)"
 echo "A processed section is an interpretation aid: have it reviewed by a qualified geophysicist."

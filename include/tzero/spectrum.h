@@ -126,7 +126,8 @@ int spectrum_draw(const spectrum_curve *c, size_t n, const char *const *labels,
 
 /* The f-k amplitude spectrum of one record: its data traces placed at slot
  * round(offset / spacing) (spacing <= 0: the median step between the sorted signed
- * offsets), each slot's trace tapered like spectrum_plan_new() in time, a 2D FFT, in
+ * offsets, or the span over the steps between distinct offsets when that is within
+ * 25 % of it: header offsets are often whole metres), each slot's trace tapered like spectrum_plan_new() in time, a 2D FFT, in
  * dB against the peak. nk wavenumbers (k from -1/(2 dx), increasing), nf frequencies
  * from 0 Hz; db[jf * nk + ik]. */
 typedef struct spectrum_fk {

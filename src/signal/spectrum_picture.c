@@ -223,6 +223,17 @@ int spectrum_fk_of_record(const char *path, int64_t rec, double dx, const segy_o
           sorted[m++] = sorted[i] - sorted[i - 1];
       qsort(sorted, m, sizeof *sorted, cmp_double);
       dx = m ? sorted[m / 2] : 0;
+      /* offsets in headers are often whole metres (12.5 m steps read as 12 and 13):
+       * the span over the number of steps between distinct offsets, when that is
+       * close to the median step (no gaps in the record) */
+      double span = off[0], lo_o = off[0];
+      for (size_t i = 1; i < ntr; i++) {
+        span = off[i] > span ? off[i] : span;
+        lo_o = off[i] < lo_o ? off[i] : lo_o;
+      }
+      double even = m ? (span - lo_o) / (double)m : 0;   /* m + 1 distinct offsets */
+      if (fabs(even - dx) < 0.25 * dx)
+        dx = even;
       if (!(dx > 0))
         rc = tz_fail(err, TZ_E_ARG, "%s: record %lld: the traces share one offset; give a "
                      "spacing", path, (long long)rec);
