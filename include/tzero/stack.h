@@ -209,6 +209,19 @@ typedef struct stack_mute_class {
   int64_t muted_stretch, muted_top, muted_end;
 } stack_mute_class;
 
+#define STACK_MAX_KILL_LIST 100000   /* automatic kills listed one by one */
+
+/* One trace an automatic edit killed. */
+typedef struct stack_killed_trace {
+  int32_t input;             /* index of the shot file in the job */
+  int64_t trace;             /* 0-based trace within it */
+  int32_t field_record, channel;
+  int reason;                /* enum edits_reason */
+} stack_killed_trace;
+
+/* Sorts by input, then trace (the order a serial run finds them). */
+void stack_killed_sort(stack_killed_trace *v, size_t n);
+
 typedef struct stack_section {
   nmo_axis axis;
   uint32_t interval_us;
@@ -224,7 +237,10 @@ typedef struct stack_section {
   int64_t killed[EDITS_KILL__COUNT];   /* removed by edits, by reason (edits_reason_name) */
   int64_t reversed;              /* stacked with their polarity reversed */
   size_t nkill_entries, nreverse_entries;
-  int64_t *kill_hits, *reverse_hits;   /* traces each entry selected (all records read); owned */
+  int64_t *kill_hits, *reverse_hits;   /* traces each entry selected (the run's CMPs); owned */
+  stack_killed_trace *auto_killed;     /* the automatic kills, by input and trace; owned */
+  size_t nauto_killed;
+  int64_t auto_killed_unlisted;        /* beyond STACK_MAX_KILL_LIST, counted only */
   /* statics applied (stacked traces) */
   int64_t static_traces;
   double static_min_ms, static_max_ms, static_rms_ms;

@@ -434,6 +434,31 @@ static int assemble(const flow_setup *su, const part *pt, size_t n, stack_sectio
     }
   }
   s->static_rms_ms = s->static_traces ? sqrt(st_sq / (double)s->static_traces) : 0;
+  /* the automatic kills each part listed (its own CMPs' traces), in input order */
+  size_t nk = 0;
+  for (size_t k = 0; k < n; k++) {
+    const cJSON *ak = at(pt[k].root, "edits.auto_killed");
+    nk += cJSON_IsArray(ak) ? (size_t)cJSON_GetArraySize(ak) : 0;
+    s->auto_killed_unlisted += inum(pt[k].root, "edits.auto_killed_unlisted");
+  }
+  if (!rc && nk && !(s->auto_killed = malloc(nk * sizeof *s->auto_killed)))
+    rc = tz_fail(err, TZ_E_NOMEM, "merged list of %zu killed traces", nk);
+  for (size_t k = 0; k < n && !rc && nk; k++) {
+    const cJSON *c;
+    cJSON_ArrayForEach(c, at(pt[k].root, "edits.auto_killed")) {
+      stack_killed_trace *t = &s->auto_killed[s->nauto_killed++];
+      t->input = (int32_t)inum(c, "input");
+      t->trace = inum(c, "trace") - 1;
+      t->field_record = (int32_t)inum(c, "field_record");
+      t->channel = (int32_t)inum(c, "channel");
+      const cJSON *why = at(c, "reason");
+      t->reason = EDITS_KILL_LISTED;
+      for (int q = 0; q < EDITS_KILL__COUNT; q++)
+        if (cJSON_IsString(why) && !strcmp(why->valuestring, edits_reason_name(q)))
+          t->reason = q;
+    }
+  }
+  stack_killed_sort(s->auto_killed, s->nauto_killed);
   for (size_t k = 0; k < n && !rc; k++) {
     const cJSON *r = pt[k].root;
     s->traces_stacked += inum(r, "traces.stacked");

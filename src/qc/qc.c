@@ -157,6 +157,22 @@ static void add_edits(cJSON *r, const job_spec *j, const stack_section *s)
       cJSON_AddItemToArray(w, cJSON_CreateString(msg));
     }
   }
+  cJSON *ak = cJSON_AddArrayToObject(e, "auto_killed");
+  for (size_t i = 0; i < s->nauto_killed; i++) {
+    const stack_killed_trace *k = &s->auto_killed[i];
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddNumberToObject(o, "input", k->input);
+    if (k->input >= 0 && (size_t)k->input < j->nshots)
+      cJSON_AddStringToObject(o, "file", j->shots[k->input]);
+    else
+      cJSON_AddNullToObject(o, "file");
+    cJSON_AddNumberToObject(o, "trace", (double)(k->trace + 1));
+    cJSON_AddNumberToObject(o, "field_record", k->field_record);
+    cJSON_AddNumberToObject(o, "channel", k->channel);
+    cJSON_AddStringToObject(o, "reason", edits_reason_name(k->reason));
+    cJSON_AddItemToArray(ak, o);
+  }
+  cJSON_AddNumberToObject(e, "auto_killed_unlisted", (double)s->auto_killed_unlisted);
   for (size_t i = 0; i < s->nreverse_entries && i < j->edits.nreverse; i++) {
     cJSON_AddItemToArray(hr, cJSON_CreateNumber((double)s->reverse_hits[i]));
     if (!s->reverse_hits[i]) {
@@ -690,6 +706,15 @@ int qc_report_summary(const qc_report *r, char **text, tz_err *err)
         numv(R, "traces.killed_total"), numv(R, "traces.killed.listed"),
         numv(R, "traces.killed.dead"), numv(R, "traces.killed.noisy"),
         numv(R, "traces.reversed"));
+    const cJSON *ak = at(R, "edits.auto_killed");
+    int shown = 0, total = cJSON_IsArray(ak) ? cJSON_GetArraySize(ak) : 0;
+    for (const cJSON *c = total ? ak->child : NULL; c && shown < 20; c = c->next, shown++)
+      tz_buf_put(&b, "killed      %s trace %.0f (record %.0f, channel %.0f): %s\n",
+                 strv(c, "file", "?"), numv(c, "trace"), numv(c, "field_record"),
+                 numv(c, "channel"), strv(c, "reason", "?"));
+    if (total > shown || numv(R, "edits.auto_killed_unlisted") > 0)
+      tz_buf_put(&b, "killed      ... %.0f more automatic kills listed in the report\n",
+                 (double)(total - shown) + numv(R, "edits.auto_killed_unlisted"));
     const cJSON *w = at(R, "edits.warnings");
     for (const cJSON *c = w ? w->child : NULL; c; c = c->next)
       if (cJSON_IsString(c))

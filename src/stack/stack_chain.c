@@ -146,7 +146,49 @@ void stack_chain_ws_free(stack_chain_ws *ws)
   free(ws->tmp);
   free(ws->counts.kill_hits);
   free(ws->counts.reverse_hits);
+  free(ws->counts.auto_killed);
   free(ws);
+}
+
+static int cmp_killed(const void *a, const void *b)
+{
+  const stack_killed_trace *x = a, *y = b;
+  if (x->input != y->input)
+    return x->input < y->input ? -1 : 1;
+  return (x->trace > y->trace) - (x->trace < y->trace);
+}
+
+void stack_killed_sort(stack_killed_trace *v, size_t n)
+{
+  if (n > 1)
+    qsort(v, n, sizeof *v, cmp_killed);
+}
+
+/* Notes an automatic kill of a trace the run counts (no allocation failure
+ * stops the run: past the cap, or out of memory, the kill is counted only). */
+static void note_auto(stack_chain_ws *ws, size_t file, int64_t trace, const stack_tinfo *t,
+                      int reason)
+{
+  stack_chain_counts *c = &ws->counts;
+  if (!t->counted)
+    return;
+  if (c->nauto == c->cap_auto) {
+    size_t nc = c->cap_auto ? c->cap_auto * 2 : 64;
+    stack_killed_trace *v = nc <= STACK_MAX_KILL_LIST ? realloc(c->auto_killed, nc * sizeof *v)
+                                                      : NULL;
+    if (!v) {
+      c->auto_unlisted++;
+      return;
+    }
+    c->auto_killed = v;
+    c->cap_auto = nc;
+  }
+  stack_killed_trace *k = &c->auto_killed[c->nauto++];
+  k->input = (int32_t)file;
+  k->trace = trace;
+  k->field_record = t->g.field_record;
+  k->channel = t->g.channel;
+  k->reason = reason;
 }
 
 const stack_chain_counts *stack_chain_ws_counts(const stack_chain_ws *ws)
@@ -156,8 +198,8 @@ const stack_chain_counts *stack_chain_ws_counts(const stack_chain_ws *ws)
 
 /* Edits on the record: listed kills and reversals, then automatic kills judged
  * against the median RMS of the record's remaining live traces. */
-static void edit_record(const stack_chain *ch, stack_chain_ws *ws, size_t file, size_t n,
-                        float *samples, stack_tinfo *ti)
+static void edit_record(const stack_chain *ch, stack_chain_ws *ws, size_t file, int64_t a,
+                        size_t n, float *samples, stack_tinfo *ti)
 {
   const edits_spec *ed = ch->edits;
   const stack_plan *p = ch->p;
@@ -191,8 +233,10 @@ static void edit_record(const stack_chain *ch, stack_chain_ws *ws, size_t file, 
   if (ed->auto_dead)
     for (size_t k = 0; k < n; k++)
       if (ti[k].read && ti[k].stackable && !ti[k].killed &&
-          edits_is_constant(samples + k * ns, ns))
+          edits_is_constant(samples + k * ns, ns)) {
         ti[k].killed = 1 + EDITS_KILL_DEAD;
+        note_auto(ws, file, a + (int64_t)k, &ti[k], EDITS_KILL_DEAD);
+      }
   if (ed->rms_ratio_max > 0) {
     size_t m = 0;
     for (size_t k = 0; k < n; k++)
@@ -201,8 +245,10 @@ static void edit_record(const stack_chain *ch, stack_chain_ws *ws, size_t file, 
     double med = edits_median(ws->rms, m);
     for (size_t k = 0; m >= 3 && med > 0 && k < n; k++)
       if (ti[k].read && ti[k].stackable && !ti[k].killed &&
-          edits_rms(samples + k * ns, ch->win_lo, ch->win_hi) > ed->rms_ratio_max * med)
+          edits_rms(samples + k * ns, ch->win_lo, ch->win_hi) > ed->rms_ratio_max * med) {
         ti[k].killed = 1 + EDITS_KILL_NOISY;
+        note_auto(ws, file, a + (int64_t)k, &ti[k], EDITS_KILL_NOISY);
+      }
   }
 }
 
@@ -250,7 +296,7 @@ int stack_chain_record(const stack_chain *ch, stack_chain_ws *ws, size_t file, i
     ti[k].live_hi = ch->ns;
   }
   if (ch->edits)
-    edit_record(ch, ws, file, n, samples, ti);
+    edit_record(ch, ws, file, a, n, samples, ti);
   if (ch->statics) {
     int rc = shift_record(ch, ws, file, a, n, samples, ti, err);
     if (rc)

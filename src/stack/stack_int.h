@@ -139,6 +139,9 @@ typedef struct stack_chain_ws stack_chain_ws;
 typedef struct stack_chain_counts {
   size_t nkill, nreverse;
   int64_t *kill_hits, *reverse_hits;
+  stack_killed_trace *auto_killed;   /* the run's automatic kills (counted traces) */
+  size_t nauto, cap_auto;
+  int64_t auto_unlisted;             /* beyond STACK_MAX_KILL_LIST in this workspace */
 } stack_chain_counts;
 const stack_chain_counts *stack_chain_ws_counts(const stack_chain_ws *ws);
 

@@ -562,6 +562,7 @@ void stack_section_free(stack_section *s)
   free(s->cmps);
   free(s->kill_hits);
   free(s->reverse_hits);
+  free(s->auto_killed);
   free(s);
 }
 
@@ -807,6 +808,27 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
     free_shared(&sh);
     return tz_fail(err, TZ_E_NOMEM, "section");
   }
+  size_t nk = 0;
+  for (int t = 0; t < sh.T; t++) {
+    const stack_chain_counts *cc = stack_chain_ws_counts(sh.wk[t].cws);
+    nk += cc->nauto;
+    s->auto_killed_unlisted += cc->auto_unlisted;
+  }
+  if (nk > STACK_MAX_KILL_LIST) {
+    s->auto_killed_unlisted += (int64_t)(nk - STACK_MAX_KILL_LIST);
+    nk = STACK_MAX_KILL_LIST;
+  }
+  if (nk && !(s->auto_killed = malloc(nk * sizeof *s->auto_killed))) {
+    stack_section_free(s);
+    free_shared(&sh);
+    return tz_fail(err, TZ_E_NOMEM, "list of %zu killed traces", nk);
+  }
+  for (int t = 0; t < sh.T; t++) {
+    const stack_chain_counts *cc = stack_chain_ws_counts(sh.wk[t].cws);
+    for (size_t i = 0; i < cc->nauto && s->nauto_killed < nk; i++)
+      s->auto_killed[s->nauto_killed++] = cc->auto_killed[i];
+  }
+  stack_killed_sort(s->auto_killed, s->nauto_killed);
   for (int t = 0; t < sh.T; t++) {
     worker *w = &sh.wk[t];
     const stack_chain_counts *cc = stack_chain_ws_counts(w->cws);

@@ -190,6 +190,13 @@ qc = json.load(open(os.path.join(W, "edit_auto_qc.json")))
 k = qc["traces"]["killed"]
 tz.ok(p.returncode == 0 and k["dead"] == 1 and k["noisy"] == 1 and k["listed"] == 0,
       f"automatic kills: dead {k['dead']} and noisy {k['noisy']} (one each)", p.stderr)
+ak = [(a["file"].split("/")[-1], a["trace"], a["channel"], a["reason"])
+      for a in qc["edits"]["auto_killed"]]
+tz.ok(ak == [("shot_000110.sgy", 6, 6, "dead"), ("shot_000110.sgy", 21, 21, "noisy")],
+      f"each automatic kill listed with its file, trace, channel and reason: {ak}")
+p = tz.run("report", os.path.join(W, "edit_auto_qc.json"))
+tz.ok("trace 21 (record 110, channel 21): noisy" in p.stdout,
+      "the summary names the killed traces", p.stdout[-400:])
 
 sel = [{"record": 110}, {"record": "110-111", "channels": "1-4"}, {"channels": [3, "7-8"]},
        {"source_station": 12}, {"receiver_station": "40"}, {"file": "shot_000112.sgy"},
