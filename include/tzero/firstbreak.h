@@ -140,6 +140,56 @@ int firstbreak_run(const stack_plan *p, const firstbreak_line_opts *o, firstbrea
                    tz_err *err);
 void firstbreak_line_free(firstbreak_line *l);   /* NULL is a no-op */
 
+/* ---- the stations of a line ----
+ *
+ * One header pass over the plan's traces (data traces with geometry, as the
+ * stack sees them): every source and receiver station with its mean position
+ * along the line, map position and surface elevation. Station numbers follow
+ * the rule of the picks file (the nearest multiple of the interval). */
+#define FIRSTBREAK_MAX_STATION_SPAN 10000000   /* highest minus lowest station number */
+
+typedef struct firstbreak_station {
+  int kind;                  /* 0 source, 1 receiver */
+  int32_t station;
+  double along_m, x_m, y_m, elevation_m;   /* means over the traces */
+  int64_t traces;
+} firstbreak_station;
+
+typedef struct firstbreak_stations {
+  size_t n;                  /* sources by station, then receivers by station */
+  firstbreak_station *s;     /* owned */
+  double interval_m;
+} firstbreak_stations;
+
+/* interval_m 0 = the receiver interval. On success *out owns the list:
+ * firstbreak_stations_free(). */
+int firstbreak_stations_scan(const stack_plan *p, double interval_m, firstbreak_stations **out,
+                             tz_err *err);
+void firstbreak_stations_free(firstbreak_stations *s);     /* NULL is a no-op */
+const firstbreak_station *firstbreak_stations_find(const firstbreak_stations *s, int kind,
+                                                   int32_t station);
+
+/* ---- picks files (written by firstbreak_write_picks or by hand) ---- */
+#define FIRSTBREAK_MAX_FILE_PICKS 50000000u
+
+typedef struct firstbreak_file_pick {
+  int32_t record, channel, source_station, receiver_station;
+  double offset_m, time_ms, quality;
+  int64_t line;              /* line of the file, for messages */
+} firstbreak_file_pick;
+
+/* Reads a picks file: header row with the seven columns (any order, more
+ * allowed), numbers checked (NaN and Inf are not numbers), quality in [0, 1].
+ * With stations != NULL a station the line does not have is an error. Every
+ * error is TZ_E_FORMAT naming the file and line. On success *out owns the
+ * picks (free()). */
+int firstbreak_picks_load(const char *path, const firstbreak_stations *stations,
+                          firstbreak_file_pick **out, size_t *n, tz_err *err);
+
+/* Station number of a position s along the processing line: the nearest
+ * whole multiple of the interval from the line's origin, round(s / interval). */
+int32_t firstbreak_station_number(double along_m, double interval_m);
+
 /* Writes the picks file (CSV, docs/statics.md): a comment line saying the time
  * reference, then record,channel,source_station,receiver_station,offset_m,
  * time_ms,quality for every accepted pick, in input order. Through a temporary

@@ -25,6 +25,9 @@
 #include <stddef.h>
 #include <stdint.h>
 #include "tzero/error.h"
+#include "tzero/firstbreak.h"
+#include "tzero/stack.h"
+#include "tzero/velocity.h"
 
 #define RESIDUAL_MAX_TRACES 100000000u
 #define RESIDUAL_MAX_TERMS 10000000u        /* sources, receivers or CMPs */
@@ -96,5 +99,38 @@ double residual_decompose(const residual_input *in, const double *lags, const do
  * 8-point Kaiser-windowed sinc (beta 5, unit DC gain); samples that need input
  * beyond the trace are 0. */
 void residual_shift(const float *x, size_t n, double shift_samples, float *out);
+
+/* ---- a whole line (the stack plan's traces through its chain and NMO) ----
+ *
+ * One streaming pass over the plan's records: edits, statics and conditioning
+ * of the job (the stack's chain), NMO with the velocity table, then only the
+ * correlation window plus the shifting margin of each trace is kept. Sources
+ * and receivers are the line's stations (firstbreak_stations_scan rules); the
+ * CMP term is the CMP number within the plan's range. */
+typedef struct residual_line_opts {
+  residual_params params;
+  double window_start_ms, window_end_ms;   /* NMO-corrected time window */
+  double station_interval_m;               /* 0 = the receiver interval */
+  const velocity_table *velocity;          /* borrowed, required */
+  stack_progress_fn progress;              /* reading pass; may be NULL */
+  void *progress_ctx;
+  residual_progress_fn iteration;          /* after each iteration; may be NULL */
+  void *iteration_ctx;
+} residual_line_opts;
+
+void residual_line_opts_init(residual_line_opts *o);
+
+typedef struct residual_line {
+  firstbreak_stations *stations;   /* owned: sources, then receivers */
+  size_t nsources, nreceivers;     /* stations->s[0..nsources) are the sources */
+  residual_result result;          /* source_ms[k] is stations->s[k]; receiver_ms[k]
+                                    * is stations->s[nsources + k] */
+  size_t traces;                   /* traces used */
+  double read_s, solve_s;          /* wall time of the pass and of the iterations */
+} residual_line;
+
+int residual_run(const stack_plan *p, const residual_line_opts *o, residual_line **out,
+                 tz_err *err);
+void residual_line_free(residual_line *l);     /* NULL is a no-op */
 
 #endif

@@ -33,6 +33,8 @@ int cmd_merge(int argc, char **argv);
 int cmd_migrate(int argc, char **argv);
 int cmd_firstbreaks(int argc, char **argv);
 int cmd_statics(int argc, char **argv);   /* verbs: src/cli/statics.c */
+int cmd_statics_refraction(int argc, char **argv);   /* src/cli/statics_refraction.c */
+int cmd_statics_residual(int argc, char **argv);     /* src/cli/statics_residual.c */
 
 /* `tzero picture --spectrum A.csv,B.csv` / `--fk-record N FILE` (picture_spectrum.c):
  * the option strings as given (NULL when absent). */

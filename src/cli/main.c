@@ -33,6 +33,7 @@ static const struct subcmd subcmds[] = {
   { "geometry",  cmd_geometry,  "assign geometry, bin CMPs, report offsets and fold" },
   { "velocity",  cmd_velocity,  "check velocity tables, interval velocities, functions at a CMP" },
   { "firstbreaks", cmd_firstbreaks, "pick first arrivals on every live trace (refraction statics)" },
+  { "statics",   cmd_statics,   "station statics tables: refraction, residual" },
   { "nmo",       cmd_nmo,       "write NMO-corrected CMP gathers for checking velocities" },
   { "semblance", cmd_semblance, "semblance velocity scans and automatic picks" },
   { "cvs",       cmd_cvs,       "constant-velocity stack panels over a CMP range" },

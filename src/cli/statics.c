@@ -165,6 +165,10 @@ static const struct {
   const char *summary;
 } verbs[] = {
   { "elevation", statics_elevation, "elevation statics of every station to a flat datum" },
+  { "refraction", cmd_statics_refraction,
+    "delay-time refraction statics from first-break picks" },
+  { "residual", cmd_statics_residual,
+    "surface-consistent residual statics from the NMO-corrected line" },
 };
 #define NVERBS (sizeof verbs / sizeof verbs[0])
 

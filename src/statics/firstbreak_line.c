@@ -21,6 +21,7 @@
 
 #include "stack/stack_int.h"
 #include "tzero/fileio.h"
+#include "tzero/table.h"
 
 #define BATCH_PER_THREAD 8
 #define GUIDE_RECORDS 400      /* unguided records for an estimated guide, at most */
@@ -47,9 +48,7 @@ static double now_s(void)
   return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
 }
 
-/* Station number of a position along the processing line: the nearest whole
- * multiple of the station interval from the line's origin (docs/statics.md). */
-static int32_t station_of(double along_m, double interval_m)
+int32_t firstbreak_station_number(double along_m, double interval_m)
 {
   double s = along_m / interval_m;
   if (s > 2e9) s = 2e9;
@@ -141,8 +140,8 @@ static int do_record(worker *w, size_t u)
     o->channel = w->h[j].channel;
     o->source_along_m = ls.along_m;
     o->receiver_along_m = lr.along_m;
-    o->source_station = station_of(ls.along_m, w->interval);
-    o->receiver_station = station_of(lr.along_m, w->interval);
+    o->source_station = firstbreak_station_number(ls.along_m, w->interval);
+    o->receiver_station = firstbreak_station_number(lr.along_m, w->interval);
     o->offset_m = w->ti[j].off_signed;
     o->static_ms = w->ti[j].static_ms;
     o->pick = w->pk[j];
@@ -363,4 +362,230 @@ int firstbreak_write_picks(const firstbreak_line *l, const char *path, int datum
             t->pick.quality);
   }
   return fileio_commit(o, err);
+}
+
+/* ---- stations of a line ---- */
+
+void firstbreak_stations_free(firstbreak_stations *s)
+{
+  if (!s)
+    return;
+  free(s->s);
+  free(s);
+}
+
+const firstbreak_station *firstbreak_stations_find(const firstbreak_stations *s, int kind,
+                                                   int32_t station)
+{
+  size_t lo = 0, hi = s->n;
+  while (lo < hi) {
+    size_t mid = lo + (hi - lo) / 2;
+    const firstbreak_station *m = &s->s[mid];
+    if (m->kind < kind || (m->kind == kind && m->station < station))
+      lo = mid + 1;
+    else
+      hi = mid;
+  }
+  return lo < s->n && s->s[lo].kind == kind && s->s[lo].station == station ? &s->s[lo] : NULL;
+}
+
+/* Sums per station number of one kind, over a range that grows as needed. */
+typedef struct acc { double along, x, y, z; int64_t n; } acc;
+typedef struct accs { acc *a; int64_t base; size_t cap; } accs;
+
+static int accs_add(accs *A, int32_t st, double along, double x, double y, double z, tz_err *err)
+{
+  if (!A->a) {
+    A->cap = 1024;
+    A->base = (int64_t)st - 512;
+    if (!(A->a = calloc(A->cap, sizeof *A->a)))
+      return tz_fail(err, TZ_E_NOMEM, "station list");
+  }
+  int64_t k = (int64_t)st - A->base;
+  if (k < 0 || k >= (int64_t)A->cap) {
+    int64_t lo = k < 0 ? (int64_t)st : A->base;
+    int64_t hi = k >= (int64_t)A->cap ? (int64_t)st : A->base + (int64_t)A->cap - 1;
+    if (hi - lo > FIRSTBREAK_MAX_STATION_SPAN)
+      return tz_fail(err, TZ_E_FORMAT, "stations %lld to %lld: more than %d station numbers "
+                     "apart (station interval too small?)", (long long)lo, (long long)hi,
+                     FIRSTBREAK_MAX_STATION_SPAN);
+    size_t cap = (size_t)(hi - lo) * 2 + 1024;
+    int64_t base = lo - (int64_t)(cap - (size_t)(hi - lo)) / 2;
+    acc *n = calloc(cap, sizeof *n);
+    if (!n)
+      return tz_fail(err, TZ_E_NOMEM, "station list of %zu", cap);
+    memcpy(n + (A->base - base), A->a, A->cap * sizeof *n);
+    free(A->a);
+    A->a = n, A->cap = cap, A->base = base;
+    k = (int64_t)st - A->base;
+  }
+  acc *a = &A->a[k];
+  a->along += along, a->x += x, a->y += y, a->z += z, a->n++;
+  return TZ_OK;
+}
+
+int firstbreak_stations_scan(const stack_plan *p, double interval_m, firstbreak_stations **out,
+                             tz_err *err)
+{
+  *out = NULL;
+  double interval = interval_m > 0.0 ? interval_m : p->survey.receiver_interval_m;
+  if (!(interval > 0.0))
+    return tz_fail(err, TZ_E_FORMAT, "stations: no receiver interval to number stations by "
+                   "(give a station interval)");
+  accs A[2] = { { NULL, 0, 0 }, { NULL, 0, 0 } };
+  int rc = TZ_OK;
+  for (size_t fi = 0; fi < p->ninputs && !rc; fi++) {
+    if (p->inputs[fi].bad || !p->records[fi].n)
+      continue;
+    segy_file *f = NULL;
+    if ((rc = stack_open_input(p, fi, &f, err)))
+      break;
+    int64_t nt = segy_trace_count(f);
+    for (int64_t t = 0; t < nt && !rc; t++) {
+      segy_trace_header h;
+      int32_t cmp;
+      double oa, os;
+      geometry_trace g;
+      int reason;
+      if ((rc = segy_header_read(f, t, &h, err))) {
+        tz_err_path(err, p->inputs[fi].path);
+        break;
+      }
+      if (!stack_locate(p, &h, t, &cmp, &oa, &os, &g, &reason))
+        continue;
+      bins_loc ls, lr;
+      bins_locate(p->line, g.source_x, g.source_y, &ls);
+      bins_locate(p->line, g.receiver_x, g.receiver_y, &lr);
+      if ((rc = accs_add(&A[0], firstbreak_station_number(ls.along_m, interval), ls.along_m, g.source_x,
+                         g.source_y, g.source_z, err)) ||
+          (rc = accs_add(&A[1], firstbreak_station_number(lr.along_m, interval), lr.along_m, g.receiver_x,
+                         g.receiver_y, g.receiver_z, err)))
+        tz_err_path(err, p->inputs[fi].path);
+    }
+    segy_close(f);
+  }
+  firstbreak_stations *S = NULL;
+  if (!rc) {
+    size_t n = 0;
+    for (int k = 0; k < 2; k++)
+      for (size_t i = 0; i < A[k].cap; i++)
+        n += A[k].a[i].n > 0;
+    S = calloc(1, sizeof *S);
+    if (!S || !(S->s = malloc((n ? n : 1) * sizeof *S->s))) {
+      rc = tz_fail(err, TZ_E_NOMEM, "station list of %zu", n);
+    } else {
+      S->interval_m = interval;
+      for (int k = 0; k < 2; k++)
+        for (size_t i = 0; i < A[k].cap; i++) {
+          const acc *a = &A[k].a[i];
+          if (!a->n)
+            continue;
+          double w = 1.0 / (double)a->n;
+          S->s[S->n++] = (firstbreak_station){ k, (int32_t)(A[k].base + (int64_t)i),
+                                               a->along * w, a->x * w, a->y * w, a->z * w,
+                                               a->n };
+        }
+    }
+  }
+  free(A[0].a), free(A[1].a);
+  if (rc) {
+    firstbreak_stations_free(S);
+    return rc;
+  }
+  *out = S;
+  return TZ_OK;
+}
+
+/* ---- picks files ---- */
+
+static const char *const pick_columns[7] = { "record", "channel", "source_station",
+                                             "receiver_station", "offset_m", "time_ms",
+                                             "quality" };
+
+int firstbreak_picks_load(const char *path, const firstbreak_stations *st,
+                          firstbreak_file_pick **out, size_t *n, tz_err *err)
+{
+  *out = NULL;
+  *n = 0;
+  table_reader *t;
+  int rc = table_open(&t, path, err);
+  if (rc)
+    return rc;
+  long col[7] = { -1, -1, -1, -1, -1, -1, -1 };
+  size_t nf, cap = 0, np = 0;
+  firstbreak_file_pick *pk = NULL;
+  int header = 1;
+  while (!(rc = table_next(t, &nf, err)) && nf > 0) {
+    if (header) {
+      for (size_t i = 0; i < nf; i++)
+        for (int c = 0; c < 7; c++)
+          if (!strcmp(table_field(t, i), pick_columns[c]))
+            col[c] = (long)i;
+      for (int c = 0; c < 7 && !rc; c++)
+        if (col[c] < 0)
+          rc = tz_fail_line(err, TZ_E_FORMAT, table_line(t), "no column %s in the header row "
+                            "(record,channel,source_station,receiver_station,offset_m,time_ms,"
+                            "quality)", pick_columns[c]);
+      if (rc)
+        break;
+      header = 0;
+      continue;
+    }
+    if (np >= FIRSTBREAK_MAX_FILE_PICKS) {
+      rc = tz_fail_line(err, TZ_E_FORMAT, table_line(t), "more than %u picks",
+                        FIRSTBREAK_MAX_FILE_PICKS);
+      break;
+    }
+    if (np == cap) {
+      cap = cap ? 2 * cap : 4096;
+      firstbreak_file_pick *q = realloc(pk, cap * sizeof *q);
+      if (!q) {
+        rc = tz_fail(err, TZ_E_NOMEM, "%zu picks", cap);
+        break;
+      }
+      pk = q;
+    }
+    firstbreak_file_pick *q = &pk[np];
+    int64_t v[4];
+    for (int c = 0; c < 4 && !rc; c++) {
+      rc = table_field_i64(t, (size_t)col[c], pick_columns[c], &v[c], err);
+      if (!rc && (v[c] < INT32_MIN || v[c] > INT32_MAX))
+        rc = tz_fail_line(err, TZ_E_FORMAT, table_line(t), "column %s: %lld out of range",
+                          pick_columns[c], (long long)v[c]);
+    }
+    if (rc || (rc = table_field_f64(t, (size_t)col[4], "offset_m", &q->offset_m, err)) ||
+        (rc = table_field_f64(t, (size_t)col[5], "time_ms", &q->time_ms, err)) ||
+        (rc = table_field_f64(t, (size_t)col[6], "quality", &q->quality, err)))
+      break;
+    q->record = (int32_t)v[0], q->channel = (int32_t)v[1];
+    q->source_station = (int32_t)v[2], q->receiver_station = (int32_t)v[3];
+    q->line = table_line(t);
+    if (q->quality < 0.0 || q->quality > 1.0) {
+      rc = tz_fail_line(err, TZ_E_FORMAT, q->line, "column quality: %g is not between 0 and 1",
+                        q->quality);
+      break;
+    }
+    if (st && !firstbreak_stations_find(st, 0, q->source_station)) {
+      rc = tz_fail_line(err, TZ_E_FORMAT, q->line, "source station %d is not a source station "
+                        "of the line", (int)q->source_station);
+      break;
+    }
+    if (st && !firstbreak_stations_find(st, 1, q->receiver_station)) {
+      rc = tz_fail_line(err, TZ_E_FORMAT, q->line, "receiver station %d is not a receiver "
+                        "station of the line", (int)q->receiver_station);
+      break;
+    }
+    np++;
+  }
+  if (!rc && header)
+    rc = tz_fail(err, TZ_E_FORMAT, "no header row");
+  if (rc) {
+    tz_err_path(err, table_name(t));
+    free(pk);
+  } else {
+    *out = pk;
+    *n = np;
+  }
+  table_close(t);
+  return rc;
 }

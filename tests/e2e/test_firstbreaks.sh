@@ -56,3 +56,74 @@ expect_status 64 "bad --window-ms" -- "$TZERO" firstbreaks --job "$J" --out "$D/
 expect_status 66 "missing job" -- "$TZERO" firstbreaks --job "$D/none.json" --out "$D/x.csv"
 expect_status 0 "--help" -- "$TZERO" firstbreaks --help
 expect_stdout "qualified" "--help carries the caution (project rule)"
+
+# ---- tzero statics refraction on the same line: a flat 10 m weathering layer at
+# 700 m/s over 2000 m/s, surface at elevation 0. Every station delay is
+# h cos(i_c) / v0 = 13.3821 ms and the static to a datum at -10 m (the weathering
+# base) is -h / v0 = -14.2857 ms (Sheriff and Geldart 1995, refraction chapter;
+# computed from the formulas).
+expect_status 0 "refraction statics" -- "$TZERO" statics refraction --job "$J" --picks "$D/p1.csv" \
+  --out "$D/refr.csv" --datum-m -10 --replacement-velocity 2000 --weathering-velocity 700
+expect_stdout "two-segment fit: crossover" "the two-segment fit is reported"
+expect_stdout "worst stations:" "the worst stations are reported"
+head -n 2 "$D/refr.csv" | tail -n 1 |
+  grep -q '^kind,station,x_m,y_m,elevation_m,static_ms,delay_ms,weathering_m,refractor_mps,picks$' &&
+  ok "statics table has the documented columns" || notok "table header: $(head -n 2 "$D/refr.csv")"
+bad=$(awk -F, 'NR > 2 && $10 > 0 { if ($7 < 13.3821 - 0.2 || $7 > 13.3821 + 0.2 || $6 < -14.2857 - 0.3 ||
+  $6 > -14.2857 + 0.3 || $9 < 1980 || $9 > 2020) n++ } END { print n + 0 }' "$D/refr.csv")
+[ "$bad" -eq 0 ] && ok "every station: delay 13.38 ms, static -14.29 ms, refractor 2000 m/s (formulas)" ||
+  notok "$bad stations off the two-layer values"
+expect_status 0 "refraction --json" -- "$TZERO" statics refraction --job "$J" --picks "$D/p1.csv" \
+  --out "$D/refr2.csv" --datum-m -10 --json
+expect_stdout '"weathering_velocity_estimated":[[:space:]]*true' "weathering velocity estimated when not given"
+s0=$(awk -F, 'NR == 3 { print $3 }' "$D/p1.csv")
+r0=$(awk -F, 'NR == 3 { print $4 }' "$D/p1.csv")
+printf '# picks\nrecord,channel,source_station,receiver_station,offset_m,time_ms,quality\n1,1,%s,%s,10,14.3,1\n1,2,%s,777,20,28.6,1\n' \
+  "$s0" "$r0" "$s0" >"$D/badst.csv"
+expect_status 65 "unknown station" -- "$TZERO" statics refraction --job "$J" --picks "$D/badst.csv" \
+  --out "$D/x1.csv" --datum-m 0
+expect_stderr "badst.csv: line 4: receiver station 777" "error names the file, line and station"
+expect_no_file "$D/x1.csv" "nothing written after bad picks"
+printf 'record,channel,source_station,receiver_station,offset_m,time_ms,quality\n1,1,0,1,10,NaN,1\n' >"$D/badnan.csv"
+expect_status 65 "NaN time" -- "$TZERO" statics refraction --job "$J" --picks "$D/badnan.csv" \
+  --out "$D/x2.csv" --datum-m 0
+expect_stderr "badnan.csv: line 2: column time_ms" "error names the file, line and column"
+expect_status 65 "no picks in the refractor range" -- "$TZERO" statics refraction --job "$J" \
+  --picks "$D/p1.csv" --out "$D/x3.csv" --datum-m 0 --offset-min-m 5000
+expect_stderr "p1.csv: no picks in the refractor's offset range" "error names the file"
+expect_no_file "$D/x3.csv" "nothing written without refractor picks"
+expect_status 64 "no datum" -- "$TZERO" statics refraction --job "$J" --picks "$D/p1.csv" --out "$D/x4.csv"
+expect_status 64 "unknown verb" -- "$TZERO" statics sideways
+expect_status 0 "statics --help" -- "$TZERO" statics --help
+expect_status 0 "statics refraction --help" -- "$TZERO" statics refraction --help
+expect_stdout "qualified" "--help carries the caution (project rule)"
+
+# ---- tzero statics residual: the synth line has no statics errors, so the
+# surface-consistent residual statics must all be near zero (common practice: a
+# line without static errors gains nothing), and the stack power must not drop.
+cat >"$D/model2.json" <<'EOF2'
+{ "description": "Harrow Flats reflection test model (invented)",
+  "layers": [ { "thickness_m": 150, "velocity_mps": 1800 }, { "thickness_m": 200, "velocity_mps": 2300 },
+              { "thickness_m": 200, "velocity_mps": 2700 }, { "velocity_mps": 3200 } ] }
+EOF2
+printf '{ "shots": ["refl/*.sgy"], "geometry": {"layout": "layout.json"}, "velocity": "refl/rms_velocity.csv" }\n' >"$D/jobv.json"
+"$TZERO" synth --model "$D/model2.json" --layout "$D/layout.json" --out "$D/refl" \
+  --interval-ms 1 --record-ms 600 --peak-hz 40 --format ieee --quiet --no-direct --no-head-wave
+expect_status 0 "residual statics" -- "$TZERO" statics residual --job "$D/jobv.json" --out "$D/res.csv" \
+  --window-ms 120,560 --iterations 2
+expect_stdout "^iteration 1: stack power" "stack power reported for each iteration"
+expect_stdout "^iteration 2: stack power" "second iteration reported"
+head -n 2 "$D/res.csv" | tail -n 1 | grep -q '^kind,station,x_m,y_m,elevation_m,static_ms$' &&
+  ok "residual table has the station statics columns" || notok "table header: $(head -n 2 "$D/res.csv")"
+big=$(awk -F, 'NR > 2 { v = $6 < 0 ? -$6 : $6; if (v > 0.5) n++ } END { print n + 0 }' "$D/res.csv")
+[ "$big" -eq 0 ] && ok "no residual static beyond 0.5 ms on a line without static errors" ||
+  notok "$big stations with residual statics beyond 0.5 ms"
+expect_status 0 "residual --json" -- "$TZERO" statics residual --job "$D/jobv.json" --out "$D/res2.csv" \
+  --window-ms 120,560 --iterations 1 --json
+expect_stdout '"stack_power_after":' "JSON carries the stack power"
+expect_status 65 "job without velocities" -- "$TZERO" statics residual --job "$J" --out "$D/x5.csv"
+expect_no_file "$D/x5.csv" "nothing written without velocities"
+expect_status 64 "bad --window-ms" -- "$TZERO" statics residual --job "$D/jobv.json" --out "$D/x6.csv" --window-ms 200
+expect_status 64 "bad --iterations" -- "$TZERO" statics residual --job "$D/jobv.json" --out "$D/x6.csv" --iterations 0
+expect_status 64 "window outside the traces" -- "$TZERO" statics residual --job "$D/jobv.json" --out "$D/x6.csv" --window-ms 100,9000
+expect_status 0 "statics residual --help" -- "$TZERO" statics residual --help
