@@ -186,9 +186,12 @@ typedef struct firstbreak_file_pick {
 int firstbreak_picks_load(const char *path, const firstbreak_stations *stations,
                           firstbreak_file_pick **out, size_t *n, tz_err *err);
 
-/* Station number of a position s along the processing line: the nearest
- * whole multiple of the interval from the line's origin, round(s / interval). */
-int32_t firstbreak_station_number(double along_m, double interval_m);
+/* The station interval of picks and station lists: interval_m when > 0, else the
+ * job's statics.station_interval_m, else the receiver interval of the geometry.
+ * Stations are numbered as the stack numbers them (docs/statics.md): the
+ * distance s along the line from the layout's station 0, or from the processing
+ * line's origin, and station = floor(s / interval + 1/2). */
+double firstbreak_station_interval(const stack_plan *p, double interval_m);
 
 /* Writes the picks file (CSV, docs/statics.md): a comment line saying the time
  * reference, then record,channel,source_station,receiver_station,offset_m,

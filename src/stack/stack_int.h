@@ -105,6 +105,11 @@ void stack_stations_free(stack_plan *p);
 double stack_floating_ms(const stack_plan *p, int32_t cmp);
 /* Station number of the point (x, y); only when p->has_stations. */
 int32_t stack_station_of(const stack_plan *p, double x, double y);
+/* The same rule for any plan, with stations or not: the distance along the
+ * station frame (the layout's station 0 and azimuth, else the processing line's
+ * origin and azimuth) and the station of a point at a given interval. */
+double stack_station_along(const stack_plan *p, double x, double y);
+int32_t stack_station_at(const stack_plan *p, double interval_m, double x, double y);
 /* The station of (kind, number), or NULL. */
 const stack_station *stack_station_find(const stack_plan *p, int kind, int32_t station);
 

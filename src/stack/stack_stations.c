@@ -29,8 +29,29 @@
 
 int32_t stack_station_of(const stack_plan *p, double x, double y)
 {
-  double s = (x - p->st_ox) * p->st_sin + (y - p->st_oy) * p->st_cos;
-  double k = floor(s / p->st_interval + 0.5 + 1e-9);
+  return stack_station_at(p, p->st_interval, x, y);
+}
+
+/* The frame stations are counted in: the layout's station 0 and azimuth, else
+ * the processing line's origin and azimuth. */
+static void station_frame(const stack_plan *p, double *ox, double *oy, double *sn, double *cs)
+{
+  const geometry_layout *l = geometry_source_get_layout(p->geo);
+  geometry_sincos_deg(l ? l->azimuth_deg : p->line_info.azimuth_deg, sn, cs);
+  *ox = l ? l->first_station_x_m : p->line_info.origin_x_m;
+  *oy = l ? l->first_station_y_m : p->line_info.origin_y_m;
+}
+
+double stack_station_along(const stack_plan *p, double x, double y)
+{
+  double ox, oy, sn, cs;
+  station_frame(p, &ox, &oy, &sn, &cs);
+  return (x - ox) * sn + (y - oy) * cs;
+}
+
+int32_t stack_station_at(const stack_plan *p, double interval_m, double x, double y)
+{
+  double k = floor(stack_station_along(p, x, y) / interval_m + 0.5 + 1e-9);
   return k > INT32_MAX ? INT32_MAX : k < INT32_MIN ? INT32_MIN : (int32_t)k;
 }
 
@@ -314,18 +335,7 @@ int stack_stations_build(stack_plan *p, tz_err *err)
 {
   const job_spec *j = p->job;
   const job_statics *js = &j->statics;
-  double su, cu;
-  geometry_sincos_deg(p->line_info.azimuth_deg, &su, &cu);
-  p->st_sin = su;
-  p->st_cos = cu;
-  p->st_ox = p->line_info.origin_x_m;
-  p->st_oy = p->line_info.origin_y_m;
-  const geometry_layout *l = geometry_source_get_layout(p->geo);
-  if (l) {
-    geometry_sincos_deg(l->azimuth_deg, &p->st_sin, &p->st_cos);
-    p->st_ox = l->first_station_x_m;
-    p->st_oy = l->first_station_y_m;
-  }
+  station_frame(p, &p->st_ox, &p->st_oy, &p->st_sin, &p->st_cos);
   p->st_interval = js->station_interval_m > 0 ? js->station_interval_m
                                               : p->survey.receiver_interval_m;
   if (!(p->st_interval > 0))

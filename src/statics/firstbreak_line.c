@@ -48,12 +48,13 @@ static double now_s(void)
   return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
 }
 
-int32_t firstbreak_station_number(double along_m, double interval_m)
+double firstbreak_station_interval(const stack_plan *p, double interval_m)
 {
-  double s = along_m / interval_m;
-  if (s > 2e9) s = 2e9;
-  if (s < -2e9) s = -2e9;
-  return (int32_t)lround(s);
+  if (interval_m > 0.0)
+    return interval_m;
+  if (p->has_stations)
+    return p->st_interval;            /* the job's statics.station_interval_m */
+  return p->survey.receiver_interval_m;
 }
 
 typedef struct unit { size_t file, rec; size_t out; } unit;   /* out: first output slot */
@@ -132,16 +133,13 @@ static int do_record(worker *w, size_t u)
     if (!w->live[j])
       continue;
     const geometry_trace *g = &w->ti[j].g;
-    bins_loc ls, lr;
-    bins_locate(p->line, g->source_x, g->source_y, &ls);
-    bins_locate(p->line, g->receiver_x, g->receiver_y, &lr);
     firstbreak_trace *o = &out[k++];
     o->record = w->h[j].field_record;
     o->channel = w->h[j].channel;
-    o->source_along_m = ls.along_m;
-    o->receiver_along_m = lr.along_m;
-    o->source_station = firstbreak_station_number(ls.along_m, w->interval);
-    o->receiver_station = firstbreak_station_number(lr.along_m, w->interval);
+    o->source_along_m = stack_station_along(p, g->source_x, g->source_y);
+    o->receiver_along_m = stack_station_along(p, g->receiver_x, g->receiver_y);
+    o->source_station = stack_station_at(p, w->interval, g->source_x, g->source_y);
+    o->receiver_station = stack_station_at(p, w->interval, g->receiver_x, g->receiver_y);
     o->offset_m = w->ti[j].off_signed;
     o->static_ms = w->ti[j].static_ms;
     o->pick = w->pk[j];
@@ -192,8 +190,7 @@ int firstbreak_run(const stack_plan *p, const firstbreak_line_opts *o, firstbrea
   int rc = firstbreak_params_check(&o->params, err);
   if (rc)
     return rc;
-  double interval = o->station_interval_m > 0.0 ? o->station_interval_m
-                                                : p->survey.receiver_interval_m;
+  double interval = firstbreak_station_interval(p, o->station_interval_m);
   if (!(interval > 0.0))
     return tz_fail(err, TZ_E_FORMAT, "first breaks: no receiver interval to number stations "
                    "by (give a station interval)");
@@ -428,7 +425,7 @@ int firstbreak_stations_scan(const stack_plan *p, double interval_m, firstbreak_
                              tz_err *err)
 {
   *out = NULL;
-  double interval = interval_m > 0.0 ? interval_m : p->survey.receiver_interval_m;
+  double interval = firstbreak_station_interval(p, interval_m);
   if (!(interval > 0.0))
     return tz_fail(err, TZ_E_FORMAT, "stations: no receiver interval to number stations by "
                    "(give a station interval)");
@@ -453,12 +450,11 @@ int firstbreak_stations_scan(const stack_plan *p, double interval_m, firstbreak_
       }
       if (!stack_locate(p, &h, t, &cmp, &oa, &os, &g, &reason))
         continue;
-      bins_loc ls, lr;
-      bins_locate(p->line, g.source_x, g.source_y, &ls);
-      bins_locate(p->line, g.receiver_x, g.receiver_y, &lr);
-      if ((rc = accs_add(&A[0], firstbreak_station_number(ls.along_m, interval), ls.along_m, g.source_x,
-                         g.source_y, g.source_z, err)) ||
-          (rc = accs_add(&A[1], firstbreak_station_number(lr.along_m, interval), lr.along_m, g.receiver_x,
+      if ((rc = accs_add(&A[0], stack_station_at(p, interval, g.source_x, g.source_y),
+                         stack_station_along(p, g.source_x, g.source_y), g.source_x, g.source_y,
+                         g.source_z, err)) ||
+          (rc = accs_add(&A[1], stack_station_at(p, interval, g.receiver_x, g.receiver_y),
+                         stack_station_along(p, g.receiver_x, g.receiver_y), g.receiver_x,
                          g.receiver_y, g.receiver_z, err)))
         tz_err_path(err, p->inputs[fi].path);
     }

@@ -137,13 +137,10 @@ int residual_run(const stack_plan *p, const residual_line_opts *o, residual_line
             !stack_plan_in_range(p, ti[j].cmp))
           continue;
         const geometry_trace *g = &ti[j].g;
-        bins_loc ls, lr;
-        bins_locate(p->line, g->source_x, g->source_y, &ls);
-        bins_locate(p->line, g->receiver_x, g->receiver_y, &lr);
-        const firstbreak_station *s0 = firstbreak_stations_find(S, 0,
-                                                                firstbreak_station_number(ls.along_m, interval));
-        const firstbreak_station *r0 = firstbreak_stations_find(S, 1,
-                                                                firstbreak_station_number(lr.along_m, interval));
+        const firstbreak_station *s0 =
+            firstbreak_stations_find(S, 0, stack_station_at(p, interval, g->source_x, g->source_y));
+        const firstbreak_station *r0 = firstbreak_stations_find(
+            S, 1, stack_station_at(p, interval, g->receiver_x, g->receiver_y));
         if (!s0 || !r0) {
           rc = tz_fail(err, TZ_E_INTERNAL, "trace without its station");
           break;
