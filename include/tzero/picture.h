@@ -70,6 +70,8 @@ typedef struct picture_panel {
                                * its value; NULL: trace numbers 1..n */
   const char *xlabel;         /* e.g. "CMP"; NULL: "TRACE" */
   const char *title;          /* title line; NULL: none */
+  const double *marks_ms;     /* per trace a time to mark with a dot (first-break
+                               * picks), NAN for none; NULL: no marks */
 } picture_panel;
 
 typedef struct picture_opts {
@@ -311,6 +313,7 @@ typedef struct picture_select {
 typedef struct picture_loaded {
   float *data;
   double *cmp, *offset;       /* per trace: bytes 21-24 and 37-40 */
+  int32_t *field_record, *channel;   /* per trace: bytes 9-12 and 13-16 */
   size_t ntraces, nsamples;
   double time_first_ms, interval_ms;
   int cmps_increase;          /* 1 when CMP numbers strictly increase trace to trace */

@@ -6,18 +6,21 @@
  * correlate trace and pilot in the window within +-max_shift_ms (parabolic
  * interpolation of the peak), and decompose the picked lags as
  *   lag = source term + receiver term + CMP structure term
+ *         + residual-moveout term (per block of CMPs) x offset^2
  * by Gauss-Seidel iterations of least squares (Taner, Koehler and Alhilali 1974,
  * Geophysics 39(4) 441-463; Wiggins, Larner and Wisecup 1976, Geophysics 41(5)
  * 922-938). The mean of the source and of the receiver terms (and, optionally,
  * their linear trend along the line) is removed, since the data cannot tell it
  * from structure, and each update is limited to max_shift_ms. Stack power (sum
  * of squared CMP-stack samples in the window) is measured before and after
- * every iteration.
+ * every iteration; an update that lowers it is undone and the iterations stop.
  *
  * Sign: a static is the time added to the trace's time axis (negative moves
  * data earlier); a trace whose event arrives tau late gets -tau.
  *
- * The whole computation is serial and in a fixed order: same input, same bits.
+ * Shifts and correlations run on threads, a trace's results depending on that
+ * trace alone; every sum is formed in a fixed order: same input, same bits, for
+ * any thread count.
  */
 #ifndef TZERO_RESIDUAL_H
 #define TZERO_RESIDUAL_H
@@ -32,6 +35,7 @@
 #define RESIDUAL_MAX_TRACES 100000000u
 #define RESIDUAL_MAX_TERMS 10000000u        /* sources, receivers or CMPs */
 #define RESIDUAL_MAX_ITERATIONS 100
+#define RESIDUAL_MAX_THREADS 256
 
 /* The traces, NMO-corrected with the statics already applied, each stored
  * over `nsamp` samples of which the correlation window is [first, first+nwin);
@@ -47,6 +51,8 @@ typedef struct residual_input {
   double dt_ms;
   const double *source_along_m, *receiver_along_m;  /* for the trend (may be NULL
                                                      * when remove_trend is 0) */
+  const double *offset_m;                     /* per trace, for the residual-moveout
+                                               * term (NULL: no such term) */
 } residual_input;
 
 typedef struct residual_params {
@@ -58,6 +64,15 @@ typedef struct residual_params {
                               * (default 0.3) */
   int remove_trend;          /* 1 = remove the linear trend of the source and of the
                               * receiver terms along the line (default 1) */
+  int moveout_term;          /* 1 = a residual-moveout term M x^2 (default 1; needs
+                              * offsets), one M per block of moveout_cmps CMPs */
+  int moveout_cmps;          /* CMPs sharing one moveout coefficient (default 100: a
+                              * coefficient per CMP would also take up any cubic of
+                              * station position, s^3 + r^3 = 2 m^3 + 3 m x^2 / 2) */
+  double damping;            /* weight of a zero pseudo-lag in every station term
+                              * (default 1): terms with few lags stay near 0 */
+  int threads;               /* 0 = the machine's online cores; any count gives the
+                              * same bits */
 } residual_params;
 
 void residual_params_init(residual_params *p);
@@ -68,13 +83,16 @@ typedef struct residual_iteration {
   double pick_rms_ms;                  /* RMS of the lags picked */
   double fit_rms_ms;                   /* RMS misfit of the decomposition */
   double update_rms_ms;                /* RMS change of the trace statics */
+  int reverted;                        /* 1: the update lowered the stack power and was
+                                        * undone; the iterations stopped there */
 } residual_iteration;
 
 typedef struct residual_result {
   size_t nsources, nreceivers, ncmps;
   double *source_ms, *receiver_ms;     /* owned: statics found (sum over iterations) */
   double *cmp_ms;                      /* structure term of the last decomposition */
-  int iterations;
+  int iterations;                      /* iterations run (the last may be reverted) */
+  int reverted;                        /* 1 when the last one was undone */
   residual_iteration it[RESIDUAL_MAX_ITERATIONS];
 } residual_result;
 
@@ -90,10 +108,14 @@ void residual_result_free(residual_result *r);
 size_t residual_margin(const residual_params *p, double dt_ms);
 
 /* Gauss-Seidel decomposition alone: lags[i] (weights w[i] >= 0, 0 = unused) into
- * source, receiver and CMP terms (arrays zeroed first), `sweeps` sweeps.
- * Returns the RMS misfit. Exposed for tests. */
+ * source, receiver and CMP terms (arrays zeroed first) and, when rnmo is not
+ * NULL and in->offset_m is given, a residual-moveout coefficient (ms per km^2)
+ * per block of `block` CMPs (rnmo holds ncmps / block + 1 values), `sweeps`
+ * sweeps, the source and receiver terms damped by `damping` (0 = none). Returns
+ * the RMS misfit. Exposed for tests. */
 double residual_decompose(const residual_input *in, const double *lags, const double *w,
-                          int sweeps, double *src, double *rec, double *cmp);
+                          int sweeps, double damping, double *src, double *rec, double *cmp,
+                          double *rnmo, size_t block);
 
 /* Shifts x (n samples) by shift_samples (out(t) = x(t - shift)) with the
  * 8-point Kaiser-windowed sinc (beta 5, unit DC gain); samples that need input

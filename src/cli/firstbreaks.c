@@ -178,7 +178,10 @@ int cmd_firstbreaks(int argc, char **argv)
   fo.progress_ctx = &pg;
   rc = firstbreak_run(su.plan, &fo, &L, &e);
   cli_progress_end(&pg);
-  if (rc || (rc = firstbreak_write_picks(L, out, 0, &e)))
+  int datum = 0;                     /* did the job's statics move any trace? */
+  for (size_t i = 0; L && i < L->n && !datum; i++)
+    datum = L->t[i].static_ms != 0.0;
+  if (rc || (rc = firstbreak_write_picks(L, out, datum, &e)))
     goto fail;
   double rate = L->elapsed_s > 0.0 ? (double)L->n / L->elapsed_s * 60.0 : 0.0;
   if (json) {

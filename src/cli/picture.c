@@ -10,6 +10,7 @@
 
 #include "cli.h"
 #include "tzero/fileio.h"
+#include "tzero/firstbreak.h"
 #include "tzero/picture.h"
 #include "tzero/table.h"
 
@@ -56,6 +57,9 @@ static void help(void)
          "                          px of time; fold chart 3 px per CMP, 480 px high)\n"
          "  --title TEXT            replace the title line\n"
          "  --fold QC.json          draw the fold chart of a QC report (tzero-qc/1)\n"
+         "  --picks PICKS.csv       mark first-break picks (tzero firstbreaks) with green\n"
+         "                          dots on the traces they belong to (matched by field\n"
+         "                          record, bytes 9-12, and channel, bytes 13-16)\n"
          "  --spectrum A.csv,...    draw spectra written by tzero spectrum (dB against\n"
          "                          frequency, up to 8 curves); --labels names them\n"
          "  --fk-record N           draw the f-k amplitude spectrum of field record N\n"
@@ -270,11 +274,44 @@ static int run_statics(const char *qc, const char *out, int format, const char *
   return EX_OK;
 }
 
+static int cmp_key(const void *a, const void *b)
+{
+  const firstbreak_file_pick *p = a, *q = b;
+  if (p->record != q->record)
+    return p->record < q->record ? -1 : 1;
+  return (p->channel > q->channel) - (p->channel < q->channel);
+}
+
+/* The pick time of every trace of the panel (matched by field record and
+ * channel), NAN where the picks file has none. *out owns the array. */
+static int pick_marks(const char *path, const picture_loaded *l, double **out, tz_err *err)
+{
+  firstbreak_file_pick *pk = NULL;
+  size_t n = 0;
+  int rc = firstbreak_picks_load(path, NULL, &pk, &n, err);
+  if (rc)
+    return rc;
+  double *m = malloc((l->ntraces ? l->ntraces : 1) * sizeof *m);
+  if (!m) {
+    free(pk);
+    return tz_fail(err, TZ_E_NOMEM, "%zu marks", l->ntraces);
+  }
+  qsort(pk, n, sizeof *pk, cmp_key);
+  for (size_t i = 0; i < l->ntraces; i++) {
+    firstbreak_file_pick key = { .record = l->field_record[i], .channel = l->channel[i] };
+    const firstbreak_file_pick *q = n ? bsearch(&key, pk, n, sizeof *pk, cmp_key) : NULL;
+    m[i] = q ? q->time_ms : NAN;
+  }
+  free(pk);
+  *out = m;
+  return TZ_OK;
+}
+
 int cmd_picture(int argc, char **argv)
 {
   enum { O_OUT = 256, O_CMPS, O_TIME, O_PCT, O_CLIP, O_MAP, O_STYLE, O_W, O_H, O_TITLE, O_FOLD,
          O_JSON, O_QUIET, O_FORMAT, O_SPECTRUM, O_LABELS, O_FK, O_SPACING, O_MAXHZ, O_MINDB,
-         O_FAN, O_STATICS };
+         O_FAN, O_STATICS, O_PICKS };
   static const struct option opts[] = {
     { "out", required_argument, NULL, O_OUT },
     { "cmps", required_argument, NULL, O_CMPS },
@@ -291,6 +328,7 @@ int cmd_picture(int argc, char **argv)
     { "json", no_argument, NULL, O_JSON },
     { "quiet", no_argument, NULL, O_QUIET },
     { "format", required_argument, NULL, O_FORMAT },
+    { "picks", required_argument, NULL, O_PICKS },
     { "spectrum", required_argument, NULL, O_SPECTRUM },
     { "labels", required_argument, NULL, O_LABELS },
     { "fk-record", required_argument, NULL, O_FK },
@@ -303,7 +341,7 @@ int cmd_picture(int argc, char **argv)
   };
   static const char *const maps[] = { "diverging", "grey", "semblance", NULL };
   static const char *const styles[] = { "auto", "density", "wiggle", "both", NULL };
-  const char *out = NULL, *title = NULL, *fold = NULL, *statics = NULL;
+  const char *out = NULL, *title = NULL, *fold = NULL, *statics = NULL, *picks = NULL;
   picture_opts po = { 0 };
   picture_select sel = { 0 };
   cli_spectrum_pic sp = { 0 };
@@ -343,6 +381,7 @@ int cmd_picture(int argc, char **argv)
     case O_H: bad = parse_px("--height", optarg, &po.height); break;
     case O_TITLE: title = optarg; break;
     case O_FOLD: fold = optarg; break;
+    case O_PICKS: picks = optarg; break;
     case O_SPECTRUM: sp.spectra = optarg; break;
     case O_LABELS: sp.labels = optarg; break;
     case O_FK: sp.fk_record = optarg; break;
@@ -432,7 +471,14 @@ int cmd_picture(int argc, char **argv)
     snprintf(what, sizeof what, "%zu traces", l.ntraces);
   snprintf(t, sizeof t, "%s, %s, %g-%g ms", base_name(in_path), what, l.time_first_ms, t_last);
   p.title = title ? title : t;
+  double *marks = NULL;
+  if (picks && (rc = pick_marks(picks, &l, &marks, &err))) {
+    picture_loaded_free(&l);
+    return cli_report(cmd, &err);
+  }
+  p.marks_ms = marks;
   rc = picture_draw_panel(&p, &po, format, &ctx, &info, &err);
+  free(marks);
   if (!rc)
     rc = picture_ctx_write(ctx, out, &err);
   double cmin = l.cmp[0], cmax = l.cmp[0];

@@ -24,12 +24,14 @@ static void help(void)
          "iteration shifts every trace by its current source + receiver static, cross-\n"
          "correlates it with a pilot (the stack of its CMP and the CMPs beside it, less\n"
          "the trace itself) in the window, picks the lag of the largest correlation\n"
-         "within the maximum shift, and decomposes the lags into source, receiver and\n"
-         "CMP (structure) terms by Gauss-Seidel least squares (Taner, Koehler and\n"
-         "Alhilali 1974; Wiggins, Larner and Wisecup 1976). The mean and the linear\n"
+         "within the maximum shift, and decomposes the lags into source, receiver, CMP\n"
+         "(structure) and residual-moveout (M x^2, one M per block of CMPs) terms by\n"
+         "Gauss-Seidel least squares (Taner, Koehler and Alhilali 1974; Wiggins, Larner\n"
+         "and Wisecup 1976), station terms damped towards 0. The mean and the linear\n"
          "trend of the source and of the receiver terms are removed (the data cannot\n"
          "tell them from structure) and every update is limited to the maximum shift.\n"
-         "The stack power in the window is reported before and after each iteration.\n"
+         "The stack power in the window is reported before and after each iteration;\n"
+         "an update that lowers it is undone and the iterations stop there.\n"
          "\n"
          "Output: the station statics table kind,station,x_m,y_m,elevation_m,static_ms\n"
          "of the residual statics alone: add it to the job's statics.tables.\n"
@@ -44,8 +46,12 @@ static void help(void)
          "  --pilot-cmps N        CMPs on each side in the pilot (default 2)\n"
          "  --min-correlation R   leave out lags of lower normalised correlation (0.3)\n"
          "  --keep-trend          remove only the mean, not the linear trend\n"
+         "  --no-moveout-term     leave the residual-moveout term out\n"
+         "  --moveout-cmps N      CMPs sharing one moveout coefficient (default 100)\n"
          "  --station-interval M  station numbering interval (default the receiver interval)\n"
          "  --velocity FILE       velocity table overriding the job's\n"
+         "  --threads N           worker threads for the iterations (0 = all cores; the\n"
+         "                        same table for any count)\n"
          "  --skip-bad-files      leave out missing or corrupt shot files\n"
          "  --json                print the summary as JSON\n"
          "  --quiet               print nothing on success\n"
@@ -53,7 +59,7 @@ static void help(void)
          "\n%s", CLI_CAUTION);
 }
 
-enum { O_WINDOW = 1, O_SHIFT, O_ITER, O_PILOT, O_MINC, O_TREND, O_STATION };
+enum { O_WINDOW = 1, O_SHIFT, O_ITER, O_PILOT, O_MINC, O_TREND, O_STATION, O_NOMO, O_MOCMPS };
 
 static void show_iteration(void *ctx, int it, const residual_iteration *ri)
 {
@@ -62,9 +68,10 @@ static void show_iteration(void *ctx, int it, const residual_iteration *ri)
     return;
   double gain = ri->power_before > 0.0 ? 100.0 * (ri->power_after / ri->power_before - 1.0) : 0;
   printf("iteration %d: stack power %.6g -> %.6g (%+.1f %%); %zu lags, RMS %.2f ms; "
-         "decomposition misfit %.2f ms; trace statics changed by %.2f ms RMS\n", it,
+         "decomposition misfit %.2f ms; trace statics changed by %.2f ms RMS%s\n", it,
          ri->power_before, ri->power_after, gain, ri->picks, ri->pick_rms_ms, ri->fit_rms_ms,
-         ri->update_rms_ms);
+         ri->update_rms_ms,
+         ri->reverted ? " (the stack got worse: update undone, iterations stopped)" : "");
   fflush(stdout);
 }
 
@@ -79,6 +86,8 @@ int cmd_statics_residual(int argc, char **argv)
     { "pilot-cmps", required_argument, NULL, O_PILOT },
     { "min-correlation", required_argument, NULL, O_MINC },
     { "keep-trend", no_argument, NULL, O_TREND },
+    { "no-moveout-term", no_argument, NULL, O_NOMO },
+    { "moveout-cmps", required_argument, NULL, O_MOCMPS },
     { "station-interval", required_argument, NULL, O_STATION },
     { "json", no_argument, NULL, 'j' },
     { "quiet", no_argument, NULL, 'q' },
@@ -148,6 +157,14 @@ int cmd_statics_residual(int argc, char **argv)
         return cli_usage_error(cmd, "--min-correlation: expected 0 <= R < 1");
       break;
     case O_TREND: ro.params.remove_trend = 0; break;
+    case O_NOMO: ro.params.moveout_term = 0; break;
+    case O_MOCMPS:
+      if (cli_parse_i64(cmd, "--moveout-cmps", optarg, &n))
+        return EX_USAGE;
+      if (n < 1 || n > 1000000)
+        return cli_usage_error(cmd, "--moveout-cmps: expected 1 to 1000000");
+      ro.params.moveout_cmps = (int)n;
+      break;
     case O_STATION:
       if (cli_parse_f64(cmd, "--station-interval", optarg, &ro.station_interval_m))
         return EX_USAGE;
@@ -187,6 +204,7 @@ int cmd_statics_residual(int argc, char **argv)
   }
   ro.window_start_ms = wa, ro.window_end_ms = wb;
   ro.velocity = su.velocity;
+  ro.params.threads = su.job->threads;
   int quiet_it = quiet || json;
   ro.iteration = show_iteration;
   ro.iteration_ctx = &quiet_it;
@@ -239,6 +257,7 @@ int cmd_statics_residual(int argc, char **argv)
       cJSON_AddNumberToObject(x, "lag_rms_ms", R->it[i].pick_rms_ms);
       cJSON_AddNumberToObject(x, "misfit_rms_ms", R->it[i].fit_rms_ms);
       cJSON_AddNumberToObject(x, "update_rms_ms", R->it[i].update_rms_ms);
+      cJSON_AddBoolToObject(x, "reverted", R->it[i].reverted);
       cJSON_AddItemToArray(a, x);
     }
     cli_print_json(o);

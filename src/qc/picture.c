@@ -484,6 +484,21 @@ int picture_draw_panel(const picture_panel *p, const picture_opts *o, int format
 
   /* time axis: sample j is centred on row (j + 0.5) * plot_h / ns - 0.5 */
   double rows_per_sample = (double)in.plot_h / (double)p->nsamples;
+  if (p->marks_ms) {
+    /* marks (first-break picks): a dot at the trace centre and the marked time */
+    static const unsigned char mark[3] = { 0, 150, 0 };
+    double cols_per_trace = (double)in.plot_w / (double)p->ntraces;
+    double r = cols_per_trace >= 6.0 ? 3.5 : 2.0;
+    picture_ctx_group(c, "class=\"marks\"");
+    for (size_t i = 0; i < p->ntraces; i++) {
+      double tm = p->marks_ms[i], js = (tm - p->time_first_ms) / p->interval_ms;
+      if (!isfinite(tm) || js < -0.5 || js > (double)p->nsamples - 0.5)
+        continue;
+      picture_ctx_dot(c, in.plot_x + ((double)i + 0.5) * cols_per_trace - 0.5,
+                      in.plot_y + (js + 0.5) * rows_per_sample - 0.5, r, mark);
+    }
+    picture_ctx_group_end(c);
+  }
   double t_last = p->time_first_ms + (double)(p->nsamples - 1) * p->interval_ms;
   left_axis(c, in.plot_x, in.plot_y + 0.5 * rows_per_sample - 0.5,
             in.plot_y + ((double)p->nsamples - 0.5) * rows_per_sample - 0.5, p->time_first_ms,
@@ -778,6 +793,8 @@ void picture_loaded_free(picture_loaded *l)
   free(l->data);
   free(l->cmp);
   free(l->offset);
+  free(l->field_record);
+  free(l->channel);
   memset(l, 0, sizeof *l);
 }
 
@@ -852,8 +869,10 @@ int picture_load_segy(const char *path, const picture_select *sel, picture_loade
   out->data = malloc((size_t)keep * nk * sizeof *out->data);
   out->cmp = malloc((size_t)keep * sizeof *out->cmp);
   out->offset = malloc((size_t)keep * sizeof *out->offset);
+  out->field_record = malloc((size_t)keep * sizeof *out->field_record);
+  out->channel = malloc((size_t)keep * sizeof *out->channel);
   buf = malloc(ns * sizeof *buf);
-  if (!out->data || !out->cmp || !out->offset || !buf) {
+  if (!out->data || !out->cmp || !out->offset || !out->field_record || !out->channel || !buf) {
     rc = tz_fail(err, TZ_E_NOMEM, "%lld traces of %zu samples", (long long)keep, nk);
     goto fail;
   }
@@ -870,6 +889,8 @@ int picture_load_segy(const char *path, const picture_select *sel, picture_loade
     memcpy(out->data + k * nk, buf + j0, nk * sizeof *buf);
     out->cmp[k] = h.cmp;
     out->offset[k] = h.offset;
+    out->field_record[k] = h.field_record;
+    out->channel[k] = h.channel;
     if (k > 0 && !(out->cmp[k] > out->cmp[k - 1]))
       out->cmps_increase = 0;
     k++;

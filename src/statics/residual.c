@@ -10,10 +10,24 @@
 #include "tzero/residual.h"
 
 #include <math.h>
+#include <pthread.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #define PI 3.14159265358979323846
+
+/* Four floats as one value (GCC and Clang vector extensions, the SSE registers
+ * every x86-64 has; elsewhere the compiler splits them), lane by lane IEEE, so
+ * the results do not depend on the machine or the thread count. */
+typedef float v4f __attribute__((vector_size(16)));
+
+static inline v4f load4(const float *p)
+{
+  v4f v;
+  memcpy(&v, p, sizeof v);
+  return v;
+}
 
 void residual_params_init(residual_params *p)
 {
@@ -24,6 +38,9 @@ void residual_params_init(residual_params *p)
   p->pilot_half_width = 2;
   p->min_correlation = 0.3;
   p->remove_trend = 1;
+  p->moveout_term = 1;
+  p->moveout_cmps = 100;
+  p->damping = 1.0;
 }
 
 void residual_result_free(residual_result *r)
@@ -73,22 +90,39 @@ void residual_shift(const float *x, size_t n, double shift, float *out)
   if (hi < lo) hi = lo;
   for (long m = 0; m < lo; m++)
     out[m] = 0.0f;
-  for (long m = lo; m < hi; m++) {
-    const float *p = x + m + ia - 3;
-    out[m] = (float)(h[0] * p[0] + h[1] * p[1] + h[2] * p[2] + h[3] * p[3] + h[4] * p[4] +
-                     h[5] * p[5] + h[6] * p[6] + h[7] * p[7]);
+  float g[8];                     /* single precision in the sample loop (float data) */
+  for (int k = 0; k < 8; k++)
+    g[k] = (float)h[k];
+  long mm = lo;
+  for (; mm + 4 <= hi; mm += 4) {  /* four output samples at a time, same sums per sample */
+    const float *p = x + mm + ia - 3;
+    v4f r = ((g[0] * load4(p) + g[1] * load4(p + 1)) + (g[2] * load4(p + 2) + g[3] * load4(p + 3))) +
+            ((g[4] * load4(p + 4) + g[5] * load4(p + 5)) + (g[6] * load4(p + 6) + g[7] * load4(p + 7)));
+    memcpy(out + mm, &r, sizeof r);
+  }
+  for (; mm < hi; mm++) {
+    const float *p = x + mm + ia - 3;
+    out[mm] = ((g[0] * p[0] + g[1] * p[1]) + (g[2] * p[2] + g[3] * p[3])) +
+              ((g[4] * p[4] + g[5] * p[5]) + (g[6] * p[6] + g[7] * p[7]));
   }
   for (long m = hi; m < N; m++)
     out[m] = 0.0f;
 }
 
 double residual_decompose(const residual_input *in, const double *lag, const double *w,
-                          int sweeps, double *src, double *rec, double *cmp)
+                          int sweeps, double damping, double *src, double *rec, double *cmp,
+                          double *rnmo, size_t block)
 {
   size_t ns = in->nsources, nr = in->nreceivers, nc = in->ncmps;
+  const double *off = rnmo ? in->offset_m : NULL;
+  if (block < 1)
+    block = 1;
+  size_t nb = nc / block + 1;
   memset(src, 0, ns * sizeof *src);
   memset(rec, 0, nr * sizeof *rec);
   memset(cmp, 0, nc * sizeof *cmp);
+  if (rnmo)
+    memset(rnmo, 0, nb * sizeof *rnmo);
   size_t mx = ns > nr ? ns : nr;
   mx = mx > nc ? mx : nc;
   double *num = malloc(mx * sizeof *num), *den = malloc(mx * sizeof *den);
@@ -96,33 +130,43 @@ double residual_decompose(const residual_input *in, const double *lag, const dou
     free(num), free(den);
     return NAN;
   }
+#define X2(i) (off ? (off[i] / 1000.0) * (off[i] / 1000.0) : 0.0)
+#define MODEL(i) (src[in->source[i]] + rec[in->receiver[i]] + cmp[in->cmp[i]] + \
+                  (off ? rnmo[in->cmp[i] / block] * X2(i) : 0.0))
+  int nterms = off ? 4 : 3;
   for (int sw = 0; sw < sweeps; sw++) {
-    /* Each term in turn: the weighted mean of what the other terms leave. */
-    for (int term = 0; term < 3; term++) {
-      size_t nt = term == 0 ? ns : term == 1 ? nr : nc;
+    /* Each term in turn: the (damped) weighted least-squares value given the others. */
+    for (int term = 0; term < nterms; term++) {
+      size_t nt = term == 0 ? ns : term == 1 ? nr : term == 2 ? nc : nb;
       const uint32_t *idx = term == 0 ? in->source : term == 1 ? in->receiver : in->cmp;
-      double *x = term == 0 ? src : term == 1 ? rec : cmp;
+      size_t div = term == 3 ? block : 1;
+      double *x = term == 0 ? src : term == 1 ? rec : term == 2 ? cmp : rnmo;
       memset(num, 0, nt * sizeof *num);
       memset(den, 0, nt * sizeof *den);
       for (size_t i = 0; i < in->ntraces; i++) {
         if (!(w[i] > 0.0))
           continue;
-        double rest = lag[i] - src[in->source[i]] - rec[in->receiver[i]] - cmp[in->cmp[i]];
-        num[idx[i]] += w[i] * (rest + x[idx[i]]);
-        den[idx[i]] += w[i];
+        size_t q = idx[i] / div;
+        double g = term == 3 ? X2(i) : 1.0;   /* the term's coefficient in the model */
+        double rest = lag[i] - MODEL(i) + g * x[q];
+        num[q] += w[i] * g * rest;
+        den[q] += w[i] * g * g;
       }
+      double dmp = term <= 1 ? damping : 0.0;  /* structure and moveout are not shrunk */
       for (size_t k = 0; k < nt; k++)
-        x[k] = den[k] > 0.0 ? num[k] / den[k] : 0.0;
+        x[k] = den[k] > 0.0 ? num[k] / (den[k] + dmp) : 0.0;
     }
   }
   double ss = 0.0, ws = 0.0;
   for (size_t i = 0; i < in->ntraces; i++) {
     if (!(w[i] > 0.0))
       continue;
-    double r = lag[i] - src[in->source[i]] - rec[in->receiver[i]] - cmp[in->cmp[i]];
+    double r = lag[i] - MODEL(i);
     ss += w[i] * r * r;
     ws += w[i];
   }
+#undef MODEL
+#undef X2
   free(num), free(den);
   return ws > 0.0 ? sqrt(ss / ws) : 0.0;
 }
@@ -157,19 +201,130 @@ static double clamp(double v, double lim)
   return v > lim ? lim : v < -lim ? -lim : v;
 }
 
+/* ---- the per-trace work, dealt to threads in fixed blocks of traces ----
+ * Shifting and correlating a trace touch only that trace's outputs, so any
+ * thread count gives the same bits; the CMP sums are formed afterwards in trace
+ * order by one thread. */
+typedef struct job {
+  const residual_params *p;
+  const residual_input *in;
+  const double *S, *R;
+  float *buf;
+  const double *pil;
+  double *lag, *w;
+  long L;
+  int mode;                  /* 0 shift, 1 correlate */
+  size_t t0, t1;             /* traces */
+  float *q;                  /* own scratch: nwin */
+  double *c;                 /* own scratch: 2L + 1 */
+} job;
+
+static void shift_range(job *j)
+{
+  const residual_input *in = j->in;
+  for (size_t i = j->t0; i < j->t1; i++) {
+    double sh = (j->S[in->source[i]] + j->R[in->receiver[i]]) / in->dt_ms;
+    residual_shift(in->samples + i * in->nsamp, in->nsamp, sh, j->buf + i * in->nsamp);
+  }
+}
+
+static void correlate_range(job *j)
+{
+  const residual_input *in = j->in;
+  size_t nw = in->nwin;
+  long L = j->L;
+  float *qf = j->q;
+  double *c = j->c;
+  for (size_t i = j->t0; i < j->t1; i++) {
+    const float *y = j->buf + i * in->nsamp + in->first;
+    const double *pk = j->pil + (size_t)in->cmp[i] * nw;
+    double ep = 0.0, ey = 0.0;
+    for (size_t t = 0; t < nw; t++) {
+      double qq = pk[t] - y[t];               /* the pilot without the trace itself */
+      qf[t] = (float)qq;
+      ep += qq * qq;
+      ey += (double)y[t] * y[t];
+    }
+    long lbest = 0;
+    double cbest = -INFINITY;
+    for (long l = -L; l <= L; l++) {
+      /* eight single-precision partial sums in a fixed pattern (one vector
+       * register's worth): the same bits every run */
+      v4f a0 = { 0, 0, 0, 0 }, a1 = { 0, 0, 0, 0 };
+      const float *yl = y + l;
+      size_t t = 0;
+      for (; t + 8 <= nw; t += 8) {
+        a0 += load4(yl + t) * load4(qf + t);
+        a1 += load4(yl + t + 4) * load4(qf + t + 4);
+      }
+      float a8[8];
+      memcpy(a8, &a0, sizeof a0);
+      memcpy(a8 + 4, &a1, sizeof a1);
+      double sum = 0.0;
+      for (; t < nw; t++)
+        sum += (double)yl[t] * qf[t];
+      sum += (((double)a8[0] + a8[1]) + ((double)a8[2] + a8[3])) +
+             (((double)a8[4] + a8[5]) + ((double)a8[6] + a8[7]));
+      c[l + L] = sum;
+      if (sum > cbest)
+        cbest = sum, lbest = l;
+    }
+    j->lag[i] = 0.0;
+    j->w[i] = 0.0;
+    if (!(ep > 0.0) || !(ey > 0.0) || lbest == -L || lbest == L)
+      continue;                                /* no pilot, dead trace or peak at the edge */
+    double rho = cbest / sqrt(ep * ey);
+    if (!(rho >= j->p->min_correlation))
+      continue;
+    double cm = c[lbest - 1 + L], c0 = c[lbest + L], cp = c[lbest + 1 + L];
+    double den = cm - 2.0 * c0 + cp, d = den < 0.0 ? 0.5 * (cm - cp) / den : 0.0;
+    j->lag[i] = ((double)lbest + d) * in->dt_ms;
+    j->w[i] = rho;
+  }
+}
+
+static void *run_job(void *arg)
+{
+  job *j = arg;
+  if (j->mode == 0)
+    shift_range(j);
+  else
+    correlate_range(j);
+  return NULL;
+}
+
+/* Runs mode on every trace, the traces split into nthreads equal blocks. */
+static void run_all(job *jobs, int nthreads, int mode, size_t ntraces)
+{
+  pthread_t th[RESIDUAL_MAX_THREADS];
+  int started[RESIDUAL_MAX_THREADS] = { 0 };
+  for (int t = 0; t < nthreads; t++) {
+    jobs[t].mode = mode;
+    jobs[t].t0 = ntraces * (size_t)t / (size_t)nthreads;
+    jobs[t].t1 = ntraces * (size_t)(t + 1) / (size_t)nthreads;
+  }
+  for (int t = 1; t < nthreads; t++)
+    started[t] = pthread_create(&th[t], NULL, run_job, &jobs[t]) == 0;
+  run_job(&jobs[0]);
+  for (int t = 1; t < nthreads; t++) {
+    if (started[t])
+      pthread_join(th[t], NULL);
+    else
+      run_job(&jobs[t]);                     /* a thread that could not start: here */
+  }
+}
+
 /* Shifts every trace by its current static and sums the CMP windows; returns
  * the stack power. */
-static double shift_and_stack(const residual_input *in, const double *S, const double *R,
-                              float *buf, double *acc)
+static double shift_and_stack(job *jobs, int nthreads, const residual_input *in, float *buf,
+                              double *acc)
 {
   size_t nw = in->nwin;
+  run_all(jobs, nthreads, 0, in->ntraces);
   memset(acc, 0, in->ncmps * nw * sizeof *acc);
   for (size_t i = 0; i < in->ntraces; i++) {
-    double sh = (S[in->source[i]] + R[in->receiver[i]]) / in->dt_ms;
-    float *y = buf + i * in->nsamp;
-    residual_shift(in->samples + i * in->nsamp, in->nsamp, sh, y);
     double *a = acc + (size_t)in->cmp[i] * nw;
-    const float *yw = y + in->first;
+    const float *yw = buf + i * in->nsamp + in->first;
     for (size_t t = 0; t < nw; t++)
       a[t] += yw[t];
   }
@@ -189,6 +344,11 @@ int residual_solve(const residual_params *p, const residual_input *in, residual_
   if (p->iterations < 1 || p->iterations > RESIDUAL_MAX_ITERATIONS)
     return tz_fail(err, TZ_E_ARG, "residual statics: %d iterations (1 to %d)", p->iterations,
                    RESIDUAL_MAX_ITERATIONS);
+  if (p->moveout_cmps < 1 || p->moveout_cmps > 1000000)
+    return tz_fail(err, TZ_E_ARG, "residual statics: %d CMPs per moveout term (1 to 1000000)",
+                   p->moveout_cmps);
+  if (!(p->damping >= 0.0) || !isfinite(p->damping))
+    return tz_fail(err, TZ_E_ARG, "residual statics: damping %g is not >= 0", p->damping);
   if (p->sweeps < 1 || p->sweeps > 10000 || p->pilot_half_width < 0 ||
       p->pilot_half_width > 1000)
     return tz_fail(err, TZ_E_ARG, "residual statics: sweeps %d (1 to 10000), pilot half-width "
@@ -223,13 +383,26 @@ int residual_solve(const residual_params *p, const residual_input *in, residual_
   double *acc = malloc(in->ncmps * nw * sizeof *acc);
   double *pil = malloc(in->ncmps * nw * sizeof *pil);
   double *lag = malloc(nt * sizeof *lag), *w = malloc(nt * sizeof *w);
-  double *c = malloc((size_t)(2 * L + 1) * sizeof *c);
+  int nth = p->threads > 0 ? p->threads : (int)sysconf(_SC_NPROCESSORS_ONLN);
+  if (nth < 1)
+    nth = 1;
+  if (nth > RESIDUAL_MAX_THREADS)
+    nth = RESIDUAL_MAX_THREADS;
+  if ((size_t)nth > nt)
+    nth = (int)nt;
+  job jobs[RESIDUAL_MAX_THREADS];
+  double *cs = malloc((size_t)nth * (size_t)(2 * L + 1) * sizeof *cs);
+  float *qs = malloc((size_t)nth * nw * sizeof *qs);
   double *dS = malloc(in->nsources * sizeof *dS), *dR = malloc(in->nreceivers * sizeof *dR);
+  int rnmo_on = p->moveout_term && in->offset_m;
+  size_t block = p->moveout_cmps > 0 ? (size_t)p->moveout_cmps : 1;
+  double *rn = rnmo_on ? malloc((in->ncmps / block + 1) * sizeof *rn) : NULL;
   unsigned char *uS = malloc(in->nsources), *uR = malloc(in->nreceivers);
   r->source_ms = calloc(in->nsources, sizeof *r->source_ms);
   r->receiver_ms = calloc(in->nreceivers, sizeof *r->receiver_ms);
   r->cmp_ms = calloc(in->ncmps, sizeof *r->cmp_ms);
-  if (!buf || !acc || !pil || !lag || !w || !c || !dS || !dR || !uS || !uR || !r->source_ms ||
+  if (!buf || !acc || !pil || !lag || !w || !cs || !qs || !dS || !dR || !uS || !uR || (rnmo_on && !rn) ||
+      !r->source_ms ||
       !r->receiver_ms || !r->cmp_ms) {
     rc = tz_fail(err, TZ_E_NOMEM, "residual statics: %zu traces of %zu samples", nt,
                  in->nsamp);
@@ -237,7 +410,10 @@ int residual_solve(const residual_params *p, const residual_input *in, residual_
   }
   r->nsources = in->nsources, r->nreceivers = in->nreceivers, r->ncmps = in->ncmps;
   double *S = r->source_ms, *R = r->receiver_ms;
-  double power = shift_and_stack(in, S, R, buf, acc);
+  for (int t = 0; t < nth; t++)
+    jobs[t] = (job){ p, in, S, R, buf, pil, lag, w, L, 0, 0, 0, qs + (size_t)t * nw,
+                     cs + (size_t)t * (size_t)(2 * L + 1) };
+  double power = shift_and_stack(jobs, nth, in, buf, acc);
   int hw = p->pilot_half_width;
   for (int it = 0; it < p->iterations; it++) {
     residual_iteration *ri = &r->it[it];
@@ -254,45 +430,16 @@ int residual_solve(const residual_params *p, const residual_input *in, residual_
           pk[t] += a[t];
       }
     }
+    run_all(jobs, nth, 1, nt);
     double ss = 0.0;
     size_t npk = 0;
-    for (size_t i = 0; i < nt; i++) {
-      const float *y = buf + i * in->nsamp + in->first;
-      const double *pk = pil + (size_t)in->cmp[i] * nw;
-      double ep = 0.0, ey = 0.0;
-      for (size_t t = 0; t < nw; t++) {
-        double q = pk[t] - y[t];              /* the pilot without the trace itself */
-        ep += q * q;
-        ey += (double)y[t] * y[t];
-      }
-      long lbest = 0;
-      double cbest = -INFINITY;
-      for (long l = -L; l <= L; l++) {
-        double s = 0.0;
-        const float *yl = y + l;
-        for (size_t t = 0; t < nw; t++)
-          s += (double)yl[t] * (pk[t] - y[t]);
-        c[l + L] = s;
-        if (s > cbest)
-          cbest = s, lbest = l;
-      }
-      lag[i] = 0.0;
-      w[i] = 0.0;
-      if (!(ep > 0.0) || !(ey > 0.0) || lbest == -L || lbest == L)
-        continue;                              /* no pilot, dead trace or peak at the edge */
-      double rho = cbest / sqrt(ep * ey);
-      if (!(rho >= p->min_correlation))
-        continue;
-      double cm = c[lbest - 1 + L], c0 = c[lbest + L], cp = c[lbest + 1 + L];
-      double den = cm - 2.0 * c0 + cp, d = den < 0.0 ? 0.5 * (cm - cp) / den : 0.0;
-      lag[i] = ((double)lbest + d) * in->dt_ms;
-      w[i] = rho;
-      ss += lag[i] * lag[i];
-      npk++;
-    }
+    for (size_t i = 0; i < nt; i++)
+      if (w[i] > 0.0)
+        ss += lag[i] * lag[i], npk++;
     ri->picks = npk;
     ri->pick_rms_ms = npk ? sqrt(ss / (double)npk) : 0.0;
-    ri->fit_rms_ms = residual_decompose(in, lag, w, p->sweeps, dS, dR, r->cmp_ms);
+    ri->fit_rms_ms = residual_decompose(in, lag, w, p->sweeps, p->damping, dS, dR, r->cmp_ms,
+                                        rn, block);
     memset(uS, 0, in->nsources);
     memset(uR, 0, in->nreceivers);
     for (size_t i = 0; i < nt; i++)
@@ -311,15 +458,30 @@ int residual_solve(const residual_params *p, const residual_input *in, residual_
       us += d * d;
     }
     ri->update_rms_ms = sqrt(us / (double)nt);
-    power = shift_and_stack(in, S, R, buf, acc);
-    ri->power_after = power;
+    double after = shift_and_stack(jobs, nth, in, buf, acc);
+    ri->power_after = after;
     r->iterations = it + 1;
+    if (after < power) {
+      /* The update lowered the stack power: the lags were not telling statics
+       * (noise, events the NMO did not flatten). Keep the statics as they were
+       * and stop (common practice: never keep an update that degrades the stack). */
+      for (size_t k = 0; k < in->nsources; k++)
+        S[k] += clamp(dS[k], p->max_shift_ms);
+      for (size_t k = 0; k < in->nreceivers; k++)
+        R[k] += clamp(dR[k], p->max_shift_ms);
+      ri->reverted = 1;
+      r->reverted = 1;
+      if (progress)
+        progress(ctx, it + 1, ri);
+      break;
+    }
+    power = after;
     if (progress)
       progress(ctx, it + 1, ri);
   }
 done:
-  free(buf), free(acc), free(pil), free(lag), free(w), free(c), free(dS), free(dR);
-  free(uS), free(uR);
+  free(buf), free(acc), free(pil), free(lag), free(w), free(cs), free(qs), free(dS), free(dR);
+  free(uS), free(uR), free(rn);
   if (rc)
     residual_result_free(r);
   return rc;

@@ -78,15 +78,19 @@ int residual_run(const stack_plan *p, const residual_line_opts *o, residual_line
   nmo_params np;
   nmo_top_mute mute;
   size_t rmax = p->max_record > 0 ? (size_t)p->max_record : 1, ns = ax->ns;
-  float *rs = malloc(rmax * ns * sizeof *rs), *vel = malloc(ns * sizeof *vel);
-  float *eta = malloc(ns * sizeof *eta), *cor = malloc(ns * sizeof *cor);
+  float *rs = malloc(rmax * ns * sizeof *rs), *cor = malloc(ns * sizeof *cor);
+  float *vcache = malloc(p->ncmps * ns * sizeof *vcache);
+  float *ecache = velocity_table_has_eta(o->velocity) ? malloc(p->ncmps * ns * sizeof *ecache)
+                                                      : NULL;
+  unsigned char *vdone = calloc(p->ncmps ? p->ncmps : 1, 1);
   segy_trace_header *rh = malloc(rmax * sizeof *rh);
   stack_tinfo *ti = calloc(rmax, sizeof *ti);
   size_t cap = 0, nt = 0;
   float *keep = NULL;
   uint32_t *src = NULL, *rec = NULL, *cmpi = NULL;
-  double *sa = NULL, *ra = NULL;
-  if (!rs || !vel || !eta || !cor || !rh || !ti) {
+  double *sa = NULL, *ra = NULL, *offs = NULL;
+  if (!rs || !cor || !vcache || (velocity_table_has_eta(o->velocity) && !ecache) || !vdone ||
+      !rh || !ti) {
     rc = tz_fail(err, TZ_E_NOMEM, "residual statics: record of %zu x %zu samples", rmax, ns);
     goto done;
   }
@@ -145,10 +149,15 @@ int residual_run(const stack_plan *p, const residual_line_opts *o, residual_line
           rc = tz_fail(err, TZ_E_INTERNAL, "trace without its station");
           break;
         }
-        velocity_sample(o->velocity, ti[j].cmp, ax->t_first_s, ax->dt_s, ns, vel,
-                        use_eta ? eta : NULL);
-        if ((rc = nmo_apply(nws, &np, &mute, ax, ti[j].off_abs, rs + j * ns, vel,
-                            use_eta ? eta : NULL, cor, NULL, NULL, err)))
+        /* the CMP's velocity function, sampled once per CMP */
+        size_t ci = (size_t)(ti[j].cmp - p->first_cmp);
+        if (!vdone[ci]) {
+          velocity_sample(o->velocity, ti[j].cmp, ax->t_first_s, ax->dt_s, ns,
+                          vcache + ci * ns, use_eta ? ecache + ci * ns : NULL);
+          vdone[ci] = 1;
+        }
+        if ((rc = nmo_apply(nws, &np, &mute, ax, ti[j].off_abs, rs + j * ns, vcache + ci * ns,
+                            use_eta ? ecache + ci * ns : NULL, cor, NULL, NULL, err)))
           break;
         if (nt == cap) {
           size_t nc = cap ? 2 * cap : 1024;
@@ -167,7 +176,9 @@ int residual_run(const stack_plan *p, const residual_line_opts *o, residual_line
           if (r1) rec = r1;
           uint32_t *c1 = r1 ? realloc(cmpi, nc * sizeof *c1) : NULL;
           if (c1) cmpi = c1;
-          if (!c1) {
+          double *o1 = c1 ? realloc(offs, nc * sizeof *o1) : NULL;
+          if (o1) offs = o1;
+          if (!o1) {
             rc = tz_fail(err, TZ_E_NOMEM, "residual statics: %zu traces of %zu samples", nc,
                          nsamp);
             break;
@@ -182,6 +193,7 @@ int residual_run(const stack_plan *p, const residual_line_opts *o, residual_line
         src[nt] = (uint32_t)(s0 - S->s);
         rec[nt] = (uint32_t)(r0 - S->s - (ptrdiff_t)L->nsources);
         cmpi[nt] = (uint32_t)(ti[j].cmp - p->first_cmp);
+        offs[nt] = ti[j].off_abs;
         nt++;
       }
       done_traces += m;
@@ -209,13 +221,13 @@ int residual_run(const stack_plan *p, const residual_line_opts *o, residual_line
   L->read_s = now_s() - t_start;
   L->traces = nt;
   residual_input in = { nt, L->nsources, L->nreceivers, p->ncmps, src, rec, cmpi, keep, nsamp,
-                        margin, nwin, dt_ms, sa, ra };
+                        margin, nwin, dt_ms, sa, ra, offs };
   double t1 = now_s();
   rc = residual_solve(&o->params, &in, &L->result, o->iteration, o->iteration_ctx, err);
   L->solve_s = now_s() - t1;
 done:
-  free(rs), free(vel), free(eta), free(cor), free(rh), free(ti);
-  free(keep), free(src), free(rec), free(cmpi), free(sa), free(ra);
+  free(rs), free(cor), free(vcache), free(ecache), free(vdone), free(rh), free(ti);
+  free(keep), free(src), free(rec), free(cmpi), free(sa), free(ra), free(offs);
   nmo_workspace_free(nws);
   stack_chain_ws_free(cws);
   stack_chain_free(ch);

@@ -127,3 +127,16 @@ expect_status 64 "bad --window-ms" -- "$TZERO" statics residual --job "$D/jobv.j
 expect_status 64 "bad --iterations" -- "$TZERO" statics residual --job "$D/jobv.json" --out "$D/x6.csv" --iterations 0
 expect_status 64 "window outside the traces" -- "$TZERO" statics residual --job "$D/jobv.json" --out "$D/x6.csv" --window-ms 100,9000
 expect_status 0 "statics residual --help" -- "$TZERO" statics residual --help
+
+# ---- tzero picture --picks: the picks of a record drawn over it
+rec=$(ls "$D"/shots/*.sgy | head -n 1)
+expect_status 0 "picture of a record with its picks" -- "$TZERO" picture "$rec" --picks "$D/p1.csv" \
+  --out "$D/rec.svg"
+grep -q 'class="marks"' "$D/rec.svg" && ok "the picture carries a group of pick marks" ||
+  notok "no pick marks in the SVG"
+n=$(awk '/class="marks"/,/<\/g>/' "$D/rec.svg" | grep -c '<circle\|<path')
+[ "$n" -ge 20 ] && ok "a mark for the picked traces of the record ($n)" || notok "$n marks"
+expect_status 65 "picture with a bad picks file" -- "$TZERO" picture "$rec" --picks "$D/badnan.csv" \
+  --out "$D/rec2.png"
+expect_stderr "badnan.csv: line 2" "error names the picks file and line"
+expect_no_file "$D/rec2.png" "nothing drawn after bad picks"
