@@ -393,6 +393,12 @@ int cmd_semblance(int argc, char **argv)
       (rc = job_check_output(job, o.panels, "--panels", 0, &err)) ||
       (o.out && (rc = fileio_probe(o.out, &err))))
     goto done;
+  if (o.out && o.panels && fileio_same_output(o.out, o.panels)) {
+    /* one file by two spellings: the panels would replace the table */
+    tz_err_path(&err, o.panels);
+    rc = tz_fail(&err, TZ_E_CREATE, "--panels and --out are the same file");
+    goto done;
+  }
   if ((rc = stack_plan_build(&plan, job, NULL, NULL, &err)))
     goto done;
   if ((rc = stack_plan_nmo(plan, &o.sp.nmo, &mute, &err)))
