@@ -335,9 +335,5 @@ int stack_collect_records(const stack_plan *p, const int64_t (*rg)[2], size_t nr
                           stack_record_traces *out, tz_err *err);
 void stack_record_traces_free(stack_record_traces *r);   /* NULL is a no-op */
 
-/* Parses a CMP list: "250", "200,250,300", "200-300", "200-900:50" and commas
- * between any of these. On success *out owns a sorted array without duplicates
- * (free()). TZ_E_ARG with the offending item named. At most STACK_MAX_CMPS. */
-int stack_parse_cmp_list(const char *s, int32_t **out, size_t *n, tz_err *err);
 
 #endif

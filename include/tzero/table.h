@@ -40,6 +40,14 @@ const char *table_last_comment(const table_reader *t);
 int table_parse_i64(const char *s, int64_t *out);
 int table_parse_f64(const char *s, double *out);
 
+/* A list of whole numbers and ranges as people type them: "250", "200,250,300",
+ * "200-300", "200-900:50" and commas between any of these (a '-' after the first
+ * character of an item splits a range, so "-5-5" is -5 to 5). On success *out
+ * owns a sorted array without duplicates (free()). TZ_E_ARG naming `what` ("CMP
+ * list") and the offending item; more than `max` numbers is TZ_E_ARG too. */
+int table_parse_ranges(const char *s, const char *what, size_t max, int32_t **out, size_t *n,
+                       tz_err *err);
+
 /* Field parsers that fill `err` with the table name, line and column name. */
 int table_field_i64(const table_reader *t, size_t i, const char *column, int64_t *out,
                     tz_err *err);

@@ -10,6 +10,7 @@
 #include "tzero/compare.h"
 #include "tzero/fileio.h"
 #include "tzero/stack.h"
+#include "tzero/table.h"
 
 static void help(void)
 {
@@ -284,7 +285,8 @@ int cmd_compare(int argc, char **argv)
   tz_err_init(&err);
   int32_t *allow = NULL;
   size_t nallow = 0;
-  if (cmps_text && stack_parse_cmp_list(cmps_text, &allow, &nallow, &err))
+  if (cmps_text &&
+      table_parse_ranges(cmps_text, "CMP list", STACK_MAX_CMPS, &allow, &nallow, &err))
     return cli_usage_error("compare", "--cmps '%s': %s", cmps_text, err.msg);
   compare_result *r = NULL;
   int rc = fileio_check_not_input(csv, pa, "--csv", &err);

@@ -12,6 +12,7 @@
 #include "tzero/fileio.h"
 #include "tzero/flow.h"
 #include "tzero/stack.h"
+#include "tzero/table.h"
 
 static void help(void)
 {
@@ -82,7 +83,7 @@ int cmd_nmo(int argc, char **argv)
   tz_err_init(&e);
   int32_t *cmps = NULL;
   size_t ncmps = 0;
-  if (stack_parse_cmp_list(list, &cmps, &ncmps, &e))
+  if (table_parse_ranges(list, "CMP list", STACK_MAX_CMPS, &cmps, &ncmps, &e))
     return cli_usage_error("nmo", "--cmps: %s", e.msg);
 
   flow_setup su;

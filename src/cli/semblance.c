@@ -16,6 +16,7 @@
 #include "tzero/segy.h"
 #include "tzero/semblance.h"
 #include "tzero/stack.h"
+#include "tzero/table.h"
 #include "tzero/velocity.h"
 
 static void help(void)
@@ -379,7 +380,7 @@ int cmd_semblance(int argc, char **argv)
   int64_t *low = NULL;
   int rc;
 
-  if ((rc = stack_parse_cmp_list(o.cmps, &cmps, &ncmp, &err)))
+  if ((rc = table_parse_ranges(o.cmps, "CMP list", STACK_MAX_CMPS, &cmps, &ncmp, &err)))
     goto done;
   if ((rc = job_load(&job, o.job, &err)))
     goto done;

@@ -18,6 +18,7 @@
 #include "tzero/qc.h"
 #include "tzero/flow.h"
 #include "tzero/stack.h"
+#include "tzero/table.h"
 
 static void help(void)
 {
@@ -72,7 +73,7 @@ static int parse_range(const char *s, job_overrides *o)
   tz_err_init(&e);
   if (!strchr(s + 1, '-') || strchr(s, ',') || strchr(s, ':'))
     return cli_usage_error("stack", "--cmp-range: expected FIRST-LAST, got '%s'", s);
-  if (stack_parse_cmp_list(s, &v, &n, &e))
+  if (table_parse_ranges(s, "CMP list", STACK_MAX_CMPS, &v, &n, &e))
     return cli_usage_error("stack", "--cmp-range: expected FIRST-LAST, got '%s' (%s)", s, e.msg);
   o->has_cmp_range = 1;
   o->cmp_first = v[0];

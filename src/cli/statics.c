@@ -67,8 +67,7 @@ static int statics_elevation(int argc, char **argv)
   };
   const char *job = NULL, *out = NULL;
   int json = 0, quiet = 0, c;
-  optind = 1;
-  opterr = 0;
+  cli_opt_begin();
   while ((c = getopt_long(argc, argv, "h", lo, NULL)) != -1) {
     switch (c) {
     case O_JOB: job = optarg; break;
@@ -76,7 +75,7 @@ static int statics_elevation(int argc, char **argv)
     case O_JSON: json = 1; break;
     case O_QUIET: quiet = 1; break;
     case 'h': elevation_usage(stdout); return EX_OK;
-    default: return cli_usage_error(cmd, "unknown or incomplete option '%s'", argv[optind - 1]);
+    default: return cli_opt_error(cmd, argv);
     }
   }
   if (optind < argc)

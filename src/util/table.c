@@ -233,3 +233,93 @@ int table_field_f64(const table_reader *t, size_t i, const char *column, double 
   }
   return TZ_OK;
 }
+
+/* ---------------------------------------------------------------- number lists */
+
+static int cmp_int32(const void *a, const void *b)
+{
+  int32_t x = *(const int32_t *)a, y = *(const int32_t *)b;
+  return (x > y) - (x < y);
+}
+
+static int parse_part(const char *s, size_t n, int64_t *v)
+{
+  char buf[32];
+  if (n == 0 || n >= sizeof buf)
+    return -1;
+  memcpy(buf, s, n);
+  buf[n] = '\0';
+  return table_parse_i64(buf, v);
+}
+
+int table_parse_ranges(const char *s, const char *what, size_t max, int32_t **out, size_t *n,
+                       tz_err *err)
+{
+  size_t cap = 64, cnt = 0;
+  int32_t *v = malloc(cap * sizeof *v);
+  if (!v)
+    return tz_fail(err, TZ_E_NOMEM, "%s", what);
+  const char *p = s;
+  if (!*s) {
+    free(v);
+    return tz_fail(err, TZ_E_ARG, "empty %s (expected e.g. 250, 200,250,300, 200-300 or "
+                   "200-900:50)", what);
+  }
+  for (;;) {
+    const char *e = strchr(p, ',');
+    size_t len = e ? (size_t)(e - p) : strlen(p);
+    /* item: A | A-B | A-B:S (A may be negative: a '-' after the first char splits) */
+    int64_t a = 0, b = 0, step = 1;
+    const char *dash = NULL, *colon = memchr(p, ':', len);
+    size_t lim = colon ? (size_t)(colon - p) : len;
+    for (size_t i = 1; i < lim; i++)
+      if (p[i] == '-') {
+        dash = p + i;
+        break;
+      }
+    size_t alen = dash ? (size_t)(dash - p) : (colon ? (size_t)(colon - p) : len);
+    int bad = parse_part(p, alen, &a);
+    b = a;
+    if (!bad && dash) {
+      size_t blen = (colon ? (size_t)(colon - dash) : (size_t)(p + len - dash)) - 1;
+      bad = parse_part(dash + 1, blen, &b);
+    }
+    if (!bad && colon) {
+      bad = !dash || parse_part(colon + 1, (size_t)(p + len - colon) - 1, &step) || step <= 0;
+    }
+    if (!bad && (b < a || a < INT32_MIN || b > INT32_MAX))
+      bad = 1;
+    if (bad) {
+      free(v);
+      return tz_fail(err, TZ_E_ARG, "%s item '%.*s': expected N, FIRST-LAST or "
+                     "FIRST-LAST:STEP with FIRST <= LAST and STEP > 0", what, (int)len, p);
+    }
+    for (int64_t c = a; c <= b; c += step) {
+      if (cnt >= max) {
+        free(v);
+        return tz_fail(err, TZ_E_ARG, "%s: more than %zu numbers", what, max);
+      }
+      if (cnt == cap) {
+        int32_t *nv = realloc(v, cap * 2 * sizeof *v);
+        if (!nv) {
+          free(v);
+          return tz_fail(err, TZ_E_NOMEM, "%s", what);
+        }
+        v = nv;
+        cap *= 2;
+      }
+      v[cnt++] = (int32_t)c;
+    }
+    if (!e)
+      break;
+    p = e + 1;
+  }
+  qsort(v, cnt, sizeof *v, cmp_int32);
+  size_t k = 0;
+  for (size_t i = 0; i < cnt; i++)
+    if (!k || v[i] != v[k - 1])
+      v[k++] = v[i];
+  *out = v;
+  *n = k;
+  return TZ_OK;
+}

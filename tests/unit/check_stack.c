@@ -26,49 +26,6 @@ static char dir[256];
 
 /* ---------------------------------------------------------------- CMP lists */
 
-static const struct {
-  const char *s;
-  size_t n;
-  int32_t first, last;
-} lists[] = {
-  { "250", 1, 250, 250 },
-  { "200,250,300", 3, 200, 300 },
-  { "200-300", 101, 200, 300 },
-  { "200-900:50", 15, 200, 900 },
-  { "300,200-210:5,200", 4, 200, 300 },   /* sorted, duplicates removed: 200 205 210 300 */
-  { "-5-5", 11, -5, 5 },
-};
-
-START_TEST(test_cmp_list)
-{
-  int32_t *v = NULL;
-  size_t n = 0;
-  tz_err e;
-  tz_err_init(&e);
-  ck_assert_int_eq(stack_parse_cmp_list(lists[_i].s, &v, &n, &e), TZ_OK);
-  ck_assert_uint_eq(n, lists[_i].n);
-  ck_assert_int_eq(v[0], lists[_i].first);
-  ck_assert_int_eq(v[n - 1], lists[_i].last);
-  for (size_t i = 1; i < n; i++)
-    ck_assert_int_lt(v[i - 1], v[i]);
-  free(v);
-}
-END_TEST
-
-static const char *const bad_lists[] = { "", "abc", "300-200", "200-300:0", "200-300:-5",
-                                         "200,,300", "1.5", "200-", "200:5", "99999999999" };
-
-START_TEST(test_cmp_list_bad)
-{
-  int32_t *v = NULL;
-  size_t n = 0;
-  tz_err e;
-  tz_err_init(&e);
-  ck_assert_int_eq(stack_parse_cmp_list(bad_lists[_i], &v, &n, &e), TZ_E_ARG);
-  ck_assert_ptr_null(v);
-  ck_assert(e.msg[0]);
-}
-END_TEST
 
 START_TEST(test_skip_names)
 {
@@ -369,8 +326,6 @@ static Suite *stack_suite(void)
 {
   Suite *s = suite_create("stack");
   TCase *tc = tcase_create("lists");
-  tcase_add_loop_test(tc, test_cmp_list, 0, (int)(sizeof lists / sizeof lists[0]));
-  tcase_add_loop_test(tc, test_cmp_list_bad, 0, (int)(sizeof bad_lists / sizeof bad_lists[0]));
   tcase_add_test(tc, test_skip_names);
   suite_add_tcase(s, tc);
   tc = tcase_create("survey");

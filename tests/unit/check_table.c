@@ -3,6 +3,7 @@
  * Expected values follow the velocity-table format of docs/velocity-table.md ("#" comments,
  * comma-separated, header row) and C strtod/strtoll semantics (ISO C11 7.22.1);
  * CRLF line ends and blank lines are tolerated (common practice). */
+#include <stdlib.h>
 #include <string.h>
 
 #include "tzero/table.h"
@@ -113,6 +114,66 @@ START_TEST(test_missing_file)
 }
 END_TEST
 
+/* Number lists as typed on command lines (our own syntax): items, ranges and
+ * steps, sorted with duplicates removed; each expected list counted by hand. */
+static const struct {
+  const char *s;
+  size_t n;
+  int32_t first, last;
+} lists[] = {
+  { "250", 1, 250, 250 },
+  { "200,250,300", 3, 200, 300 },
+  { "200-300", 101, 200, 300 },
+  { "200-900:50", 15, 200, 900 },
+  { "300,200-210:5,200", 4, 200, 300 },   /* sorted, duplicates removed: 200 205 210 300 */
+  { "-5-5", 11, -5, 5 },
+};
+
+START_TEST(test_ranges)
+{
+  int32_t *v = NULL;
+  size_t n = 0;
+  tz_err e;
+  tz_err_init(&e);
+  ck_assert_int_eq(table_parse_ranges(lists[_i].s, "CMP list", 2000000, &v, &n, &e), TZ_OK);
+  ck_assert_uint_eq(n, lists[_i].n);
+  ck_assert_int_eq(v[0], lists[_i].first);
+  ck_assert_int_eq(v[n - 1], lists[_i].last);
+  for (size_t i = 1; i < n; i++)
+    ck_assert_int_lt(v[i - 1], v[i]);
+  free(v);
+}
+END_TEST
+
+static const char *const bad_lists[] = { "", "abc", "300-200", "200-300:0", "200-300:-5",
+                                         "200,,300", "1.5", "200-", "200:5", "99999999999" };
+
+START_TEST(test_ranges_bad)
+{
+  int32_t *v = NULL;
+  size_t n = 0;
+  tz_err e;
+  tz_err_init(&e);
+  ck_assert_int_eq(table_parse_ranges(bad_lists[_i], "CMP list", 2000000, &v, &n, &e), TZ_E_ARG);
+  ck_assert_ptr_null(v);
+  ck_assert(e.msg[0]);
+}
+END_TEST
+
+START_TEST(test_ranges_cap)
+{
+  int32_t *v = NULL;
+  size_t n = 0;
+  tz_err e;
+  tz_err_init(&e);
+  ck_assert_int_eq(table_parse_ranges("1-11", "CMP list", 10, &v, &n, &e), TZ_E_ARG);
+  ck_assert_ptr_nonnull(strstr(e.msg, "more than 10"));
+  ck_assert_int_eq(table_parse_ranges("1-10", "CMP list", 10, &v, &n, &e), TZ_OK);
+  ck_assert_uint_eq(n, 10);
+  free(v);
+}
+END_TEST
+
 static Suite *table_suite(void)
 {
   Suite *s = suite_create("table");
@@ -122,6 +183,9 @@ static Suite *table_suite(void)
   tcase_add_test(tc, test_bad_number_names_line);
   tcase_add_test(tc, test_parse);
   tcase_add_test(tc, test_missing_file);
+  tcase_add_loop_test(tc, test_ranges, 0, (int)(sizeof lists / sizeof lists[0]));
+  tcase_add_loop_test(tc, test_ranges_bad, 0, (int)(sizeof bad_lists / sizeof bad_lists[0]));
+  tcase_add_test(tc, test_ranges_cap);
   suite_add_tcase(s, tc);
   return s;
 }
