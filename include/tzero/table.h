@@ -43,8 +43,9 @@ int table_parse_f64(const char *s, double *out);
 /* A list of whole numbers and ranges as people type them: "250", "200,250,300",
  * "200-300", "200-900:50" and commas between any of these (a '-' after the first
  * character of an item splits a range, so "-5-5" is -5 to 5). On success *out
- * owns a sorted array without duplicates (free()). TZ_E_ARG naming `what` ("CMP
- * list") and the offending item; more than `max` numbers is TZ_E_ARG too. */
+ * owns a sorted array without duplicates (free()). TZ_E_ARG naming the list by `what` (a noun: "CMP" gives "CMP list item '2x':
+ * ...") and the offending item; more than `max` numbers is TZ_E_ARG too ("more than
+ * 2000000 CMPs"). */
 int table_parse_ranges(const char *s, const char *what, size_t max, int32_t **out, size_t *n,
                        tz_err *err);
 

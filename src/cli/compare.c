@@ -286,7 +286,7 @@ int cmd_compare(int argc, char **argv)
   int32_t *allow = NULL;
   size_t nallow = 0;
   if (cmps_text &&
-      table_parse_ranges(cmps_text, "CMP list", STACK_MAX_CMPS, &allow, &nallow, &err))
+      table_parse_ranges(cmps_text, "CMP", STACK_MAX_CMPS, &allow, &nallow, &err))
     return cli_usage_error("compare", "--cmps '%s': %s", cmps_text, err.msg);
   compare_result *r = NULL;
   int rc = fileio_check_not_input(csv, pa, "--csv", &err);

@@ -97,7 +97,7 @@ int cmd_cvs(int argc, char **argv)
   int32_t *cmps = NULL;
   double *vels = NULL;
   size_t ncmp = 0, nvel = 0;
-  if (table_parse_ranges(cmptext, "CMP list", STACK_MAX_CMPS, &cmps, &ncmp, &err) ||
+  if (table_parse_ranges(cmptext, "CMP", STACK_MAX_CMPS, &cmps, &ncmp, &err) ||
       semblance_parse_velocities(veltext, &vels, &nvel, &err)) {
     free(cmps);
     return cli_usage_error(cmd, "%s", err.msg);

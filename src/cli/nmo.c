@@ -83,7 +83,7 @@ int cmd_nmo(int argc, char **argv)
   tz_err_init(&e);
   int32_t *cmps = NULL;
   size_t ncmps = 0;
-  if (table_parse_ranges(list, "CMP list", STACK_MAX_CMPS, &cmps, &ncmps, &e))
+  if (table_parse_ranges(list, "CMP", STACK_MAX_CMPS, &cmps, &ncmps, &e))
     return cli_usage_error("nmo", "--cmps: %s", e.msg);
 
   flow_setup su;

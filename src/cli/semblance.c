@@ -380,7 +380,7 @@ int cmd_semblance(int argc, char **argv)
   int64_t *low = NULL;
   int rc;
 
-  if ((rc = table_parse_ranges(o.cmps, "CMP list", STACK_MAX_CMPS, &cmps, &ncmp, &err)))
+  if ((rc = table_parse_ranges(o.cmps, "CMP", STACK_MAX_CMPS, &cmps, &ncmp, &err)))
     goto done;
   if ((rc = job_load(&job, o.job, &err)))
     goto done;

@@ -73,7 +73,7 @@ static int parse_range(const char *s, job_overrides *o)
   tz_err_init(&e);
   if (!strchr(s + 1, '-') || strchr(s, ',') || strchr(s, ':'))
     return cli_usage_error("stack", "--cmp-range: expected FIRST-LAST, got '%s'", s);
-  if (table_parse_ranges(s, "CMP list", STACK_MAX_CMPS, &v, &n, &e))
+  if (table_parse_ranges(s, "CMP", STACK_MAX_CMPS, &v, &n, &e))
     return cli_usage_error("stack", "--cmp-range: expected FIRST-LAST, got '%s' (%s)", s, e.msg);
   o->has_cmp_range = 1;
   o->cmp_first = v[0];

@@ -258,11 +258,11 @@ int table_parse_ranges(const char *s, const char *what, size_t max, int32_t **ou
   size_t cap = 64, cnt = 0;
   int32_t *v = malloc(cap * sizeof *v);
   if (!v)
-    return tz_fail(err, TZ_E_NOMEM, "%s", what);
+    return tz_fail(err, TZ_E_NOMEM, "%s list", what);
   const char *p = s;
   if (!*s) {
     free(v);
-    return tz_fail(err, TZ_E_ARG, "empty %s (expected e.g. 250, 200,250,300, 200-300 or "
+    return tz_fail(err, TZ_E_ARG, "empty %s list (expected e.g. 250, 200,250,300, 200-300 or "
                    "200-900:50)", what);
   }
   for (;;) {
@@ -291,19 +291,19 @@ int table_parse_ranges(const char *s, const char *what, size_t max, int32_t **ou
       bad = 1;
     if (bad) {
       free(v);
-      return tz_fail(err, TZ_E_ARG, "%s item '%.*s': expected N, FIRST-LAST or "
+      return tz_fail(err, TZ_E_ARG, "%s list item '%.*s': expected N, FIRST-LAST or "
                      "FIRST-LAST:STEP with FIRST <= LAST and STEP > 0", what, (int)len, p);
     }
     for (int64_t c = a; c <= b; c += step) {
       if (cnt >= max) {
         free(v);
-        return tz_fail(err, TZ_E_ARG, "%s: more than %zu numbers", what, max);
+        return tz_fail(err, TZ_E_ARG, "%s list: more than %zu %ss", what, max, what);
       }
       if (cnt == cap) {
         int32_t *nv = realloc(v, cap * 2 * sizeof *v);
         if (!nv) {
           free(v);
-          return tz_fail(err, TZ_E_NOMEM, "%s", what);
+          return tz_fail(err, TZ_E_NOMEM, "%s list", what);
         }
         v = nv;
         cap *= 2;
