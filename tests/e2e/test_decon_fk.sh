@@ -63,6 +63,8 @@ expect_status 0 "nmo gathers with decon + f-k" -- "$TZERO" nmo --job "$D/rw.json
   --out "$D/out/g.sgy" --quiet
 expect_status 0 "semblance with decon + f-k" -- "$TZERO" semblance --job "$D/rw.json" --cmps "$MID" \
   --panels "$D/out/p.sgy" --quiet
+expect_status 0 "constant-velocity stacks with decon + f-k" -- "$TZERO" cvs --job "$D/rw.json" \
+  --cmps "$LO-$HI" --velocities 1800,2100 --out "$D/out/cvs.sgy" --quiet
 
 # --- bad parameters: exit 65, the JSON path, no section
 bad_step() { # name pattern steps-json
