@@ -109,6 +109,7 @@ PREFIX_LIST = \
   merge \
   migrate \
   nmo \
+  page \
   picture \
   qc \
   refraction \
@@ -188,7 +189,7 @@ xcheck: all $(DRIVER_BIN)
 # ASan + UBSan build running the whole suite (tests/lsan.supp: caches that
 # system libraries keep for the life of the process).
 sanitize: $(if $(MISSING_BUILD)$(MISSING_TEST),deps)
-	@LSAN_OPTIONS="suppressions=$(CURDIR)/tests/lsan.supp$${LSAN_OPTIONS:+:$$LSAN_OPTIONS}" \
+	@LSAN_OPTIONS="suppressions=$(CURDIR)/tests/lsan.supp:print_suppressions=0$${LSAN_OPTIONS:+:$$LSAN_OPTIONS}" \
 	  $(MAKE) --no-print-directory B=build/san SANITIZE=address,undefined OPT="-O1 -g" check-run
 
 # Coverage-guided fuzzing (clang, libFuzzer, ASan, UBSan): each target runs

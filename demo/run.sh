@@ -78,7 +78,8 @@ echo
 echo "== TV-DX-04: rerun with the model's velocities, then compare the two sections"
 "$TZ" stack --job "$D/dx04.job.json" --velocity "$O/dx04_field/rms_velocity.csv" \
   --out "$O/dx04_stack_model.sgy" --report "$O/dx04_qc_model.json" --quiet
-"$TZ" compare "$O/dx04_stack_model.sgy" "$O/dx04_stack.sgy" --csv "$O/dx04_compare.csv" | tail -n 4
+"$TZ" compare "$O/dx04_stack_model.sgy" "$O/dx04_stack.sgy" --csv "$O/dx04_compare.csv" \
+  --html "$O/dx04_compare.html" | tail -n 4
 "$TZ" picture "$O/dx04_stack.sgy" --out "$O/dx04_stack.png"
 "$TZ" picture "$O/dx04_panels.sgy" --out "$O/dx04_panels.png" --colour-map semblance
 
@@ -148,9 +149,18 @@ for step in raw decon fk; do
 done
 "$TZ" compare "$O/rt07s_stack_fk.sgy" "$O/rt07s_stack_raw.sgy" | tail -n 1
 echo
+echo "== QC pages: each stack wrote its line's page beside its report; one survey page for all"
+"$TZ" report --html "$O/index.html" "$O"/*_qc*.json
+# the figures of docs/qc-report.md: the pages as a browser shows them (headless Chromium)
+if B="$B" sh demo/screenshots.sh "$O" docs/img; then :; else
+  echo "(no screenshots of the pages: chromium is not installed)"; fi
+
+echo
 echo "outputs in $O/: gw01_stack.sgy, gw01_qc.json, gw01_stack.png (.pdf), gw01_fold.png (.svg),"
 echo "  dx04_velocity.csv, dx04_stack.sgy, dx04_qc.json, dx04_stack.png, dx04_panels.png,"
 echo "  rt07_stack.png (with statics), rt07_stack_nostatics.png, rt07_statics.png,"
 echo "  rt07_elevation_statics.csv, rt07s_spectra.png, rt07s_record_{raw,decon,fk}.png,"
 echo "  rt07s_fk_{raw,after}.png, rt07s_stack_{raw,decon,fk}.png (deconvolution and f-k)"
 echo "A processed section is an interpretation aid: have it reviewed by a qualified geophysicist."
+echo
+echo "survey QC page (open it in a browser): $O/index.html"

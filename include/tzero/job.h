@@ -105,6 +105,8 @@ typedef struct job_spec {
   /* "output" */
   char *section;              /* stacked SEG-Y path (required unless given as override) */
   char *report;               /* QC report path; NULL = none */
+  char *html;                 /* QC page path; NULL = beside the report (REPORT.html) */
+  int no_html;                /* "html": false: no page */
   int sample_format;          /* enum job_sample_format, default IEEE (5) */
 
   /* "conditioning": ordered steps applied to every trace after binning and before

@@ -19,6 +19,7 @@
 
 #define QC_FORMAT "tzero-qc/1"
 #define QC_MAX_BYTES (512u << 20)   /* a report larger than this is refused */
+#define QC_MAX_FUNCTIONS 500        /* velocity functions listed in a report */
 
 typedef struct qc_build_args {
   const job_spec *job;              /* resolved job (parameters) */

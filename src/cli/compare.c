@@ -9,6 +9,8 @@
 #include "cli.h"
 #include "tzero/compare.h"
 #include "tzero/fileio.h"
+#include "tzero/page.h"
+#include "tzero/qc.h"
 #include "tzero/stack.h"
 #include "tzero/table.h"
 
@@ -36,6 +38,10 @@ static void help(void)
          "  --cmps RANGE      CMPs the revision meant to change, left out of --check:\n"
          "                    200-300 | 200-300,410-440 (commas combine items)\n"
          "  --csv FILE        write one row per CMP to FILE\n"
+         "  --html PAGE.html  write a comparison page: the energy ratio B/A per CMP (dB)\n"
+         "                    with the threshold, the peak correlation and its lag (ms),\n"
+         "                    and thumbnails of both sections on the same CMP axis; one\n"
+         "                    self-contained file for any browser\n"
          "  --per-cmp         also print the per-CMP table\n"
          "  --json            print the summary and every CMP as JSON\n"
          "  --quiet           print nothing (exit status and --csv only)\n"
@@ -224,13 +230,14 @@ static int check_changes(const compare_result *r, double max_db, const int32_t *
 int cmd_compare(int argc, char **argv)
 {
   enum { O_TMIN = 256, O_TMAX, O_LAG, O_THR, O_CSV, O_PER, O_JSON, O_QUIET, O_CHECK, O_MAXDB,
-         O_CMPS };
+         O_CMPS, O_HTML };
   static const struct option opts[] = {
     { "time-min", required_argument, NULL, O_TMIN },
     { "time-max", required_argument, NULL, O_TMAX },
     { "max-lag", required_argument, NULL, O_LAG },
     { "threshold", required_argument, NULL, O_THR },
     { "csv", required_argument, NULL, O_CSV },
+    { "html", required_argument, NULL, O_HTML },
     { "per-cmp", no_argument, NULL, O_PER },
     { "check", no_argument, NULL, O_CHECK },
     { "max-change-db", required_argument, NULL, O_MAXDB },
@@ -242,7 +249,7 @@ int cmd_compare(int argc, char **argv)
   };
   compare_params p;
   compare_params_default(&p);
-  const char *csv = NULL;
+  const char *csv = NULL, *html = NULL;
   int json = 0, quiet = 0, per = 0, check = 0, c;
   double max_db = NAN;
   const char *cmps_text = NULL;
@@ -255,6 +262,7 @@ int cmd_compare(int argc, char **argv)
     case O_LAG: bad = cli_parse_f64("compare", "--max-lag", optarg, &p.max_lag_ms); break;
     case O_THR: bad = cli_parse_f64("compare", "--threshold", optarg, &p.threshold_db); break;
     case O_CSV: csv = optarg; break;
+    case O_HTML: html = optarg; break;
     case O_PER: per = 1; break;
     case O_CHECK: check = 1; break;
     case O_MAXDB: bad = cli_parse_f64("compare", "--max-change-db", optarg, &max_db); break;
@@ -293,9 +301,20 @@ int cmd_compare(int argc, char **argv)
   if (!rc)
     rc = fileio_check_not_input(csv, pb, "--csv", &err);
   if (!rc)
+    rc = fileio_check_not_input(html, pa, "--html", &err);
+  if (!rc)
+    rc = fileio_check_not_input(html, pb, "--html", &err);
+  if (!rc)
     rc = compare_sections(pa, pb, &p, &r, &err);
   if (!rc && csv)
     rc = write_csv(csv, r, &err);
+  if (!rc && html) {
+    char *text = NULL;
+    rc = page_compare(pa, pb, r, p.threshold_db, html, &text, &err);
+    if (!rc)
+      rc = qc_write_text(html, text, &err);
+    free(text);
+  }
   if (rc) {
     free(allow);
     compare_result_free(r);

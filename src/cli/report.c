@@ -10,12 +10,15 @@
 #include "cli.h"
 #include "tzero/fileio.h"
 #include "tzero/limits.h"
+#include "tzero/page.h"
 #include "tzero/qc.h"
 
 static void help(void)
 {
   printf("usage: tzero report [OPTIONS] QC.json\n"
          "       tzero report --check [LIMITS.json] QC.json [QC.json...]\n"
+         "       tzero report QC.json --html PAGE.html [--section STACK.sgy]\n"
+         "       tzero report --html index.html QC.json QC.json...\n"
          "\n"
          "Prints the summary of a QC report written by `tzero stack` (format\n"
          "tzero-qc/1, docs/qc-report.md): inputs, trace counts and skip reasons,\n"
@@ -35,6 +38,20 @@ static void help(void)
          "                     value, held or broken, CMP ranges where a per-CMP\n"
          "                     limit broke), for several one line per report and a\n"
          "                     count (docs/qc-report.md \"Limits\")\n"
+         "  --html PAGE.html   write an HTML QC page instead of printing: for one\n"
+         "                     report the line's page (summary, fold, live fraction,\n"
+         "                     full-fold time, offsets per CMP, mute by offset class,\n"
+         "                     velocity functions, skipped traces, warnings linked to\n"
+         "                     their CMP or file, a thumbnail of the stacked section,\n"
+         "                     parameters, timing); for several reports (or with\n"
+         "                     --survey) a survey page: one sortable row per line,\n"
+         "                     lines with warnings first, linked to each line's page\n"
+         "                     (REPORT.html beside each report, written when missing).\n"
+         "                     One self-contained file: open it in any browser\n"
+         "  --section FILE     the stacked section for the line page's thumbnail\n"
+         "                     (default: the report's section path, then its file\n"
+         "                     name beside the report)\n"
+         "  --survey           a survey page even for one report\n"
          "  --json             print the report itself (re-formatted JSON); with\n"
          "                     --check, the outcomes as JSON\n"
          "  --quiet            print nothing (with --fold-csv: only write the file)\n"
@@ -174,6 +191,42 @@ static int run_check(int nfiles, char **files, int json, int quiet)
   return ex;
 }
 
+/* `--html`: the line page of one report, or the survey page of several. */
+static int run_html(const char *html, const char *section, int many, int n, char **files,
+                    int quiet)
+{
+  tz_err e;
+  tz_err_init(&e);
+  for (int i = 0; i < n; i++)
+    if (fileio_check_not_input(html, files[i], "--html", &e))
+      return cli_report("report", &e);
+  if (section && (many || fileio_check_not_input(html, section, "--html", &e)))
+    return many ? cli_usage_error("report", "--section goes with the page of one line")
+                  : cli_report("report", &e);
+  int rc;
+  size_t written = 0;
+  if (many) {
+    char *text = NULL;
+    rc = page_survey((const char *const *)files, (size_t)n, html, &text, &written, &e);
+    if (!rc)
+      rc = qc_write_text(html, text, &e);
+    free(text);
+  } else {
+    page_line_opts o = { .report_path = files[0], .section_path = section, .page_path = html };
+    rc = page_line_write(&o, &e);
+  }
+  if (rc)
+    return cli_report("report", &e);
+  if (!quiet) {
+    if (many)
+      printf("wrote %s: survey page of %d lines (%zu line pages written beside their reports)\n",
+             html, n, written);
+    else
+      printf("wrote %s: QC page of %s\n", html, files[0]);
+  }
+  return EX_OK;
+}
+
 int cmd_report(int argc, char **argv)
 {
   static const struct option opts[] = {
@@ -181,13 +234,16 @@ int cmd_report(int argc, char **argv)
     { "fold-csv", required_argument, NULL, 'f' },
     { "json", no_argument, NULL, 'j' },
     { "check", no_argument, NULL, 'k' },
+    { "html", required_argument, NULL, 'H' },
+    { "section", required_argument, NULL, 'S' },
+    { "survey", no_argument, NULL, 'V' },
     { "quiet", no_argument, NULL, 'q' },
     { "help", no_argument, NULL, 'h' },
     { NULL, 0, NULL, 0 },
   };
   long long cmp = 0;
-  int has_cmp = 0, json = 0, quiet = 0, check = 0, c;
-  const char *csv = NULL;
+  int has_cmp = 0, json = 0, quiet = 0, check = 0, as_survey = 0, c;
+  const char *csv = NULL, *html = NULL, *section = NULL;
   cli_opt_begin();
   while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
     switch (c) {
@@ -199,6 +255,9 @@ int cmd_report(int argc, char **argv)
     case 'f': csv = optarg; break;
     case 'j': json = 1; break;
     case 'k': check = 1; break;
+    case 'H': html = optarg; break;
+    case 'S': section = optarg; break;
+    case 'V': as_survey = 1; break;
     case 'q': quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
@@ -212,6 +271,17 @@ int cmd_report(int argc, char **argv)
       return cli_usage_error("report", "--check does not combine with --cmp or --fold-csv");
     return run_check(argc - optind, argv + optind, json, quiet);
   }
+  if (html) {
+    if (optind >= argc)
+      return cli_usage_error("report", "--html: a QC report file is required");
+    if (check || has_cmp || csv || json)
+      return cli_usage_error("report", "--html does not combine with --check, --cmp, --fold-csv "
+                             "or --json");
+    return run_html(html, section, as_survey || argc - optind > 1, argc - optind, argv + optind,
+                    quiet);
+  }
+  if (section || as_survey)
+    return cli_usage_error("report", "%s goes with --html", section ? "--section" : "--survey");
   if (optind + 1 != argc)
     return cli_usage_error("report", optind >= argc ? "a QC report file is required"
                                                     : "exactly one QC report file expected");

@@ -15,6 +15,7 @@
 #include "jobopts.h"
 #include "tzero/fileio.h"
 #include "tzero/limits.h"
+#include "tzero/page.h"
 #include "tzero/qc.h"
 #include "tzero/flow.h"
 #include "tzero/stack.h"
@@ -34,7 +35,8 @@ static void help(void)
          "  --job FILE             the job file (JSON; required)\n"
          "  --velocity FILE        velocity table (cmp,time_ms,velocity_mps[,eta])\n"
          "  --out FILE             stacked section (SEG-Y)\n"
-         "  --report FILE          QC report (JSON)\n"
+         "  --report FILE          QC report (JSON); its HTML QC page goes beside it\n"
+         "                         (FILE.html for FILE.json; job key output.html)\n"
          "  --stretch-limit PCT    stretch mute limit, percent of (t - t0)/t0 (0 = off)\n"
          "  --interpolation NAME   linear or sinc8\n"
          "  --cmp-range FIRST-LAST stack only these CMPs (a part of the line: parts\n"
@@ -110,6 +112,23 @@ static int gate(const char *report, const job_spec *job, int print, int quiet, t
   limits_result_free(res);
   qc_report_free(qr);
   return out;
+}
+
+/* The QC page beside the report (or at $.output.html), from the report just written. */
+static int write_page(const job_spec *job, tz_err *e)
+{
+  char *path = NULL;
+  int rc = job->html ? TZ_OK : page_path_for_report(job->report, &path, e);
+  if (rc)
+    return rc;
+  page_line_opts o = { .report_path = job->report, .section_path = job->section,
+                       .page_path = job->html ? job->html : path };
+  rc = page_line_write(&o, e);
+  if (rc)
+    fprintf(stderr, "tzero stack: the section %s and the report %s were written; the QC page "
+            "was not\n", job->section, job->report);
+  free(path);
+  return rc;
 }
 
 /* --brief: the run's one-line result (qc_report_brief) on stdout. */
@@ -294,6 +313,8 @@ int cmd_stack(int argc, char **argv)
       goto done;
     }
   }
+  if (job->report && !job->no_html && (rc = write_page(job, &e)))
+    goto done;
   if (depfile) {
     const char *targets[2] = { job->section, job->report };
     if ((rc = job_write_depfile(job, targets, job->report ? 2 : 1, depfile, &e)))

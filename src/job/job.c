@@ -438,7 +438,7 @@ static int parse_selection(job_spec *j, const cJSON *v, tz_err *err)
 
 static int parse_output(job_spec *j, const cJSON *v, const char *dir, tz_err *err)
 {
-  static const char *const keys[] = { "section", "report", "sample_format", NULL };
+  static const char *const keys[] = { "section", "report", "html", "sample_format", NULL };
   static const char *const fnames[] = { "ieee", "ibm", NULL };
   static const int fvals[] = { JOB_FORMAT_IEEE, JOB_FORMAT_IBM };
   int rc = want_object(v, "$.output", err);
@@ -450,6 +450,10 @@ static int parse_output(job_spec *j, const cJSON *v, const char *dir, tz_err *er
   if ((e = ITEM(v, "section")) && (rc = get_path(e, "$.output.section", dir, 0, &j->section, err)))
     return rc;
   if ((e = ITEM(v, "report")) && (rc = get_path(e, "$.output.report", dir, 0, &j->report, err)))
+    return rc;
+  if ((e = ITEM(v, "html")) && cJSON_IsFalse(e))
+    j->no_html = 1;
+  else if (e && (rc = get_path(e, "$.output.html", dir, 0, &j->html, err)))
     return rc;
   if ((e = ITEM(v, "sample_format")) &&
       (rc = json_doc_choice(e, "$.output.sample_format", fnames, fvals, &j->sample_format, TZ_E_JOB, err)))
@@ -1119,6 +1123,7 @@ void job_free(job_spec *j)
   free(j->mute_top);
   free(j->section);
   free(j->report);
+  free(j->html);
   free(j->limits_file);
   limits_clear(&j->limits);
   edits_spec_free(&j->edits);
@@ -1435,6 +1440,10 @@ int job_to_json(const job_spec *j, char **out, tz_err *err)
     if (o) {
       add_str(o, "section", j->section);
       add_str(o, "report", j->report);
+      if (j->no_html)
+        cJSON_AddFalseToObject(o, "html");
+      else if (j->html)
+        add_str(o, "html", j->html);
       add_str(o, "sample_format", j->sample_format == JOB_FORMAT_IBM ? "ibm" : "ieee");
     }
     o = cJSON_AddArrayToObject(r, "conditioning");

@@ -728,7 +728,7 @@ int picture_draw_fold(const picture_fold *f, const char *title, uint32_t width, 
   /* Bars: one run of whole pixel columns per CMP, each column showing the CMP
    * at its centre (the slot rule of docs/pictures.md), so bar colours stay
    * exact at any width. In SVG each bar carries its CMP's numbers. */
-  picture_ctx_group(c, "class=\"fold-bars\"");
+  picture_ctx_group(c, "class=\"fold-bars\" shape-rendering=\"crispEdges\"");
   for (uint32_t col = 0; col < in.plot_w;) {
     size_t k = (size_t)(((double)col + 0.5) * (double)span / in.plot_w);
     uint32_t end = col + 1;

@@ -84,6 +84,43 @@ static void add_mute_counts(cJSON *o, int64_t samples, int64_t stretch, int64_t 
   cJSON_AddNumberToObject(o, "beyond_trace_end_fraction", round_to(frac(end, samples), 1e-6));
 }
 
+/* The functions of the first QC_MAX_FUNCTIONS control CMPs: knots with their
+ * RMS velocity and the Dix interval velocity of the interval above each knot
+ * (null where imaginary), for the QC page's velocity chart. */
+static void add_velocity_functions(cJSON *v, const velocity_table *t)
+{
+  size_t nc = velocity_table_ncmps(t);
+  cJSON *fs = cJSON_AddArrayToObject(v, "functions");
+  for (size_t i = 0; i < nc && i < QC_MAX_FUNCTIONS; i++) {
+    size_t nk = velocity_table_nknots(t, i);
+    double *ts = malloc(nk * sizeof *ts), *vs = malloc(nk * sizeof *vs);
+    velocity_interval *iv = malloc(nk * sizeof *iv);
+    tz_err e;
+    tz_err_init(&e);
+    if (!ts || !vs || !iv || nk == 0) {
+      free(ts), free(vs), free(iv);
+      continue;
+    }
+    for (size_t k = 0; k < nk; k++)
+      velocity_table_knot(t, i, k, &ts[k], &vs[k], NULL);
+    int dix = velocity_dix(ts, vs, nk, iv, &e) == TZ_OK;
+    cJSON *f = cJSON_CreateObject();
+    cJSON_AddNumberToObject(f, "cmp", (double)velocity_table_cmp(t, i));
+    cJSON *ks = cJSON_AddArrayToObject(f, "knots");
+    for (size_t k = 0; k < nk; k++) {
+      cJSON *o = cJSON_CreateObject();
+      cJSON_AddNumberToObject(o, "time_ms", round_to(ts[k] * 1000.0, 1e-3));
+      cJSON_AddNumberToObject(o, "rms_mps", round_to(vs[k], 1e-2));
+      cJSON_AddItemToObject(o, "interval_mps",
+                            dix && !iv[k].imaginary ? cJSON_CreateNumber(round_to(iv[k].v_int_mps, 1e-1))
+                                                    : cJSON_CreateNull());
+      cJSON_AddItemToArray(ks, o);
+    }
+    cJSON_AddItemToArray(fs, f);
+    free(ts), free(vs), free(iv);
+  }
+}
+
 static int add_velocity(cJSON *r, const qc_build_args *a, tz_err *err)
 {
   cJSON *v = cJSON_AddObjectToObject(r, "velocity");
@@ -103,6 +140,7 @@ static int add_velocity(cJSON *r, const qc_build_args *a, tz_err *err)
   cJSON *list = cJSON_AddArrayToObject(v, "control_cmp_numbers");
   for (size_t i = 0; i < nc; i++)
     cJSON_AddItemToArray(list, cJSON_CreateNumber((double)velocity_table_cmp(a->velocity, i)));
+  add_velocity_functions(v, a->velocity);
   /* analysis CMPs semblance could not pick for lack of fold (the table's
    * comment): velocity there is interpolated from the neighbours */
   const int64_t *low = NULL;
@@ -568,7 +606,7 @@ int qc_report_load(qc_report **out, const char *path, tz_err *err)
 }
 
 /* Path lookup "a.b.c"; NULL when absent. */
-static const cJSON *at(const cJSON *o, const char *path)
+const cJSON *qc_json_at(const cJSON *o, const char *path)
 {
   char key[64];
   while (o && *path) {
@@ -584,16 +622,25 @@ static const cJSON *at(const cJSON *o, const char *path)
   return o;
 }
 
-static double numv(const cJSON *o, const char *path)
+double qc_json_num(const cJSON *o, const char *path)
 {
-  const cJSON *v = at(o, path);
+  const cJSON *v = qc_json_at(o, path);
   return cJSON_IsNumber(v) ? v->valuedouble : NAN;
 }
 
+const char *qc_json_str(const cJSON *o, const char *path, const char *dflt)
+{
+  const cJSON *v = qc_json_at(o, path);
+  return cJSON_IsString(v) ? v->valuestring : dflt;
+}
+
+static const cJSON *at(const cJSON *o, const char *path) { return qc_json_at(o, path); }
+
+static double numv(const cJSON *o, const char *path) { return qc_json_num(o, path); }
+
 static const char *strv(const cJSON *o, const char *path, const char *dflt)
 {
-  const cJSON *v = at(o, path);
-  return cJSON_IsString(v) ? v->valuestring : dflt;
+  return qc_json_str(o, path, dflt);
 }
 
 /* A string of the report made safe to print (control characters escaped) in buf. */
@@ -603,7 +650,6 @@ static const char *sv(const cJSON *o, const char *path, const char *dflt, char *
   return buf;
 }
 
-/* A growable text buffer. */
 /* Text is built in a tz_buf (util/strbuf.h): one check of b.bad at the end. */
 static int finish(tz_buf *b, char **text, tz_err *err)
 {

@@ -10,4 +10,10 @@
 const cJSON *qc_report_root(const qc_report *r);
 const char *qc_report_name(const qc_report *r);
 
+/* Dotted paths into a report tree ("fold.nominal"): the item, or NULL; a
+ * number (NAN when absent or not a number); a string (dflt when absent). */
+const cJSON *qc_json_at(const cJSON *o, const char *path);
+double qc_json_num(const cJSON *o, const char *path);
+const char *qc_json_str(const cJSON *o, const char *path, const char *dflt);
+
 #endif

@@ -161,7 +161,7 @@ expect_status 65 "report with an empty CMP entry" -- "$TZERO" report bad3.json -
 cp qc.json in/qc.json
 expect_status 73 "fold CSV onto the report it reads" -- "$TZERO" report qc.json --fold-csv qc.json
 cmp -s qc.json in/qc.json && ok "the report is intact" || notok "the report changed"
-rm -f sec.sgy qc.json bad1.json bad2.json bad3.json
+rm -f sec.sgy qc.json qc.html bad1.json bad2.json bad3.json
 no_leftovers "damaged reports"
 
 # --- a section size driven by the data had no cap: two shots 1000 km apart
@@ -211,7 +211,7 @@ expect_status 73 "picture onto the section it draws" -- "$TZERO" picture sec.sgy
 expect_status 73 "fold picture onto the report it draws" -- "$TZERO" picture --fold qc.json \
   --out qc.json --quiet
 cmp -s sec.sgy in/sec.sgy && ok "the section is intact" || notok "the section changed"
-rm -f sec.sgy qc.json
+rm -f sec.sgy qc.json qc.html
 no_leftovers "pictures onto inputs"
 
 # --- an output path that is a folder failed only at the final rename ("cannot
@@ -243,7 +243,7 @@ expect_status 0 "stack with NaN and infinite samples" -- "$TZERO" stack --job nj
 expect_stdout "^samples +3 NaN, infinite or out-of-range" "summary counts the bad samples"
 grep -Eq '"bad_samples":[[:space:]]*3' n.json && ok "report counts the bad samples" ||
   notok "report lacks bad_samples 3"
-rm -rf nsv nj.json n.sgy n.json
+rm -rf nsv nj.json n.sgy n.json n.html
 no_leftovers "bad samples"
 
 # --- geometry --write with two inputs of the same name (from two folders) kept
