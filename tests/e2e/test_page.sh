@@ -4,7 +4,7 @@
 # scripts ran is read with Python's html.parser (tests/e2e/page_dom.py), and the charts'
 # numbers are compared with the QC report's JSON. The survey is written by segyio
 # (tests/xcheck/test_stack_segyio.py); its brute-force fold at CMP 250 is 6 (nominal
-# N dg/(2 ds) = 24*10/(2*20), REFERENCE.md §3.9). Screenshots go to build/page-shots/.
+# N dg/(2 ds) = 24*10/(2*20), Sheriff & Geldart 1995). Screenshots go to build/page-shots/.
 . "$TOP/tests/e2e/lib.sh"
 . "$TOP/tests/e2e/browser.sh"
 D="$T/sv"
