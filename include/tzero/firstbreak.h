@@ -2,15 +2,16 @@
  *
  * Criterion: the energy ratio of a window after each sample to the energy
  * accumulated from the start of the search window up to it, stabilised by a
- * fraction of the trace's mean window energy (the energy-ratio picker of
+ * fraction of the trace's mean window energy or ten windows of its noise floor
+ * (quietest window), whichever is larger (the energy-ratio picker of
  * Coppens 1985, "First arrival picking on common-offset trace collections for
  * automatic estimation of static corrections", Geophysical Prospecting 33,
  * 1212-1231: the accumulated energy keeps a later, stronger arrival from
  * outbidding the first one). Its maximum
  * inside a window around a linear-moveout guide (offset -> time polyline, given
  * or estimated from unguided picks) is the onset; the pick then moves to the
- * first strong extremum after it (a peak or trough: the centre of a zero-phase
- * wavelet), or to the zero crossing before that extremum, with parabolic
+ * largest sample of the first strong lobe after it (a peak or trough: the
+ * centre of a zero-phase wavelet), or to the zero crossing before that extremum, with parabolic
  * interpolation between samples. Quality is the signal-to-noise energy
  * fraction E_after / (E_after + E_before) of the windows after and before the
  * onset. Outliers: each pick is compared with the robust local trend of its

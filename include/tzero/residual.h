@@ -58,14 +58,17 @@ typedef struct residual_input {
 typedef struct residual_params {
   double max_shift_ms;       /* largest lag picked and largest update (default 10) */
   int iterations;            /* pick-and-decompose rounds (default 3) */
-  int sweeps;                /* Gauss-Seidel sweeps per decomposition (default 30) */
+  int sweeps;                /* Gauss-Seidel sweeps per decomposition (default 300: the
+                              * wavelengths longer than a spread converge slowly) */
   int pilot_half_width;      /* CMPs on each side in the pilot (default 2) */
   double min_correlation;    /* picks of lower normalised correlation are left out
                               * (default 0.3) */
   int remove_trend;          /* 1 = remove the linear trend of the source and of the
                               * receiver terms along the line (default 1) */
-  int moveout_term;          /* 1 = a residual-moveout term M x^2 (default 1; needs
-                              * offsets), one M per block of moveout_cmps CMPs */
+  int moveout_term;          /* 1 = a residual-moveout term M x^2 (needs offsets), one
+                              * M per block of moveout_cmps CMPs; default 0: at the line
+                              * ends, where few offsets meet, M trades off against the
+                              * end stations */
   int moveout_cmps;          /* CMPs sharing one moveout coefficient (default 100: a
                               * coefficient per CMP would also take up any cubic of
                               * station position, s^3 + r^3 = 2 m^3 + 3 m x^2 / 2) */

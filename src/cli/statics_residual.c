@@ -24,8 +24,8 @@ static void help(void)
          "iteration shifts every trace by its current source + receiver static, cross-\n"
          "correlates it with a pilot (the stack of its CMP and the CMPs beside it, less\n"
          "the trace itself) in the window, picks the lag of the largest correlation\n"
-         "within the maximum shift, and decomposes the lags into source, receiver, CMP\n"
-         "(structure) and residual-moveout (M x^2, one M per block of CMPs) terms by\n"
+         "within the maximum shift, and decomposes the lags into source, receiver and CMP\n"
+         "(structure) terms, with --moveout-term also a residual-moveout term M x^2, by\n"
          "Gauss-Seidel least squares (Taner, Koehler and Alhilali 1974; Wiggins, Larner\n"
          "and Wisecup 1976), station terms damped towards 0. The mean and the linear\n"
          "trend of the source and of the receiver terms are removed (the data cannot\n"
@@ -46,7 +46,8 @@ static void help(void)
          "  --pilot-cmps N        CMPs on each side in the pilot (default 2)\n"
          "  --min-correlation R   leave out lags of lower normalised correlation (0.3)\n"
          "  --keep-trend          remove only the mean, not the linear trend\n"
-         "  --no-moveout-term     leave the residual-moveout term out\n"
+         "  --moveout-term        add a residual-moveout term M x^2 (long offsets whose\n"
+         "                        moveout the velocities do not flatten)\n"
          "  --moveout-cmps N      CMPs sharing one moveout coefficient (default 100)\n"
          "  --station-interval M  station numbering interval (default the receiver interval)\n"
          "  --velocity FILE       velocity table overriding the job's\n"
@@ -86,7 +87,7 @@ int cmd_statics_residual(int argc, char **argv)
     { "pilot-cmps", required_argument, NULL, O_PILOT },
     { "min-correlation", required_argument, NULL, O_MINC },
     { "keep-trend", no_argument, NULL, O_TREND },
-    { "no-moveout-term", no_argument, NULL, O_NOMO },
+    { "moveout-term", no_argument, NULL, O_NOMO },
     { "moveout-cmps", required_argument, NULL, O_MOCMPS },
     { "station-interval", required_argument, NULL, O_STATION },
     { "json", no_argument, NULL, 'j' },
@@ -157,7 +158,7 @@ int cmd_statics_residual(int argc, char **argv)
         return cli_usage_error(cmd, "--min-correlation: expected 0 <= R < 1");
       break;
     case O_TREND: ro.params.remove_trend = 0; break;
-    case O_NOMO: ro.params.moveout_term = 0; break;
+    case O_NOMO: ro.params.moveout_term = 1; break;
     case O_MOCMPS:
       if (cli_parse_i64(cmd, "--moveout-cmps", optarg, &n))
         return EX_USAGE;

@@ -221,6 +221,14 @@ static void pick_trace(const firstbreak_params *p, const float *x, size_t ns, do
   if (lo > hi)
     return;
   double beta = p->stabilise * c[ns] / (double)ns * (double)L;
+  /* and at least ten windows of the trace's noise floor (its quietest window,
+   * when that is not silent): near the start of a search the accumulated energy
+   * is tiny, and without this noise there would outbid a late first arrival */
+  double floor_e = INFINITY;
+  for (long i = 0; i + L <= n; i += L)
+    floor_e = fmin(floor_e, c[i + L] - c[i]);
+  if (isfinite(floor_e) && 10.0 * floor_e > beta)
+    beta = 10.0 * floor_e;
   if (!(beta > 0.0))
     beta = 1e-30 * c[ns];
   long i0 = -1;
@@ -266,6 +274,19 @@ static void pick_trace(const firstbreak_params *p, const float *x, size_t ns, do
   if (jp < 0) {
     pick->time_ms = t0_ms + (double)i0 * dt_ms;
     return;
+  }
+  /* The largest sample of that lobe (between its zero crossings): noise can make
+   * a local maximum on the lobe's flank. */
+  {
+    double sg = x[jp] >= 0.0f ? 1.0 : -1.0;
+    long a = jp, b = jp;
+    while (a > 1 && sg * (double)x[a - 1] > 0.0)
+      a--;
+    while (b < n - 2 && sg * (double)x[b + 1] > 0.0)
+      b++;
+    for (long j = a; j <= b; j++)
+      if (sg * (double)x[j] > sg * (double)x[jp])
+        jp = j;
   }
   if (p->refine == FIRSTBREAK_REFINE_PEAK) {
     /* Three-point parabola on the trace smoothed by the binomial filter

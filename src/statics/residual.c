@@ -34,11 +34,11 @@ void residual_params_init(residual_params *p)
   memset(p, 0, sizeof *p);
   p->max_shift_ms = 10.0;
   p->iterations = 3;
-  p->sweeps = 30;
+  p->sweeps = 300;
   p->pilot_half_width = 2;
   p->min_correlation = 0.3;
   p->remove_trend = 1;
-  p->moveout_term = 1;
+  p->moveout_term = 0;
   p->moveout_cmps = 100;
   p->damping = 1.0;
 }
