@@ -115,6 +115,10 @@ static void read_low_fold(velocity_table *t, const char *c)
         return;
       p = end;
     }
+    /* CMP numbers a table may hold; beyond them the range walk below would
+     * overflow (a fuzzed "CMP 0-9223372036854775807") */
+    if (a < -VELOCITY_MAX_CMP || b > VELOCITY_MAX_CMP)
+      return;
     for (long long x = a; x <= b && t->nlow < VELOCITY_MAX_LOW_FOLD; x++) {
       if (t->nlow == cap) {
         size_t nc = cap ? 2 * cap : 16;

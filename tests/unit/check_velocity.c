@@ -189,6 +189,30 @@ START_TEST(test_control_cmps_beyond_the_job_range_are_refused)
 }
 END_TEST
 
+START_TEST(test_low_fold_note_with_a_range_to_int64_max_is_only_a_comment)
+{
+  /* found by fuzzing (fuzz_velocity): "CMP 0-9223372036854775807" walked the
+   * range with x++ past INT64_MAX (signed overflow). Beyond the CMP limit the
+   * note is taken as a plain comment. */
+  const char *txt = "# " VELOCITY_LOW_FOLD_NOTE ": CMP 5-9223372036854775807\n"
+                    "cmp,time_ms,velocity_mps\n1,0,1500\n";
+  velocity_table *t;
+  tz_err e;
+  tz_err_init(&e);
+  ck_assert_int_eq(velocity_table_parse(&t, "v.csv", txt, strlen(txt), &e), TZ_OK);
+  const int64_t *c;
+  ck_assert_uint_eq(velocity_table_low_fold(t, &c), 0);
+  velocity_table_free(t);
+  /* a note inside the limits still counts */
+  const char *ok = "# " VELOCITY_LOW_FOLD_NOTE ": CMP 5-7, 9\n"
+                   "cmp,time_ms,velocity_mps\n1,0,1500\n";
+  tz_err_init(&e);
+  ck_assert_int_eq(velocity_table_parse(&t, "v.csv", ok, strlen(ok), &e), TZ_OK);
+  ck_assert_uint_eq(velocity_table_low_fold(t, &c), 4);
+  velocity_table_free(t);
+}
+END_TEST
+
 START_TEST(test_builder_and_write_roundtrip)
 {
   velocity_table *t = NULL;
@@ -373,6 +397,7 @@ static Suite *velocity_suite(void)
   tcase_add_test(tc, test_constant_table);
   tcase_add_test(tc, test_errors_name_line);
   tcase_add_test(tc, test_control_cmps_beyond_the_job_range_are_refused);
+  tcase_add_test(tc, test_low_fold_note_with_a_range_to_int64_max_is_only_a_comment);
   tcase_add_test(tc, test_builder_and_write_roundtrip);
   tcase_add_test(tc, test_dix_worked_example);
   tcase_add_test(tc, test_dix_imaginary_flagged);
