@@ -563,7 +563,7 @@ static int chart_velocity(tz_buf *b, const cJSON *root, tz_err *err)
   if (rc)
     return rc;
   picture_frame f = { .x = PX, .y = CHART_TOP + 14, .w = PW - 170, .h = 460 - CHART_TOP - 14 - CHART_BOTTOM,
-                      .x0 = floor(vmin / step) * step, .x1 = ceil(vmax / step) * step,
+                      .x0 = floor(vmin / step - 0.5) * step, .x1 = ceil(vmax / step + 0.5) * step,
                       .y0 = tmax * 1.05, .y1 = 0 };
   picture_grid_y(c, &f);
   size_t i = 0, nf = (size_t)cJSON_GetArraySize(fs);
@@ -617,6 +617,73 @@ static int chart_velocity(tz_buf *b, const cJSON *root, tz_err *err)
                    0, c_ink);
   picture_legend(c, PX + 300, 18, 2, labels, keys, dashed);
   rc = inline_svg(b, c, "data-chart=\"velocity\"", err);
+  picture_ctx_free(c);
+  return rc;
+}
+
+/* Station statics along the line: every array under "statics" whose entries
+ * have a station and a static_ms (sources, receivers, ...), one series each,
+ * plus residual_ms where the entries carry it. */
+static int chart_statics(tz_buf *b, const cJSON *root, tz_err *err)
+{
+  const cJSON *st = cJSON_GetObjectItemCaseSensitive(root, "statics");
+  const char *keys[2] = { "static_ms", "residual_ms" };
+  double s0 = INFINITY, s1 = -INFINITY, lo = 0, hi = 0;
+  size_t nseries = 0;
+  for (const cJSON *a = st ? st->child : NULL; a; a = a->next)
+    for (const cJSON *e = cJSON_IsArray(a) ? a->child : NULL; e; e = e->next) {
+      double sn = qc_json_num(e, "station");
+      for (int k = 0; k < 2; k++) {
+        double v = qc_json_num(e, keys[k]);
+        if (!isfinite(sn) || !isfinite(v))
+          continue;
+        s0 = fmin(s0, sn), s1 = fmax(s1, sn), lo = fmin(lo, v), hi = fmax(hi, v);
+        nseries++;
+      }
+    }
+  if (!nseries || !(s1 > s0))
+    return TZ_OK;
+  picture_ctx *c = NULL;
+  int rc = picture_ctx_new(&c, PICTURE_FORMAT_SVG, W, 280, err);
+  if (rc)
+    return rc;
+  double span = hi - lo > 0 ? hi - lo : 1, step = picture_nice_step(span / 5);
+  picture_frame f = { .x = PX, .y = CHART_TOP, .w = PW, .h = 280 - CHART_TOP - CHART_BOTTOM,
+                      .x0 = s0 - 0.5, .x1 = s1 + 0.5, .y0 = floor(lo / step) * step,
+                      .y1 = ceil(hi / step) * step };
+  if (!(f.y1 > f.y0))
+    f.y1 = f.y0 + step;
+  picture_grid_y(c, &f);
+  const char *labels[8];
+  rgb3 cols[8];
+  char names[8][64];
+  int dashed[8] = { 0 };
+  size_t nl = 0;
+  for (const cJSON *a = st->child; a; a = a->next)
+    for (int k = 0; k < 2 && cJSON_IsArray(a); k++) {
+      size_t n = (size_t)cJSON_GetArraySize(a), q = 0;
+      double *xs = malloc(n * sizeof *xs), *ys = malloc(n * sizeof *ys);
+      for (const cJSON *e = a->child; xs && ys && e; e = e->next) {
+        double sn = qc_json_num(e, "station"), v = qc_json_num(e, keys[k]);
+        if (isfinite(sn) && isfinite(v))
+          xs[q] = picture_frame_px(&f, sn), ys[q++] = picture_frame_py(&f, v);
+      }
+      if (q && nl < 8) {
+        memcpy(cols[nl], cycle[nl], 3);
+        picture_ctx_attrs(c, "data-series=\"%s.%s\" data-points=\"%zu\"", a->string, keys[k], q);
+        picture_ctx_polyline(c, xs, ys, q, 1.5, k == 1, cols[nl]);
+        snprintf(names[nl], sizeof names[nl], "%s %s", a->string, k ? "residual" : "static");
+        labels[nl] = names[nl];
+        dashed[nl] = k == 1;
+        nl++;
+      }
+      free(xs), free(ys);
+    }
+  picture_frame_draw(c, &f);
+  picture_axis_x(c, &f, PICTURE_SIDE_BOTTOM, "Station", 1);
+  picture_axis_y(c, &f, PICTURE_SIDE_LEFT, "Static (ms)", 0);
+  picture_legend(c, PX - 4, 18, nl, labels, (const unsigned char(*)[3])cols, dashed);
+  rc = inline_svg(b, c, "data-chart=\"statics\"", err);
   picture_ctx_free(c);
   return rc;
 }
@@ -968,6 +1035,19 @@ static int line_body(tz_buf *b, const page_line_opts *o, const cJSON *root, tz_e
     free(beside);
   }
 
+  if (cJSON_IsObject(cJSON_GetObjectItemCaseSensitive(root, "statics"))) {
+    const cJSON *ap = qc_json_at(root, "statics.applied");
+    tz_buf_put(b, "<h2 id=\"statics\">Statics along the line</h2>\n");
+    if (cJSON_IsObject(ap))
+      tz_buf_put(b, "<p>Applied to %.0f traces: total static %.2f to %.2f ms (RMS %.2f ms); time "
+                 "reference: %s, datum %g m, replacement velocity %g m/s.</p>\n",
+                 qc_json_num(ap, "traces"), qc_json_num(ap, "min_ms"), qc_json_num(ap, "max_ms"),
+                 qc_json_num(ap, "rms_ms"), qc_json_str(root, "statics.time_reference", "-"),
+                 qc_json_num(root, "statics.datum_m"),
+                 qc_json_num(root, "statics.replacement_velocity_mps"));
+    if ((rc = chart_statics(b, root, err)))
+      return rc;
+  }
   tz_buf_put(b, "<h2 id=\"mute\">Mute by offset class</h2>\n");
   if ((rc = chart_mute(b, root, err)))
     return rc;

@@ -38,6 +38,10 @@ r["line"] = "TV-ZZ-09 copy with a warning (invented)"
 r["velocity"].setdefault("warnings", []).append(
     {"kind": "low_fold", "cmp": 250, "line": None,
      "message": "CMP 250: analysed without a pick for lack of fold"})
+# station statics as tzero stack records them with statics (invented values)
+r["statics"] = {"datum_m": 100, "applied": {"traces": 10, "min_ms": -5, "max_ms": 3, "rms_ms": 2},
+                "sources": [{"station": s, "static_ms": -1.0 * s} for s in range(1, 6)],
+                "receivers": [{"station": s, "static_ms": 0.5 * s} for s in range(0, 9)]}
 json.dump(r, open(sys.argv[2], "w"))
 PY
 expect_status 0 "a survey page of two reports" -- "$TZERO" report --html "$T/index.html" "$Q" "$D/out/warned_qc.json"
@@ -60,7 +64,7 @@ expect_status 0 "compare --html" -- "$TZERO" compare "$D/out/stack.sgy" "$T/doub
 if [ -z "$CHROMIUM" ]; then
   for n in "line page loads without a JavaScript error" "fold of three CMPs read back" \
     "#cmp=250 shows CMP 250" "an error on the page is caught" "survey rows" "survey sorts" \
-    "comparison ratio 6.02 dB" "screenshots"; do skip "$n"; done
+    "comparison ratio 6.02 dB" "statics chart" "screenshots"; do skip "$n"; done
   exit 0
 fi
 
@@ -109,6 +113,14 @@ dump_dom "$(file_url "$T/broken.html")" "$T/broken.dom" "$T/broken.log"
 "$PYTHON" "$TOP/tests/e2e/page_dom.py" line "$T/broken.dom" | grep -q '"js_error": "[^"]*no_such_function' &&
   ok "a script error on a page is caught and written into the DOM" ||
   notok "the error hook did not catch a broken script"
+
+# ---- a report with statics draws them along the line, one series per station table
+dump_dom "$(file_url "$D/out/warned_qc.html")" "$T/warned.dom" "$T/warned.log"
+grep -q 'data-series="sources.static_ms" data-points="5"' "$T/warned.dom" &&
+  grep -q 'data-series="receivers.static_ms" data-points="9"' "$T/warned.dom" &&
+  grep -q 'href="#cmp=250"' "$T/warned.dom" &&
+  ok "statics chart: 5 source and 9 receiver stations; the warning links to CMP 250" ||
+  notok "statics chart or warning link missing in the warned line's page"
 
 # ---- survey page: warnings first, links to the line pages, sortable
 dump_dom "$(file_url "$T/index.html")" "$T/index.dom" "$T/index.log"
