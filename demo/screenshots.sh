@@ -18,6 +18,6 @@ shot() { # page.html out.png height
     >/dev/null 2>&1
   echo "screenshot: $2"
 }
-shot "$O/index.html" "$IMG/survey_page.png" 520 ""
+shot "$O/index.html" "$IMG/survey_page.png" 900 ""
 shot "$O/dx04_qc.html" "$IMG/line_page.png" 2200 "#cmp=140"
 shot "$O/dx04_compare.html" "$IMG/compare_page.png" 1700 ""
