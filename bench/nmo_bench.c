@@ -57,7 +57,7 @@ int main(int argc, char **argv)
   if (nmo_workspace_new(&ws, NS, &e))
     return bench_die("nmo_bench", &e);
   nmo_params p;
-  nmo_params_default(&p);
+  nmo_params_init(&p);
   nmo_top_mute mute;
   double mx[] = { 0, 3000 }, mt[] = { 20, 900 };
   if (nmo_top_mute_set(&mute, mx, mt, 2, 16, &e))

@@ -52,7 +52,7 @@ int main(int argc, char **argv)
     }
   }
   semblance_params p;
-  semblance_params_default(&p);
+  semblance_params_init(&p);
   p.velocity_min_mps = 1400;
   p.velocity_max_mps = 4380;
   p.velocity_step_mps = 20;
@@ -80,7 +80,7 @@ int main(int argc, char **argv)
     }
   }
   semblance_pick_params pp;
-  semblance_pick_params_default(&pp);
+  semblance_pick_params_init(&pp);
   semblance_pick *pk;
   size_t np;
   double tp = bench_now();

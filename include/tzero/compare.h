@@ -15,7 +15,7 @@ typedef struct compare_params {
   double threshold_db;     /* |energy ratio| above this calls B stronger/weaker. Default 0.5 */
 } compare_params;
 
-void compare_params_default(compare_params *p);
+void compare_params_init(compare_params *p);
 
 enum compare_verdict { COMPARE_SIMILAR = 0, COMPARE_STRONGER = 1, COMPARE_WEAKER = -1 };
 

@@ -22,7 +22,7 @@ typedef enum {
 #define NMO_MAX_SAMPLES 1000000   /* largest trace a workspace accepts */
 #define NMO_MUTE_MAX_POINTS 256
 
-/* Parameters: a plain value, build it on the stack (nmo_params_default() first). */
+/* Parameters: a plain value, build it on the stack (nmo_params_init() first). */
 typedef struct nmo_params {
   double stretch_limit_pct;    /* mute output samples where 100 (t - t0)/t0 > this;
                                   0 disables the stretch mute. Default 50. */
@@ -32,7 +32,7 @@ typedef struct nmo_params {
   int use_eta;                 /* 1: fourth-order term when an eta array is given */
 } nmo_params;
 
-void nmo_params_default(nmo_params *p);
+void nmo_params_init(nmo_params *p);
 
 /* Top mute: a polyline of (absolute offset m, recorded time ms), offsets strictly
  * increasing; linear in offset between points, constant outside them. Input samples

@@ -85,7 +85,7 @@ typedef struct semblance_params {
   int threads;                 /* worker threads over velocities; <= 1 = serial */
 } semblance_params;
 
-void semblance_params_default(semblance_params *p);
+void semblance_params_init(semblance_params *p);
 /* Checks ranges; TZ_E_ARG naming the parameter. Fills *nvel with the number of
  * trial velocities v_k = min + k step, k = 0..nvel-1, v_k <= max (+1e-9 step). */
 int semblance_params_check(const semblance_params *p, size_t *nvel, tz_err *err);
@@ -134,7 +134,7 @@ typedef struct semblance_pick_params {
   double time_max_ms;          /* time_max <= 0 means the end of the trace. Defaults 0 */
 } semblance_pick_params;
 
-void semblance_pick_params_default(semblance_pick_params *p);
+void semblance_pick_params_init(semblance_pick_params *p);
 
 typedef struct semblance_pick {
   double time_s;               /* t0, refined by a parabola through the maximum */

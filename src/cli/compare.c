@@ -248,7 +248,7 @@ int cmd_compare(int argc, char **argv)
     { NULL, 0, NULL, 0 },
   };
   compare_params p;
-  compare_params_default(&p);
+  compare_params_init(&p);
   const char *csv = NULL, *html = NULL;
   int json = 0, quiet = 0, per = 0, check = 0, c;
   double max_db = NAN;

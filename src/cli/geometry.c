@@ -130,7 +130,9 @@ static void cards(const segy_info *in, char *out, size_t cap)
   out[n] = '\0';
 }
 
-static int pass(run *r, int which, tz_err *err)
+/* One header scan over the shot files: which = 1 feeds the survey inference,
+ * which = 2 bins every trace (and copies it with --write). */
+static int scan_shots(run *r, int which, tz_err *err)
 {
   float *buf = NULL;
   size_t bufcap = 0;
@@ -663,7 +665,7 @@ int cmd_geometry(int argc, char **argv)
                           .first_cmp = (int32_t)first, .max_off_line_m = maxoff };
   if ((rc = survey_new(&r.survey, r.src, &ls, &err)))
     goto done;
-  if (survey_wants_traces(r.survey) && (rc = pass(&r, 1, &err)))
+  if (survey_wants_traces(r.survey) && (rc = scan_shots(&r, 1, &err)))
     goto done;
   if ((rc = survey_finish(r.survey, r.src, &r.line, &fig, &err)))
     goto done;
@@ -681,7 +683,7 @@ int cmd_geometry(int argc, char **argv)
     rc = tz_fail_os(&err, TZ_E_CREATE, e, "cannot create the output folder");
     goto done;
   }
-  if ((rc = pass(&r, 2, &err)))
+  if ((rc = scan_shots(&r, 2, &err)))
     goto done;
   if (have_layout && ((rc = bins_fold_new(&pred, r.line, oclass, &err)) ||
                       (rc = bins_fold_predict(pred, r.line, &lay, NULL, &err))))

@@ -355,8 +355,8 @@ int cmd_semblance(int argc, char **argv)
 {
   struct opts o;
   memset(&o, 0, sizeof o);
-  semblance_params_default(&o.sp);
-  semblance_pick_params_default(&o.pp);
+  semblance_params_init(&o.sp);
+  semblance_pick_params_init(&o.pp);
   o.threads = -1;
   o.stretch = NAN;
   o.min_fold = 6;   /* live traces at the pick time (common practice: a handful of

@@ -64,7 +64,7 @@ struct nmo_workspace {
   int avx2;                 /* the CPU has AVX2: use the *_avx2 kernels */
 };
 
-void nmo_params_default(nmo_params *p)
+void nmo_params_init(nmo_params *p)
 {
   p->stretch_limit_pct = 50.0;   /* Sheriff's dictionary: often 50-100 % (Sheriff's Encyclopedic Dictionary, stretch mute; Yilmaz 2001) */
   p->stretch_taper_ms = 10.0;

@@ -21,7 +21,7 @@
 
 #include "tzero/segy.h"
 
-void compare_params_default(compare_params *p)
+void compare_params_init(compare_params *p)
 {
   p->max_lag_ms = 20;
   p->time_min_ms = -INFINITY;

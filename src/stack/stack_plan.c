@@ -114,7 +114,7 @@ void stack_plan_cmp(const stack_plan *p, int32_t cmp, stack_cmp_plan *out)
 int stack_plan_nmo(const stack_plan *p, nmo_params *np, nmo_top_mute *mute, tz_err *err)
 {
   const job_spec *j = p->job;
-  nmo_params_default(np);
+  nmo_params_init(np);
   np->stretch_limit_pct = j->stretch_limit_pct;
   np->stretch_taper_ms = j->stretch_taper_ms;
   np->interp = j->interpolation == JOB_INTERP_SINC8 ? NMO_INTERP_SINC8 : NMO_INTERP_LINEAR;

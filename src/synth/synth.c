@@ -355,7 +355,8 @@ double synth_vrms(const synth_model *m, size_t k)
   return t > 0 ? sqrt(s / t) : m->layer[0].velocity_mps;
 }
 
-static double rc(double v1, double d1, double v2, double d2)
+/* Normal-incidence reflection coefficient (Z2 - Z1) / (Z2 + Z1), Z = velocity x density. */
+static double reflection_coefficient(double v1, double d1, double v2, double d2)
 {
   double z1 = v1 * d1, z2 = v2 * d2;
   return (z2 - z1) / (z2 + z1);
@@ -365,8 +366,8 @@ double synth_reflection(const synth_model *m, size_t k)
 {
   if (k + 1 >= m->nlayers)
     return 0;
-  return rc(m->layer[k].velocity_mps, m->layer[k].density_kgm3, m->layer[k + 1].velocity_mps,
-            m->layer[k + 1].density_kgm3);
+  return reflection_coefficient(m->layer[k].velocity_mps, m->layer[k].density_kgm3,
+                                m->layer[k + 1].velocity_mps, m->layer[k + 1].density_kgm3);
 }
 
 double synth_dip_time(const synth_model *m, double sa, double sr, double ra, double rr)
@@ -591,8 +592,9 @@ void synth_render(const synth_model *m, const synth_params *p, const synth_frame
     const synth_dip *d = &m->dip;
     if (t > 0)
       add_body(p, out, ns, dt, fp, t + delay,
-               rc(d->velocity_above_mps, d->density_above_kgm3, d->velocity_below_mps,
-                  d->density_below_kgm3) * SYNTH_REF_DISTANCE_M / (t * d->velocity_above_mps));
+               reflection_coefficient(d->velocity_above_mps, d->density_above_kgm3,
+                                      d->velocity_below_mps, d->density_below_kgm3) *
+                   SYNTH_REF_DISTANCE_M / (t * d->velocity_above_mps));
   }
   if (m->ns.present) {
     /* first arrivals: the direct wave in the weathering (mean slowness of the two

@@ -179,7 +179,7 @@ void semblance_acc_finish(semblance_acc *a, size_t half, float *out, float *powe
 
 /* ---------------------------------------------------------------- parameters */
 
-void semblance_params_default(semblance_params *p)
+void semblance_params_init(semblance_params *p)
 {
   memset(p, 0, sizeof *p);
   p->velocity_min_mps = 1400;
@@ -188,7 +188,7 @@ void semblance_params_default(semblance_params *p)
   p->window_ms = 40;
   p->min_live_fraction = 0.25;
   p->min_fold = 0;
-  nmo_params_default(&p->nmo);
+  nmo_params_init(&p->nmo);
   p->mute = NULL;
   p->threads = 1;
 }
@@ -398,7 +398,7 @@ int semblance_panel_live(const semblance_gather *g, const semblance_params *p, f
 
 /* ---------------------------------------------------------------- picking */
 
-void semblance_pick_params_default(semblance_pick_params *p)
+void semblance_pick_params_init(semblance_pick_params *p)
 {
   memset(p, 0, sizeof *p);
   p->min_semblance = 0.3;

@@ -486,11 +486,12 @@ static void bracket(const velocity_table *t, int64_t cmp, const struct vt_cmp **
   *w = (double)(cmp - (*a)->cmp) / (double)((*b)->cmp - (*a)->cmp);
 }
 
-/* Walks the knots of one control CMP along t_i = t0 + (i0 + i) dt, i < n, adding
- * wgt * value into acc[i] (and eacc[i] when not NULL). One pass, segment by
- * segment: the knot index only moves forward and each sample costs one compare. */
-static void walk(const velocity_table *t, const struct vt_cmp *c, double wgt, double t0,
-                 double dt, size_t i0, size_t n, double *acc, double *eacc)
+/* Adds the velocity function of one control CMP, sampled along t_i = t0 + (i0 + i)
+ * dt, i < n: wgt * value into acc[i] (and eacc[i] when not NULL). One sweep,
+ * segment by segment: the knot index only moves forward and each sample costs one
+ * compare. */
+static void add_knots(const velocity_table *t, const struct vt_cmp *c, double wgt, double t0,
+                      double dt, size_t i0, size_t n, double *acc, double *eacc)
 {
   const double *kt = t->time_s + c->first, *kv = t->vel + c->first;
   const double *ke = t->eta + c->first;
@@ -542,9 +543,9 @@ void velocity_sample(const velocity_table *t, int64_t cmp, double t_first_s, dou
     memset(acc, 0, n * sizeof *acc);
     if (eta)
       memset(eacc, 0, n * sizeof *eacc);
-    walk(t, a, 1.0 - w, t_first_s, dt_s, i0, n, acc, eta ? eacc : NULL);
+    add_knots(t, a, 1.0 - w, t_first_s, dt_s, i0, n, acc, eta ? eacc : NULL);
     if (w > 0)
-      walk(t, b, w, t_first_s, dt_s, i0, n, acc, eta ? eacc : NULL);
+      add_knots(t, b, w, t_first_s, dt_s, i0, n, acc, eta ? eacc : NULL);
     for (size_t j = 0; j < n; j++)
       vel_mps[i0 + j] = (float)acc[j];
     if (eta)
@@ -560,9 +561,9 @@ double velocity_at(const velocity_table *t, int64_t cmp, double time_s, double *
   if (t->ncmp == 0)
     return 0;
   bracket(t, cmp, &a, &b, &w);
-  walk(t, a, 1.0 - w, time_s, 1.0, 0, 1, &v, &e);
+  add_knots(t, a, 1.0 - w, time_s, 1.0, 0, 1, &v, &e);
   if (w > 0)
-    walk(t, b, w, time_s, 1.0, 0, 1, &v, &e);
+    add_knots(t, b, w, time_s, 1.0, 0, 1, &v, &e);
   if (eta)
     *eta = e;
   return v;

@@ -120,7 +120,7 @@ START_TEST(test_sections)
   struct sec sa = { 100, 20, 0, 250, 2000, 1.0 }, sb = { 110, 20, 0, 250, 2000, 2.0 };
   char *pa = write_section(&sa), *pb = write_section(&sb);
   compare_params p;
-  compare_params_default(&p);
+  compare_params_init(&p);
   compare_result *r;
   tz_err e;
   tz_err_init(&e);
@@ -159,7 +159,7 @@ START_TEST(test_errors)
   char *p1 = write_section(&s1), *p2 = write_section(&s2), *p3 = write_section(&s3),
        *p4 = write_section(&s4), *p5 = write_section(&s5);
   compare_params p;
-  compare_params_default(&p);
+  compare_params_init(&p);
   compare_result *r = NULL;
   tz_err e;
   tz_err_init(&e);

@@ -93,7 +93,7 @@ START_TEST(test_flattens_exact_hyperbola)
     vel[i] = (float)v;
   nmo_workspace *ws = ws_new(ns);
   nmo_params p;
-  nmo_params_default(&p);
+  nmo_params_init(&p);
   nmo_axis ax = { tf, dt, ns };
   long i0 = lround((t0 - tf) / dt);
   for (int interp = NMO_INTERP_LINEAR; interp <= NMO_INTERP_SINC8; interp++) {
@@ -156,7 +156,7 @@ START_TEST(test_stretch_mute_edge)
   }
   nmo_workspace *ws = ws_new(ns);
   nmo_params p;
-  nmo_params_default(&p);
+  nmo_params_init(&p);
   p.stretch_limit_pct = 30;
   p.stretch_taper_ms = 0;
   nmo_axis ax = { 0.0, dt, ns };
@@ -210,7 +210,7 @@ START_TEST(test_top_mute_and_trace_end)
   }
   nmo_workspace *ws = ws_new(ns);
   nmo_params p;
-  nmo_params_default(&p);
+  nmo_params_init(&p);
   p.stretch_limit_pct = 0;   /* off */
   nmo_top_mute m;
   tz_err e;
@@ -301,7 +301,7 @@ START_TEST(test_fourth_order_layered)
   velocity_sample(vt, 1, 0.0, dt, ns, vel, eta);
   nmo_workspace *ws = ws_new(ns);
   nmo_params p;
-  nmo_params_default(&p);
+  nmo_params_init(&p);
   p.stretch_limit_pct = 0;
   p.interp = NMO_INTERP_SINC8;
   nmo_axis ax = { 0.0, dt, ns };
@@ -346,7 +346,7 @@ START_TEST(test_sinc8_error)
     vel[i] = (float)v;
   nmo_workspace *ws = ws_new(ns);
   nmo_params p;
-  nmo_params_default(&p);
+  nmo_params_init(&p);
   p.stretch_limit_pct = 0;
   nmo_axis ax = { 0.0, dt, ns };
   const double fr[] = { 0.2, 0.35, 0.5 };
@@ -394,7 +394,7 @@ START_TEST(test_inverse)
     in[i] = (float)ricker(i * dt - tx, 20);
   nmo_workspace *ws = ws_new(ns);
   nmo_params p;
-  nmo_params_default(&p);
+  nmo_params_init(&p);
   p.stretch_limit_pct = 0;
   p.interp = NMO_INTERP_SINC8;
   nmo_axis ax = { 0.0, dt, ns };
@@ -425,7 +425,7 @@ START_TEST(test_bad_arguments)
   for (int i = 0; i < 20; i++)
     vel[i] = 2000;
   nmo_params p;
-  nmo_params_default(&p);
+  nmo_params_init(&p);
   nmo_axis ax = { 0, 0, 10 };
   tz_err_init(&e);
   ck_assert_int_eq(nmo_apply(ws, &p, NULL, &ax, 10, a, vel, NULL, b, NULL, NULL, &e),
@@ -466,7 +466,7 @@ static void th_run(struct th_job *j)
   if (nmo_workspace_new(&ws, TH_NS, &e))
     return;
   nmo_params p;
-  nmo_params_default(&p);
+  nmo_params_init(&p);
   p.interp = NMO_INTERP_SINC8;
   nmo_top_mute m;
   double mx[] = { 0, 2000 }, mt[] = { 30, 700 };

@@ -228,7 +228,7 @@ static float *run_panel(const struct event *ev, size_t nev, int threads, size_t 
   *ax = (nmo_axis){ .t_first_s = 0, .dt_s = 0.002, .ns = 600 };
   double *off;
   float *g = make_gather(ev, nev, 48, 25.0, ax, &off);
-  semblance_params_default(p);
+  semblance_params_init(p);
   p->velocity_min_mps = 1500;
   p->velocity_max_mps = 3500;
   p->velocity_step_mps = 25;
@@ -288,7 +288,7 @@ START_TEST(test_autopick)
   float *power;
   float *panel = run_panel(ev, 3, 2, &nvel, &ax, &p, &power);
   semblance_pick_params pp;
-  semblance_pick_params_default(&pp);
+  semblance_pick_params_init(&pp);
   semblance_pick *pk;
   size_t n;
   tz_err e;
@@ -314,7 +314,7 @@ START_TEST(test_autopick)
   ck_assert_uint_eq(n, 2);
   free(pk);
   /* A separation longer than the gaps keeps one pick out of each close pair. */
-  semblance_pick_params_default(&pp);
+  semblance_pick_params_init(&pp);
   pp.min_separation_ms = 400;
   ck_assert_int_eq(semblance_autopick(panel, power, nvel, &ax, &p, &pp, &pk, &n, &e), TZ_OK);
   ck_assert_uint_eq(n, 2);
@@ -340,7 +340,7 @@ START_TEST(test_inversion)
   float *power;
   float *panel = run_panel(ev, 2, 1, &nvel, &ax, &p, &power);
   semblance_pick_params pp;
-  semblance_pick_params_default(&pp);
+  semblance_pick_params_init(&pp);
   semblance_pick *pk;
   size_t n;
   tz_err e;
@@ -370,7 +370,7 @@ START_TEST(test_power_floor)
   float *power;
   float *panel = run_panel(ev, 2, 1, &nvel, &ax, &p, &power);
   semblance_pick_params pp;
-  semblance_pick_params_default(&pp);
+  semblance_pick_params_init(&pp);
   semblance_pick *pk;
   size_t n;
   tz_err e;
@@ -423,15 +423,15 @@ START_TEST(test_params)
   semblance_params p;
   size_t nv;
   tz_err e;
-  semblance_params_default(&p);
+  semblance_params_init(&p);
   tz_err_init(&e);
   p.velocity_step_mps = 0;
   ck_assert_int_eq(semblance_params_check(&p, &nv, &e), TZ_E_ARG);
-  semblance_params_default(&p);
+  semblance_params_init(&p);
   tz_err_init(&e);
   p.velocity_max_mps = 1000;
   ck_assert_int_eq(semblance_params_check(&p, &nv, &e), TZ_E_ARG);
-  semblance_params_default(&p);
+  semblance_params_init(&p);
   tz_err_init(&e);
   p.velocity_min_mps = 1500;
   p.velocity_max_mps = 1600;

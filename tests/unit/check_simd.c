@@ -106,7 +106,7 @@ START_TEST(test_nmo_paths)
       eta[i] = (float)unif(&s, 0, 0.2);
     }
     nmo_params p;
-    nmo_params_default(&p);
+    nmo_params_init(&p);
     p.interp = c % 2 ? NMO_INTERP_SINC8 : NMO_INTERP_LINEAR;
     p.stretch_limit_pct = (double)(rnd(&s) % 4) * 50;
     p.stretch_taper_ms = (double)(rnd(&s) % 3) * 10;

@@ -53,7 +53,7 @@ int main(int argc, char **argv)
     return fail("out of memory");
   velocity_sample(vt, cmp, tf, dt, ns, vel, eta);
   nmo_params p;
-  nmo_params_default(&p);
+  nmo_params_init(&p);
   p.interp = interp;
   p.stretch_limit_pct = spct;
   p.stretch_taper_ms = taper;
