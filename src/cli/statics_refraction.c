@@ -37,7 +37,8 @@ static void help(void)
          "\n"
          "Output: the station statics table kind,station,x_m,y_m,elevation_m,\n"
          "static_ms plus delay_ms, weathering_m, refractor_mps and picks (stations of\n"
-         "the line without picks get the delay and velocity interpolated along it).\n"
+         "the line with fewer than 3 picks get the delay and velocity interpolated\n"
+         "along it from the receiver stations that have them).\n"
          "\n"
          "options:\n"
          "  --job FILE                  the job file (JSON; required)\n"
@@ -61,6 +62,10 @@ static void help(void)
          "\n%s", CLI_CAUTION);
 }
 
+/* A station's own delay needs this many picks; with fewer (a line end, say) it is
+ * interpolated along the line from the stations that have them. */
+#define MIN_PICKS 3
+
 enum { O_PICKS = 1, O_DATUM, O_VR, O_V0, O_XMIN, O_XMAX, O_SMOOTH, O_REJECT, O_STATION };
 
 /* Delay and refractor velocity at `along` from the receiver stations of the
@@ -70,7 +75,7 @@ static void interpolate(const refraction_solution *s, double along, double *dela
   const refraction_station *lo = NULL, *hi = NULL;
   for (size_t i = 0; i < s->nstations; i++) {
     const refraction_station *r = &s->stations[i];
-    if (r->kind != REFRACTION_RECEIVER)
+    if (r->kind != REFRACTION_RECEIVER || r->picks < MIN_PICKS)
       continue;
     if (r->along_m <= along && (!lo || r->along_m > lo->along_m))
       lo = r;
@@ -303,7 +308,7 @@ int cmd_statics_refraction(int argc, char **argv)
     const refraction_station *rs =
         refraction_find(sol, w->st->kind ? REFRACTION_RECEIVER : REFRACTION_SOURCE,
                         w->st->station);
-    if (rs && rs->picks) {
+    if (rs && rs->picks >= MIN_PICKS) {
       w->delay = rs->delay_ms, w->v1 = rs->refractor_mps, w->picks = rs->picks;
       w->rms = rs->residual_rms_ms;
     } else {
