@@ -64,7 +64,7 @@ expect_status 0 "compare --html" -- "$TZERO" compare "$D/out/stack.sgy" "$T/doub
 if [ -z "$CHROMIUM" ]; then
   for n in "line page loads without a JavaScript error" "fold of three CMPs read back" \
     "#cmp=250 shows CMP 250" "an error on the page is caught" "survey rows" "survey sorts" \
-    "comparison ratio 6.02 dB" "statics chart" "screenshots"; do skip "$n"; done
+    "comparison ratio 6.02 dB" "statics chart" "print to PDF" "screenshots"; do skip "$n"; done
   exit 0
 fi
 
@@ -165,6 +165,10 @@ print(("ok - " if ok else "not ok - ") + "comparison page: both thumbnails, #cmp
 screenshot "$(file_url "$T/line.html")#cmp=250" "$SHOTS/line_page.png" 1180 2400
 screenshot "$(file_url "$T/index.html")" "$SHOTS/survey_page.png" 1180 500
 screenshot "$(file_url "$T/compare.html")" "$SHOTS/compare_page.png" 1180 1800
+# printing uses the print style sheet; the PDF header is ISO 32000-1, section 7.5.2
+browser --no-pdf-header-footer --print-to-pdf="$SHOTS/line_page.pdf" "$(file_url "$T/line.html")" >/dev/null 2>&1
+if head -c 7 "$SHOTS/line_page.pdf" 2>/dev/null | grep -q '^%PDF-1\.' && [ "$(wc -c <"$SHOTS/line_page.pdf")" -gt 20000 ]; then
+  ok "the line page prints to PDF ($SHOTS/line_page.pdf)"; else notok "printing the line page to PDF"; fi
 "$PYTHON" - "$SHOTS" <<'PY'
 import os, sys
 import numpy as np
