@@ -15,7 +15,11 @@
  * The phases are pipelined over three batch buffers: in one step every
  * thread reads its slice of batch k+2, runs the chain on its records of batch
  * k+1 and stacks its CMPs of batch k, then all meet at one barrier (a short spin before sleeping: a futex wake-up costs
- * hundreds of microseconds on a virtual machine, as long as a phase).
+ * hundreds of microseconds on a virtual machine, as long as a phase). The spin
+ * adapts: none when there are more threads than online cores, a budget that
+ * shrinks each time a spin ends in sleep anyway (other runs share the cores)
+ * and grows back when spins succeed, with sched_yield() between polls so a
+ * spinning thread hands its core to whichever thread it is waiting for.
  * Ownership is decided per batch from the batch's own CMPs: their traces are
  * split into T contiguous CMP ranges of about equal trace counts, so a shot
  * whose CMPs fall mostly in one place still keeps every thread busy. (When a
@@ -47,6 +51,7 @@
 
 #include <math.h>
 #include <pthread.h>
+#include <sched.h>
 #include <stdatomic.h>
 #include <stdlib.h>
 #include <string.h>
@@ -59,7 +64,9 @@
 #define OWNER_BLOCK 16            /* CMPs per ownership block (16 x 4 bytes = a cache line) */
 #define LINE 64
 #define SPAN_MAX 4096             /* CMP span of a batch split into balanced ranges */
-#define SPIN_ROUNDS 20000         /* barrier polls (about 100 us) before sleeping */
+#define SPIN_ROUNDS 20000         /* most barrier polls (about 100 us) before sleeping */
+#define SPIN_YIELD 64             /* polls between sched_yield() calls while spinning */
+#define SPIN_MIN 256              /* the least spin (a few yields) while threads <= cores */
 
 #if defined(__x86_64__) || defined(__i386__)
 #define cpu_relax() __builtin_ia32_pause()
@@ -82,8 +89,24 @@ typedef struct run_barrier {
   atomic_uint count, gen;
   atomic_int failed;         /* sticky: some thread failed */
   atomic_int stop;           /* `failed` as of the last completed round */
+  atomic_int spin;           /* current spin budget in polls, SPIN_MIN .. spin_max */
+  int spin_max;              /* SPIN_ROUNDS, or 0 with more threads than cores */
   unsigned n;
 } run_barrier;
+
+/* The spin budget, SPIN_MIN .. spin_max polls: a waiter that had to sleep
+ * after spinning quarters it (the thread it waited for was not running: other
+ * runs hold the cores); one released while spinning doubles it. Races between
+ * waiters only blur the budget, never the barrier's ordering. */
+static void spin_adapt(run_barrier *b, int budget, int released)
+{
+  int next = released ? budget * 2 : budget / 4;
+  if (next > b->spin_max)
+    next = b->spin_max;
+  if (next < SPIN_MIN)
+    next = SPIN_MIN;
+  atomic_store_explicit(&b->spin, next, memory_order_relaxed);
+}
 
 static int barrier_wait(run_barrier *b, int failed)
 {
@@ -99,8 +122,15 @@ static int barrier_wait(run_barrier *b, int failed)
     pthread_mutex_unlock(&b->mu);
     return atomic_load(&b->stop);
   }
-  for (int k = 0; k < SPIN_ROUNDS && atomic_load(&b->gen) == g; k++)
-    cpu_relax();
+  int budget = atomic_load_explicit(&b->spin, memory_order_relaxed);
+  if (b->spin_max > 0) {
+    for (int k = 0; k < budget && atomic_load(&b->gen) == g; k++) {
+      cpu_relax();
+      if (k % SPIN_YIELD == SPIN_YIELD - 1)
+        sched_yield();
+    }
+    spin_adapt(b, budget, atomic_load(&b->gen) != g);
+  }
   if (atomic_load(&b->gen) == g) {
     pthread_mutex_lock(&b->mu);
     while (atomic_load(&b->gen) == g)
@@ -715,6 +745,10 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
   atomic_init(&sh.bar.failed, 0);
   atomic_init(&sh.bar.stop, 0);
   sh.bar.n = (unsigned)sh.T;
+  /* More threads than online cores: a spinning waiter would hold the core its
+   * partner needs, so the barrier sleeps at once. */
+  sh.bar.spin_max = cores > 0 && sh.T > cores ? 0 : SPIN_ROUNDS;
+  atomic_init(&sh.bar.spin, sh.bar.spin_max);
   for (int t = 1; t < sh.T && !rc; t++) {
     if (pthread_create(&sh.wk[t].th, NULL, work, &sh.wk[t]))
       rc = tz_fail(err, TZ_E_INTERNAL, "cannot start thread %d of %d", t + 1, sh.T);
