@@ -11,7 +11,7 @@
  * grows (in either direction) as traces arrive: one streaming pass, memory in
  * proportion to the number of CMPs, never to the number of traces.
  *
- * Not here: trace positions (geometry.c), stacking (stack.c).
+ * Not here: trace positions (geometry.c), stacking (src/stack/).
  */
 #include "tzero/bins.h"
 

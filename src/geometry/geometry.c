@@ -8,7 +8,7 @@
  * by (field record, channel) and searched by bisection. A geometry_source wraps
  * the three so the stack and the fold count see one call.
  *
- * Not here: CMP numbering and fold (bins.c), SEG-Y reading (segy.c).
+ * Not here: CMP numbering and fold (bins.c), SEG-Y reading (src/io/segy_*.c), the acquisition figures (survey.c).
  */
 #include "tzero/geometry.h"
 

@@ -11,7 +11,7 @@
  * Koehler 1969), which is what "B stronger" reports.
  *
  * Memory: one trace of each file at a time plus a (CMP, trace) index per file.
- * Not here: printing (the front end), stacking (stack.c).
+ * Not here: printing (the front end), stacking (src/stack/).
  */
 #include "tzero/compare.h"
 

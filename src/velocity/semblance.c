@@ -21,7 +21,7 @@
  * velocity (unless inversions are allowed) and imply Dix (1955) interval
  * velocities inside the given bounds (computed by velocity_dix()).
  *
- * Not here: reading gathers from files (stack_collect() in stack.c; this file
+ * Not here: reading gathers from files (stack_collect() in src/stack/stack_collect.c; this file
  * only joins collected gathers into supergathers), file output, NMO itself
  * (nmo.c).
  */
