@@ -61,8 +61,15 @@ size_t tz_escape(const char *s, char *buf, size_t cap);
 
 /* Formats the record as one line: "PATH: line L: trace T: byte B: MSG (STATUS)",
  * with T counted from 1 as SEG-Y trace sequence numbers are. PATH and MSG are
- * escaped with tz_escape(), so the line is always one line.
+ * escaped with tz_escape(), so the line is always one line. The "(STATUS)" is
+ * left out when MSG already says it ("cannot open", "cannot create ...",
+ * "out of memory", or the status name itself).
  * Does not include strerror(oserr); the front end appends it. */
 void tz_err_format(const tz_err *e, char *buf, size_t cap);
+
+/* For a did-you-mean: the entry of names[0..n-1] nearest to `word` by
+ * Levenshtein edit distance, or NULL when none is within `max_dist` edits
+ * (or n is 0). Ties go to the earlier entry. */
+const char *tz_nearest(const char *word, const char *const *names, size_t n, size_t max_dist);
 
 #endif

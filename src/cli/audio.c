@@ -281,7 +281,7 @@ int cmd_audio(int argc, char **argv)
     case O_JSON: json = 1; break;
     case O_QUIET: quiet = 1; break;
     case 'h': free(chans); help(); return EX_OK;
-    default: rc = cli_opt_error(cmd, argv);
+    default: rc = cli_opt_error(cmd, argv, opts);
     }
     if (rc) {
       free(chans);

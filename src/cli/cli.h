@@ -56,10 +56,16 @@ int cli_usage_error(const char *cmd, const char *fmt, ...)
 int cli_print_json(void *tree);
 /* Every subcommand's getopt_long loop starts with cli_opt_begin() (optind = 1,
  * opterr = 0: getopt prints nothing, the messages are ours) and ends its switch
- * with `default: return cli_opt_error(cmd, argv);`, the usage error naming the
- * option getopt did not accept (unknown, or missing its value). */
+ * with `default: return cli_opt_error(cmd, argv, opts);`, the usage error naming
+ * the option getopt did not accept: unknown (with the nearest option name
+ * suggested), missing its value, or an abbreviation that fits several options
+ * (getopt_long takes an unambiguous prefix of a long option's name). */
+struct option;
 void cli_opt_begin(void);
-int cli_opt_error(const char *cmd, char **argv);
+int cli_opt_error(const char *cmd, char **argv, const struct option *opts);
+/* The usage error for a stray argument; when no --job was given (`job` NULL) and
+ * the argument names a .json file, it suggests `--job ARG`. */
+int cli_unexpected_arg(const char *cmd, const char *arg, const char *job);
 /* Checked option parsers: on failure print a usage error naming the option. */
 int cli_parse_i64(const char *cmd, const char *opt, const char *s, long long *out);
 int cli_parse_f64(const char *cmd, const char *opt, const char *s, double *out);

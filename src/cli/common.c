@@ -39,10 +39,53 @@ void cli_opt_begin(void)
   opterr = 0;
 }
 
-int cli_opt_error(const char *cmd, char **argv)
+int cli_opt_error(const char *cmd, char **argv, const struct option *opts)
 {
-  return cli_usage_error(cmd, "unknown or incomplete option '%s'",
-                         optind > 0 ? argv[optind - 1] : "");
+  const char *arg = optind > 0 ? argv[optind - 1] : "";
+  char safe[256];
+  tz_escape(arg, safe, sizeof safe);
+  if (strncmp(arg, "--", 2) || !opts)   /* a short option */
+    return cli_usage_error(cmd, "unknown or incomplete option '%s'", safe);
+  /* the long option's name as typed, without "--" and any "=VALUE" */
+  char word[128];
+  snprintf(word, sizeof word, "%.*s", (int)strcspn(arg + 2, "="), arg + 2);
+  size_t len = strlen(word), nmatch = 0, nopts = 0;
+  const char *names[256];
+  char list[512] = "";
+  for (const struct option *o = opts; o->name && nopts < 256; o++) {
+    names[nopts++] = o->name;
+    if (!strncmp(o->name, word, len)) {
+      if (!strcmp(o->name, word)) {   /* whole name: it needed a value */
+        nmatch = 1;
+        snprintf(list, sizeof list, "--%s", o->name);
+        break;
+      }
+      size_t k = strlen(list);
+      snprintf(list + k, sizeof list - k, "%s--%s", nmatch ? ", " : "", o->name);
+      nmatch++;
+    }
+  }
+  tz_escape(word, safe, sizeof safe);
+  if (nmatch > 1)
+    return cli_usage_error(cmd, "option '--%s' is ambiguous: it could be %s; give more of "
+                           "the name", safe, list);
+  if (nmatch == 1)
+    return cli_usage_error(cmd, "option '%s' needs a value", list);
+  const char *near = tz_nearest(word, names, nopts, len / 3 > 2 ? len / 3 : 2);
+  if (near)
+    return cli_usage_error(cmd, "unknown option '--%s'; did you mean '--%s'?", safe, near);
+  return cli_usage_error(cmd, "unknown option '--%s'", safe);
+}
+
+int cli_unexpected_arg(const char *cmd, const char *arg, const char *job)
+{
+  char safe[256];
+  tz_escape(arg, safe, sizeof safe);
+  size_t n = strlen(arg);
+  if (!job && n > 5 && !strcmp(arg + n - 5, ".json"))
+    return cli_usage_error(cmd, "unexpected argument '%s'; a job file is given with --job "
+                           "(tzero %s --job %s)", safe, cmd, safe);
+  return cli_usage_error(cmd, "unexpected argument '%s'", safe);
 }
 
 int cli_parse_i64(const char *cmd, const char *opt, const char *s, long long *out)

@@ -271,7 +271,7 @@ int cmd_compare(int argc, char **argv)
     case O_QUIET: quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_opt_error("compare", argv);
+      return cli_opt_error("compare", argv, opts);
     }
     if (bad)
       return bad;

@@ -80,13 +80,13 @@ int cmd_cvs(int argc, char **argv)
     case O_QUIET: quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_opt_error(cmd, argv);
+      return cli_opt_error(cmd, argv, lo);
     }
     if (bad)
       return bad;
   }
   if (optind < argc)
-    return cli_usage_error(cmd, "unexpected argument '%s'", argv[optind]);
+    return cli_unexpected_arg(cmd, argv[optind], jobpath);
   if (!jobpath || !cmptext || !veltext || !out)
     return cli_usage_error(cmd, "--job, --cmps, --velocities and --out are required");
   if (threads < -1 || threads > JOB_MAX_THREADS)

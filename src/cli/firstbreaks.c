@@ -128,7 +128,7 @@ int cmd_firstbreaks(int argc, char **argv)
     case 'q': quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_opt_error("firstbreaks", argv);
+      return cli_opt_error("firstbreaks", argv, opts);
     }
   }
   if (optind < argc)

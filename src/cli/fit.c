@@ -79,7 +79,7 @@ int cmd_fit(int argc, char **argv)
     case 'q': quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_opt_error("fit", argv);
+      return cli_opt_error("fit", argv, opts);
     }
   }
   if (argc - optind != 1)

@@ -577,7 +577,7 @@ int cmd_geometry(int argc, char **argv)
     case O_JSON: json = 1; break;
     case O_QUIET: quiet = 1; break;
     case 'h': help(); return EX_OK;
-    default: return cli_opt_error(cmd, argv);
+    default: return cli_opt_error(cmd, argv, opts);
     }
   }
   if (layout_path && table_path)

@@ -767,7 +767,7 @@ int cmd_inspect(int argc, char **argv)
     case 'q': o.quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_opt_error("inspect", argv);
+      return cli_opt_error("inspect", argv, lo);
     }
   }
   if (optind >= argc)

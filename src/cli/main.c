@@ -116,6 +116,25 @@ static const struct subcmd *find(const char *name)
   return NULL;
 }
 
+/* "unknown subcommand 'stak'; did you mean 'stack'?" (within a third of the
+ * word's length in edits, at least 2). */
+static int unknown_subcommand(const char *name)
+{
+  const char *names[NSUB];
+  for (size_t i = 0; i < NSUB; i++)
+    names[i] = subcmds[i].name;
+  size_t len = strlen(name);
+  const char *near = tz_nearest(name, names, NSUB, len / 3 > 2 ? len / 3 : 2);
+  char safe[256];
+  tz_escape(name, safe, sizeof safe);
+  if (near)
+    fprintf(stderr, "tzero: unknown subcommand '%s'; did you mean '%s'?\n", safe, near);
+  else
+    fprintf(stderr, "tzero: unknown subcommand '%s'\n", safe);
+  fprintf(stderr, "Try 'tzero --help'.\n");
+  return EX_USAGE;
+}
+
 int main(int argc, char **argv)
 {
   if (argc < 2) {
@@ -137,19 +156,15 @@ int main(int argc, char **argv)
       return EX_OK;
     }
     const struct subcmd *s = find(argv[2]);
-    if (!s) {
-      fprintf(stderr, "tzero: unknown subcommand '%s'\n", argv[2]);
-      return EX_USAGE;
-    }
+    if (!s)
+      return unknown_subcommand(argv[2]);
     char *hargv[] = { argv[2], "--help", NULL };
     return s->run(2, hargv);
   }
   const struct subcmd *s = find(name);
   if (s)
     signals_start();
-  if (!s) {
-    fprintf(stderr, "tzero: unknown subcommand '%s'\nTry 'tzero --help'.\n", name);
-    return EX_USAGE;
-  }
+  if (!s)
+    return unknown_subcommand(name);
   return s->run(argc - 1, argv + 1);
 }

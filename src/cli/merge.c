@@ -61,7 +61,7 @@ int cmd_merge(int argc, char **argv)
     case 'q': quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_opt_error("merge", argv);
+      return cli_opt_error("merge", argv, opts);
     }
   }
   if (optind >= argc)

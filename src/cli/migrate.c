@@ -333,7 +333,7 @@ int cmd_migrate(int argc, char **argv)
     case 'q': a.quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_opt_error("migrate", argv);
+      return cli_opt_error("migrate", argv, opts);
     }
   }
   if (optind >= argc)

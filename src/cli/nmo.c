@@ -72,11 +72,11 @@ int cmd_nmo(int argc, char **argv)
     case 'q': quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_opt_error("nmo", argv);
+      return cli_opt_error("nmo", argv, opts);
     }
   }
   if (optind < argc)
-    return cli_usage_error("nmo", "unexpected argument '%s'", argv[optind]);
+    return cli_unexpected_arg("nmo", argv[optind], jobpath);
   if (!jobpath || !list || !out)
     return cli_usage_error("nmo", "--job, --cmps and --out are required");
   tz_err e;

@@ -398,7 +398,7 @@ int cmd_picture(int argc, char **argv)
       break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_opt_error(cmd, argv);
+      return cli_opt_error(cmd, argv, opts);
     }
     if (bad)
       return bad;

@@ -261,7 +261,7 @@ int cmd_report(int argc, char **argv)
     case 'q': quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_opt_error("report", argv);
+      return cli_opt_error("report", argv, opts);
     }
   }
   if (check) {

@@ -168,13 +168,13 @@ static int parse(int argc, char **argv, struct opts *o)
     case O_QUIET: o->quiet = 1; break;
     case 'h': help(); return -1;
     default:
-      return cli_opt_error(cmd, argv);
+      return cli_opt_error(cmd, argv, lo);
     }
     if (bad)
       return bad;
   }
   if (optind < argc)
-    return cli_usage_error(cmd, "unexpected argument '%s'", argv[optind]);
+    return cli_unexpected_arg(cmd, argv[optind], o->job);
   if (!o->job || !o->cmps)
     return cli_usage_error(cmd, "--job and --cmps are required");
   if (o->supergather < 0 || o->supergather > 1000)

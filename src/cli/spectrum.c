@@ -284,7 +284,7 @@ int cmd_spectrum(int argc, char **argv)
     case 'q': quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_opt_error("spectrum", argv);
+      return cli_opt_error("spectrum", argv, opts);
     }
   }
   if (!job_path == !(argc - optind))

@@ -231,11 +231,11 @@ int cmd_stack(int argc, char **argv)
     case 'q': quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_opt_error("stack", argv);
+      return cli_opt_error("stack", argv, opts);
     }
   }
   if (optind < argc)
-    return cli_usage_error("stack", "unexpected argument '%s'", argv[optind]);
+    return cli_unexpected_arg("stack", argv[optind], jobpath);
   if (!jobpath)
     return cli_usage_error("stack", "--job FILE is required");
 

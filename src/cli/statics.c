@@ -75,7 +75,7 @@ static int statics_elevation(int argc, char **argv)
     case O_JSON: json = 1; break;
     case O_QUIET: quiet = 1; break;
     case 'h': elevation_usage(stdout); return EX_OK;
-    default: return cli_opt_error(cmd, argv);
+    default: return cli_opt_error(cmd, argv, lo);
     }
   }
   if (optind < argc)

@@ -221,7 +221,7 @@ int cmd_synth(int argc, char **argv)
     case O_JSON: json = 1; break;
     case O_QUIET: quiet = 1; break;
     case 'h': help(); return EX_OK;
-    default: return cli_opt_error(cmd, argv);
+    default: return cli_opt_error(cmd, argv, opts);
     }
   }
   if (p.reverb_period_s > 0)

@@ -391,7 +391,7 @@ int cmd_velocity(int argc, char **argv)
     case 'q': op.quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
-      return cli_opt_error(CMD, argv);
+      return cli_opt_error(CMD, argv, lopts);
     }
   }
   if (argc - optind < 1)

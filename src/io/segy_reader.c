@@ -694,6 +694,12 @@ static int settle(segy_file *f, const segy_open_opts *o, tz_err *err)
                       "unknown sample format code 4 (bytes 3225-3226): the obsolete 4-byte "
                       "fixed point with gain of SEG-Y rev 0 is not read; if the samples are "
                       "in another format, give its code (inspect --format)");
+  /* SEG-Y rev 2.0 (2017) binary header bytes 3225-3226 define codes 1 to 16:
+   * a value outside them is most often a file that is not SEG-Y at all */
+  if (!in->bytes_per_sample && (code < 1 || code > 16))
+    return tz_fail_at(err, TZ_E_FORMAT, -1, 3224,
+                      "not a SEG-Y file? the sample format code at byte 3225 is %d (SEG-Y "
+                      "defines codes 1 to 16 in bytes 3225-3226)", code);
   if (!in->bytes_per_sample)
     return tz_fail_at(err, TZ_E_FORMAT, -1, 3224,
                       "unknown sample format code %d (bytes 3225-3226)", code);

@@ -5,6 +5,7 @@
  * and maps the status to a <sysexits.h> exit code.
  */
 #include "tzero/error.h"
+#include "util/json_doc.h"
 
 #include <stdio.h>
 #include <string.h>
@@ -169,6 +170,21 @@ size_t tz_escape(const char *s, char *buf, size_t cap)
   return n;
 }
 
+/* Whether the message already says what its status says, so the status in
+ * parentheses would only repeat it: "cannot open (cannot open input)". */
+static int says_status(const char *msg, int status)
+{
+  static const char *const phrase[TZ_E__COUNT] = {
+    [TZ_E_NOMEM] = "out of memory",
+    [TZ_E_NOINPUT] = "cannot open",
+    [TZ_E_CREATE] = "cannot create",
+  };
+  const char *name = tz_strstatus(status);
+  if (strstr(msg, name))
+    return 1;
+  return status >= 0 && status < TZ_E__COUNT && phrase[status] && strstr(msg, phrase[status]);
+}
+
 void tz_err_format(const tz_err *e, char *buf, size_t cap)
 {
   size_t n = 0;
@@ -184,6 +200,17 @@ void tz_err_format(const tz_err *e, char *buf, size_t cap)
   if (e->trace >= 0) PUT("trace %lld: ", (long long)e->trace + 1); /* 1-based, as SEG-Y counts */
   if (e->byte >= 0) PUT("byte %lld: ", (long long)e->byte);
   tz_escape(e->msg, safe, sizeof safe);
-  PUT("%s (%s)", safe, tz_strstatus(e->status));
+  if (says_status(e->msg, e->status))
+    PUT("%s", safe);
+  else
+    PUT("%s (%s)", safe, tz_strstatus(e->status));
 #undef PUT
+}
+
+const char *tz_nearest(const char *word, const char *const *cands, size_t n, size_t max_dist)
+{
+  const char *best = json_doc_nearest(word ? word : "", cands, n);
+  if (!best || json_doc_edit_distance(word ? word : "", best) > max_dist)
+    return NULL;
+  return best;
 }

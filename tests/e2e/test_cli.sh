@@ -8,3 +8,29 @@ expect_stdout "^tzero [0-9]+\.[0-9]+" "--version prints a version"
 expect_status 64 "unknown subcommand" -- "$TZERO" frobnicate
 expect_stderr "unknown subcommand 'frobnicate'" "unknown subcommand is named"
 expect_status 64 "no subcommand" -- "$TZERO"
+# did-you-mean: the nearest name by Levenshtein edit distance (Levenshtein 1966)
+expect_status 64 "misspelt subcommand" -- "$TZERO" stak
+expect_stderr "unknown subcommand 'stak'; did you mean 'stack'\?" "misspelt subcommand: nearest suggested"
+expect_status 64 "misspelt subcommand after help" -- "$TZERO" help semblence
+expect_stderr "did you mean 'semblance'\?" "help SUBCOMMAND: nearest suggested"
+expect_status 64 "misspelt option" -- "$TZERO" stack --jbo x.job.json
+expect_stderr "unknown option '--jbo'; did you mean '--job'\?" "misspelt option: nearest suggested"
+expect_status 64 "far-off option" -- "$TZERO" stack --zzzzzzzz
+expect_stderr "unknown option '--zzzzzzzz'$" "far-off option: no suggestion"
+expect_status 64 "option missing its value" -- "$TZERO" stack --job
+expect_stderr "option '--job' needs a value" "missing value named"
+# getopt_long(3) (glibc) takes an unambiguous prefix of a long option; an
+# ambiguous one is refused with the candidates listed
+expect_status 64 "ambiguous option prefix" -- "$TZERO" synth --noise-train 3
+expect_stderr "option '--noise-train' is ambiguous: it could be --noise-train-amplitude, --noise-train-velocity" "ambiguous prefix: candidates listed"
+expect_status 64 "job file given without --job" -- "$TZERO" stack "$TOP/demo/tarrowvane/gw01.job.json"
+expect_stderr "a job file is given with --job \(tzero stack --job .*gw01.job.json\)" "stray .json: --job suggested"
+# a text file is not SEG-Y: 'l' is 0x6C in ASCII (ANSI X3.4), so bytes 3225-3226
+# read 0x6C6C = 27756, outside the codes 1-16 of SEG-Y rev 2.0 (2017) 3225-3226
+head -c 4000 /dev/zero | tr '\0' 'l' >"$T/text.sgy"
+expect_status 65 "a file that is not SEG-Y" -- "$TZERO" inspect "$T/text.sgy"
+expect_stderr "text.sgy: byte 3224: not a SEG-Y file\? the sample format code at byte 3225 is 27756" "not SEG-Y said so"
+# a message that says what its status says is not followed by it again
+expect_status 66 "missing input" -- "$TZERO" inspect "$T/none.sgy"
+expect_stderr "none.sgy: cannot open: No such file" "missing input: no doubled wording"
+if grep -q "cannot open (cannot open" "$T/err"; then notok "doubled wording"; else ok "no doubled wording"; fi

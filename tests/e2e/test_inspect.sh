@@ -55,7 +55,7 @@ corrupt() { # status file pattern
   expect_status "$1" "corrupt $2" -- "$TZERO" inspect "$D/$2"
   expect_stderr "$3" "corrupt $2: message"
 }
-corrupt 66 missing.sgy "^tzero inspect: .*/missing.sgy: cannot open \(cannot open input\): No such file"
+corrupt 66 missing.sgy "^tzero inspect: .*/missing.sgy: cannot open: No such file"
 corrupt 65 short.sgy "short.sgy: byte 100: file is 100 bytes, shorter than the 3600 bytes of SEG-Y file headers \(malformed input\)$"
 corrupt 65 format13.sgy "format13.sgy: byte 3224: unknown sample format code 13 \(bytes 3225-3226\)"
 corrupt 65 format4.sgy "format4.sgy: byte 3224: unknown sample format code 4 .*obsolete"

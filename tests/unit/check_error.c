@@ -75,6 +75,32 @@ START_TEST(test_strstatus_never_null)
 }
 END_TEST
 
+/* The status in parentheses is left out when the message already says it
+ * (consistency check of the formatting rule in error.h). */
+START_TEST(test_status_not_repeated)
+{
+  char b[256];
+  tz_err e;
+  tz_err_init(&e);
+  tz_err_path(&e, "in.sgy");
+  tz_fail_os(&e, TZ_E_NOINPUT, 2, "cannot open");
+  tz_err_format(&e, b, sizeof b);
+  ck_assert_str_eq(b, "in.sgy: cannot open");
+  tz_err_init(&e);
+  tz_fail(&e, TZ_E_CREATE, "cannot create output");
+  tz_err_format(&e, b, sizeof b);
+  ck_assert_str_eq(b, "cannot create output");
+  tz_err_init(&e);
+  tz_fail(&e, TZ_E_CREATE, "exists and is not a folder");
+  tz_err_format(&e, b, sizeof b);
+  ck_assert_str_eq(b, "exists and is not a folder (cannot create output)");
+  tz_err_init(&e);
+  tz_fail(&e, TZ_E_NOMEM, "out of memory: trace buffer");
+  tz_err_format(&e, b, sizeof b);
+  ck_assert_str_eq(b, "out of memory: trace buffer");
+}
+END_TEST
+
 static Suite *error_suite(void)
 {
   Suite *s = suite_create("error");
@@ -83,6 +109,7 @@ static Suite *error_suite(void)
   tcase_add_test(tc, test_control_characters_are_escaped);
   tcase_add_loop_test(tc, test_exit_codes, 0, sizeof exits / sizeof exits[0]);
   tcase_add_test(tc, test_strstatus_never_null);
+  tcase_add_test(tc, test_status_not_repeated);
   suite_add_tcase(s, tc);
   return s;
 }
