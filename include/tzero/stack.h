@@ -165,6 +165,14 @@ const stack_station *stack_plan_stations(const stack_plan *p, int kind, size_t *
  * 2 (F - D) / v_r (ms) applied before NMO and removed from the stacked trace.
  * Returns 0 (and nothing) with a flat datum or outside the range. */
 int stack_plan_floating(const stack_plan *p, int32_t cmp, double *elevation_m, double *ms);
+/* At a CMP (of the line, whatever the run's range): the field shot-point number
+ * interpolated along the line between the source points' numbers (bytes 17-20,
+ * or the layout's), extrapolated beyond the end sources, and the surface
+ * elevation (m) interpolated between the source and receiver stations, held at
+ * the end values beyond them. Returns a bit set: 1 = *shot_point filled, 2 =
+ * *elevation_m filled (0 when the inputs give neither). */
+int stack_plan_cmp_surface(const stack_plan *p, int32_t cmp, double *shot_point,
+                           double *elevation_m);
 /* The station interval in use (0 when stations are not numbered). */
 double stack_plan_station_interval(const stack_plan *p);
 
@@ -262,8 +270,12 @@ void stack_section_free(stack_section *s);   /* NULL is a no-op */
 
 /* Writes the section as SEG-Y rev 1 (docs/tzero-stack.1): one trace per CMP in
  * CMP order; CMP number (21-24), CMP X/Y (181-188) with coordinate scalar
- * (71-72), fold (33-34), trace kind 1 (2 for zero fold), offset 0; binary
- * header sorting code 4, ensemble fold = nominal fold. format_code 5 or 1.
+ * (71-72), fold (33-34), trace kind 1 (2 for zero fold), offset 0, the field
+ * shot point at the CMP (197-200, scalar -100 in 201-202; the CMP number with
+ * scalar 1 when the inputs carry no shot points), the surface elevation at the
+ * CMP (41-48) and, with statics, the datum (53-60), elevation scalar (69-70)
+ * -100 (stack_plan_cmp_surface; docs/section.md); binary header sorting code 4,
+ * ensemble fold = nominal fold. format_code 5 or 1.
  * Written under a temporary name, renamed on success. */
 int stack_section_write(const stack_section *s, const stack_plan *p, const char *path,
                         int format_code, tz_err *err);

@@ -353,7 +353,22 @@ int stack_section_write(const stack_section *s, const stack_plan *p, const char 
     h.delay_ms = p->delay_ms;
     h.samples = (uint32_t)s->axis.ns;
     h.interval_us = s->interval_us;
-    h.shotpoint = r->cmp;
+    /* field shot point at the CMP, scalar -100 so fractions survive (bytes
+     * 197-202, SEG-Y rev 1); surface elevation at the CMP in 41-48 and the
+     * datum in 53-60 with the elevation scalar (69-70) */
+    double sp = 0, elev = 0;
+    int have = stack_plan_cmp_surface(p, r->cmp, &sp, &elev);
+    if ((have & 1) && fabs(sp) * 100 < 2147483647.0) {
+      h.shotpoint = (int32_t)llround(sp * 100);
+      h.shotpoint_scalar = -100;
+    } else {
+      h.shotpoint = r->cmp;
+      h.shotpoint_scalar = 1;
+    }
+    if (have & 2)
+      h.receiver_elev = h.source_elev = elev;
+    if (j->statics.present)
+      h.receiver_datum = h.source_datum = j->statics.datum_m;
     if ((rc = segy_trace_write(w, &h, s->samples + c * s->axis.ns, err))) {
       segy_writer_abort(w);
       return rc;

@@ -63,6 +63,10 @@ struct stack_plan {
   int32_t fd_first;               /* CMP of fd_*[0]: the whole line's span of stations,
                                    * whatever the CMP range of this run */
   size_t fd_n;
+  /* along-line points (stack_points.c): source positions with their field
+   * shot-point numbers, station positions with their surface elevations */
+  double *sp_s, *sp_v, *el_s, *el_v;
+  size_t nsp, nel;
   int64_t max_record;             /* most traces in one record */
   int64_t traces, stackable;
   int64_t skipped[STACK_SKIP__COUNT];
@@ -100,6 +104,14 @@ void stack_record_span(const stack_plan *p, size_t i, size_t k, int64_t *a, int6
  * stack_plan_build() when the job has statics or station edits. */
 int stack_stations_build(stack_plan *p, tz_err *err);
 void stack_stations_free(stack_plan *p);
+
+/* ---- along-line points (stack_points.c) ---- */
+
+/* Header pass over every input: source field shot-point numbers and station
+ * surface elevations by position along the line (the whole line, whatever the
+ * CMP range). Called by stack_plan_build(). */
+int stack_points_build(stack_plan *p, tz_err *err);
+void stack_points_free(stack_plan *p);
 /* The floating-datum static of a CMP (0 with a flat datum); CMPs beyond the
  * plan's range take the nearest end's. */
 double stack_floating_ms(const stack_plan *p, int32_t cmp);

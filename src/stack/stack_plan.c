@@ -736,6 +736,7 @@ void stack_plan_free(stack_plan *p)
     free(p->records[i].start);
   free(p->records);
   stack_stations_free(p);
+  stack_points_free(p);
   free(p->inputs);
   free(p);
 }
@@ -858,6 +859,8 @@ int stack_plan_build(stack_plan **out, const job_spec *job, stack_progress_fn pr
     cp->acquired_fold = st.fold;
   }
   full_fold_part(p, acq, lay);
+  if ((rc = stack_points_build(p, err)))
+    goto fail;
   if (job->statics.present || edits_use_stations(&job->edits)) {
     if ((rc = stack_stations_build(p, err))) {
       tz_err_path(err, job->path);

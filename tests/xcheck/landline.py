@@ -103,7 +103,8 @@ def first_arrival_times():
     return out
 
 
-def make_line(d, residual=None, statics_in_data=True, noise=0.02, seed=1, nasty=True):
+def make_line(d, residual=None, statics_in_data=True, noise=0.02, seed=1, nasty=True,
+              first_shot_point=None):
     """Writes shots/shot_NNNN.sgy, the true statics table and a job file.
 
     residual: optional (source_ms, receiver_ms) dicts by station of extra shifts
@@ -163,6 +164,8 @@ def make_line(d, residual=None, statics_in_data=True, noise=0.02, seed=1, nasty=
                     F.GroupX: int(round(xr * 100)),
                     F.GroupY: int(Y0 * 100),
                     F.CoordinateUnits: 1,
+                    **({F.EnergySourcePoint: first_shot_point + k}
+                       if first_shot_point is not None else {}),
                     F.TRACE_SAMPLE_COUNT: NS,
                     F.TRACE_SAMPLE_INTERVAL: DT_US,
                 }
