@@ -87,29 +87,6 @@ static void remove_path(const char *path, int is_dir)
     unlink(path);
 }
 
-/* Registers a temporary; NULL when out of memory or the process is ending. */
-static tmp_entry *reg_add(const char *path, int is_dir, int *closed)
-{
-  size_t n = strlen(path) + 1;
-  tmp_entry *t = malloc(sizeof *t + n);
-  if (!t)
-    return NULL;
-  memcpy(t->path, path, n);
-  t->is_dir = is_dir;
-  t->prev = NULL;
-  if ((*closed = atomic_load(&reg_closed))) {   /* the lock is held for good */
-    free(t);
-    return NULL;
-  }
-  pthread_mutex_lock(&reg_lock);
-  t->next = reg_head;
-  if (reg_head)
-    reg_head->prev = t;
-  reg_head = t;
-  pthread_mutex_unlock(&reg_lock);
-  return t;
-}
-
 static void reg_unlink_locked(tmp_entry *t)
 {
   if (t->prev)
@@ -227,6 +204,47 @@ static int open_unique(char *tmp, size_t dirlen, size_t cap, const char *base, i
   }
   errno = EEXIST;
   return -1;
+}
+
+/* open_unique() and the registry entry in one step under the registry lock, so
+ * that a signal's cleanup sees every temporary that exists: none can be made
+ * between its sweep of the registry and the exit (it holds the lock for good).
+ * On success *reg is the entry; -1 with errno (EINTR once the process is
+ * ending, *closed set) on failure. */
+static int create_registered(char *tmp, size_t dirlen, size_t cap, const char *base,
+                             int folder, tmp_entry **reg, int *closed)
+{
+  *reg = NULL;
+  *closed = 0;
+  tmp_entry *t = malloc(sizeof *t + dirlen + cap + 1);
+  if (!t) {
+    errno = ENOMEM;
+    return -1;
+  }
+  if ((*closed = atomic_load(&reg_closed))) {   /* the lock is held for good */
+    free(t);
+    errno = EINTR;
+    return -1;
+  }
+  pthread_mutex_lock(&reg_lock);
+  int fd = open_unique(tmp, dirlen, cap, base, folder);
+  if (fd < 0) {
+    int e = errno;
+    pthread_mutex_unlock(&reg_lock);
+    free(t);
+    errno = e;
+    return -1;
+  }
+  snprintf(t->path, dirlen + cap + 1, "%s", tmp);
+  t->is_dir = folder;
+  t->prev = NULL;
+  t->next = reg_head;
+  if (reg_head)
+    reg_head->prev = t;
+  reg_head = t;
+  pthread_mutex_unlock(&reg_lock);
+  *reg = t;
+  return fd;
 }
 
 /* Takes the writer's lock on a new temporary. 1 when it was swept away by a
@@ -397,13 +415,10 @@ int fileio_create(fileio_out **out, const char *path, tz_err *err)
   for (int tries = 0;; tries++) {
     memcpy(o->tmp, target, dirlen);
     int closed = 0;
-    int fd = open_unique(o->tmp, dirlen, n + 32 - dirlen, target + dirlen, 0);
-    if (fd < 0 || !(o->reg = reg_add(o->tmp, 0, &closed))) {
-      int e = fd < 0 ? errno : closed ? EINTR : ENOMEM;
-      if (fd >= 0) {
-        close(fd);
-        unlink(o->tmp);
-      }
+    int fd = create_registered(o->tmp, dirlen, n + 32 - dirlen, target + dirlen, 0, &o->reg,
+                               &closed);
+    if (fd < 0) {
+      int e = errno;
       tz_err_path(err, path);
       rc = tz_fail_os(err, TZ_E_CREATE, e, "cannot create output");
       release(o);
@@ -610,12 +625,8 @@ int fileio_tmpdir_create(fileio_tmpdir **out, const char *target, tz_err *err)
   for (int tries = 0;; tries++) {
     int closed = 0;
     int e = 0;
-    if (open_unique(t, pl, n + 32 - pl, name, 1) != 0)   /* 0777 less the umask */
+    if (create_registered(t, pl, n + 32 - pl, name, 1, &d->reg, &closed) != 0)   /* 0777 less the umask */
       e = errno;
-    else if (!(d->reg = reg_add(t, 1, &closed))) {
-      e = closed ? EINTR : ENOMEM;
-      rmdir(t);
-    }
     int fd = e ? -1 : open(t, O_RDONLY | O_DIRECTORY | O_CLOEXEC);
     int lk = fd < 0 ? -1 : lock_new(fd);
     if (!e && lk == 0) {
