@@ -83,6 +83,16 @@ echo "== TV-DX-04: rerun with the model's velocities, then compare the two secti
 "$TZ" picture "$O/dx04_stack.sgy" --out "$O/dx04_stack.png"
 "$TZ" picture "$O/dx04_panels.sgy" --out "$O/dx04_panels.png" --colour-map semblance
 
+echo
+echo "== TV-DX-04: time migration (the job's Kirchhoff, written by tzero stack beside the stack;"
+echo "   and phase shift by tzero migrate): the fault's edge diffractions near CMP 180 and the"
+echo "   diffractor near CMP 240 (700 ms) collapse, the 6 degree interface moves updip"
+"$TZ" migrate "$O/dx04_stack.sgy" --velocity "$O/dx04_velocity.csv" --out "$O/dx04_migrated_ps.sgy"
+"$TZ" picture "$O/dx04_migrated.sgy" --out "$O/dx04_migrated.png"
+"$TZ" picture "$O/dx04_migrated_ps.sgy" --out "$O/dx04_migrated_ps.png"
+echo "stack and migrated sections side by side: $O/dx04_stack.png, $O/dx04_migrated.png (Kirchhoff),"
+echo "  $O/dx04_migrated_ps.png (phase shift)"
+
 
 echo
 echo "== TV-RT-07: a third line across the rough terrain of the Tarrowvane escarpment (60 m of"
@@ -186,7 +196,8 @@ echo "  dx04_velocity.csv, dx04_stack.sgy, dx04_qc.json, dx04_stack.png, dx04_pa
 echo "  rt07_stack.png (with statics), rt07_stack_nostatics.png, rt07_statics.png,"
 echo "  rt07_record_picks.png, rt07_stack_refraction.png, rt07_stack_final.png (velocity loop),"
 echo "  rt07_elevation_statics.csv, rt07s_spectra.png, rt07s_record_{raw,decon,fk}.png,"
-echo "  rt07s_fk_{raw,after}.png, rt07s_stack_{raw,decon,fk}.png (deconvolution and f-k)"
+echo "  rt07s_fk_{raw,after}.png, rt07s_stack_{raw,decon,fk}.png (deconvolution and f-k),"
+echo "  dx04_migrated.sgy (.png), dx04_migrated_ps.sgy (.png)"
 echo "A processed section is an interpretation aid: have it reviewed by a qualified geophysicist."
 echo
 echo "survey QC page (open it in a browser): $O/index.html"

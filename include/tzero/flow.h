@@ -33,4 +33,14 @@ int flow_setup_load(flow_setup *s, const char *job_path, const job_overrides *ov
                     int need_velocity, stack_progress_fn progress, void *ctx, tz_err *err);
 void flow_setup_free(flow_setup *s);     /* frees the members; NULL members are fine */
 
+/* The job's post-stack time migration ("migration", docs/migration.md): reads the
+ * section just written (job->section), migrates it with the job's migration
+ * velocity table (or `velocity`, the job's own table, when it names none) and writes
+ * job->migrated under a temporary name. *out (may be NULL) gets what was done for
+ * the QC report; its strings are borrowed from the job. A job without
+ * output.migrated does nothing. */
+struct qc_migration;
+int flow_migrate(const job_spec *job, const velocity_table *velocity, int threads,
+                 struct qc_migration *out, tz_err *err);
+
 #endif

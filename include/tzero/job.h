@@ -125,6 +125,19 @@ typedef struct job_spec {
 
   /* "statics": field statics to a datum (docs/statics.md) */
   job_statics statics;
+  /* "migration" (docs/migration.md): post-stack time migration of the section, written
+   * to output.migrated by tzero stack */
+  struct {
+    int given;                /* 1 = the job has a "migration" object */
+    int method;               /* 0 phase shift, 1 Kirchhoff (migrate.h's enum) */
+    char *velocity;           /* RMS table; NULL = the job's velocity table */
+    double velocity_pct;      /* default 100 */
+    double aperture_m;        /* Kirchhoff; 0 = the whole line (default) */
+    double max_dip_deg;       /* Kirchhoff; default 80 */
+    double max_hz;            /* 0 = Nyquist (default) */
+    int after_stack;          /* reserved: 1 */
+  } migration;
+  char *migrated;             /* "output.migrated": migrated section path; NULL = none */
 
   int threads;                /* 0 = the machine's online cores */
   int skip_bad_files;         /* 0 = a missing or corrupt shot file stops the run */

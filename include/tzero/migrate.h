@@ -101,6 +101,12 @@ typedef struct migrate_info {
 int migrate_run(const migrate_section *s, const velocity_table *v, const migrate_params *p,
                 float **out, size_t *nout, migrate_info *info, tz_err *err);
 
+/* The textual header of a migrated section (lines separated by '\n'): method and its
+ * source, velocity table, percentage or the scanned ones, input, CMP interval. */
+void migrate_describe(const migrate_section *s, const migrate_params *p, const char *velocity,
+                      const char *input, const double *scan_pct, size_t nscan, char *buf,
+                      size_t cap);
+
 /* Writes migrated traces (those of migrate_run, in order) with the input's trace headers
  * and format; `text` (lines separated by '\n') goes into the textual header. When
  * panel_pct is not NULL, trace i carries panel_pct[i / traces_per_panel] x 100 as a

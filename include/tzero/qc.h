@@ -21,6 +21,17 @@
 #define QC_MAX_BYTES (512u << 20)   /* a report larger than this is refused */
 #define QC_MAX_FUNCTIONS 500        /* velocity functions listed in a report */
 
+/* What the post-stack time migration of a run did (the report's "migration" block). */
+typedef struct qc_migration {
+  const char *method;               /* "phase-shift" or "kirchhoff" */
+  const char *velocity;             /* RMS table used */
+  const char *path;                 /* migrated section */
+  double velocity_pct, aperture_m, max_dip_deg, max_hz;
+  double lateral_variation_pct;     /* of the table across the line */
+  int one_function;                 /* phase shift used one v(tau) */
+  double seconds;
+} qc_migration;
+
 typedef struct qc_build_args {
   const job_spec *job;              /* resolved job (parameters) */
   const stack_plan *plan;
@@ -29,6 +40,7 @@ typedef struct qc_build_args {
   const char *section_path;         /* where the section was written; may be NULL */
   const char *tool_version;         /* e.g. "0.1.0"; may be NULL */
   double header_pass_s, data_pass_s, write_s, total_s;
+  const qc_migration *migration;    /* NULL = the run migrated nothing */
 } qc_build_args;
 
 /* Builds the report. On success *json owns NUL-terminated JSON text (free()). */

@@ -57,12 +57,31 @@ typedef struct synth_near_surface {
   double thickness_m[SYNTH_MAX_NS_POINTS];
   double velocity_mps[SYNTH_MAX_NS_POINTS];
 } synth_near_surface;
+#define SYNTH_MAX_DIFFRACTORS 64
+#define SYNTH_MAX_FAULTS 16
+
+/* A point diffractor (a scatterer: a fault edge, a boulder, a pinch-out). */
+typedef struct synth_diffractor {
+  double along_m, depth_m;   /* along-line position (layout line coordinates), depth */
+  double amplitude;          /* scattering strength, as a reflection coefficient */
+} synth_diffractor;
+
+/* A vertical fault through one flat interface: beyond along_m (in the shooting
+ * direction) the interface lies throw_m deeper (negative: shallower). */
+typedef struct synth_fault {
+  double along_m, throw_m;
+  size_t interface;          /* 0-based flat interface (base of layer `interface`) */
+} synth_fault;
 
 typedef struct synth_model {
   size_t nlayers;            /* >= 1; nlayers - 1 flat reflectors */
   synth_layer layer[SYNTH_MAX_LAYERS];
   synth_dip dip;
   synth_near_surface ns;
+  size_t ndiffractors;
+  synth_diffractor diffractor[SYNTH_MAX_DIFFRACTORS];
+  size_t nfaults;
+  synth_fault fault[SYNTH_MAX_FAULTS];
 } synth_model;
 
 /* Weathering thickness and velocity at an along-line position (0 and the
@@ -97,6 +116,14 @@ int synth_flat_time(const synth_model *m, size_t k, double offset_m, double *t, 
 /* Zero-offset two-way time and exact RMS velocity (Taner and Koehler 1969)
  * down to interface k. */
 double synth_t0(const synth_model *m, size_t k);
+/* Two-way time from source (sa, sr) to a point scatterer and back up to the receiver
+ * (ra, rr) (along-line and cross-line coordinates, metres), along straight rays at the
+ * RMS velocity of the flat layers down to the scatterer's depth (an approximation for
+ * layered media; exact in a homogeneous one). *v_out (may be NULL) gets that velocity. */
+double synth_diffraction_time(const synth_model *m, const synth_diffractor *d, double sa,
+                              double sr, double ra, double rr, double *v_out);
+/* The RMS velocity of the flat layers down to depth z (vertical two-way time). */
+double synth_vrms_to_depth(const synth_model *m, double z_m);
 double synth_vrms(const synth_model *m, size_t k);
 /* Normal-incidence reflection coefficient (Z2 - Z1) / (Z2 + Z1), Z = density * v. */
 double synth_reflection(const synth_model *m, size_t k);

@@ -183,34 +183,10 @@ static int run(const run_args *a, migrate_params *p)
     total += n;
   }
   if (!rc) {
-    /* the percentage line: one value, or the scanned list */
-    char pl[400] = "";
-    if (a->nscan) {
-      size_t m = (size_t)snprintf(pl, sizeof pl, "scan panels at");
-      for (size_t i = 0; i < a->nscan && m < sizeof pl; i++)
-        m += (size_t)snprintf(pl + m, sizeof pl - m, " %g%%", a->scan[i]);
-      if (m < sizeof pl)
-        snprintf(pl + m, sizeof pl - m, " (pct x 100 in bytes 233-236)");
-    } else {
-      snprintf(pl, sizeof pl, "%g %%", p->velocity_pct);
-    }
     if (!(text = malloc(2048))) {
       rc = tz_fail(&e, TZ_E_NOMEM, "text");
     } else {
-      snprintf(text, 2048,
-               "tzero time-migrated section (post-stack time migration)\n"
-               "method: %s (%s)\n"
-               "velocity: %.60s\n"
-               "velocity scaled by: %s\n"
-               "input: %.66s\n"
-               "CMP interval %.3f m (%s)%s\n"
-               "time migration, not depth imaging: review by a qualified geophysicist",
-               migrate_method_name(p->method),
-               p->method == MIGRATE_KIRCHHOFF ? "Schneider 1978" : "Gazdag 1978",
-               a->velocity, pl, a->input, s->cmp_interval_m,
-               s->interval_from_headers ? "from CMP X/Y" : "given",
-               p->method == MIGRATE_PHASE_SHIFT ? "\nphase shift: one velocity function, the "
-               "lateral mean of the table" : "");
+      migrate_describe(s, p, a->velocity, a->input, a->scan, a->nscan, text, 2048);
       rc = migrate_write(s, p, all, total, a->nscan ? a->scan : NULL, per, text, a->out, &e);
     }
   }

@@ -290,11 +290,15 @@ int cmd_stack(int argc, char **argv)
   if ((rc = stack_section_write(sec, su.plan, job->section, job->sample_format, &e)))
     goto done;
   double t_write = cli_now_s();
+  qc_migration mig;
+  if (job->migrated && (rc = flow_migrate(job, su.velocity, job->threads, &mig, &e)))
+    goto done;
   qc_build_args qa = {
     .job = job, .plan = su.plan, .section = sec, .velocity = su.velocity,
     .section_path = job->section, .tool_version = TZERO_VERSION,
     .header_pass_s = t_plan - t_start, .data_pass_s = t_run - t_plan,
     .write_s = t_write - t_run, .total_s = cli_now_s() - t_start,
+    .migration = job->migrated ? &mig : NULL,
   };
   if ((rc = qc_report_build(&qa, &report, &e)))
     goto done;

@@ -438,7 +438,8 @@ static int parse_selection(job_spec *j, const cJSON *v, tz_err *err)
 
 static int parse_output(job_spec *j, const cJSON *v, const char *dir, tz_err *err)
 {
-  static const char *const keys[] = { "section", "report", "html", "sample_format", NULL };
+  static const char *const keys[] = { "section", "report", "html", "sample_format", "migrated",
+                                      NULL };
   static const char *const fnames[] = { "ieee", "ibm", NULL };
   static const int fvals[] = { JOB_FORMAT_IEEE, JOB_FORMAT_IBM };
   int rc = want_object(v, "$.output", err);
@@ -450,6 +451,9 @@ static int parse_output(job_spec *j, const cJSON *v, const char *dir, tz_err *er
   if ((e = ITEM(v, "section")) && (rc = get_path(e, "$.output.section", dir, 0, &j->section, err)))
     return rc;
   if ((e = ITEM(v, "report")) && (rc = get_path(e, "$.output.report", dir, 0, &j->report, err)))
+    return rc;
+  if ((e = ITEM(v, "migrated")) &&
+      (rc = get_path(e, "$.output.migrated", dir, 0, &j->migrated, err)))
     return rc;
   if ((e = ITEM(v, "html")) && cJSON_IsFalse(e))
     j->no_html = 1;
@@ -948,6 +952,46 @@ static int parse_statics(job_spec *j, const cJSON *v, const char *dir, tz_err *e
   return TZ_OK;
 }
 
+/* "migration": method and parameters of the post-stack time migration. */
+static int parse_migration(job_spec *j, const cJSON *v, const char *dir, tz_err *err)
+{
+  static const char *const keys[] = { "method", "velocity", "velocity_pct", "aperture_m",
+                                      "max_dip_deg", "max_hz", NULL };
+  static const char *const mnames[] = { "phase-shift", "kirchhoff", NULL };
+  static const int mvals[] = { 0, 1 };
+  int rc = want_object(v, "$.migration", err);
+  if (!rc)
+    rc = json_doc_check_keys(v, "$.migration", keys, TZ_E_JOB, err);
+  if (rc)
+    return rc;
+  j->migration.given = 1;
+  const cJSON *e;
+  if ((e = ITEM(v, "method")) &&
+      (rc = json_doc_choice(e, "$.migration.method", mnames, mvals, &j->migration.method,
+                            TZ_E_JOB, err)))
+    return rc;
+  if ((e = ITEM(v, "velocity")) &&
+      (rc = get_path(e, "$.migration.velocity", dir, 1, &j->migration.velocity, err)))
+    return rc;
+  if ((e = ITEM(v, "velocity_pct")) &&
+      (rc = json_doc_number(e, "$.migration.velocity_pct", 10, 300, &j->migration.velocity_pct,
+                            TZ_E_JOB, err)))
+    return rc;
+  if ((e = ITEM(v, "aperture_m")) &&
+      (rc = json_doc_number(e, "$.migration.aperture_m", 0, 1e6, &j->migration.aperture_m,
+                            TZ_E_JOB, err)))
+    return rc;
+  if ((e = ITEM(v, "max_dip_deg")) &&
+      (rc = json_doc_number(e, "$.migration.max_dip_deg", 1, 89, &j->migration.max_dip_deg,
+                            TZ_E_JOB, err)))
+    return rc;
+  if ((e = ITEM(v, "max_hz")) &&
+      (rc = json_doc_number(e, "$.migration.max_hz", 0, 1e6, &j->migration.max_hz, TZ_E_JOB,
+                            err)))
+    return rc;
+  return TZ_OK;
+}
+
 /* "limits": a limits file (relative to the job's folder) or the object inline. */
 static int parse_limits(job_spec *j, const cJSON *v, const char *dir, tz_err *err)
 {
@@ -981,6 +1025,9 @@ static void set_defaults(job_spec *j)
   j->offset_min_m = 0;
   j->offset_max_m = INFINITY;
   j->sample_format = JOB_FORMAT_IEEE;
+  j->migration.velocity_pct = 100;
+  j->migration.max_dip_deg = 80;
+  j->migration.after_stack = 1;
 }
 
 static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *err)
@@ -988,7 +1035,7 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
   static const char *const keys[] = { "name", "shots", "geometry", "header_map", "bins",
                                       "velocity", "moveout", "mute", "selection", "output",
                                       "conditioning", "edits", "statics", "limits", "threads",
-                                      "skip_bad_files", "interval_us", NULL };
+                                      "skip_bad_files", "interval_us", "migration", NULL };
   int rc;
   if (!cJSON_IsObject(root))
     return tz_fail(err, TZ_E_JOB, "$: expected an object, got %s", json_doc_kind_name(root));
@@ -1035,6 +1082,11 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
     return rc;
   if ((e = ITEM(root, "limits")) && (rc = parse_limits(j, e, dir, err)))
     return rc;
+  if ((e = ITEM(root, "migration")) && (rc = parse_migration(j, e, dir, err)))
+    return rc;
+  if (j->migrated && !j->migration.given)
+    return tz_fail(err, TZ_E_JOB, "$.output.migrated: a migrated section needs a \"migration\" "
+                   "object (at least {\"method\": \"phase-shift\"})");
   if ((e = ITEM(root, "threads"))) {
     int64_t t;
     if ((rc = json_doc_int(e, "$.threads", 0, JOB_MAX_THREADS, &t, TZ_E_JOB, err)))
@@ -1125,6 +1177,8 @@ void job_free(job_spec *j)
   free(j->report);
   free(j->html);
   free(j->limits_file);
+  free(j->migration.velocity);
+  free(j->migrated);
   limits_clear(&j->limits);
   edits_spec_free(&j->edits);
   for (size_t i = 0; i < j->statics.ntables; i++)
@@ -1212,7 +1266,7 @@ int job_foreach_input(const job_spec *j, job_input_fn fn, void *ctx)
   const struct { const char *path; int kind; } one[] = {
     { j->path, JOB_INPUT_JOB }, { j->velocity, JOB_INPUT_VELOCITY },
     { j->geometry_file, JOB_INPUT_GEOMETRY }, { j->header_map, JOB_INPUT_HEADER_MAP },
-    { j->limits_file, JOB_INPUT_LIMITS },
+    { j->limits_file, JOB_INPUT_LIMITS }, { j->migration.velocity, JOB_INPUT_TABLE },
   };
   int rc = 0;
   for (size_t i = 0; !rc && i < sizeof one / sizeof one[0]; i++)
@@ -1256,6 +1310,18 @@ int job_check_outputs(const job_spec *j, tz_err *err)
   if (j->section && j->report && fileio_same_output(j->section, j->report)) {
     tz_err_path(err, j->report);
     return tz_fail(err, TZ_E_CREATE, "the report and the section are the same file");
+  }
+  if (j->migrated) {
+    if ((rc = job_check_output(j, j->migrated, "the migrated section ($.output.migrated)", 1,
+                               err)))
+      return rc;
+    const char *other[2] = { j->section, j->report };
+    for (int i = 0; i < 2; i++)
+      if (other[i] && (!strcmp(j->migrated, other[i]) || fileio_same_file(j->migrated, other[i]))) {
+        tz_err_path(err, j->migrated);
+        return tz_fail(err, TZ_E_CREATE, "the migrated section and the %s are the same file",
+                       i ? "report" : "section");
+      }
   }
   return TZ_OK;
 }
@@ -1445,6 +1511,8 @@ int job_to_json(const job_spec *j, char **out, tz_err *err)
       else if (j->html)
         add_str(o, "html", j->html);
       add_str(o, "sample_format", j->sample_format == JOB_FORMAT_IBM ? "ibm" : "ieee");
+      if (j->migrated)
+        add_str(o, "migrated", j->migrated);
     }
     o = cJSON_AddArrayToObject(r, "conditioning");
     for (size_t i = 0; o && i < j->conditioning.n; i++)
@@ -1481,6 +1549,14 @@ int job_to_json(const job_spec *j, char **out, tz_err *err)
       free(lt);
       bad |= !lo || !cJSON_AddItemToObject(r, "limits", lo);
       bad |= add_str(r, "limits_file", j->limits_file);
+    }
+    if (j->migration.given && (o = cJSON_AddObjectToObject(r, "migration"))) {
+      add_str(o, "method", j->migration.method ? "kirchhoff" : "phase-shift");
+      add_str(o, "velocity", j->migration.velocity ? j->migration.velocity : j->velocity);
+      cJSON_AddNumberToObject(o, "velocity_pct", j->migration.velocity_pct);
+      cJSON_AddNumberToObject(o, "aperture_m", j->migration.aperture_m);
+      cJSON_AddNumberToObject(o, "max_dip_deg", j->migration.max_dip_deg);
+      cJSON_AddNumberToObject(o, "max_hz", j->migration.max_hz);
     }
     cJSON_AddNumberToObject(r, "threads", j->threads);
     cJSON_AddBoolToObject(r, "skip_bad_files", j->skip_bad_files);

@@ -954,6 +954,35 @@ int migrate_run(const migrate_section *s, const velocity_table *v, const migrate
 
 /* ---------------------------------------------------------------- writing */
 
+void migrate_describe(const migrate_section *s, const migrate_params *p, const char *velocity,
+                      const char *input, const double *scan_pct, size_t nscan, char *buf,
+                      size_t cap)
+{
+  char pl[400] = "";
+  if (nscan) {
+    size_t m = (size_t)snprintf(pl, sizeof pl, "scan panels at");
+    for (size_t i = 0; i < nscan && m < sizeof pl; i++)
+      m += (size_t)snprintf(pl + m, sizeof pl - m, " %g%%", scan_pct[i]);
+    if (m < sizeof pl)
+      snprintf(pl + m, sizeof pl - m, " (pct x 100 in bytes 233-236)");
+  } else {
+    snprintf(pl, sizeof pl, "%g %%", p->velocity_pct);
+  }
+  snprintf(buf, cap,
+           "tzero time-migrated section (post-stack time migration)\n"
+           "method: %s (%s)\n"
+           "velocity: %.60s\n"
+           "velocity scaled by: %s\n"
+           "input: %.66s\n"
+           "CMP interval %.3f m (%s)%s\n"
+           "time migration, not depth imaging: review by a qualified geophysicist",
+           migrate_method_name(p->method),
+           p->method == MIGRATE_KIRCHHOFF ? "Schneider 1978" : "Gazdag 1978", velocity, pl, input,
+           s->cmp_interval_m, s->interval_from_headers ? "from CMP X/Y" : "given",
+           p->method == MIGRATE_PHASE_SHIFT ? "\nphase shift: one velocity function, the lateral "
+           "mean of the table" : "");
+}
+
 int migrate_write(const migrate_section *s, const migrate_params *p, const float *samples,
                   size_t ntraces, const double *panel_pct, size_t traces_per_panel,
                   const char *text, const char *path, tz_err *err)

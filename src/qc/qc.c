@@ -446,6 +446,22 @@ int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
 
   if ((rc = add_velocity(r, a, err)))
     goto fail;
+  if (a->migration) {
+    const qc_migration *m = a->migration;
+    cJSON *mo = cJSON_AddObjectToObject(r, "migration");
+    cJSON_AddStringToObject(mo, "method", m->method);
+    cJSON_AddStringToObject(mo, "velocity", m->velocity ? m->velocity : "");
+    cJSON_AddNumberToObject(mo, "velocity_pct", m->velocity_pct);
+    cJSON_AddItemToObject(mo, "aperture_m", m->aperture_m > 0 ? cJSON_CreateNumber(m->aperture_m)
+                                                               : cJSON_CreateNull());
+    cJSON_AddNumberToObject(mo, "max_dip_deg", m->max_dip_deg);
+    cJSON_AddItemToObject(mo, "max_hz", m->max_hz > 0 ? cJSON_CreateNumber(m->max_hz)
+                                                       : cJSON_CreateNull());
+    cJSON_AddNumberToObject(mo, "lateral_variation_pct", round_to(m->lateral_variation_pct, 1e-2));
+    cJSON_AddBoolToObject(mo, "one_function", m->one_function);
+    cJSON_AddStringToObject(mo, "section", m->path ? m->path : "");
+    cJSON_AddNumberToObject(mo, "seconds", round_to(m->seconds, 1e-4));
+  }
   if (j && j->limits.given) {
     char *lt = NULL;
     if ((rc = limits_to_json(&j->limits, &lt, err)))

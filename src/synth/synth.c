@@ -40,9 +40,11 @@
 /* ---- model JSON ---- */
 
 static const char *const model_keys[] = { "layers", "dipping_interface", "near_surface",
-                                           "description", NULL };
+                                           "description", "diffractors", "faults", NULL };
 static const char *const ns_keys[] = { "datum_m", "replacement_velocity_mps", "weathering", NULL };
 static const char *const w_keys[] = { "along_m", "thickness_m", "velocity_mps", NULL };
+static const char *const diffractor_keys[] = { "x_m", "depth_m", "amplitude", NULL };
+static const char *const fault_keys[] = { "x_m", "throw_m", "interface", NULL };
 static const char *const layer_keys[] = { "thickness_m", "velocity_mps", "density_kgm3", NULL };
 static const char *const dip_keys[] = {
   "depth_m", "along_m", "dip_deg", "velocity_above_mps", "density_above_kgm3",
@@ -193,6 +195,83 @@ static int near_surface_from_json(synth_near_surface *N, const cJSON *v, tz_err 
   return TZ_OK;
 }
 
+/* "diffractors": [{"x_m", "depth_m", "amplitude"}]; "faults": [{"x_m", "throw_m",
+ * "interface"}] (x_m along the line in layout coordinates; interface 1-based). */
+static int scatterers_from_json(synth_model *m, const cJSON *root, tz_err *err)
+{
+  const cJSON *a = cJSON_GetObjectItemCaseSensitive(root, "diffractors"), *it;
+  char sub[96];
+  if (a) {
+    if (!cJSON_IsArray(a) || cJSON_GetArraySize(a) > SYNTH_MAX_DIFFRACTORS)
+      return tz_fail(err, TZ_E_FORMAT, "$.diffractors: expected an array of at most %d objects",
+                     SYNTH_MAX_DIFFRACTORS);
+    size_t i = 0;
+    cJSON_ArrayForEach(it, a) {
+      synth_diffractor *d = &m->diffractor[i];
+      snprintf(sub, sizeof sub, "$.diffractors[%zu]", i);
+      if (!cJSON_IsObject(it))
+        return tz_fail(err, TZ_E_FORMAT, "%s: expected an object", sub);
+      if (json_doc_check_keys(it, sub, diffractor_keys, TZ_E_FORMAT, err))
+        return err->status;
+      d->amplitude = 0.1;
+      const char *k[3] = { "x_m", "depth_m", "amplitude" };
+      double *dst[3] = { &d->along_m, &d->depth_m, &d->amplitude };
+      const double lo[3] = { -1e8, 1e-3, -10 }, hi[3] = { 1e8, 1e6, 10 };
+      for (int q = 0; q < 3; q++) {
+        const cJSON *v = cJSON_GetObjectItemCaseSensitive(it, k[q]);
+        snprintf(sub, sizeof sub, "$.diffractors[%zu].%s", i, k[q]);
+        if (!v && q < 2)
+          return tz_fail(err, TZ_E_FORMAT, "%s: missing", sub);
+        if (v && num(v, sub, lo[q], hi[q], dst[q], err))
+          return err->status;
+      }
+      i++;
+    }
+    m->ndiffractors = i;
+  }
+  if ((a = cJSON_GetObjectItemCaseSensitive(root, "faults"))) {
+    if (!cJSON_IsArray(a) || cJSON_GetArraySize(a) > SYNTH_MAX_FAULTS)
+      return tz_fail(err, TZ_E_FORMAT, "$.faults: expected an array of at most %d objects",
+                     SYNTH_MAX_FAULTS);
+    size_t i = 0;
+    cJSON_ArrayForEach(it, a) {
+      synth_fault *f = &m->fault[i];
+      snprintf(sub, sizeof sub, "$.faults[%zu]", i);
+      if (!cJSON_IsObject(it))
+        return tz_fail(err, TZ_E_FORMAT, "%s: expected an object", sub);
+      if (json_doc_check_keys(it, sub, fault_keys, TZ_E_FORMAT, err))
+        return err->status;
+      double iface = 0;
+      const char *k[3] = { "x_m", "throw_m", "interface" };
+      double *dst[3] = { &f->along_m, &f->throw_m, &iface };
+      const double lo[3] = { -1e8, -1e5, 1 }, hi[3] = { 1e8, 1e5, (double)m->nlayers - 1 };
+      for (int q = 0; q < 3; q++) {
+        const cJSON *v = cJSON_GetObjectItemCaseSensitive(it, k[q]);
+        snprintf(sub, sizeof sub, "$.faults[%zu].%s", i, k[q]);
+        if (!v)
+          return tz_fail(err, TZ_E_FORMAT, "%s: missing", sub);
+        if (num(v, sub, lo[q], hi[q], dst[q], err))
+          return err->status;
+      }
+      if (iface != floor(iface))
+        return tz_fail(err, TZ_E_FORMAT, "$.faults[%zu].interface: a whole number (1 = the base "
+                       "of the first layer)", i);
+      f->interface = (size_t)iface - 1;
+      /* the thrown interface stays between its neighbours */
+      double h_above = m->layer[f->interface].thickness_m;
+      double h_below = f->interface + 2 < m->nlayers ? m->layer[f->interface + 1].thickness_m
+                                                     : INFINITY;
+      if (!(f->throw_m > -h_above && f->throw_m < h_below))
+        return tz_fail(err, TZ_E_FORMAT, "$.faults[%zu].throw_m: %g m moves interface %zu past a "
+                       "neighbouring interface (layer thicknesses %g and %g m)", i, f->throw_m,
+                       f->interface + 1, h_above, h_below);
+      i++;
+    }
+    m->nfaults = i;
+  }
+  return TZ_OK;
+}
+
 int synth_model_parse(synth_model *m, const char *json, size_t len, const char *name,
                       tz_err *err)
 {
@@ -204,6 +283,8 @@ int synth_model_parse(synth_model *m, const char *json, size_t len, const char *
   const cJSON *ns = rc ? NULL : cJSON_GetObjectItemCaseSensitive(root, "near_surface");
   if (ns)
     rc = near_surface_from_json(&m->ns, ns, err);
+  if (!rc)
+    rc = scatterers_from_json(m, root, err);
   cJSON_Delete(root);
   if (rc)
     tz_err_path(err, name);
@@ -382,6 +463,31 @@ double synth_dip_time(const synth_model *m, double sa, double sr, double ra, dou
   double ia = sa + 2.0 * h * nx, iz = 2.0 * h * nz;   /* image source */
   double da = ra - ia, dr = rr - sr, dz = iz;
   return sqrt(da * da + dr * dr + dz * dz) / d->velocity_above_mps;
+}
+
+double synth_vrms_to_depth(const synth_model *m, double z_m)
+{
+  double z = 0, t = 0, v2t = 0;
+  for (size_t k = 0; k < m->nlayers && z < z_m; k++) {
+    double v = m->layer[k].velocity_mps;
+    double h = k + 1 < m->nlayers ? m->layer[k].thickness_m : INFINITY;
+    double part = z_m - z < h ? z_m - z : h;
+    t += 2 * part / v;
+    v2t += 2 * part * v;                  /* v^2 * (2 part / v) */
+    z += part;
+  }
+  return t > 0 ? sqrt(v2t / t) : m->layer[0].velocity_mps;
+}
+
+double synth_diffraction_time(const synth_model *m, const synth_diffractor *d, double sa,
+                              double sr, double ra, double rr, double *v_out)
+{
+  double v = synth_vrms_to_depth(m, d->depth_m), z2 = d->depth_m * d->depth_m;
+  double rs = sqrt((sa - d->along_m) * (sa - d->along_m) + sr * sr + z2);
+  double rv = sqrt((ra - d->along_m) * (ra - d->along_m) + rr * rr + z2);
+  if (v_out)
+    *v_out = v;
+  return (rs + rv) / v;
 }
 
 int synth_head_time(const synth_model *m, double offset_m, double *t)
@@ -572,23 +678,56 @@ void synth_render(const synth_model *m, const synth_params *p, const synth_frame
   double r_al = (g->receiver_x - f->x0) * su0 + (g->receiver_y - f->y0) * cu0;
   double delay = synth_station_delay(m, s_al, g->source_z, g->source_depth) +
                  synth_station_delay(m, r_al, g->receiver_z, 0);
+  /* along-line (a) and cross-line (r) coordinates of source and receiver */
+  double sa = s_al, sr = (g->source_x - f->x0) * cu0 - (g->source_y - f->y0) * su0;
+  double ra = r_al, rr = (g->receiver_x - f->x0) * cu0 - (g->receiver_y - f->y0) * su0;
+  /* faults: past a fault (by the midpoint, where a flat reflector reflects) its
+   * interface lies deeper by the throw */
+  synth_model faulted;
+  const synth_model *mm = m;
+  for (size_t i = 0; i < m->nfaults; i++)
+    if (0.5 * (sa + ra) >= m->fault[i].along_m) {
+      if (mm == m) {
+        faulted = *m;
+        mm = &faulted;
+      }
+      size_t k = m->fault[i].interface;
+      faulted.layer[k].thickness_m += m->fault[i].throw_m;
+      if (k + 2 < m->nlayers)
+        faulted.layer[k + 1].thickness_m -= m->fault[i].throw_m;
+    }
   if (p->reflections)
     for (size_t k = 0; k + 1 < m->nlayers; k++) {
       double t;
-      if (synth_flat_time(m, k, x, &t, NULL))
+      if (synth_flat_time(mm, k, x, &t, NULL))
         continue;
-      double vr = synth_vrms(m, k);
+      double vr = synth_vrms(mm, k);
       double dist = t * vr * vr / v1;                 /* Newman (1973) divergence */
       add_body(p, out, ns, dt, fp, t + delay,
                synth_reflection(m, k) * SYNTH_REF_DISTANCE_M / dist);
     }
+  /* diffractors, and the two edges of every fault (the broken interface's ends) */
+  if (p->reflections) {
+    for (size_t i = 0; i < m->ndiffractors; i++) {
+      double v, t = synth_diffraction_time(m, &m->diffractor[i], sa, sr, ra, rr, &v);
+      add_body(p, out, ns, dt, fp, t + delay,
+               m->diffractor[i].amplitude * SYNTH_REF_DISTANCE_M / (t * v));
+    }
+    for (size_t i = 0; i < m->nfaults; i++) {
+      const synth_fault *fl = &m->fault[i];
+      double z = 0;
+      for (size_t k = 0; k <= fl->interface; k++)
+        z += m->layer[k].thickness_m;
+      for (int e = 0; e < 2; e++) {
+        synth_diffractor d = { fl->along_m, z + (e ? fl->throw_m : 0),
+                               0.5 * synth_reflection(m, fl->interface) };
+        double v, t = synth_diffraction_time(m, &d, sa, sr, ra, rr, &v);
+        add_body(p, out, ns, dt, fp, t + delay, d.amplitude * SYNTH_REF_DISTANCE_M / (t * v));
+      }
+    }
+  }
   if (p->dipping && m->dip.present) {
-    double su, cu;
-    geometry_sincos_deg(f->azimuth_deg, &su, &cu);
-    double sdx = g->source_x - f->x0, sdy = g->source_y - f->y0;
-    double rdx = g->receiver_x - f->x0, rdy = g->receiver_y - f->y0;
-    double t = synth_dip_time(m, sdx * su + sdy * cu, sdx * cu - sdy * su, rdx * su + rdy * cu,
-                              rdx * cu - rdy * su);
+    double t = synth_dip_time(m, sa, sr, ra, rr);
     const synth_dip *d = &m->dip;
     if (t > 0)
       add_body(p, out, ns, dt, fp, t + delay,

@@ -1,0 +1,65 @@
+/* flow_migrate.c -- the job's post-stack time migration after the stack.
+ *
+ * Reads the section tzero stack has just written, migrates it as `tzero migrate`
+ * would with the job's "migration" parameters, and writes output.migrated with the
+ * same textual header. The methods are in src/migration/migrate.c.
+ */
+#include "tzero/flow.h"
+
+#include <stdlib.h>
+#include <string.h>
+
+#include "tzero/migrate.h"
+#include "tzero/qc.h"
+
+int flow_migrate(const job_spec *job, const velocity_table *velocity, int threads,
+                 qc_migration *out, tz_err *err)
+{
+  if (!job->migrated)
+    return TZ_OK;
+  migrate_section *s = NULL;
+  velocity_table *own = NULL;
+  float *samples = NULL;
+  size_t n = 0;
+  migrate_info info;
+  char text[2048];
+  const char *vpath = job->migration.velocity ? job->migration.velocity : job->velocity;
+  int rc = migrate_section_load(&s, job->section, 0, err);
+  if (!rc && job->migration.velocity) {
+    rc = velocity_table_load(&own, job->migration.velocity, err);
+    velocity = own;
+  }
+  if (!rc && !velocity)
+    rc = tz_fail(err, TZ_E_JOB, "$.migration.velocity: no velocity table to migrate with");
+  migrate_params p;
+  migrate_params_init(&p);
+  p.method = job->migration.method ? MIGRATE_KIRCHHOFF : MIGRATE_PHASE_SHIFT;
+  p.velocity_pct = job->migration.velocity_pct;
+  p.aperture_m = job->migration.aperture_m;
+  p.max_dip_deg = job->migration.max_dip_deg;
+  p.max_hz = job->migration.max_hz;
+  p.threads = threads;
+  if (!rc && (rc = migrate_run(s, velocity, &p, &samples, &n, &info, err)))
+    tz_err_path(err, job->section);
+  if (!rc) {
+    migrate_describe(s, &p, vpath ? vpath : "", job->section, NULL, 0, text, sizeof text);
+    rc = migrate_write(s, &p, samples, n, NULL, n, text, job->migrated, err);
+  }
+  if (!rc && out) {
+    memset(out, 0, sizeof *out);
+    out->method = migrate_method_name(p.method);
+    out->velocity = vpath;
+    out->path = job->migrated;
+    out->velocity_pct = p.velocity_pct;
+    out->aperture_m = p.aperture_m;
+    out->max_dip_deg = p.max_dip_deg;
+    out->max_hz = p.max_hz;
+    out->lateral_variation_pct = info.lateral_variation_pct;
+    out->one_function = info.one_function;
+    out->seconds = info.seconds;
+  }
+  free(samples);
+  velocity_table_free(own);
+  migrate_section_free(s);
+  return rc;
+}
