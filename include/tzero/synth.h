@@ -118,7 +118,7 @@ int synth_flat_time(const synth_model *m, size_t k, double offset_m, double *t, 
 double synth_t0(const synth_model *m, size_t k);
 /* Two-way time from source (sa, sr) to a point scatterer and back up to the receiver
  * (ra, rr) (along-line and cross-line coordinates, metres), along straight rays at the
- * RMS velocity of the flat layers down to the scatterer's depth (an approximation for
+ * RMS velocity of the flat layers down to the depth of the scatterer (an approximation for
  * layered media; exact in a homogeneous one). *v_out (may be NULL) gets that velocity. */
 double synth_diffraction_time(const synth_model *m, const synth_diffractor *d, double sa,
                               double sr, double ra, double rr, double *v_out);

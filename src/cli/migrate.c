@@ -114,19 +114,19 @@ static cJSON *report_json(const run_args *a, const migrate_params *p, const migr
   cJSON_AddStringToObject(o, "input", a->input);
   cJSON_AddStringToObject(o, "output", a->out);
   cJSON_AddStringToObject(o, "method", migrate_method_name(p->method));
-  cJSON *v = cJSON_AddObjectToObject(o, "velocity");
-  cJSON_AddStringToObject(v, "file", a->velocity);
-  cJSON_AddStringToObject(v, "sha256", vsha);
+  cJSON *vo = cJSON_AddObjectToObject(o, "velocity");
+  cJSON_AddStringToObject(vo, "file", a->velocity);
+  cJSON_AddStringToObject(vo, "sha256", vsha);
   if (a->nscan) {
-    cJSON *sc = cJSON_AddArrayToObject(v, "scan_pct");
+    cJSON *sc = cJSON_AddArrayToObject(vo, "scan_pct");
     for (size_t i = 0; i < a->nscan; i++)
       cJSON_AddItemToArray(sc, cJSON_CreateNumber(a->scan[i]));
   } else {
-    cJSON_AddNumberToObject(v, "pct", p->velocity_pct);
+    cJSON_AddNumberToObject(vo, "pct", p->velocity_pct);
   }
-  cJSON_AddNumberToObject(v, "lateral_variation_pct", round(info->lateral_variation_pct * 100) / 100);
-  cJSON_AddBoolToObject(v, "one_function", info->one_function);
-  cJSON_AddNumberToObject(v, "imaginary_intervals", (double)info->imaginary_intervals);
+  cJSON_AddNumberToObject(vo, "lateral_variation_pct", round(info->lateral_variation_pct * 100) / 100);
+  cJSON_AddBoolToObject(vo, "one_function", info->one_function);
+  cJSON_AddNumberToObject(vo, "imaginary_intervals", (double)info->imaginary_intervals);
   if (p->method == MIGRATE_KIRCHHOFF) {
     if (p->aperture_m > 0)
       cJSON_AddNumberToObject(o, "aperture_m", p->aperture_m);

@@ -884,8 +884,8 @@ static void inputs_table(tz_buf *b, const cJSON *root)
   long i = 0;
   for (const cJSON *e = in->child; e; e = e->next, i++) {
     int bad = cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(e, "bad"));
-    tz_buf_put(b, "<tr id=\"file-%ld\"%s><td class=\"n\">%ld</td><td>", i, bad ? " class=\"warn\"" : "",
-               i + 1);
+    tz_buf_put(b, "<tr%s id=\"file-%ld\"><td class=\"n\">%ld</td><td>", bad ? " class=\"warn\"" : "",
+               i, i + 1);
     tz_buf_xml(b, qc_json_str(e, "path", "?"));
     tz_buf_put(b, "</td><td class=\"n\">%.0f</td><td class=\"n\">%.0f</td><td>%s</td></tr>\n",
                qc_json_num(e, "bytes"), qc_json_num(e, "traces"), bad ? "<span class=\"bad\">bad</span>" : "read");

@@ -342,12 +342,12 @@ int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
   cJSON_AddNumberToObject(ln, "max_off_line_m", li.max_off_line_m);
   cJSON_AddNumberToObject(ln, "largest_off_line_m", round_to(li.largest_off_line_m, 1e-4));
   cJSON_AddNumberToObject(g, "nominal_fold", round_to(stack_plan_nominal_fold(p), 1e-3));
-  survey_figures sf = stack_plan_survey(p);
-  cJSON_AddNumberToObject(g, "receiver_interval_m", sf.receiver_interval_m);
-  cJSON_AddNumberToObject(g, "source_interval_m", sf.source_interval_m);
-  cJSON_AddNumberToObject(g, "channels_per_record", sf.channels_per_record);
-  cJSON_AddNumberToObject(g, "records", (double)sf.records);
-  cJSON_AddNumberToObject(g, "shooting_azimuth_deg", round_to(sf.shooting_azimuth_deg, 1e-6));
+  survey_figures fig = stack_plan_survey(p);
+  cJSON_AddNumberToObject(g, "receiver_interval_m", fig.receiver_interval_m);
+  cJSON_AddNumberToObject(g, "source_interval_m", fig.source_interval_m);
+  cJSON_AddNumberToObject(g, "channels_per_record", fig.channels_per_record);
+  cJSON_AddNumberToObject(g, "records", (double)fig.records);
+  cJSON_AddNumberToObject(g, "shooting_azimuth_deg", round_to(fig.shooting_azimuth_deg, 1e-6));
 
   cJSON *sec = cJSON_AddObjectToObject(r, "section");
   cJSON_AddItemToObject(sec, "path", a->section_path ? cJSON_CreateString(a->section_path)

@@ -22,7 +22,8 @@
 
 struct spectrum_plan {
   size_t nwin, nfft, nfreq;
-  double dt_s, scale;
+  double dt_s;
+  double scale;
   float *taper;                 /* nwin */
   fftwf_plan fwd;
 };

@@ -372,24 +372,24 @@ int stack_stations_build(stack_plan *p, tz_err *err)
     }
     segy_close(f);
   }
-  int32_t *hs = NULL;
-  double *hh = NULL;
-  size_t nh = 0;
+  int32_t *hole_station = NULL;
+  double *hole_h = NULL;
+  size_t nholes = 0;
   if (!rc) {
     /* means and shot-hole thicknesses */
-    station_list *S = &L[STATICS_SOURCE];
-    hs = malloc((S->n ? S->n : 1) * sizeof *hs);
-    hh = malloc((S->n ? S->n : 1) * sizeof *hh);
-    if (!hs || !hh)
+    station_list *sources = &L[STATICS_SOURCE];
+    hole_station = malloc((sources->n ? sources->n : 1) * sizeof *hole_station);
+    hole_h = malloc((sources->n ? sources->n : 1) * sizeof *hole_h);
+    if (!hole_station || !hole_h)
       rc = tz_fail(err, TZ_E_NOMEM, "shot-hole thicknesses");
-    for (size_t i = 0; i < S->n && !rc; i++) {
-      stack_station *s = &S->v[i];
-      s->depth_m = S->depth_sum[i] / (double)s->traces;
-      s->uphole_ms = S->uphole_n[i] ? S->uphole_sum[i] / (double)S->uphole_n[i] : NAN;
-      s->weathering_m = NAN;
-      if (js->uphole && S->uphole_n[i] && s->depth_m > 0) {
-        hs[nh] = s->station;
-        hh[nh++] = statics_uphole_thickness_m(s->uphole_ms, s->depth_m,
+    for (size_t i = 0; i < sources->n && !rc; i++) {
+      stack_station *st = &sources->v[i];
+      st->depth_m = sources->depth_sum[i] / (double)st->traces;
+      st->uphole_ms = sources->uphole_n[i] ? sources->uphole_sum[i] / (double)sources->uphole_n[i] : NAN;
+      st->weathering_m = NAN;
+      if (js->uphole && sources->uphole_n[i] && st->depth_m > 0) {
+        hole_station[nholes] = st->station;
+        hole_h[nholes++] = statics_uphole_thickness_m(st->uphole_ms, st->depth_m,
                                               js->weathering_velocity_mps,
                                               js->replacement_velocity_mps);
       }
@@ -399,31 +399,31 @@ int stack_stations_build(stack_plan *p, tz_err *err)
       L[STATICS_RECEIVER].v[i].weathering_m = NAN;
     }
   }
-  if (!rc && js->uphole && !nh)
+  if (!rc && js->uphole && !nholes)
     rc = tz_fail(err, TZ_E_JOB, "$.statics.uphole: no trace has both an uphole time (bytes "
                  "95-96) and a source depth (bytes 49-52)");
   for (int k = 0; k < 2 && !rc; k++) {
     for (size_t i = 0; i < L[k].n; i++) {
-      stack_station *s = &L[k].v[i];
+      stack_station *st = &L[k].v[i];
       double D = js->datum_m, vr = js->replacement_velocity_mps, vw = js->weathering_velocity_mps;
       if (!js->present || !js->elevation) {
-        s->elevation_ms = 0;
+        st->elevation_ms = 0;
       } else if (js->uphole) {
-        double h = thickness_at(hs, hh, nh, s->station);
-        s->weathering_m = h;
-        s->elevation_ms = k == STATICS_SOURCE
-                              ? statics_buried_source_ms(s->elevation_m, s->depth_m, h, vw, D, vr)
-                              : statics_weathered_ms(s->elevation_m, h, vw, D, vr);
+        double h = thickness_at(hole_station, hole_h, nholes, st->station);
+        st->weathering_m = h;
+        st->elevation_ms = k == STATICS_SOURCE
+                              ? statics_buried_source_ms(st->elevation_m, st->depth_m, h, vw, D, vr)
+                              : statics_weathered_ms(st->elevation_m, h, vw, D, vr);
       } else {
-        s->elevation_ms = statics_elevation_ms(s->elevation_m, D, vr);
+        st->elevation_ms = statics_elevation_ms(st->elevation_m, D, vr);
       }
     }
     p->stations[k] = L[k].v;
     p->nstations[k] = L[k].n;
     L[k].v = NULL;
   }
-  free(hs);
-  free(hh);
+  free(hole_station);
+  free(hole_h);
   for (int k = 0; k < 2; k++)
     list_free(&L[k]);
   for (size_t i = 0; i < js->ntables && !rc; i++)
