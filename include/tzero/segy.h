@@ -157,6 +157,12 @@ typedef struct segy_open_opts {
                                     * instead of being an error */
   uint32_t interval_us;            /* 0 = from the file; else the sample interval in
                                     * microseconds, replacing the file's (1-1000000) */
+  int no_map;                      /* 1: read with pread() through a buffer even when the
+                                    * file could be mapped (the path pipes and files too
+                                    * large to map take; the results are the same) */
+  int64_t map_bytes;               /* bytes mapped at a time (0: 16 MiB, rounded up to
+                                    * whole pages); small values exercise the
+                                    * piece boundaries in tests */
 } segy_open_opts;
 
 /* Thread rule: one handle per thread; handles share nothing, so several

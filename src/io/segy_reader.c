@@ -11,10 +11,16 @@
  * trace count: by arithmetic for fixed-length files, by a walk over the trace
  * headers (lengths from bytes 115-116) otherwise.
  *
- * Traces are read through a per-handle window (allocated once at open) with
- * pread(): a sequential pass makes one large read per window and no seeks,
- * and each trace is converted straight out of the window. Header-only access
- * reads just the header bytes, skipping the samples.
+ * Traces are read through a per-handle window. A regular file is mapped
+ * (mmap, read-only) in pieces of up to MAP_PIECE bytes: headers are decoded
+ * and samples converted straight out of the page cache, with no copy and no
+ * system call per trace, and a header-only pass touches the same pages the
+ * data pass later decodes from. When a file cannot be mapped (or the caller
+ * asks, segy_open_opts.no_map) the window is a buffer (allocated once at open)
+ * filled with pread(): a sequential pass makes one large read per window and
+ * no seeks; header-only access then reads just the header bytes.
+ * At most one piece is mapped per handle, so the memory a pass holds does not
+ * grow with the file or the number of files.
  *
  * Thread rule: one handle per thread; handles share nothing.
  * Not here: sample conversion (segy_conv.c), header fields (segy_map.c),
@@ -28,6 +34,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/mman.h>
 #include <sys/stat.h>
 #include <unistd.h>
 
@@ -35,6 +42,7 @@
 #include "tzero/fileio.h"
 
 #define WINDOW_BYTES (1u << 20)
+#define MAP_PIECE ((int64_t)16 << 20)   /* bytes mapped at a time */
 #define MAX_EXTENDED_TEXT 100000   /* 3200-byte records: over 300 MB of text is absurd */
 #define MAX_HEADER_EXTENSIONS 1000
 #define MAX_STANZA_RECORDS 256     /* records searched for stanza names */
@@ -62,6 +70,12 @@ struct segy_file {
   size_t wincap;
   int64_t winoff;           /* file offset of win[0] */
   size_t winlen;            /* valid bytes in the window */
+  int use_map;              /* the window is a mapping of the file, not a buffer */
+  unsigned char *mbase;     /* mapped piece (page aligned), or NULL */
+  int64_t mapoff;           /* file offset of map[0] */
+  size_t maplen;
+  long page;
+  int64_t piece;            /* bytes mapped at a time */
   int64_t bad;
   const unsigned char *last;  /* sample bytes of the last trace read, big-endian */
 };
@@ -100,11 +114,64 @@ static int read_at(segy_file *f, int64_t off, void *buf, size_t n, int64_t trace
 
 /* Returns a pointer to bytes [off, off+n) through the window, refilling it
  * with one large read when needed. n must be <= f->wincap. */
+static void unmap_piece(segy_file *f)
+{
+  if (f->mbase)
+    munmap(f->mbase, f->maplen);
+  f->mbase = NULL;
+  f->maplen = 0;
+  f->winlen = 0;
+  f->winoff = -1;
+}
+
+/* Maps the piece of the file holding [off, off + n): from the page holding
+ * off, at least MAP_PIECE bytes (n when longer), not beyond the file's end.
+ * 0 on success; -1 when mmap fails (the caller falls back to pread). */
+static int map_piece(segy_file *f, int64_t off, size_t n)
+{
+  unmap_piece(f);
+  int64_t start = off - off % f->page;
+  int64_t len = f->piece;
+  if ((int64_t)n + (off - start) > len)
+    len = (int64_t)n + (off - start);
+  if (len > f->info.file_bytes - start)
+    len = f->info.file_bytes - start;
+  if (len <= 0)
+    return -1;
+  void *m = mmap(NULL, (size_t)len, PROT_READ, MAP_PRIVATE | MAP_POPULATE, f->fd, (off_t)start);
+  if (m == MAP_FAILED)
+    return -1;
+  madvise(m, (size_t)len, MADV_SEQUENTIAL);
+  f->mbase = m;
+  f->maplen = (size_t)len;
+  f->mapoff = start;
+  f->win = NULL;
+  f->winoff = start;
+  f->winlen = (size_t)len;
+  return 0;
+}
+
 static const unsigned char *window(segy_file *f, int64_t off, size_t n, int64_t trace,
                                    tz_err *err)
 {
   if (off >= f->winoff && off + (int64_t)n <= f->winoff + (int64_t)f->winlen)
-    return f->win + (off - f->winoff);
+    return (f->mbase ? f->mbase : f->win) + (off - f->winoff);
+  if (f->use_map) {
+    if (off + (int64_t)n > f->info.file_bytes) {
+      tz_fail_at(err, TZ_E_FORMAT, trace, f->info.file_bytes,
+                 "file ends %lld bytes early (truncated)",
+                 (long long)(off + (int64_t)n - f->info.file_bytes));
+      return NULL;
+    }
+    if (map_piece(f, off, n) == 0)
+      return f->mbase + (off - f->mapoff);
+    /* cannot map (address space, a file system without mmap): read instead */
+    f->use_map = 0;
+    if (!(f->win = malloc(f->wincap))) {
+      tz_fail(err, TZ_E_NOMEM, "read buffer of %zu bytes", f->wincap);
+      return NULL;
+    }
+  }
   size_t want = f->wincap;
   if ((int64_t)want > f->info.file_bytes - off)
     want = (size_t)(f->info.file_bytes - off);
@@ -946,12 +1013,17 @@ int segy_open(segy_file **out, const char *path, const segy_open_opts *o, tz_err
     goto fail;
   size_t need = f->hdr_bytes + (size_t)in->samples * (size_t)in->bytes_per_sample;
   f->wincap = need > WINDOW_BYTES ? need : WINDOW_BYTES;
-  f->win = malloc(f->wincap);
-  if (!f->win) {
+  f->winoff = -1;
+  f->page = sysconf(_SC_PAGESIZE);
+  if (f->page <= 0)
+    f->page = 4096;
+  f->use_map = !(o && o->no_map) && S_ISREG(st.st_mode);
+  f->piece = o && o->map_bytes > 0 ? o->map_bytes : MAP_PIECE;
+  f->piece += (f->page - f->piece % f->page) % f->page;
+  if (!f->use_map && !(f->win = malloc(f->wincap))) {
     rc = tz_fail(err, TZ_E_NOMEM, "read buffer of %zu bytes", f->wincap);
     goto fail;
   }
-  f->winoff = -1;
   if (f->order == SEGY_ORDER_LITTLE || f->order == SEGY_ORDER_PAIRS) {
     if (!(f->scratch = malloc(need))) {
       rc = tz_fail(err, TZ_E_NOMEM, "read buffer of %zu bytes", need);
@@ -974,6 +1046,7 @@ void segy_close(segy_file *f)
 {
   if (!f)
     return;
+  unmap_piece(f);
   if (f->fd >= 0)
     close(f->fd);
   free(f->toff);
@@ -1040,9 +1113,10 @@ int segy_header_read(segy_file *f, int64_t i, segy_trace_header *h, tz_err *err)
   size_t hb = trace_header_bytes(f, i);
   const unsigned char *p;
   unsigned char tmp[SEGY_TRACE_HEADER_BYTES * 2];
-  if (off >= f->winoff && off + (int64_t)hb <= f->winoff + (int64_t)f->winlen)
-    p = f->win + (off - f->winoff);
-  else if (hb <= sizeof tmp) {
+  if (f->use_map || (off >= f->winoff && off + (int64_t)hb <= f->winoff + (int64_t)f->winlen)) {
+    if (!(p = window(f, off, hb, i, err)))
+      return tz_err_path(err, f->path);
+  } else if (hb <= sizeof tmp) {
     if (read_at(f, off, tmp, hb, i, err))
       return tz_err_path(err, f->path);
     p = tmp;
