@@ -108,6 +108,7 @@ PREFIX_LIST = \
   lsq \
   merge \
   migrate \
+  mute \
   nmo \
   page \
   picture \

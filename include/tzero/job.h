@@ -21,6 +21,7 @@
 #include "tzero/edits.h"
 #include "tzero/error.h"
 #include "tzero/limits.h"
+#include "tzero/mute.h"
 
 #define JOB_MAX_BYTES (16u << 20)    /* a job file larger than this is refused */
 #define JOB_MAX_SHOTS 1000000u       /* expanded shot files */
@@ -42,6 +43,9 @@ typedef struct job_bins {
   double max_distance_m;  /* a midpoint farther than this from the line is off the line;
                            * 0 = no limit (default) */
 } job_bins;
+
+/* How a kind of mute was given in the job (docs/job-file.md, "Mutes"). */
+enum job_mute_form { JOB_MUTE_NONE = 0, JOB_MUTE_POLYLINE, JOB_MUTE_CONTROLS, JOB_MUTE_FILE };
 
 typedef struct job_mute_point {
   double offset_m;    /* absolute offset */
@@ -95,6 +99,10 @@ typedef struct job_spec {
   size_t nmute;
   job_mute_point *mute_top;   /* sorted by offset; NULL/0 = no top mute */
   double mute_taper_ms;       /* taper after the top-mute time, default 10; 0 = hard edge */
+  mute_set *mutes;            /* every mute (top, inner, bottom; mute.h), owned; NULL when
+                               * the job has no "mute" object */
+  int mute_form[MUTE__KINDS]; /* enum job_mute_form: how each kind was given */
+  char *mute_files[MUTE__KINDS];   /* "top_file" ... resolved; NULL unless given */
 
   /* "selection" */
   int has_cmp_range;

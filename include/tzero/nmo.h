@@ -77,6 +77,8 @@ typedef struct nmo_trace_info {
   size_t muted_stretch;        /* zeroed by the stretch mute */
   size_t muted_top;            /* zeroed by the top mute (and not by stretch) */
   size_t muted_end;            /* zeroed because t maps beyond the trace end */
+  size_t muted_inner;          /* zeroed by an inner (cone) mute: nmo_band_mute() */
+  size_t muted_bottom;         /* zeroed by a bottom mute: nmo_band_mute() */
 } nmo_trace_info;
 
 /* Corrects one trace: out[i] = in(t_i) with t_i^2 = t0_i^2 + x^2/v_i^2 (minus the
@@ -97,6 +99,20 @@ int nmo_apply(nmo_workspace *ws, const nmo_params *p, const nmo_top_mute *mute,
               const nmo_axis *ax, double offset_m, const float *in, const float *vel_mps,
               const float *eta, float *out, float *weight, nmo_trace_info *info,
               tz_err *err);
+
+/* A band mute in recorded time, after nmo_apply() on the same workspace and axis
+ * (it reads the input times nmo_apply() left in the workspace): output samples of
+ * the live range whose recorded time t lies in [t_from_s, t_to_s] are zeroed
+ * with weight 0; t_to_s = INFINITY mutes everything after t_from_s (a bottom
+ * mute). A raised-cosine ramp of taper_s on the kept side of each finite edge
+ * multiplies out and weight. Updates info (live range, live count; the newly
+ * muted samples go to muted_inner, or to muted_bottom when t_to_s is infinite;
+ * without weights every sample of the band counts, so apply a bottom mute
+ * before a cone and at most one of each).
+ * Both times NAN or t_to_s < t_from_s: nothing happens. Allocates nothing. */
+void nmo_band_mute(const nmo_workspace *ws, const nmo_axis *ax, double t_from_s,
+                   double t_to_s, double taper_s, float *out, float *weight,
+                   nmo_trace_info *info);
 
 /* Inverse NMO (QC): puts a corrected trace back on recorded time with the same
  * moveout (no mutes; recorded samples whose t0 falls outside the axis are 0).

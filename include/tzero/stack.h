@@ -181,7 +181,10 @@ double stack_plan_station_interval(const stack_plan *p);
 typedef struct stack_run_opts {
   const velocity_table *velocity;  /* borrowed, required */
   nmo_params nmo;                  /* stack_run_opts_init() takes them from the job */
-  nmo_top_mute mute;
+  nmo_top_mute mute;               /* the job's top mute when it is one polyline */
+  const mute_set *mutes;           /* every mute of the job (mute.h): when not NULL it
+                                    * replaces `mute` (init: the job's, NULL when it
+                                    * has none); borrowed */
   const condition_chain *conditioning; /* applied to each trace before NMO (docs/
                                     * conditioning.md); init: the job's chain, or NULL
                                     * when it has no steps; borrowed */
@@ -208,13 +211,15 @@ typedef struct stack_cmp_result {
   double full_fold_ms;           /* earliest time from which every trace of the CMP is
                                   * live (mutes no longer reduce the fold); NAN when
                                   * the fold is never reached or is 0 */
+  int64_t muted_top, muted_inner, muted_bottom;   /* samples zeroed by each mute
+                                  * (of fold * ns) */
 } stack_cmp_result;
 
 typedef struct stack_mute_class {
   double offset_from_m, offset_to_m;
   int64_t traces;
   int64_t samples;               /* traces * ns */
-  int64_t muted_stretch, muted_top, muted_end;
+  int64_t muted_stretch, muted_top, muted_end, muted_inner, muted_bottom;
 } stack_mute_class;
 
 #define STACK_MAX_KILL_LIST 100000   /* automatic kills listed one by one */
@@ -254,7 +259,7 @@ typedef struct stack_section {
   double static_min_ms, static_max_ms, static_rms_ms;
   int64_t bytes_read;            /* input bytes of the files read */
   /* mute statistics over all stacked traces */
-  int64_t samples_total, muted_stretch, muted_top, muted_end;
+  int64_t samples_total, muted_stretch, muted_top, muted_end, muted_inner, muted_bottom;
   size_t nclasses;
   stack_mute_class classes[STACK_MUTE_CLASSES];
   double offset_class_m;

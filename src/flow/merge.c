@@ -467,6 +467,8 @@ static int assemble(const flow_setup *su, const part *pt, size_t n, stack_sectio
     s->muted_stretch += inum(r, "mute.stretch_muted_samples");
     s->muted_top += inum(r, "mute.top_muted_samples");
     s->muted_end += inum(r, "mute.beyond_trace_end_samples");
+    s->muted_inner += inum(r, "mute.inner_muted_samples");
+    s->muted_bottom += inum(r, "mute.bottom_muted_samples");
     const cJSON *cl = at(r, "mute.by_offset");
     if (!cJSON_IsArray(cl) || (size_t)cJSON_GetArraySize(cl) != s->nclasses ||
         !cJSON_IsNumber(at(r, "mute.samples"))) {
@@ -481,6 +483,8 @@ static int assemble(const flow_setup *su, const part *pt, size_t n, stack_sectio
       s->classes[c].muted_stretch += inum(e, "stretch_muted_samples");
       s->classes[c].muted_top += inum(e, "top_muted_samples");
       s->classes[c].muted_end += inum(e, "beyond_trace_end_samples");
+      s->classes[c].muted_inner += inum(e, "inner_muted_samples");
+      s->classes[c].muted_bottom += inum(e, "bottom_muted_samples");
     }
     const cJSON *c;
     cJSON_ArrayForEach(c, at(r, "cmps")) {
@@ -498,6 +502,9 @@ static int assemble(const flow_setup *su, const part *pt, size_t n, stack_sectio
       x->offset_max_m = num_or_nan(c, "offset_max_m");
       x->live_fraction = num_or_nan(c, "live_fraction");
       x->full_fold_ms = num_or_nan(c, "full_fold_ms");
+      x->muted_top = inum(c, "top_muted_samples");
+      x->muted_inner = inum(c, "inner_muted_samples");
+      x->muted_bottom = inum(c, "bottom_muted_samples");
     }
     rc = read_samples(&pt[k], s, err);
   }

@@ -25,6 +25,7 @@
 #include <sys/stat.h>
 
 #include "tzero/fileio.h"
+#include "job/job_int.h"
 #include "util/json_doc.h"
 
 #define PATHBUF 640
@@ -42,6 +43,8 @@ static char *dupstr(const char *s)
 }
 
 /* dir + "/" + rel, unless rel is absolute or dir is empty. */
+static int need_file(const char *path, const char *jpath, tz_err *err);
+
 static char *resolve(const char *dir, const char *rel)
 {
   if (rel[0] == '/' || !dir || !dir[0] || !strcmp(dir, "."))
@@ -51,6 +54,16 @@ static char *resolve(const char *dir, const char *rel)
   if (p)
     snprintf(p, n, "%s/%s", dir, rel);
   return p;
+}
+
+char *job_path_resolve(const char *dir, const char *rel)
+{
+  return resolve(dir, rel);
+}
+
+int job_need_file(const char *path, const char *jpath, tz_err *err)
+{
+  return need_file(path, jpath, err);
 }
 
 static int need_file(const char *path, const char *jpath, tz_err *err)
@@ -346,60 +359,6 @@ static int parse_moveout(job_spec *j, const cJSON *v, tz_err *err)
   if ((e = ITEM(v, "stretch_taper_ms")) &&
       (rc = json_doc_number(e, "$.moveout.stretch_taper_ms", 0, 1000, &j->stretch_taper_ms, TZ_E_JOB, err)))
     return rc;
-  return TZ_OK;
-}
-
-static int cmp_mute(const void *a, const void *b)
-{
-  double x = ((const job_mute_point *)a)->offset_m, y = ((const job_mute_point *)b)->offset_m;
-  return (x > y) - (x < y);
-}
-
-static int parse_mute(job_spec *j, const cJSON *v, tz_err *err)
-{
-  static const char *const keys[] = { "top", "taper_ms", NULL };
-  int rc = want_object(v, "$.mute", err);
-  if (!rc)
-    rc = json_doc_check_keys(v, "$.mute", keys, TZ_E_JOB, err);
-  if (rc)
-    return rc;
-  const cJSON *e;
-  if ((e = ITEM(v, "taper_ms")) &&
-      (rc = json_doc_number(e, "$.mute.taper_ms", 0, 1000, &j->mute_taper_ms, TZ_E_JOB, err)))
-    return rc;
-  const cJSON *top = ITEM(v, "top");
-  if (!top)
-    return TZ_OK;
-  if (!cJSON_IsArray(top))
-    return tz_fail(err, TZ_E_JOB, "$.mute.top: expected an array of [offset_m, time_ms] pairs, "
-                 "got %s", json_doc_kind_name(top));
-  size_t n = (size_t)cJSON_GetArraySize(top);
-  if (n == 0)
-    return TZ_OK;
-  if (n > JOB_MAX_MUTE_POINTS)
-    return tz_fail(err, TZ_E_JOB, "$.mute.top: more than %u points", JOB_MAX_MUTE_POINTS);
-  j->mute_top = calloc(n, sizeof *j->mute_top);
-  if (!j->mute_top)
-    return tz_fail(err, TZ_E_NOMEM, "mute points");
-  size_t i = 0;
-  for (const cJSON *p = top->child; p; p = p->next, i++) {
-    char jp[64];
-    snprintf(jp, sizeof jp, "$.mute.top[%zu]", i);
-    if (!cJSON_IsArray(p) || cJSON_GetArraySize(p) != 2)
-      return tz_fail(err, TZ_E_JOB, "%s: expected a pair [offset_m, time_ms], got %s", jp,
-                   json_doc_kind_name(p));
-    char jp0[80], jp1[80];
-    snprintf(jp0, sizeof jp0, "%s[0]", jp);
-    snprintf(jp1, sizeof jp1, "%s[1]", jp);
-    if ((rc = json_doc_number(p->child, jp0, 0, 1e6, &j->mute_top[i].offset_m, TZ_E_JOB, err)) ||
-        (rc = json_doc_number(p->child->next, jp1, -1e5, 1e6, &j->mute_top[i].time_ms, TZ_E_JOB, err)))
-      return rc;
-  }
-  j->nmute = n;
-  qsort(j->mute_top, n, sizeof *j->mute_top, cmp_mute);
-  for (i = 1; i < n; i++)
-    if (j->mute_top[i].offset_m == j->mute_top[i - 1].offset_m)
-      return tz_fail(err, TZ_E_JOB, "$.mute.top: offset %g m given twice", j->mute_top[i].offset_m);
   return TZ_OK;
 }
 
@@ -1068,7 +1027,7 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
     return rc;
   if ((e = ITEM(root, "moveout")) && (rc = parse_moveout(j, e, err)))
     return rc;
-  if ((e = ITEM(root, "mute")) && (rc = parse_mute(j, e, err)))
+  if ((e = ITEM(root, "mute")) && (rc = job_mute_parse(j, e, dir, err)))
     return rc;
   if ((e = ITEM(root, "selection")) && (rc = parse_selection(j, e, err)))
     return rc;
@@ -1173,6 +1132,9 @@ void job_free(job_spec *j)
   free(j->header_map);
   free(j->velocity);
   free(j->mute_top);
+  mute_set_free(j->mutes);
+  for (int k = 0; k < MUTE__KINDS; k++)
+    free(j->mute_files[k]);
   free(j->section);
   free(j->report);
   free(j->html);
@@ -1272,6 +1234,11 @@ int job_foreach_input(const job_spec *j, job_input_fn fn, void *ctx)
   for (size_t i = 0; !rc && i < sizeof one / sizeof one[0]; i++)
     if (one[i].path && one[i].path[0])
       rc = fn(ctx, one[i].path, one[i].kind);
+  for (int k = 0; !rc && k < MUTE__KINDS; k++)
+    if (j->mute_files[k])
+      rc = fn(ctx, j->mute_files[k], JOB_INPUT_TABLE);
+  if (!rc && j->mutes && j->mutes->picks_path)
+    rc = fn(ctx, j->mutes->picks_path, JOB_INPUT_TABLE);
   for (size_t i = 0; !rc && i < j->nshots; i++)
     rc = fn(ctx, j->shots[i], JOB_INPUT_SHOT);
   return rc;
@@ -1481,14 +1448,8 @@ int job_to_json(const job_spec *j, char **out, tz_err *err)
       cJSON_AddNumberToObject(o, "stretch_taper_ms", j->stretch_taper_ms);
     }
     o = cJSON_AddObjectToObject(r, "mute");
-    if (o) {
-      cJSON *t = cJSON_AddArrayToObject(o, "top");
-      for (size_t i = 0; t && i < j->nmute; i++) {
-        double pair[2] = { j->mute_top[i].offset_m, j->mute_top[i].time_ms };
-        cJSON_AddItemToArray(t, cJSON_CreateDoubleArray(pair, 2));
-      }
-      cJSON_AddNumberToObject(o, "taper_ms", j->mute_taper_ms);
-    }
+    if (o)
+      bad |= job_mute_to_json(j, o);
     o = cJSON_AddObjectToObject(r, "selection");
     if (o) {
       if (j->has_cmp_range) {

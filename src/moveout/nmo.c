@@ -662,8 +662,70 @@ int nmo_apply(nmo_workspace *ws, const nmo_params *p, const nmo_top_mute *mute,
     info->muted_stretch = i_s;
     info->muted_top = i0 - i_s;
     info->muted_end = ns - i_e;
+    info->muted_inner = info->muted_bottom = 0;
   }
   return TZ_OK;
+}
+
+/* ---- band mutes (inner cone, bottom) ---- */
+
+void nmo_band_mute(const nmo_workspace *ws, const nmo_axis *ax, double t_from_s,
+                   double t_to_s, double taper_s, float *out, float *weight,
+                   nmo_trace_info *info)
+{
+  if (isnan(t_from_s) || isnan(t_to_s) || t_to_s < t_from_s || info->first_live >= info->end_live)
+    return;
+  const float *u = ws->u;
+  const double tf = ax->t_first_s, dt = ax->dt_s;
+  size_t lo = info->first_live, hi = info->end_live;
+  /* The input time increases along the live range: two boundary scans. */
+  size_t ia = lo;
+  while (ia < hi && tf + (double)u[ia] * dt < t_from_s)
+    ia++;
+  size_t ib = ia;
+  while (ib < hi && tf + (double)u[ib] * dt <= t_to_s)
+    ib++;
+  size_t n = ib - ia;   /* samples newly muted: those still live (weight > 0) */
+  if (weight) {
+    n = 0;
+    for (size_t i = ia; i < ib; i++)
+      n += weight[i] > 0;
+    memset(weight + ia, 0, (ib - ia) * sizeof *weight);
+  }
+  memset(out + ia, 0, (ib - ia) * sizeof *out);
+  if (taper_s > 0) {
+    for (size_t i = ia; i > lo; i--) {
+      double t = tf + (double)u[i - 1] * dt;
+      if (t <= t_from_s - taper_s)
+        break;
+      float w = ramp((t_from_s - t) / taper_s);
+      out[i - 1] *= w;
+      if (weight)
+        weight[i - 1] *= w;
+    }
+    if (isfinite(t_to_s))
+      for (size_t i = ib; i < hi; i++) {
+        double t = tf + (double)u[i] * dt;
+        if (t >= t_to_s + taper_s)
+          break;
+        float w = ramp((t - t_to_s) / taper_s);
+        out[i] *= w;
+        if (weight)
+          weight[i] *= w;
+      }
+  }
+  if (isfinite(t_to_s))
+    info->muted_inner += n;
+  else
+    info->muted_bottom += n;
+  info->live -= n;
+  if (ia <= lo && ib >= hi) {
+    info->first_live = info->end_live = ax->ns;
+  } else if (ia <= lo) {
+    info->first_live = ib;
+  } else if (ib >= hi) {
+    info->end_live = ia;
+  }
 }
 
 /* ---- inverse NMO ---- */

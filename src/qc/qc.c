@@ -72,16 +72,69 @@ static void add_inputs(cJSON *r, const stack_plan *p)
 
 /* Fractions for people, and the sample counts they come from, so that reports
  * of parts of a line can be joined exactly (tzero merge). */
-static void add_mute_counts(cJSON *o, int64_t samples, int64_t stretch, int64_t top, int64_t end)
+static void add_mute_counts(cJSON *o, int64_t samples, int64_t stretch, int64_t top, int64_t end,
+                            int64_t inner, int64_t bottom)
 {
   cJSON_AddNumberToObject(o, "samples", (double)samples);
   cJSON_AddNumberToObject(o, "stretch_muted_samples", (double)stretch);
   cJSON_AddNumberToObject(o, "top_muted_samples", (double)top);
+  cJSON_AddNumberToObject(o, "inner_muted_samples", (double)inner);
+  cJSON_AddNumberToObject(o, "bottom_muted_samples", (double)bottom);
   cJSON_AddNumberToObject(o, "beyond_trace_end_samples", (double)end);
-  cJSON_AddNumberToObject(o, "muted_fraction", round_to(frac(stretch + top, samples), 1e-6));
+  cJSON_AddNumberToObject(o, "muted_fraction",
+                          round_to(frac(stretch + top + inner + bottom, samples), 1e-6));
   cJSON_AddNumberToObject(o, "stretch_muted_fraction", round_to(frac(stretch, samples), 1e-6));
   cJSON_AddNumberToObject(o, "top_muted_fraction", round_to(frac(top, samples), 1e-6));
+  cJSON_AddNumberToObject(o, "inner_muted_fraction", round_to(frac(inner, samples), 1e-6));
+  cJSON_AddNumberToObject(o, "bottom_muted_fraction", round_to(frac(bottom, samples), 1e-6));
   cJSON_AddNumberToObject(o, "beyond_trace_end_fraction", round_to(frac(end, samples), 1e-6));
+}
+
+#define QC_MUTE_CMP_RANGES 16
+
+/* How each kind of mute was given, and the mutes by CMP range: the section's
+ * CMPs in QC_MUTE_CMP_RANGES runs of equal width from its first CMP. */
+static void add_mute_kinds(cJSON *mu, const job_spec *j, const stack_section *s)
+{
+  static const char *const forms[] = { "none", "polyline", "controls", "file" };
+  cJSON *k = cJSON_AddObjectToObject(mu, "kinds");
+  for (int i = 0; k && i < MUTE__KINDS; i++) {
+    cJSON *o = cJSON_AddObjectToObject(k, mute_kind_name(i));
+    int f = j ? j->mute_form[i] : 0;
+    const mute_set *m = j ? j->mutes : NULL;
+    cJSON_AddStringToObject(o, "given_as", forms[f >= 0 && f <= 3 ? f : 0]);
+    cJSON_AddNumberToObject(o, "controls", m ? (double)m->kind[i].n : 0);
+    if (i == MUTE_TOP) {
+      int fb = m && !isnan(m->after_first_break_ms);
+      cJSON_AddItemToObject(o, "after_first_break_ms",
+                            fb ? cJSON_CreateNumber(m->after_first_break_ms) : cJSON_CreateNull());
+      cJSON_AddNumberToObject(o, "first_break_picks", fb ? (double)m->npicks : 0);
+    }
+  }
+  cJSON *br = cJSON_AddArrayToObject(mu, "by_cmp_range");
+  size_t width = (s->ncmps + QC_MUTE_CMP_RANGES - 1) / QC_MUTE_CMP_RANGES;
+  if (width == 0)
+    return;
+  for (size_t a = 0; br && a < s->ncmps; a += width) {
+    size_t e = a + width < s->ncmps ? a + width : s->ncmps;
+    int64_t traces = 0, top = 0, inner = 0, bottom = 0;
+    for (size_t c = a; c < e; c++) {
+      traces += s->cmps[c].fold;
+      top += s->cmps[c].muted_top;
+      inner += s->cmps[c].muted_inner;
+      bottom += s->cmps[c].muted_bottom;
+    }
+    int64_t samples = traces * (int64_t)s->axis.ns;
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddNumberToObject(o, "cmp_first", s->cmps[a].cmp);
+    cJSON_AddNumberToObject(o, "cmp_last", s->cmps[e - 1].cmp);
+    cJSON_AddNumberToObject(o, "traces", (double)traces);
+    cJSON_AddNumberToObject(o, "samples", (double)samples);
+    cJSON_AddNumberToObject(o, "top_muted_fraction", round_to(frac(top, samples), 1e-6));
+    cJSON_AddNumberToObject(o, "inner_muted_fraction", round_to(frac(inner, samples), 1e-6));
+    cJSON_AddNumberToObject(o, "bottom_muted_fraction", round_to(frac(bottom, samples), 1e-6));
+    cJSON_AddItemToArray(br, o);
+  }
 }
 
 /* The functions of the first QC_MAX_FUNCTIONS control CMPs: knots with their
@@ -399,6 +452,9 @@ int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
     cJSON_AddNumberToObject(o, "offset_max_m", round_to(x->offset_max_m, 1e-3));
     cJSON_AddNumberToObject(o, "live_fraction", round_to(x->live_fraction, 1e-6));
     cJSON_AddItemToObject(o, "full_fold_ms", num_or_null(round_to(x->full_fold_ms, 1e-3)));
+    cJSON_AddNumberToObject(o, "top_muted_samples", (double)x->muted_top);
+    cJSON_AddNumberToObject(o, "inner_muted_samples", (double)x->muted_inner);
+    cJSON_AddNumberToObject(o, "bottom_muted_samples", (double)x->muted_bottom);
     cJSON_AddItemToArray(cm, o);
     if (x->fold < fmin)
       fmin = x->fold;
@@ -431,7 +487,9 @@ int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
   cJSON *mu = cJSON_AddObjectToObject(r, "mute");
   cJSON_AddNumberToObject(mu, "stretch_limit_pct", j ? j->stretch_limit_pct : 0);
   cJSON_AddNumberToObject(mu, "top_mute_points", j ? (double)j->nmute : 0);
-  add_mute_counts(mu, s->samples_total, s->muted_stretch, s->muted_top, s->muted_end);
+  add_mute_counts(mu, s->samples_total, s->muted_stretch, s->muted_top, s->muted_end,
+                  s->muted_inner, s->muted_bottom);
+  add_mute_kinds(mu, j, s);
   cJSON_AddNumberToObject(mu, "offset_class_m", s->offset_class_m);
   cJSON *bo = cJSON_AddArrayToObject(mu, "by_offset");
   for (size_t k = 0; k < s->nclasses; k++) {
@@ -440,7 +498,8 @@ int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
     cJSON_AddNumberToObject(o, "offset_from_m", c->offset_from_m);
     cJSON_AddItemToObject(o, "offset_to_m", num_or_null(c->offset_to_m));
     cJSON_AddNumberToObject(o, "traces", (double)c->traces);
-    add_mute_counts(o, c->samples, c->muted_stretch, c->muted_top, c->muted_end);
+    add_mute_counts(o, c->samples, c->muted_stretch, c->muted_top, c->muted_end, c->muted_inner,
+                    c->muted_bottom);
     cJSON_AddItemToArray(bo, o);
   }
 
@@ -806,6 +865,9 @@ int qc_report_summary(const qc_report *r, char **text, tz_err *err)
   tz_buf_put(&b, "mute        stretch limit %.1f %%: %.2f %% of stacked samples muted (stretch %.2f %%, "
       "top %.2f %%)\n", numv(R, "mute.stretch_limit_pct"), 100 * numv(R, "mute.muted_fraction"),
       100 * numv(R, "mute.stretch_muted_fraction"), 100 * numv(R, "mute.top_muted_fraction"));
+  if (numv(R, "mute.inner_muted_fraction") > 0 || numv(R, "mute.bottom_muted_fraction") > 0)
+    tz_buf_put(&b, "              inner cone %.2f %%, bottom %.2f %%\n",
+        100 * numv(R, "mute.inner_muted_fraction"), 100 * numv(R, "mute.bottom_muted_fraction"));
   const cJSON *bo = at(R, "mute.by_offset");
   for (const cJSON *c = bo ? bo->child : NULL; c; c = c->next) {
     double to = numv(c, "offset_to_m");

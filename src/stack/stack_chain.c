@@ -321,29 +321,44 @@ int stack_chain_record(const stack_chain *ch, stack_chain_ws *ws, size_t file, i
 }
 
 int stack_nmo_trace(nmo_workspace *ws, const nmo_params *np, const nmo_top_mute *mute,
+                    const mute_set *ms, const mute_trace *mt,
                     const nmo_axis *ax, double offset_m, const float *in, const float *vel,
                     const float *eta, size_t live_lo, size_t live_hi, float *out, float *w,
                     nmo_trace_info *info, nmo_top_mute *scratch, tz_err *err)
 {
-  if (live_lo == 0 && live_hi >= ax->ns)
+  mute_times mtm;
+  int set = ms && mt && mute_set_active(ms);
+  if (set)
+    mute_eval(ms, mt, &mtm);
+  if (!set && live_lo == 0 && live_hi >= ax->ns)
     return nmo_apply(ws, np, mute, ax, offset_m, in, vel, eta, out, w, info, err);
+  nmo_trace_info local;
+  if (!info)
+    info = &local;
   memset(out, 0, ax->ns * sizeof *out);
   if (w)
     memset(w, 0, ax->ns * sizeof *w);
   if (live_hi <= live_lo) {
-    if (info) {
-      memset(info, 0, sizeof *info);
-      info->first_live = ax->ns;
-      info->muted_end = ax->ns;
-    }
+    memset(info, 0, sizeof *info);
+    info->first_live = ax->ns;
+    info->muted_end = ax->ns;
     return TZ_OK;
   }
-  const nmo_top_mute *m = mute;
+  /* The top mute of this trace as a one-point polyline: the later of the mute
+   * and the first recorded sample (live_lo). */
+  double taper = set ? ms->taper_ms : mute && mute->n ? mute->taper_ms : 0;
+  double tm = set ? mtm.top_ms : mute && mute->n ? nmo_top_mute_seconds(mute, offset_m) * 1e3
+                                                 : -INFINITY;
   if (live_lo > 0) {
     double t_ms = (ax->t_first_s + (double)live_lo * ax->dt_s) * 1e3;
-    double tm = mute && mute->n ? nmo_top_mute_seconds(mute, offset_m) * 1e3 : -INFINITY;
-    double off0 = 0, tt = tm > t_ms ? tm : t_ms;
-    int rc = nmo_top_mute_set(scratch, &off0, &tt, 1, mute && mute->n ? mute->taper_ms : 0, err);
+    tm = tm > t_ms ? tm : t_ms;
+  }
+  const nmo_top_mute *m = NULL;
+  if (!set && live_lo == 0) {
+    m = mute;   /* the polyline itself, as nmo_apply evaluates it */
+  } else if (tm > -INFINITY) {
+    double off0 = 0;
+    int rc = nmo_top_mute_set(scratch, &off0, &tm, 1, taper, err);
     if (rc)
       return rc;
     m = scratch;
@@ -351,10 +366,18 @@ int stack_nmo_trace(nmo_workspace *ws, const nmo_params *np, const nmo_top_mute 
   nmo_axis a = *ax;
   a.ns = live_hi;
   int rc = nmo_apply(ws, np, m, &a, offset_m, in, vel, eta, out, w, info, err);
-  if (!rc && info && live_hi < ax->ns) {
+  if (rc)
+    return rc;
+  if (set) {   /* bottom first, then the cone inside what is left (no double count) */
+    if (isfinite(mtm.bottom_ms))
+      nmo_band_mute(ws, &a, mtm.bottom_ms * 1e-3, INFINITY, taper * 1e-3, out, w, info);
+    nmo_band_mute(ws, &a, mtm.inner_from_ms * 1e-3, mtm.inner_to_ms * 1e-3, taper * 1e-3, out,
+                  w, info);
+  }
+  if (live_hi < ax->ns) {
     info->muted_end += ax->ns - live_hi;
     if (!info->live)
       info->first_live = info->end_live = ax->ns;
   }
-  return rc;
+  return TZ_OK;
 }

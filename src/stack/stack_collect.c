@@ -445,7 +445,10 @@ int stack_write_nmo_gathers(const stack_plan *p, const stack_gathers *G, const s
       continue;
     velocity_sample(o->velocity, g->cmp, G->axis.t_first_s, G->axis.dt_s, ns, vel, eta);
     for (size_t k = 0; k < g->ntraces && !rc; k++) {
-      rc = stack_nmo_trace(ws, &o->nmo, o->mute.n ? &o->mute : NULL, &G->axis, g->offset_m[k],
+      mute_trace mt = { g->cmp, g->headers[k].field_record, g->headers[k].channel,
+                        g->offset_signed_m[k], g->static_ms[k] };
+      rc = stack_nmo_trace(ws, &o->nmo, o->mute.n ? &o->mute : NULL, o->mutes, &mt, &G->axis,
+                           g->offset_m[k],
                            g->samples + k * ns, vel, use_eta ? eta : NULL, g->live_lo[k],
                            g->live_hi[k], out, NULL, NULL, &tm, err);
       if (rc)

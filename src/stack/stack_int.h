@@ -9,6 +9,7 @@
 #include "tzero/survey.h"
 #include "tzero/edits.h"
 #include "tzero/statics.h"
+#include "tzero/mute.h"
 
 /* A shot file's field records: runs of consecutive traces with the same field
  * record number (bytes 9-12), at most STACK_MAX_RECORD_TRACES each (a longer run
@@ -187,10 +188,14 @@ int16_t stack_time_scalar(const segy_trace_header *h);
 
 /* NMO of one trace after the chain: as nmo_apply, but samples outside
  * [live_lo, live_hi) (shifted in by a static) are not live: an input time
- * before live_lo is muted like a top mute (the later of it and `mute` at this
- * offset, with the mute's taper), and the trace ends at live_hi. `scratch`
- * holds the combined mute. */
+ * before live_lo is muted like a top mute (the later of it and the top mute at
+ * this offset, with the mute's taper), and the trace ends at live_hi. The mutes
+ * are those of `ms` evaluated for trace `mt` (mute_eval: top, inner cone and
+ * bottom, the inner and bottom by nmo_band_mute) when ms is not NULL, else the
+ * single top polyline `mute` (may be NULL). `scratch` holds the combined top
+ * mute. */
 int stack_nmo_trace(nmo_workspace *ws, const nmo_params *np, const nmo_top_mute *mute,
+                    const mute_set *ms, const mute_trace *mt,
                     const nmo_axis *ax, double offset_m, const float *in, const float *vel,
                     const float *eta, size_t live_lo, size_t live_hi, float *out, float *w,
                     nmo_trace_info *info, nmo_top_mute *scratch, tz_err *err);

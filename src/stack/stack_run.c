@@ -174,7 +174,7 @@ typedef struct worker {
   double st_min, st_max, st_sq;
   nmo_top_mute tm;           /* scratch: a static's dead zone as a top mute */
   int64_t bad_samples;       /* NaN/Inf/out-of-range samples the reader replaced by 0 */
-  int64_t muted_stretch, muted_top, muted_end, samples;
+  int64_t muted_stretch, muted_top, muted_end, muted_inner, muted_bottom, samples;
   stack_mute_class cls[STACK_MUTE_CLASSES];
   int32_t *hist;             /* SPAN_MAX: traces per CMP of the batch */
   int32_t own_lo, own_hi;    /* CMP indexes [own_lo, own_hi) owned in this batch */
@@ -197,6 +197,7 @@ struct run_shared {
   int32_t *fold;
   int64_t *live;
   int32_t *maxfirst;
+  int64_t *cmute;            /* ncmps * 3: samples muted by the top, inner, bottom mute */
   /* velocity cache */
   size_t cache_n;
   int32_t *tag;
@@ -223,6 +224,7 @@ int stack_run_opts_init(stack_run_opts *o, const stack_plan *p, const velocity_t
   double maxoff = p->line_offset_max_m;
   o->offset_class_m = maxoff / 8 >= 1 ? ceil(maxoff / 8) : 1;
   o->conditioning = p->job->conditioning.n ? &p->job->conditioning : NULL;
+  o->mutes = mute_set_active(p->job->mutes) ? p->job->mutes : NULL;
   return stack_plan_nmo(p, &o->nmo, &o->mute, err);
 }
 
@@ -430,7 +432,8 @@ static int stack_slice(worker *w, const batch *b)
     nmo_trace_info info;
     const float *in = b->in + j * sh->ns;    /* after the chain (chain_share) */
     const stack_tinfo *ti = &b->ti[j];
-    int rc = stack_nmo_trace(w->ws, &sh->o->nmo, mute, ax, b->boff[j], in, vel, eta, ti->live_lo,
+    mute_trace mt = { ti->cmp, ti->g.field_record, ti->g.channel, ti->off_signed, ti->static_ms };
+    int rc = stack_nmo_trace(w->ws, &sh->o->nmo, mute, sh->o->mutes, &mt, ax, b->boff[j], in, vel, eta, ti->live_lo,
                              ti->live_hi, w->out, w->w, &info, &w->tm, &w->err);
     if (rc) {
       tz_err_path(&w->err, sh->p->inputs[b->file].path);
@@ -443,11 +446,16 @@ static int stack_slice(worker *w, const batch *b)
     sh->live[ci] += (int64_t)info.live;
     if ((int32_t)info.first_live > sh->maxfirst[ci])
       sh->maxfirst[ci] = (int32_t)info.first_live;
+    sh->cmute[3 * (size_t)ci] += (int64_t)info.muted_top;
+    sh->cmute[3 * (size_t)ci + 1] += (int64_t)info.muted_inner;
+    sh->cmute[3 * (size_t)ci + 2] += (int64_t)info.muted_bottom;
     w->stacked++;
     w->samples += (int64_t)sh->ns;
     w->muted_stretch += (int64_t)info.muted_stretch;
     w->muted_top += (int64_t)info.muted_top;
     w->muted_end += (int64_t)info.muted_end;
+    w->muted_inner += (int64_t)info.muted_inner;
+    w->muted_bottom += (int64_t)info.muted_bottom;
     size_t k = (size_t)(b->boff[j] / sh->class_m);
     if (k >= sh->nclasses)
       k = sh->nclasses - 1;
@@ -457,6 +465,8 @@ static int stack_slice(worker *w, const batch *b)
     c->muted_stretch += (int64_t)info.muted_stretch;
     c->muted_top += (int64_t)info.muted_top;
     c->muted_end += (int64_t)info.muted_end;
+    c->muted_inner += (int64_t)info.muted_inner;
+    c->muted_bottom += (int64_t)info.muted_bottom;
   }
   return TZ_OK;
 }
@@ -620,6 +630,7 @@ static void free_shared(run_shared *sh)
   free(sh->fold);
   free(sh->live);
   free(sh->maxfirst);
+  free(sh->cmute);
   free(sh->tag);
   free(sh->cvel);
   free(sh->ceta);
@@ -681,6 +692,7 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
   sh.fold = zalloc_lines(sh.ncmps * sizeof *sh.fold);
   sh.live = zalloc_lines(sh.ncmps * sizeof *sh.live);
   sh.maxfirst = zalloc_lines(sh.ncmps * sizeof *sh.maxfirst);
+  sh.cmute = zalloc_lines(3 * sh.ncmps * sizeof *sh.cmute);
   sh.tag = malloc(sh.cache_n * sizeof *sh.tag);
   sh.cvel = big_alloc(sh.cache_n * sh.ns * sizeof *sh.cvel);
   sh.ceta = sh.use_eta ? big_alloc(sh.cache_n * sh.ns * sizeof *sh.ceta) : NULL;
@@ -695,7 +707,7 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
     bt_ok = bt_ok && b->in && b->ti && b->bidx && b->boff;
   }
   sh.wk = calloc((size_t)sh.T, sizeof *sh.wk);
-  if (!sh.sum || !sh.wsum || !sh.fold || !sh.live || !sh.maxfirst || !sh.tag || !sh.cvel ||
+  if (!sh.sum || !sh.wsum || !sh.fold || !sh.live || !sh.maxfirst || !sh.cmute || !sh.tag || !sh.cvel ||
       (sh.use_eta && !sh.ceta) || !bt_ok || !sh.wk) {
     free_shared(&sh);
     return tz_fail(err, TZ_E_NOMEM, "section of %zu CMPs x %zu samples", sh.ncmps, sh.ns);
@@ -817,6 +829,9 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
     r->full_fold_ms = sh.fold[c] && (size_t)sh.maxfirst[c] < sh.ns
                           ? (p->axis.t_first_s + sh.maxfirst[c] * p->axis.dt_s) * 1e3
                           : NAN;
+    r->muted_top = sh.cmute[3 * c];
+    r->muted_inner = sh.cmute[3 * c + 1];
+    r->muted_bottom = sh.cmute[3 * c + 2];
   }
   s->axis = p->axis;
   s->interval_us = p->interval_us;
@@ -890,12 +905,16 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
     s->muted_stretch += w->muted_stretch;
     s->muted_top += w->muted_top;
     s->muted_end += w->muted_end;
+    s->muted_inner += w->muted_inner;
+    s->muted_bottom += w->muted_bottom;
     for (size_t k = 0; k < sh.nclasses; k++) {
       s->classes[k].traces += w->cls[k].traces;
       s->classes[k].samples += w->cls[k].samples;
       s->classes[k].muted_stretch += w->cls[k].muted_stretch;
       s->classes[k].muted_top += w->cls[k].muted_top;
       s->classes[k].muted_end += w->cls[k].muted_end;
+      s->classes[k].muted_inner += w->cls[k].muted_inner;
+      s->classes[k].muted_bottom += w->cls[k].muted_bottom;
     }
   }
   for (size_t i = 0; i < p->ninputs; i++) {

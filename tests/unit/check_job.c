@@ -103,7 +103,7 @@ START_TEST(test_full_job)
       "          \"first_cmp\": 100},"
       " \"velocity\": \"vel.csv\","
       " \"moveout\": {\"stretch_limit_pct\": 40, \"interpolation\": \"sinc8\"},"
-      " \"mute\": {\"top\": [[250, 160], [0, 20]]},"
+      " \"mute\": {\"top\": [[0, 20], [250, 160]]},"
       " \"selection\": {\"cmp_first\": 120, \"cmp_last\": 300, \"offset_max_m\": 1200},"
       " \"output\": {\"section\": \"out/st.sgy\", \"report\": \"/abs/qc.json\"},"
       " \"threads\": 2, \"skip_bad_files\": true}";
@@ -120,7 +120,7 @@ START_TEST(test_full_job)
   ck_assert_int_eq(j->bins.first_cmp, 100);
   ck_assert_int_eq(j->interpolation, JOB_INTERP_SINC8);
   ck_assert_uint_eq(j->nmute, 2);
-  ck_assert_double_eq(j->mute_top[0].offset_m, 0);     /* sorted by offset */
+  ck_assert_double_eq(j->mute_top[0].offset_m, 0);
   ck_assert_double_eq(j->mute_top[1].time_ms, 160);
   ck_assert_int_eq(j->has_cmp_range, 1);
   ck_assert_double_eq(j->offset_max_m, 1200);
@@ -167,6 +167,31 @@ static const struct {
     "$.geometry.table: cannot open" },
   { "{\"shots\": [\"shots/*.sgy\"], \"mute\": {\"top\": [[0, 20], [100]]}}", TZ_E_JOB,
     "$.mute.top[1]: expected a pair" },
+  /* Mutes along the line (docs/job-file.md, "Mutes"): the path of the fault. */
+  { "{\"shots\": [\"shots/*.sgy\"], \"mute\": {\"top\": [[250, 160], [0, 20]]}}", TZ_E_JOB,
+    "$.mute.top: point 1: offset 0 m is not after 250 m (offsets must increase)" },
+  { "{\"shots\": [\"shots/*.sgy\"], \"mute\": {\"top\": {\"controls\": ["
+    "{\"cmp\": 200, \"polyline\": [[0, 20], [480, 260]]},"
+    "{\"cmp\": 100, \"polyline\": [[0, 30], [480, 280]]}]}}}", TZ_E_JOB,
+    "$.mute.top.controls[1]: CMP 100 is not after the previous control's CMP 200" },
+  { "{\"shots\": [\"shots/*.sgy\"], \"mute\": {\"bottom\": {\"controls\": ["
+    "{\"cmp\": 100, \"polyline\": [[0, 900], [480, 1100]]},"
+    "{\"cmp\": 200, \"polyline\": [[0, 900], [480, 1100], [300, 1200]]}]}}}", TZ_E_JOB,
+    "$.mute.bottom.controls[1].polyline: point 2: offset 300 m is not after 480 m" },
+  { "{\"shots\": [\"shots/*.sgy\"], \"mute\": {\"inner\": {\"controls\": ["
+    "{\"cmp\": 100, \"polyline\": [[0, 0, 100], [600, 1500, 1800]]},"
+    "{\"cmp\": 300, \"polyline\": [[0, 0, 100], [600, 1500, 1400]]}]}}}", TZ_E_JOB,
+    "$.mute.inner.controls[1].polyline: point 1: the cone is inverted at offset 600 m" },
+  { "{\"shots\": [\"shots/*.sgy\"], \"mute\": {\"inner\": [[0, 0], [600, 1500]]}}", TZ_E_JOB,
+    "$.mute.inner[0]: expected a triple [offset_m, time_ms, time_end_ms]" },
+  { "{\"shots\": [\"shots/*.sgy\"], \"mute\": {\"top\": [[0, 20]], \"top_file\": \"t.csv\"}}",
+    TZ_E_JOB, "$.mute.top_file: give either top or top_file, not both" },
+  { "{\"shots\": [\"shots/*.sgy\"], \"mute\": {\"top\": {\"control\": []}}}", TZ_E_JOB,
+    "$.mute.top.control: unknown key; did you mean \"controls\"?" },
+  { "{\"shots\": [\"shots/*.sgy\"], \"mute\": {\"top\": {\"after_first_break_ms\": 20}}}",
+    TZ_E_JOB, "$.mute.top.picks: required with after_first_break_ms" },
+  { "{\"shots\": [\"shots/*.sgy\"], \"mute\": {\"top_file\": \"none.csv\"}}", TZ_E_NOINPUT,
+    "$.mute.top_file: cannot open" },
   { "{\"shots\": [\"shots/*.sgy\"], \"threads\": 1.5}", TZ_E_JOB,
     "$.threads: expected an integer between 0 and 256, got 1.5" },
   { "{\"shots\": [\"shots/*.sgy\"], \"bins\": {\"size_m\": -1}}", TZ_E_JOB, "$.bins.size_m:" },

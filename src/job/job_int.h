@@ -1,0 +1,21 @@
+/* job_int.h -- helpers shared by the job module's files (job.c, job_mute.c).
+ * Private: never included by the front end. */
+#ifndef TZERO_JOB_INT_H
+#define TZERO_JOB_INT_H
+
+#include <cjson/cJSON.h>
+#include "tzero/job.h"
+
+/* dir + "/" + rel, unless rel is absolute or dir is empty. The caller owns the
+ * result (free()); NULL when out of memory. */
+char *job_path_resolve(const char *dir, const char *rel);
+/* TZ_E_NOINPUT naming `jpath` when `path` is not a readable regular file. */
+int job_need_file(const char *path, const char *jpath, tz_err *err);
+
+/* The "mute" object (job_mute.c): fills j->mutes, j->mute_form, j->mute_files and
+ * the single-polyline top (j->mute_top). Paths relative to dir. */
+int job_mute_parse(job_spec *j, const cJSON *v, const char *dir, tz_err *err);
+/* The resolved mutes into the "mute" object o of job_to_json(); 0 or -1 (memory). */
+int job_mute_to_json(const job_spec *j, cJSON *o);
+
+#endif
