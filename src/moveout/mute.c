@@ -3,8 +3,8 @@
  * Interpolation: the polyline of a control is linear in offset between its
  * points and constant outside them; between control CMPs the two neighbouring
  * polylines are evaluated at the trace's offset and blended linearly in CMP
- * number (constant beyond the first and last control), the rule DESIGN.md sets
- * for velocity tables. First-break picks are those of the picks file of
+ * number (constant beyond the first and last control), the rule of the velocity
+ * table (docs/velocity-table.md). First-break picks are those of the picks file of
  * `tzero firstbreaks` (read by firstbreak_picks_load); a trace without a pick
  * takes the straight line through its record's nearest picks on the same side
  * of the source in signed offset (extended along the end segment beyond the

@@ -3,7 +3,7 @@
 # block, and the errors that name the JSON path. The survey is written with segyio by
 # tests/xcheck/test_stack_segyio.py. Exit statuses are BSD sysexits(3): 65 data, 66 no
 # input. Sources: DEVELOPERS.md (bitwise identity for any thread count); the
-# interpolation rule of the velocity table (DESIGN.md) for controls; common practice
+# interpolation rule of the velocity table (docs/velocity-table.md) for controls; common practice
 # for the rest.
 . "$TOP/tests/e2e/lib.sh"
 D="$T/sv"

@@ -2,8 +2,8 @@
  *
  * Expected values are worked out by hand from the interpolation rule the
  * module documents (linear in offset between points, linear in CMP between
- * controls, constant beyond both: the rule DESIGN.md gives for velocity tables;
- * common practice for mutes). */
+ * controls, constant beyond both: the rule of the velocity table,
+ * docs/velocity-table.md; common practice for mutes). */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
