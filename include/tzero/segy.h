@@ -264,6 +264,17 @@ double segy_field_value(const segy_trace_header *h, size_t i);  /* decoded, scal
 
 #define SEGY_MAX_FIELDS 48
 #define SEGY_MAX_ANOMALIES 16
+#define SEGY_MAX_NOTED 64          /* all-zero and noisy traces listed by name (first ones) */
+#define SEGY_NOISY_RATIO 10.0      /* a trace is noisy above this x its record's median RMS */
+
+/* One trace singled out by segy_scan (0-based trace index, its record and
+ * channel, its trace identification code and RMS over its record's median). */
+typedef struct segy_trace_note {
+  int64_t trace;
+  int32_t field_record, channel;
+  int kind;
+  double rms, rms_ratio;
+} segy_trace_note;
 
 typedef struct segy_stats {
   int64_t traces;                  /* traces scanned */
@@ -286,6 +297,13 @@ typedef struct segy_stats {
   int64_t coords_zero;             /* traces with source and receiver x/y all 0 */
   int64_t offset_inconsistent;     /* offset 0 while source and receiver differ */
   int64_t angular_units;           /* coordinate units 2, 3 or 4 (not length) */
+  /* With samples: the all-zero traces and the noisy ones (RMS above
+   * SEGY_NOISY_RATIO x the median RMS of the live, not all-zero traces of the
+   * same record, a record being a run of traces with one field record number);
+   * the first SEGY_MAX_NOTED of each are listed, in file order. */
+  int64_t noisy;
+  int nzero_noted, nnoisy_noted;
+  segy_trace_note zero_noted[SEGY_MAX_NOTED], noisy_noted[SEGY_MAX_NOTED];
   /* Anomalies found (one short sentence each), most important first. */
   int nanomalies;
   char anomalies[SEGY_MAX_ANOMALIES][200];

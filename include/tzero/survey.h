@@ -3,12 +3,16 @@
  *
  * From a header pass (one survey_add() per trace, in file order) or from a
  * layout, survey_finish() gives the acquisition figures:
- *   receiver interval dg  median of the per-record medians of the distance
- *                         between consecutive channels, rounded to the
- *                         coordinates' precision (headers: cm, tables: mm);
+ *   receiver interval dg  median of the per-record medians of the along-line
+ *                         step between consecutive channels (each step
+ *                         projected on the record's own receiver line, the
+ *                         principal axis of its receiver positions, so GPS
+ *                         scatter across the line does not lengthen it);
  *   source interval ds    median distance between the sources of consecutive
- *                         records (moves under 5 mm are repeats, not moves),
- *                         rounded the same way;
+ *                         records (moves under 5 mm are repeats, not moves);
+ *                         both rounded to a round figure when within 0.5 % of
+ *                         one (survey_round_interval), else to the coordinates'
+ *                         precision (headers: cm, tables: mm);
  *   channels per record N median over the records of every channel recorded,
  *                         dead ones included (auxiliary traces are not channels);
  *   nominal fold          N dg / (2 ds), the roll-along fold of end-on and split
@@ -61,7 +65,32 @@ typedef struct survey_figures {
   int from_layout;              /* 1 = figures and line from the layout */
   int fitted;                   /* 1 = line fitted through the midpoints */
   bins_fit_report fit;          /* when fitted */
+  double receiver_step_median_m;  /* dg before rounding (0 when unknown or from a layout) */
+  double source_step_median_m;    /* ds before rounding */
+  size_t gaps;                  /* gaps in the shooting found (survey_gaps) */
+  int64_t shots_missing;        /* shots missing over all gaps */
 } survey_figures;
+
+/* A gap in the shooting between two consecutive records (in file order): the
+ * field record numbers skip a number, the source point numbers (bytes 17-20)
+ * skip a point, or the source moves by a whole multiple (>= 2) of the source
+ * interval along the line. */
+enum { SURVEY_GAP_RECORD = 1, SURVEY_GAP_POINT = 2, SURVEY_GAP_POSITION = 4 };
+typedef struct survey_gap {
+  size_t file_before, file_after;        /* input files (0-based) of the two records */
+  int32_t record_before, record_after;   /* field record numbers */
+  int32_t point_before, point_after;     /* source point numbers, 0 when not given */
+  double x_before_m, y_before_m;         /* sources of the two records */
+  double x_after_m, y_after_m;
+  double distance_m;                     /* along the line between the two sources */
+  int64_t missing;                       /* shots missing: the largest count of the three */
+  unsigned flags;                        /* SURVEY_GAP_*: which numbers show the gap */
+} survey_gap;
+
+/* A measured interval rounded to a round figure (a multiple of 10^e, 5 10^(e-1),
+ * 2.5 10^(e-1) or 10^(e-1), e = floor(log10 v), the first that fits) when it is
+ * within 0.5 % of one; otherwise v rounded to the precision q (> 0). */
+double survey_round_interval(double v, double q);
 
 typedef struct survey survey;
 
@@ -82,5 +111,8 @@ int survey_add(survey *s, size_t file, const segy_trace_header *h, const geometr
  * receiver interval and no bin size given is TZ_E_FORMAT. */
 int survey_finish(survey *s, geometry_source *src, bins_line **line, survey_figures *fig,
                   tz_err *err);
+/* The gaps found by survey_finish() (borrowed; valid until survey_free()). A
+ * layout's skipped shot points are not listed here (the layout says them). */
+const survey_gap *survey_gaps(const survey *s, size_t *n);
 
 #endif

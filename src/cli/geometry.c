@@ -362,6 +362,67 @@ static int write_fold_table(const run *r, const bins_fold *pred, const char *pat
   return fileio_commit(o, err);
 }
 
+/* "record number, source point" naming which numbers show a gap. */
+static void gap_kinds(unsigned f, char *out, size_t cap)
+{
+  snprintf(out, cap, "%s%s%s%s%s", f & SURVEY_GAP_RECORD ? "record number" : "",
+           (f & SURVEY_GAP_RECORD) && (f & (SURVEY_GAP_POINT | SURVEY_GAP_POSITION)) ? ", " : "",
+           f & SURVEY_GAP_POINT ? "source point" : "",
+           (f & SURVEY_GAP_POINT) && (f & SURVEY_GAP_POSITION) ? ", " : "",
+           f & SURVEY_GAP_POSITION ? "source position" : "");
+}
+
+static void print_gaps(const run *r, const survey_figures *fig)
+{
+  size_t n;
+  const survey_gap *g = survey_gaps(r->survey, &n);
+  if (!n) {
+    if (fig->records > 1 && !fig->from_layout)
+      printf("missing shots: none (record numbers, source points and source positions "
+             "step evenly)\n");
+    return;
+  }
+  printf("missing shots: %lld in %zu gaps\n", (long long)fig->shots_missing, n);
+  for (size_t i = 0; i < n; i++) {
+    char k[64];
+    gap_kinds(g[i].flags, k, sizeof k);
+    printf("  after record %d (source point %d at %.2f %.2f m) and before record %d (source "
+           "point %d, %.2f m along the line): %lld missing, seen in the %s\n",
+           (int)g[i].record_before, (int)g[i].point_before, g[i].x_before_m, g[i].y_before_m,
+           (int)g[i].record_after, (int)g[i].point_after, g[i].distance_m,
+           (long long)g[i].missing, k);
+  }
+}
+
+static cJSON *gaps_json(const run *r)
+{
+  size_t n;
+  const survey_gap *g = survey_gaps(r->survey, &n);
+  cJSON *a = cJSON_CreateArray();
+  for (size_t i = 0; a && i < n; i++) {
+    cJSON *e = cJSON_CreateObject();
+    if (!e)
+      break;
+    cJSON_AddNumberToObject(e, "record_before", g[i].record_before);
+    cJSON_AddNumberToObject(e, "record_after", g[i].record_after);
+    cJSON_AddNumberToObject(e, "source_point_before", g[i].point_before);
+    cJSON_AddNumberToObject(e, "source_point_after", g[i].point_after);
+    cJSON_AddNumberToObject(e, "source_x_before_m", g[i].x_before_m);
+    cJSON_AddNumberToObject(e, "source_y_before_m", g[i].y_before_m);
+    cJSON_AddNumberToObject(e, "source_x_after_m", g[i].x_after_m);
+    cJSON_AddNumberToObject(e, "source_y_after_m", g[i].y_after_m);
+    cJSON_AddNumberToObject(e, "distance_m", g[i].distance_m);
+    cJSON_AddNumberToObject(e, "missing", (double)g[i].missing);
+    cJSON_AddBoolToObject(e, "in_record_numbers", (g[i].flags & SURVEY_GAP_RECORD) != 0);
+    cJSON_AddBoolToObject(e, "in_source_points", (g[i].flags & SURVEY_GAP_POINT) != 0);
+    cJSON_AddBoolToObject(e, "in_source_positions", (g[i].flags & SURVEY_GAP_POSITION) != 0);
+    cJSON_AddStringToObject(e, "file_before", r->files[g[i].file_before]);
+    cJSON_AddStringToObject(e, "file_after", r->files[g[i].file_after]);
+    cJSON_AddItemToArray(a, e);
+  }
+  return a;
+}
+
 static cJSON *json_summary(const run *r, const bins_fold *pred, const char *kind,
                            const char *gfile, const survey_figures *fig)
 {
@@ -389,6 +450,13 @@ static cJSON *json_summary(const run *r, const bins_fold *pred, const char *kind
   }
   cJSON_AddNumberToObject(o, "receiver_interval_m", fig->receiver_interval_m);
   cJSON_AddNumberToObject(o, "source_interval_m", fig->source_interval_m);
+  if (fig->receiver_step_median_m > 0) {
+    cJSON_AddNumberToObject(o, "receiver_step_median_m", fig->receiver_step_median_m);
+    cJSON_AddNumberToObject(o, "source_step_median_m", fig->source_step_median_m);
+  }
+  cJSON *ms = cJSON_AddObjectToObject(o, "missing_shots");
+  cJSON_AddNumberToObject(ms, "count", (double)fig->shots_missing);
+  cJSON_AddItemToObject(ms, "gaps", gaps_json(r));
   cJSON_AddNumberToObject(o, "channels_per_record", fig->channels_per_record);
   cJSON_AddNumberToObject(o, "records", (double)fig->records);
   if (isfinite(fig->shooting_azimuth_deg))
@@ -486,12 +554,16 @@ static void print_text(const run *r, const bins_fold *pred, const char *kind,
            fig->fit.rms_off_line_m, fig->fit.max_off_line_m, fig->fit.length_m);
   printf("bin size %.3f m; receiver interval %.3f m; source interval %.3f m\n", p.size_m,
          fig->receiver_interval_m, fig->source_interval_m);
+  if (fig->receiver_step_median_m > 0)
+    printf("  measured: median along-line receiver step %.4f m, median source move %.4f m\n",
+           fig->receiver_step_median_m, fig->source_step_median_m);
   printf("%lld records, %.1f channels per record; shooting azimuth %.4f deg\n",
          (long long)fig->records, fig->channels_per_record, fig->shooting_azimuth_deg);
   printf("CMPs %d to %d (%lld with traces)\n", (int)s.first_cmp, (int)s.last_cmp,
          (long long)s.cmps_live);
   printf("fold: nominal %.2f, min %lld, max %lld, mean %.2f\n", fig->nominal_fold, (long long)s.min,
          (long long)s.max, s.mean);
+  print_gaps(r, fig);
   if (pred) {
     bins_fold_summary ps;
     bins_fold_summarise(pred, &ps);

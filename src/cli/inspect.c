@@ -40,7 +40,9 @@ static void help(void)
          "values with their byte positions, the detected revision, byte order and sample\n"
          "format, trace count, samples per trace, sample interval, record length, the\n"
          "range of the key trace header fields, field records and channels, dead\n"
-         "traces, amplitude minimum/maximum/RMS, NaN/Inf samples and anomalies.\n"
+         "traces, amplitude minimum/maximum/RMS, NaN/Inf samples, the all-zero\n"
+         "traces and those whose RMS is over 10 x their record's median (named by\n"
+         "trace, record and channel) and anomalies.\n"
          "A folder is read as its *.sgy and *.segy files: one line per file and a total.\n"
          "\n"
          "options:\n"
@@ -189,6 +191,47 @@ typedef struct total {
   int exit_status;
 } total;
 
+/* The traces segy_scan singled out (trace numbers 1-based, as printed everywhere). */
+static cJSON *notes_json(const segy_trace_note *t, int n)
+{
+  cJSON *a = cJSON_CreateArray();
+  for (int i = 0; a && i < n; i++) {
+    cJSON *e = cJSON_CreateObject();
+    if (!e)
+      break;
+    cJSON_AddNumberToObject(e, "trace", (double)t[i].trace + 1);
+    cJSON_AddNumberToObject(e, "field_record", t[i].field_record);
+    cJSON_AddNumberToObject(e, "channel", t[i].channel);
+    cJSON_AddNumberToObject(e, "trace_kind", t[i].kind);
+    if (t[i].rms_ratio > 0) {
+      cJSON_AddNumberToObject(e, "rms", t[i].rms);
+      cJSON_AddNumberToObject(e, "rms_over_record_median", t[i].rms_ratio);
+    }
+    cJSON_AddItemToArray(a, e);
+  }
+  return a;
+}
+
+static void print_notes(const char *what, int64_t count, const segy_trace_note *t, int n,
+                        int noisy)
+{
+  if (!count)
+    return;
+  printf("  %s: %lld", what, (long long)count);
+  if (noisy)
+    printf(" (RMS above %g x the record's median)", SEGY_NOISY_RATIO);
+  printf("%s\n", count > n ? ", the first listed:" : ":");
+  for (int i = 0; i < n; i++) {
+    printf("    trace %lld: record %d channel %d", (long long)t[i].trace + 1,
+           (int)t[i].field_record, (int)t[i].channel);
+    if (noisy)
+      printf(", RMS %.4g = %.1f x the record's median", t[i].rms, t[i].rms_ratio);
+    else if (t[i].kind == SEGY_KIND_DEAD)
+      printf(" (coded dead)");
+    printf("\n");
+  }
+}
+
 static void add_anomalies_json(cJSON *o, const segy_info *in, const segy_stats *st)
 {
   cJSON *a = cJSON_AddArrayToObject(o, "anomalies");
@@ -288,6 +331,10 @@ static cJSON *file_json(const char *path, const segy_info *in, const segy_stats 
       cJSON_AddNumberToObject(a, "max", st->amp_max);
       cJSON_AddNumberToObject(a, "rms", st->amp_rms);
       cJSON_AddNumberToObject(o, "nonfinite_samples", (double)st->bad_samples);
+      cJSON_AddItemToObject(o, "all_zero", notes_json(st->zero_noted, st->nzero_noted));
+      cJSON_AddNumberToObject(o, "noisy_traces", (double)st->noisy);
+      cJSON_AddNumberToObject(o, "noisy_rms_ratio", SEGY_NOISY_RATIO);
+      cJSON_AddItemToObject(o, "noisy", notes_json(st->noisy_noted, st->nnoisy_noted));
     }
     cJSON *r = cJSON_AddObjectToObject(o, "trace_header_ranges");
     for (size_t k = 0; k < segy_field_count() && k < SEGY_MAX_FIELDS; k++) {
@@ -350,6 +397,8 @@ static void print_text(const char *path, const segy_info *in, const segy_stats *
       printf("  amplitude: min %.7g, max %.7g, RMS %.7g\n", st->amp_min, st->amp_max,
              st->amp_rms);
       printf("  NaN/Inf samples: %lld\n", (long long)st->bad_samples);
+      print_notes("all-zero traces", st->all_zero, st->zero_noted, st->nzero_noted, 0);
+      print_notes("noisy traces", st->noisy, st->noisy_noted, st->nnoisy_noted, 1);
     }
   }
   printf("\ntextual header:\n");

@@ -16,9 +16,11 @@
 #include <string.h>
 
 typedef struct record {
-  double dg;            /* median receiver step (NAN when the record has none) */
+  double dg;            /* median along-line receiver step (NAN when the record has none) */
   double sx, sy;        /* source of the first channel */
   double channels;
+  size_t file;
+  int32_t field_record, source_point;
 } record;
 
 struct survey {
@@ -29,8 +31,13 @@ struct survey {
   bins_fitter *fit;               /* NULL unless the line is fitted */
   record *rec;
   size_t nrec, caprec;
-  double *steps;                  /* receiver steps of the current record */
+  double *steps;                  /* receiver steps (dx, dy) of the current record */
   size_t nsteps, capsteps;
+  double rx0, ry0;                /* the current record's first receiver */
+  double mx, my, mxx, mxy, myy;   /* moments of its receivers about rx0, ry0 */
+  double nrcv;
+  survey_gap *gaps;
+  size_t ngaps;
   int open;                       /* a record is open */
   size_t file;
   int32_t field_record;
@@ -97,17 +104,33 @@ void survey_free(survey *s)
   free(s->node_y);
   free(s->rec);
   free(s->steps);
+  free(s->gaps);
   free(s);
 }
 
 int survey_wants_traces(const survey *s) { return s->layout == NULL; }
 
+/* The record's receiver line is the principal axis of its receiver positions
+ * (orthogonal least squares); each channel step is projected on it, so scatter
+ * across the line does not lengthen the steps (hypot(5, 0.4) = 5.016). */
 static void close_record(survey *s)
 {
-  if (s->open)
-    s->rec[s->nrec - 1].dg = median(s->steps, s->nsteps);
+  if (s->open) {
+    double n = s->nrcv > 0 ? s->nrcv : 1;
+    double cxx = s->mxx - s->mx * s->mx / n, cyy = s->myy - s->my * s->my / n;
+    double cxy = s->mxy - s->mx * s->my / n;
+    double th = 0.5 * atan2(2 * cxy, cxx - cyy), ux = cos(th), uy = sin(th);
+    size_t k = 0;
+    for (size_t i = 0; i < s->nsteps; i++) {
+      double a = fabs(s->steps[2 * i] * ux + s->steps[2 * i + 1] * uy);
+      if (a >= SURVEY_REPEAT_M)
+        s->steps[k++] = a;
+    }
+    s->rec[s->nrec - 1].dg = median(s->steps, k);
+  }
   s->open = 0;
   s->nsteps = 0;
+  s->mx = s->my = s->mxx = s->mxy = s->myy = s->nrcv = 0;
 }
 
 static int open_record(survey *s, size_t file, const geometry_trace *g, tz_err *err)
@@ -128,7 +151,12 @@ static int open_record(survey *s, size_t file, const geometry_trace *g, tz_err *
   r->sx = g->source_x;
   r->sy = g->source_y;
   r->channels = 0;
+  r->file = file;
+  r->field_record = g->field_record;
+  r->source_point = 0;
   s->open = 1;
+  s->rx0 = g->receiver_x;
+  s->ry0 = g->receiver_y;
   s->file = file;
   s->field_record = g->field_record;
   return TZ_OK;
@@ -144,19 +172,31 @@ int survey_add(survey *s, size_t file, const segy_trace_header *h, const geometr
   if (!s->open || file != s->file || g->field_record != s->field_record) {
     if ((rc = open_record(s, file, g, err)))
       return rc;
+    s->rec[s->nrec - 1].source_point = h->source_point;
   } else {
-    double d = hypot(g->receiver_x - s->prx, g->receiver_y - s->pry);
-    if (d >= SURVEY_REPEAT_M) {
+    double dx = g->receiver_x - s->prx, dy = g->receiver_y - s->pry;
+    if (hypot(dx, dy) >= SURVEY_REPEAT_M) {
       if (s->nsteps == s->capsteps) {
         size_t nc = s->capsteps ? s->capsteps * 2 : 256;
-        double *v = realloc(s->steps, nc * sizeof *v);
+        double *v = realloc(s->steps, 2 * nc * sizeof *v);
         if (!v)
           return tz_fail(err, TZ_E_NOMEM, "receiver steps");
         s->steps = v;
         s->capsteps = nc;
       }
-      s->steps[s->nsteps++] = d;
+      s->steps[2 * s->nsteps] = dx;
+      s->steps[2 * s->nsteps + 1] = dy;
+      s->nsteps++;
     }
+  }
+  {
+    double x = g->receiver_x - s->rx0, y = g->receiver_y - s->ry0;
+    s->mx += x;
+    s->my += y;
+    s->mxx += x * x;
+    s->mxy += x * y;
+    s->myy += y * y;
+    s->nrcv += 1;
   }
   s->rec[s->nrec - 1].channels++;
   s->prx = g->receiver_x;
@@ -175,6 +215,20 @@ static double to_precision(double v, double q)
   return isfinite(v) ? round(v / q) * q : 0;
 }
 
+double survey_round_interval(double v, double q)
+{
+  if (!(v > 0) || !isfinite(v))
+    return to_precision(v, q);
+  double p = pow(10.0, floor(log10(v)));
+  const double steps[] = { p, 0.5 * p, 0.25 * p, 0.1 * p };
+  for (size_t i = 0; i < sizeof steps / sizeof steps[0]; i++) {
+    double r = round(v / steps[i]) * steps[i];
+    if (r > 0 && fabs(v - r) <= 0.005 * r)
+      return r;
+  }
+  return to_precision(v, q);
+}
+
 /* dg, ds and N from the records. */
 static int header_figures(survey *s, survey_figures *fig, tz_err *err)
 {
@@ -188,14 +242,16 @@ static int header_figures(survey *s, survey_figures *fig, tz_err *err)
     return tz_fail(err, TZ_E_NOMEM, "survey figures");
   for (size_t i = 0; i < s->nrec; i++)
     v[i] = s->rec[i].dg;
-  fig->receiver_interval_m = to_precision(median(v, s->nrec), q);
+  fig->receiver_step_median_m = to_precision(median(v, s->nrec), q * 0.1);
+  fig->receiver_interval_m = survey_round_interval(fig->receiver_step_median_m, q);
   size_t k = 0;
   for (size_t i = 1; i < s->nrec; i++) {
     double d = hypot(s->rec[i].sx - s->rec[i - 1].sx, s->rec[i].sy - s->rec[i - 1].sy);
     if (d >= SURVEY_REPEAT_M)
       v[k++] = d;
   }
-  fig->source_interval_m = to_precision(median(v, k), q);
+  fig->source_step_median_m = to_precision(median(v, k), q * 0.1);
+  fig->source_interval_m = survey_round_interval(fig->source_step_median_m, q);
   for (size_t i = 0; i < s->nrec; i++)
     v[i] = s->rec[i].channels;
   fig->channels_per_record = median(v, s->nrec);
@@ -213,6 +269,90 @@ static void layout_figures(const geometry_layout *l, survey_figures *fig)
   fig->nominal_fold = geometry_layout_nominal_fold(l);
   fig->records = (int64_t)geometry_layout_shots(l);
   fig->from_layout = 1;
+}
+
+/* Median of |v[i+1] - v[i]| over the steps that are not 0 (repeats). */
+static double median_step(const record *r, size_t n, int points, double *tmp)
+{
+  size_t k = 0;
+  for (size_t i = 1; i < n; i++) {
+    double d = points ? (double)r[i].source_point - r[i - 1].source_point
+                      : (double)r[i].field_record - r[i - 1].field_record;
+    if (d != 0)
+      tmp[k++] = fabs(d);
+  }
+  return median(tmp, k);
+}
+
+/* How many whole steps are missing in a move of d (d / step - 1 when d is a
+ * whole multiple, >= 2, of step within tol of a step), else 0. */
+static int64_t missing_steps(double d, double step, double tol)
+{
+  if (!(step > 0) || !(d > 1.5 * step) || !isfinite(d / step) || d / step > 1e9)
+    return 0;
+  double k = round(d / step);
+  return fabs(d - k * step) <= tol * step ? (int64_t)k - 1 : 0;
+}
+
+/* Gaps in the shooting (survey_gap): consecutive records whose field record
+ * numbers, source point numbers or source positions along the line skip one
+ * or more whole steps of their usual (median) step. Positions allow a quarter
+ * of the source interval of scatter. */
+static int find_gaps(survey *s, const bins_line *line, const survey_figures *fig, tz_err *err)
+{
+  if (s->nrec < 2)
+    return TZ_OK;
+  double *tmp = malloc(s->nrec * sizeof *tmp);
+  if (!tmp)
+    return tz_fail(err, TZ_E_NOMEM, "survey gaps");
+  double rstep = median_step(s->rec, s->nrec, 0, tmp);
+  double pstep = median_step(s->rec, s->nrec, 1, tmp);
+  free(tmp);
+  double ds = fig->source_interval_m;
+  int rc = TZ_OK;
+  size_t cap = 0;
+  bins_loc a, b;
+  bins_locate(line, s->rec[0].sx, s->rec[0].sy, &a);
+  for (size_t i = 1; i < s->nrec && !rc; i++, a = b) {
+    const record *p = &s->rec[i - 1], *q = &s->rec[i];
+    bins_locate(line, q->sx, q->sy, &b);
+    double along = b.along_m - a.along_m;     /* along the line (or polyline) */
+    int64_t mr = missing_steps((double)q->field_record - p->field_record, rstep, 1e-9);
+    int64_t mp = p->source_point && q->source_point
+                     ? missing_steps(fabs((double)q->source_point - p->source_point), pstep, 1e-9)
+                     : 0;
+    int64_t mx = missing_steps(fabs(along), ds, 0.25);
+    if (!mr && !mp && !mx)
+      continue;
+    if (s->ngaps == cap) {
+      size_t nc = cap ? 2 * cap : 16;
+      survey_gap *g = realloc(s->gaps, nc * sizeof *g);
+      if (!g) {
+        rc = tz_fail(err, TZ_E_NOMEM, "survey gaps");
+        break;
+      }
+      s->gaps = g;
+      cap = nc;
+    }
+    survey_gap *g = &s->gaps[s->ngaps++];
+    g->file_before = p->file;
+    g->file_after = q->file;
+    g->record_before = p->field_record;
+    g->record_after = q->field_record;
+    g->point_before = p->source_point;
+    g->point_after = q->source_point;
+    g->x_before_m = p->sx;
+    g->y_before_m = p->sy;
+    g->x_after_m = q->sx;
+    g->y_after_m = q->sy;
+    g->distance_m = fabs(along);
+    g->flags = (mr ? SURVEY_GAP_RECORD : 0u) | (mp ? SURVEY_GAP_POINT : 0u) |
+               (mx ? SURVEY_GAP_POSITION : 0u);
+    g->missing = mr > mp ? mr : mp;
+    if (mx > g->missing)
+      g->missing = mx;
+  }
+  return rc;
 }
 
 static int make_line(survey *s, double size, bins_line **line, survey_figures *fig, tz_err *err)
@@ -272,5 +412,16 @@ int survey_finish(survey *s, geometry_source *src, bins_line **line, survey_figu
   }
   fig->shooting_azimuth_deg = dir;
   geometry_source_set_direction(src, dir);
+  if ((rc = find_gaps(s, *line, fig, err)))
+    return rc;
+  fig->gaps = s->ngaps;
+  for (size_t i = 0; i < s->ngaps; i++)
+    fig->shots_missing += s->gaps[i].missing;
   return TZ_OK;
+}
+
+const survey_gap *survey_gaps(const survey *s, size_t *n)
+{
+  *n = s->ngaps;
+  return s->gaps;
 }

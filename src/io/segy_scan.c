@@ -60,6 +60,42 @@ static int64_t distinct(int32_t *v, int64_t n, int64_t *run_min, int64_t *run_ma
   return d;
 }
 
+static int cmp_double(const void *a, const void *b)
+{
+  double x = *(const double *)a, y = *(const double *)b;
+  return (x > y) - (x < y);
+}
+
+/* Noisy traces: RMS above SEGY_NOISY_RATIO x the median RMS of their record's
+ * live traces that are not all zero (a record is a run of one field record
+ * number). Reorders nothing but a scratch copy; rms[] itself is kept. */
+static void note_noisy(segy_stats *st, const int32_t *rec, const int32_t *chan,
+                       const double *rms, const int *kinds, int64_t n)
+{
+  double *v = malloc((size_t)(n ? n : 1) * sizeof *v);
+  if (!v)
+    return;   /* the listing is advisory; the counts above stand */
+  for (int64_t a = 0, b; a < n; a = b) {
+    size_t k = 0;
+    for (b = a; b < n && rec[b] == rec[a]; b++)
+      if (rms[b] > 0 && kinds[b] != SEGY_KIND_DEAD && kinds[b] != SEGY_KIND_DUMMY)
+        v[k++] = rms[b];
+    if (k < 3)
+      continue;
+    qsort(v, k, sizeof *v, cmp_double);
+    double med = k % 2 ? v[k / 2] : 0.5 * (v[k / 2 - 1] + v[k / 2]);
+    for (int64_t i = a; i < b; i++) {
+      if (!(med > 0) || !(rms[i] > SEGY_NOISY_RATIO * med))
+        continue;
+      st->noisy++;
+      if (st->nnoisy_noted < SEGY_MAX_NOTED)
+        st->noisy_noted[st->nnoisy_noted++] =
+            (segy_trace_note){ i, rec[i], chan[i], kinds[i], rms[i], rms[i] / med };
+    }
+  }
+  free(v);
+}
+
 int segy_scan(segy_file *f, int with_samples, segy_stats *st, tz_err *err)
 {
   const segy_info *in = segy_get_info(f);
@@ -70,8 +106,10 @@ int segy_scan(segy_file *f, int with_samples, segy_stats *st, tz_err *err)
   int32_t *rec = malloc((size_t)(n ? n : 1) * sizeof *rec);
   int32_t *chan = malloc((size_t)(n ? n : 1) * sizeof *chan);
   float *s = with_samples ? malloc((size_t)in->samples * sizeof *s) : NULL;
+  double *rms = with_samples ? malloc((size_t)(n ? n : 1) * sizeof *rms) : NULL;
+  int *kinds = with_samples ? malloc((size_t)(n ? n : 1) * sizeof *kinds) : NULL;
   int rc = TZ_OK;
-  if (!rec || !chan || (with_samples && !s)) {
+  if (!rec || !chan || (with_samples && (!s || !rms || !kinds))) {
     rc = tz_fail(err, TZ_E_NOMEM, "scan buffers for %lld traces", (long long)n);
     goto done;
   }
@@ -131,17 +169,24 @@ int segy_scan(segy_file *f, int with_samples, segy_stats *st, tz_err *err)
         }
     if (with_samples) {
       int zero = 1;
+      double tsq = 0;
       for (uint32_t k = 0; k < h.samples; k++) {
         double v = s[k];
-        sumsq += v * v;
+        tsq += v * v;
         if (v < st->amp_min)
           st->amp_min = v;
         if (v > st->amp_max)
           st->amp_max = v;
         zero &= v == 0;
       }
+      sumsq += tsq;
       nsamp += h.samples;
       st->all_zero += zero;
+      rms[i] = h.samples ? sqrt(tsq / h.samples) : 0;
+      kinds[i] = h.kind;
+      if (zero && h.samples && st->nzero_noted < SEGY_MAX_NOTED)
+        st->zero_noted[st->nzero_noted++] =
+            (segy_trace_note){ i, h.field_record, h.channel, h.kind, 0, 0 };
       if (in->format_code == 1 && i < 1000) {
         const unsigned char *p = segy_last_sample_bytes(f);
         for (uint32_t k = 0; k < h.samples; k++, p += 4) {
@@ -157,6 +202,8 @@ int segy_scan(segy_file *f, int with_samples, segy_stats *st, tz_err *err)
     st->amp_min = st->amp_max = 0;
   st->amp_rms = nsamp ? sqrt(sumsq / (double)nsamp) : 0;
   st->bad_samples = segy_bad_samples(f) - bad0;
+  if (with_samples)    /* before distinct() sorts rec and chan */
+    note_noisy(st, rec, chan, rms, kinds, n);
   st->field_records = distinct(rec, n, &st->traces_per_record_min, &st->traces_per_record_max);
   st->channels = distinct(chan, n, NULL, NULL);
 
@@ -193,6 +240,9 @@ int segy_scan(segy_file *f, int with_samples, segy_stats *st, tz_err *err)
             (long long)st->bad_samples);
   if (with_samples && st->all_zero && st->all_zero > st->dead)
     anomaly(st, "%lld traces hold only zero samples", (long long)st->all_zero);
+  if (st->noisy)
+    anomaly(st, "%lld traces have an RMS amplitude more than %g times their record's median",
+            (long long)st->noisy, SEGY_NOISY_RATIO);
   if (rev0_private)
     anomaly(st, "rev 0 file with data in trace header bytes 181-240: not standard, not "
                 "trusted");
@@ -207,5 +257,7 @@ done:
   free(rec);
   free(chan);
   free(s);
+  free(rms);
+  free(kinds);
   return rc;
 }
