@@ -94,6 +94,7 @@ PREFIX_LIST = \
   bins \
   compare \
   condition \
+  deliver \
   digest \
   edits \
   fileio \

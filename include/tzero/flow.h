@@ -40,7 +40,12 @@ void flow_setup_free(flow_setup *s);     /* frees the members; NULL members are 
  * the QC report; its strings are borrowed from the job. A job without
  * output.migrated does nothing. */
 struct qc_migration;
-int flow_migrate(const job_spec *job, const velocity_table *velocity, int threads,
+struct deliver_steps;
+struct deliver_run;
+/* The textual header lists `steps` (the sequence up to the section; may be NULL)
+ * and the migration (deliver_section_text); `plan` may be NULL. */
+int flow_migrate(const job_spec *job, const stack_plan *plan, const velocity_table *velocity,
+                 int threads, const struct deliver_steps *steps, const struct deliver_run *run,
                  struct qc_migration *out, tz_err *err);
 
 #endif

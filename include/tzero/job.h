@@ -147,6 +147,18 @@ typedef struct job_spec {
   } migration;
   char *migrated;             /* "output.migrated": migrated section path; NULL = none */
 
+  /* What the interpreter receives (docs/deliverables.md): strings for the textual
+   * header and the history, and two more outputs. NULL = not given. */
+  char *client, *contractor;  /* "client", "contractor" */
+  char *crs;                  /* "crs": the coordinates' reference system as the user
+                               * states it (e.g. "EPSG:32633"); never transformed */
+  int polarity;               /* "polarity": SEG-Y rev 1 code of bytes 3257-3258, 1 =
+                               * "negative" (a pressure increase or upward case motion
+                               * is recorded as a negative number), 2 = "positive";
+                               * 0 = not given */
+  char *navigation;           /* "output.navigation": CMP navigation CSV */
+  char *history;              /* "output.history": processing history (markdown) */
+
   int threads;                /* 0 = the machine's online cores */
   int skip_bad_files;         /* 0 = a missing or corrupt shot file stops the run */
 } job_spec;

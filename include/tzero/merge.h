@@ -9,7 +9,8 @@
  * writes the joined section and report with the same code as `tzero stack`.
  * Every CMP of a stack depends on its own traces only, so the joined section is
  * bitwise identical to a run over the whole line, and the joined report equal to
- * its report except for timing and the creation date.
+ * its report except for timing and the creation date (and the section's textual
+ * header gives the date of the merge).
  */
 #ifndef TZERO_MERGE_H
 #define TZERO_MERGE_H
@@ -17,6 +18,8 @@
 #include <stddef.h>
 #include <stdint.h>
 #include "tzero/error.h"
+
+struct deliver_run;
 
 #define MERGE_MAX_PARTS 100000u     /* parts one merge accepts */
 
@@ -26,6 +29,8 @@ typedef struct merge_opts {
   const char *section;            /* joined section (required) */
   const char *report;             /* joined QC report (NULL = none) */
   const char *tool_version;       /* recorded in the report; may be NULL */
+  const struct deliver_run *run;  /* version and date for the textual header (deliver.h);
+                                   * may be NULL */
 } merge_opts;
 
 typedef struct merge_result {

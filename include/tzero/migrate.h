@@ -48,6 +48,7 @@ typedef struct migrate_section {
   double dt_s, t0_s;              /* sample interval, time of the first sample */
   uint32_t interval_us;
   int format_code;                /* of the file (the output keeps it) */
+  int16_t polarity;               /* binary header 3257-3258 of the file (kept too) */
   int32_t cmp_step;               /* CMP numbers advance by multiples of this */
   double cmp_interval_m;          /* distance between consecutive CMP numbers */
   int interval_from_headers;      /* 1 = from the CMP X/Y, 0 = given */

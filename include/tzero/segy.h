@@ -217,6 +217,8 @@ typedef struct segy_writer_opts {
   int16_t traces_per_ensemble; /* 3213-3214 */
   int16_t measurement_system;  /* 1 metres (default when 0), 2 feet */
   int32_t line_no;             /* 3205-3208 */
+  int16_t polarity;            /* 3257-3258 impulse polarity: 1 a pressure increase or
+                                * upward case motion is negative, 2 positive, 0 unknown */
   const char *text;          /* card text, lines separated by '\n', at most 38 lines of
                               * 76 characters; tzero adds "C nn " prefixes, the
                               * revision card 39 and the end card 40. NULL = minimal. */

@@ -273,6 +273,10 @@ typedef struct stack_section {
 int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out, tz_err *err);
 void stack_section_free(stack_section *s);   /* NULL is a no-op */
 
+/* The trace header of the section's trace c (0-based): what stack_section_write
+ * writes (below) and the navigation file lists. */
+void stack_section_header(const stack_section *s, const stack_plan *p, size_t c,
+                          segy_trace_header *out);
 /* Writes the section as SEG-Y rev 1 (docs/tzero-stack.1): one trace per CMP in
  * CMP order; CMP number (21-24), CMP X/Y (181-188) with coordinate scalar
  * (71-72), fold (33-34), trace kind 1 (2 for zero fold), offset 0, the field
@@ -280,10 +284,11 @@ void stack_section_free(stack_section *s);   /* NULL is a no-op */
  * scalar 1 when the inputs carry no shot points), the surface elevation at the
  * CMP (41-48) and, with statics, the datum (53-60), elevation scalar (69-70)
  * -100 (stack_plan_cmp_surface; docs/section.md); binary header sorting code 4,
- * ensemble fold = nominal fold. format_code 5 or 1.
+ * ensemble fold = nominal fold, impulse polarity code `polarity` (3257-3258).
+ * format_code 5 or 1. `text`: cards 1-38 (deliver_section_text).
  * Written under a temporary name, renamed on success. */
 int stack_section_write(const stack_section *s, const stack_plan *p, const char *path,
-                        int format_code, tz_err *err);
+                        int format_code, const char *text, int16_t polarity, tz_err *err);
 
 /* ---- gathers of chosen CMPs ---- */
 

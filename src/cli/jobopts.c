@@ -2,11 +2,13 @@
 #include "jobopts.h"
 
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 #include <time.h>
 #include <unistd.h>
 
 #include "cli.h"
+#include "tzero/deliver.h"
 
 int cli_job_option(const char *cmd, int c, const char *arg, job_overrides *ov)
 {
@@ -45,6 +47,19 @@ int cli_job_option(const char *cmd, int c, const char *arg, job_overrides *ov)
   default:
     return 0;
   }
+}
+
+void cli_run_init(deliver_run *r, int argc, char **argv)
+{
+  r->version = TZERO_VERSION;
+  r->time_s = (int64_t)time(NULL);
+  const char *e = getenv("SOURCE_DATE_EPOCH");
+  long long v;
+  char *end;
+  if (e && *e && (v = strtoll(e, &end, 10), !*end) && v >= 0)
+    r->time_s = v;
+  r->argc = argc;
+  r->argv = argv;
 }
 
 double cli_now_s(void)

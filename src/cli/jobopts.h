@@ -38,5 +38,10 @@ void cli_progress_init(cli_progress *p, const char *what, int quiet);
 void cli_progress_show(void *ctx, int64_t done, int64_t total);  /* stack_progress_fn */
 void cli_progress_end(cli_progress *p);                          /* clears the line */
 double cli_now_s(void);
+/* The run for the deliverables (deliver.h): tzero's version, the date (the
+ * SOURCE_DATE_EPOCH environment variable when set, as reproducible builds use
+ * it, else now) and the command line. */
+struct deliver_run;
+void cli_run_init(struct deliver_run *r, int argc, char **argv);
 
 #endif

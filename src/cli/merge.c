@@ -10,6 +10,8 @@
 #include <cjson/cJSON.h>
 
 #include "cli.h"
+#include "jobopts.h"
+#include "tzero/deliver.h"
 #include "tzero/merge.h"
 
 static void help(void)
@@ -50,7 +52,9 @@ int cmd_merge(int argc, char **argv)
     { "help", no_argument, NULL, 'h' },
     { NULL, 0, NULL, 0 },
   };
-  merge_opts mo = { .tool_version = TZERO_VERSION };
+  deliver_run run;
+  cli_run_init(&run, argc, argv);
+  merge_opts mo = { .tool_version = TZERO_VERSION, .run = &run };
   int json = 0, quiet = 0, c;
   cli_opt_begin();
   while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {

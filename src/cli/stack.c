@@ -13,6 +13,7 @@
 
 #include "cli.h"
 #include "jobopts.h"
+#include "tzero/deliver.h"
 #include "tzero/fileio.h"
 #include "tzero/limits.h"
 #include "tzero/page.h"
@@ -244,7 +245,8 @@ int cmd_stack(int argc, char **argv)
   tz_err_init(&e);
   flow_setup su;
   stack_section *sec = NULL;
-  char *report = NULL;
+  deliver_steps *steps = NULL;
+  char *report = NULL, *page = NULL;
   fileio_out *rep_out = NULL;
   cli_progress pg;
   cli_progress_init(&pg, "header pass", quiet || json);
@@ -287,11 +289,27 @@ int cmd_stack(int argc, char **argv)
   if (rc)
     goto done;
   double t_run = cli_now_s();
-  if ((rc = stack_section_write(sec, su.plan, job->section, job->sample_format, &e)))
+  deliver_run run;
+  cli_run_init(&run, argc, argv);
+  if (!(steps = malloc(sizeof *steps))) {
+    rc = tz_fail(&e, TZ_E_NOMEM, "processing steps");
+    goto done;
+  }
+  deliver_steps_init(steps);
+  if ((rc = deliver_steps_job(steps, job, &e)))
+    goto done;
+  char text[DELIVER_TEXT_BYTES];
+  deliver_section_text(job, su.plan, sec->first_cmp, sec->first_cmp + (int32_t)sec->ncmps - 1,
+                       "stacked section", steps, &run, text, sizeof text);
+  if ((rc = stack_section_write(sec, su.plan, job->section, job->sample_format, text,
+                                deliver_polarity_code(job), &e)))
+    goto done;
+  if (job->navigation && (rc = deliver_navigation_write(sec, su.plan, job->navigation, &e)))
     goto done;
   double t_write = cli_now_s();
   qc_migration mig;
-  if (job->migrated && (rc = flow_migrate(job, su.velocity, job->threads, &mig, &e)))
+  if (job->migrated &&
+      (rc = flow_migrate(job, su.plan, su.velocity, job->threads, steps, &run, &mig, &e)))
     goto done;
   qc_build_args qa = {
     .job = job, .plan = su.plan, .section = sec, .velocity = su.velocity,
@@ -319,6 +337,23 @@ int cmd_stack(int argc, char **argv)
   }
   if (job->report && !job->no_html && (rc = write_page(job, &e)))
     goto done;
+  if (job->history) {
+    const char *outs[6] = { job->section, NULL, NULL, NULL, NULL, NULL };
+    size_t no = 1;
+    if (job->report)
+      outs[no++] = job->report;
+    if (job->report && !job->no_html && !job->html &&
+        (rc = page_path_for_report(job->report, &page, &e)))
+      goto done;
+    if (job->report && !job->no_html)
+      outs[no++] = job->html ? job->html : page;
+    if (job->migrated)
+      outs[no++] = job->migrated;
+    if (job->navigation)
+      outs[no++] = job->navigation;
+    if ((rc = deliver_history_write(job, report, steps, &run, outs, job->history, &e)))
+      goto done;
+  }
   if (depfile) {
     const char *targets[2] = { job->section, job->report };
     if ((rc = job_write_depfile(job, targets, job->report ? 2 : 1, depfile, &e)))
@@ -350,6 +385,8 @@ done:
     if (brief)
       print_brief_failure(jobpath, job->name, rc, &e, json);
   }
+  free(steps);
+  free(page);
   free(report);
   stack_section_free(sec);
   flow_setup_free(&su);

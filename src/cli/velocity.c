@@ -15,7 +15,9 @@
 #include <sysexits.h>
 
 #include "cli.h"
+#include "tzero/deliver.h"
 #include "tzero/fileio.h"
+#include "tzero/flow.h"
 #include "tzero/velocity.h"
 
 #define CMD "velocity"
@@ -27,6 +29,7 @@ static void help(void)
          "       tzero velocity intervals FILE [--out FILE.csv]\n"
          "       tzero velocity at FILE --cmp N [--dt-ms DT] [--length-ms L]\n"
          "                         [--first-ms T] [--out FILE.csv] [--json]\n"
+         "       tzero velocity --job JOB --export FILE.csv [--every N] [--quiet]\n"
          "\n"
          "Velocity tables are CSV with the header cmp,time_ms,velocity_mps (optional\n"
          "fourth column eta); '#' lines are comments; rows grouped by cmp, time strictly\n"
@@ -45,6 +48,12 @@ static void help(void)
          "             imaginary), depth_top_m, depth_base_m, imaginary) to stdout or --out\n"
          "  at         the velocity function at CMP N sampled every DT ms (CSV time_ms,\n"
          "             velocity_mps[,eta])\n"
+         "  --export   (with --job) the job's velocities with the section's coordinates:\n"
+         "             CSV cmp,shot_point,x_m,y_m,time_ms,rms_mps,interval_mps at the\n"
+         "             table's control CMPs and knots, or with --every N at every N-th\n"
+         "             CMP of the line (at every control CMP's knot times, sampled as\n"
+         "             the stack samples the table); interval velocities by Dix (1955),\n"
+         "             empty where V_rms^2 t does not increase\n"
          "\n"
          "options:\n"
          "  --cmp N          CMP number (at)\n"
@@ -55,6 +64,9 @@ static void help(void)
          "  --min-mps V      plausible interval velocity minimum, m/s (check; default %g)\n"
          "  --max-mps V      plausible interval velocity maximum, m/s (check; default %g)\n"
          "  --out FILE       write CSV to FILE (written whole, or not at all)\n"
+         "  --job JOB        the job whose line and velocity table --export uses\n"
+         "  --export FILE    write the velocity export to FILE (CSV)\n"
+         "  --every N        export every N-th CMP instead of the control CMPs\n"
          "  --json           print a JSON summary instead of text (check, at)\n"
          "  --quiet          check: print warnings only\n"
          "  -h, --help       this text\n"
@@ -333,6 +345,30 @@ static int do_at(const struct opts *op, const velocity_table *t, tz_err *err)
   return ex;
 }
 
+/* --job J --export FILE [--every N]: the job's line (header pass) and table. */
+static int do_export(const char *job, const char *path, long long every, int quiet)
+{
+  tz_err err;
+  tz_err_init(&err);
+  flow_setup su;
+  int rc = flow_setup_load(&su, job, NULL, 1, NULL, NULL, &err);
+  if (rc)
+    return cli_report(CMD, &err);
+  int64_t rows = 0, imag = 0;
+  if (!(rc = job_check_output(su.job, path, "--export", 1, &err)))
+    rc = deliver_velocity_export(su.plan, su.velocity, every, path, &rows, &imag, &err);
+  if (rc == TZ_E_ARG)
+    tz_err_path(&err, su.job->velocity);
+  flow_setup_free(&su);
+  if (rc)
+    return cli_report(CMD, &err);
+  if (!quiet)
+    printf("velocity export: %lld rows%s, %lld imaginary interval%s -> %s\n",
+           (long long)rows, every ? "" : " at the control CMPs", (long long)imag,
+           imag == 1 ? "" : "s", path);
+  return EX_OK;
+}
+
 int cmd_velocity(int argc, char **argv)
 {
   static const struct option lopts[] = {
@@ -345,10 +381,15 @@ int cmd_velocity(int argc, char **argv)
     { "out", required_argument, NULL, 'o' },
     { "json", no_argument, NULL, 'j' },
     { "quiet", no_argument, NULL, 'q' },
+    { "job", required_argument, NULL, 'J' },
+    { "export", required_argument, NULL, 'E' },
+    { "every", required_argument, NULL, 'N' },
     { "help", no_argument, NULL, 'h' },
     { NULL, 0, NULL, 0 },
   };
   struct opts op = { .dt_ms = 4, .length_ms = -1, .first_ms = 0 };
+  const char *job = NULL, *export = NULL;
+  long long every = 0;
   int c;
   cli_opt_begin();
   while ((c = getopt_long(argc, argv, "ho:q", lopts, NULL)) != -1) {
@@ -389,10 +430,27 @@ int cmd_velocity(int argc, char **argv)
     case 'o': op.out = optarg; break;
     case 'j': op.json = 1; break;
     case 'q': op.quiet = 1; break;
+    case 'J': job = optarg; break;
+    case 'E': export = optarg; break;
+    case 'N':
+      if (cli_parse_i64(CMD, "--every", optarg, &every))
+        return EX_USAGE;
+      if (every < 1 || every > 1000000000)
+        return cli_usage_error(CMD, "--every: a number of CMPs from 1, got %s", optarg);
+      break;
     case 'h': help(); return EX_OK;
     default:
       return cli_opt_error(CMD, argv, lopts);
     }
+  }
+  if (job || export || every) {
+    if (!job || !export)
+      return cli_usage_error(CMD, "--export FILE and --job JOB go together (--every with them)");
+    if (optind < argc)
+      return cli_unexpected_arg(CMD, argv[optind], job);
+    if (op.out || op.have_cmp || op.json)
+      return cli_usage_error(CMD, "--export: --out, --cmp and --json do not apply");
+    return do_export(job, export, every, op.quiet);
   }
   if (argc - optind < 1)
     return cli_usage_error(CMD, "expected an action: check, intervals or at");

@@ -2,17 +2,20 @@
  *
  * Reads the section tzero stack has just written, migrates it as `tzero migrate`
  * would with the job's "migration" parameters, and writes output.migrated with the
- * same textual header. The methods are in src/migration/migrate.c.
+ * textual header of the job's deliverables (deliver.h), the migration appended to
+ * the processing sequence. The methods are in src/migration/migrate.c.
  */
 #include "tzero/flow.h"
 
 #include <stdlib.h>
 #include <string.h>
 
+#include "tzero/deliver.h"
 #include "tzero/migrate.h"
 #include "tzero/qc.h"
 
-int flow_migrate(const job_spec *job, const velocity_table *velocity, int threads,
+int flow_migrate(const job_spec *job, const stack_plan *plan, const velocity_table *velocity,
+                 int threads, const deliver_steps *steps, const deliver_run *run,
                  qc_migration *out, tz_err *err)
 {
   if (!job->migrated)
@@ -22,7 +25,15 @@ int flow_migrate(const job_spec *job, const velocity_table *velocity, int thread
   float *samples = NULL;
   size_t n = 0;
   migrate_info info;
-  char text[2048];
+  char text[DELIVER_TEXT_BYTES];
+  deliver_steps *all = malloc(sizeof *all);
+  if (!all)
+    return tz_fail(err, TZ_E_NOMEM, "processing steps");
+  if (steps)
+    *all = *steps;
+  else
+    deliver_steps_init(all);
+  deliver_steps_migration(all, job);
   const char *vpath = job->migration.velocity ? job->migration.velocity : job->velocity;
   int rc = migrate_section_load(&s, job->section, 0, err);
   if (!rc && job->migration.velocity) {
@@ -42,7 +53,8 @@ int flow_migrate(const job_spec *job, const velocity_table *velocity, int thread
   if (!rc && (rc = migrate_run(s, velocity, &p, &samples, &n, &info, err)))
     tz_err_path(err, job->section);
   if (!rc) {
-    migrate_describe(s, &p, vpath ? vpath : "", job->section, NULL, 0, text, sizeof text);
+    deliver_section_text(job, plan, s->headers[0].cmp, s->headers[s->ntraces - 1].cmp,
+                         "time-migrated section", all, run, text, sizeof text);
     rc = migrate_write(s, &p, samples, n, NULL, n, text, job->migrated, err);
   }
   if (!rc && out) {
@@ -58,6 +70,7 @@ int flow_migrate(const job_spec *job, const velocity_table *velocity, int thread
     out->one_function = info.one_function;
     out->seconds = info.seconds;
   }
+  free(all);
   free(samples);
   velocity_table_free(own);
   migrate_section_free(s);

@@ -29,6 +29,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "tzero/deliver.h"
 #include "tzero/fileio.h"
 #include "tzero/flow.h"
 #include "tzero/qc.h"
@@ -578,8 +579,21 @@ int merge_parts(const merge_opts *o, merge_result *res, tz_err *err)
   /* as `tzero stack` does: the report's temporary first, renamed after the section */
   if (!rc && o->report)
     rc = fileio_create(&rep, o->report, err);
-  if (!rc)
-    rc = stack_section_write(s, su.plan, o->section, su.job->sample_format, err);
+  deliver_steps *steps = NULL;
+  if (!rc && !(steps = malloc(sizeof *steps)))
+    rc = tz_fail(err, TZ_E_NOMEM, "processing steps");
+  if (!rc) {
+    deliver_steps_init(steps);
+    rc = deliver_steps_job(steps, su.job, err);
+  }
+  if (!rc) {
+    char text[DELIVER_TEXT_BYTES];
+    deliver_section_text(su.job, su.plan, s->first_cmp, s->first_cmp + (int32_t)s->ncmps - 1,
+                         "stacked section", steps, o->run, text, sizeof text);
+    rc = stack_section_write(s, su.plan, o->section, su.job->sample_format, text,
+                             deliver_polarity_code(su.job), err);
+  }
+  free(steps);
   if (!rc && o->report) {
     qc_build_args qa = {
       .job = su.job, .plan = su.plan, .section = s, .velocity = su.velocity,

@@ -5,7 +5,7 @@
  * path only when segy_writer_finish() succeeds. The textual header is EBCDIC
  * with our own card content, cards 39-40 as the standard recommends
  * (IBM code page 037). The binary header carries interval, samples, format,
- * sorting code, ensemble fold, measurement system, revision and the
+ * sorting code, ensemble fold, measurement system, impulse polarity, revision and the
  * fixed-length flag (SEG-Y rev 1 (2002) binary header). Trace headers are encoded from
  * segy_trace_header by segy_header_encode() (segy_map.c).
  *
@@ -66,6 +66,7 @@ static void binary_header(const segy_writer_opts *o, unsigned char *b)
   be16_store(AT(3227), (uint16_t)o->ensemble_fold);
   be16_store(AT(3229), (uint16_t)o->sorting_code);
   be16_store(AT(3255), (uint16_t)o->measurement_system);
+  be16_store(AT(3257), (uint16_t)o->polarity);               /* impulse polarity */
   if (o->revision == 2) {
     be32_store(AT(3269), o->samples);
     be64_store(AT(3273), f64_bits((double)o->interval_us));

@@ -398,7 +398,7 @@ static int parse_selection(job_spec *j, const cJSON *v, tz_err *err)
 static int parse_output(job_spec *j, const cJSON *v, const char *dir, tz_err *err)
 {
   static const char *const keys[] = { "section", "report", "html", "sample_format", "migrated",
-                                      NULL };
+                                      "navigation", "history", NULL };
   static const char *const fnames[] = { "ieee", "ibm", NULL };
   static const int fvals[] = { JOB_FORMAT_IEEE, JOB_FORMAT_IBM };
   int rc = want_object(v, "$.output", err);
@@ -413,6 +413,11 @@ static int parse_output(job_spec *j, const cJSON *v, const char *dir, tz_err *er
     return rc;
   if ((e = ITEM(v, "migrated")) &&
       (rc = get_path(e, "$.output.migrated", dir, 0, &j->migrated, err)))
+    return rc;
+  if ((e = ITEM(v, "navigation")) &&
+      (rc = get_path(e, "$.output.navigation", dir, 0, &j->navigation, err)))
+    return rc;
+  if ((e = ITEM(v, "history")) && (rc = get_path(e, "$.output.history", dir, 0, &j->history, err)))
     return rc;
   if ((e = ITEM(v, "html")) && cJSON_IsFalse(e))
     j->no_html = 1;
@@ -994,7 +999,10 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
   static const char *const keys[] = { "name", "shots", "geometry", "header_map", "bins",
                                       "velocity", "moveout", "mute", "selection", "output",
                                       "conditioning", "edits", "statics", "limits", "threads",
-                                      "skip_bad_files", "interval_us", "migration", NULL };
+                                      "skip_bad_files", "interval_us", "migration", "client",
+                                      "contractor", "crs", "polarity", NULL };
+  static const char *const pnames[] = { "negative", "positive", NULL };
+  static const int pvals[] = { 1, 2 };
   int rc;
   if (!cJSON_IsObject(root))
     return tz_fail(err, TZ_E_JOB, "$: expected an object, got %s", json_doc_kind_name(root));
@@ -1006,9 +1014,30 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
     if ((rc = json_doc_string(e, "$.name", &s, TZ_E_JOB, err)))
       return rc;
     free(j->name);
+  free(j->client);
+  free(j->contractor);
+  free(j->crs);
+  free(j->navigation);
+  free(j->history);
     if (!(j->name = strdup(s)))
       return tz_fail(err, TZ_E_NOMEM, "job name");
   }
+  struct { const char *key, *jpath; char **dst; } texts[] = {
+    { "client", "$.client", &j->client }, { "contractor", "$.contractor", &j->contractor },
+    { "crs", "$.crs", &j->crs } };
+  for (size_t k = 0; k < sizeof texts / sizeof texts[0]; k++) {
+    const char *s;
+    if (!(e = ITEM(root, texts[k].key)))
+      continue;
+    if ((rc = json_doc_string(e, texts[k].jpath, &s, TZ_E_JOB, err)))
+      return rc;
+    free(*texts[k].dst);
+    if (!(*texts[k].dst = strdup(s)))
+      return tz_fail(err, TZ_E_NOMEM, "job %s", texts[k].key);
+  }
+  if ((e = ITEM(root, "polarity")) &&
+      (rc = json_doc_choice(e, "$.polarity", pnames, pvals, &j->polarity, TZ_E_JOB, err)))
+    return rc;
   if (!(e = ITEM(root, "shots")))
     return tz_fail(err, TZ_E_JOB, "$.shots: required key missing (file patterns of the shot "
                  "records)");
@@ -1290,6 +1319,23 @@ int job_check_outputs(const job_spec *j, tz_err *err)
                        i ? "report" : "section");
       }
   }
+  /* the navigation file and the history: not an input, not another output */
+  const char *outs[5] = { j->section, j->report, j->migrated, j->navigation, j->history };
+  static const char *const onames[5] = { "section", "report", "migrated section",
+                                          "navigation file ($.output.navigation)",
+                                          "history ($.output.history)" };
+  for (int a = 3; a < 5; a++) {
+    if (!outs[a])
+      continue;
+    if ((rc = job_check_output(j, outs[a], onames[a], 1, err)))
+      return rc;
+    for (int b = 0; b < a; b++)
+      if (outs[b] && (!strcmp(outs[a], outs[b]) || fileio_same_file(outs[a], outs[b]))) {
+        tz_err_path(err, outs[a]);
+        return tz_fail(err, TZ_E_CREATE, "the %s and the %s are the same file", onames[a],
+                       onames[b]);
+      }
+  }
   return TZ_OK;
 }
 
@@ -1406,6 +1452,14 @@ int job_to_json(const job_spec *j, char **out, tz_err *err)
   if (!bad) {
     bad |= add_str(r, "name", j->name);
     bad |= add_str(r, "job_file", j->path);
+    if (j->client)
+      bad |= add_str(r, "client", j->client);
+    if (j->contractor)
+      bad |= add_str(r, "contractor", j->contractor);
+    if (j->crs)
+      bad |= add_str(r, "crs", j->crs);
+    if (j->polarity)
+      bad |= add_str(r, "polarity", j->polarity == 1 ? "negative" : "positive");
     o = cJSON_AddArrayToObject(r, "shots");
     for (size_t i = 0; o && i < j->npatterns; i++)
       bad |= !cJSON_AddItemToArray(o, cJSON_CreateString(j->patterns[i]));
@@ -1474,6 +1528,10 @@ int job_to_json(const job_spec *j, char **out, tz_err *err)
       add_str(o, "sample_format", j->sample_format == JOB_FORMAT_IBM ? "ibm" : "ieee");
       if (j->migrated)
         add_str(o, "migrated", j->migrated);
+      if (j->navigation)
+        add_str(o, "navigation", j->navigation);
+      if (j->history)
+        add_str(o, "history", j->history);
     }
     o = cJSON_AddArrayToObject(r, "conditioning");
     for (size_t i = 0; o && i < j->conditioning.n; i++)

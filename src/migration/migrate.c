@@ -155,6 +155,7 @@ int migrate_section_load(migrate_section **out, const char *path, double cmp_int
   s->interval_us = in->interval_us;
   s->dt_s = in->interval_us * 1e-6;
   s->format_code = in->format_code == 1 ? 1 : 5;
+  s->polarity = (int16_t)(in->binary[3257 - 3201] << 8 | in->binary[3258 - 3201]);
   snprintf(s->text, sizeof s->text, "%s", in->text);
   if (!s->ns || !s->interval_us) {
     rc = tz_fail(err, TZ_E_FORMAT, "no sample count or interval");
@@ -996,6 +997,7 @@ int migrate_write(const migrate_section *s, const migrate_params *p, const float
   o.sorting_code = 4;                       /* horizontally stacked (SEG-Y rev 1) */
   o.traces_per_ensemble = 1;
   o.measurement_system = 1;
+  o.polarity = s->polarity;
   o.text = text;
   segy_writer *w = NULL;
   int rc = segy_writer_open(&w, path, &o, err);

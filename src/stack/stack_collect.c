@@ -292,30 +292,52 @@ int stack_condition_plan(condition_plan **out, const condition_chain *c, const n
 
 /* ---------------------------------------------------------------- writing */
 
-int stack_section_write(const stack_section *s, const stack_plan *p, const char *path,
-                        int format_code, tz_err *err)
+void stack_section_header(const stack_section *s, const stack_plan *p, size_t c,
+                          segy_trace_header *out)
 {
   const job_spec *j = p->job;
-  char text[38 * 80];
-  stack_line_info li = p->line_info;
-  char datum[160] = "times at the recording surface (no statics)";
+  const stack_cmp_result *r = &s->cmps[c];
+  segy_trace_header h;
+  memset(&h, 0, sizeof h);
+  h.line_seq = (int32_t)c + 1;
+  h.file_seq = (int32_t)c + 1;
+  h.cmp = r->cmp;
+  h.cmp_trace = 1;
+  h.kind = r->fold > 0 ? SEGY_KIND_SEISMIC : SEGY_KIND_DEAD;
+  h.vertical_sum = 1;
+  h.stacked_traces = (int16_t)(r->fold > 32767 ? 32767 : r->fold);
+  h.data_use = 1;
+  h.offset = 0;
+  h.coord_scalar = -100;
+  h.elev_scalar = -100;
+  h.source_x = h.receiver_x = h.cmp_x = r->x_m;
+  h.source_y = h.receiver_y = h.cmp_y = r->y_m;
+  h.coord_units = 1;
+  h.delay_ms = p->delay_ms;
+  h.samples = (uint32_t)s->axis.ns;
+  h.interval_us = s->interval_us;
+  /* field shot point at the CMP, scalar -100 so fractions survive (bytes
+   * 197-202, SEG-Y rev 1); surface elevation at the CMP in 41-48 and the
+   * datum in 53-60 with the elevation scalar (69-70) */
+  double sp = 0, elev = 0;
+  int have = stack_plan_cmp_surface(p, r->cmp, &sp, &elev);
+  if ((have & 1) && fabs(sp) * 100 < 2147483647.0) {
+    h.shotpoint = (int32_t)llround(sp * 100);
+    h.shotpoint_scalar = -100;
+  } else {
+    h.shotpoint = r->cmp;
+    h.shotpoint_scalar = 1;
+  }
+  if (have & 2)
+    h.receiver_elev = h.source_elev = elev;
   if (j->statics.present)
-    snprintf(datum, sizeof datum, "times at the flat datum %g m, replacement velocity %g m/s%s",
-             j->statics.datum_m, j->statics.replacement_velocity_mps,
-             j->statics.floating_datum_smooth_m > 0 ? "\nNMO at a smoothed floating datum, "
-                                                      "stack shifted to the flat datum" : "");
-  snprintf(text, sizeof text,
-           "tzero stacked section (CMP stack, NMO corrected, live-fold normalised)\n"
-           "line: %s\n"
-           "CMPs %d to %d, bin %.3f m, line origin %.2f %.2f, azimuth %.3f deg\n"
-           "velocity: %.60s\n"
-           "stretch limit %.1f %%, interpolation %s\n"
-           "coordinates: CMP X/Y in bytes 181-188, scalar in 71-72\n"
-           "fold in bytes 33-34; trace kind 2 marks zero-fold CMPs\n%s",
-           j->name && j->name[0] ? j->name : "(unnamed)", (int)s->first_cmp,
-           (int)(s->first_cmp + (int32_t)s->ncmps - 1), li.size_m, li.origin_x_m, li.origin_y_m,
-           li.azimuth_deg, j->velocity ? j->velocity : "(given in code)", j->stretch_limit_pct,
-           job_interp_name(j->interpolation), datum);
+    h.receiver_datum = h.source_datum = j->statics.datum_m;
+  *out = h;
+}
+
+int stack_section_write(const stack_section *s, const stack_plan *p, const char *path,
+                        int format_code, const char *text, int16_t polarity, tz_err *err)
+{
   segy_writer_opts o;
   memset(&o, 0, sizeof o);
   o.revision = 1;
@@ -327,48 +349,15 @@ int stack_section_write(const stack_section *s, const stack_plan *p, const char 
   o.ensemble_fold = (int16_t)(nom > 32767 ? 32767 : nom < 0 ? 0 : nom);
   o.traces_per_ensemble = 1;
   o.measurement_system = 1;
+  o.polarity = polarity;
   o.text = text;
   segy_writer *w = NULL;
   int rc = segy_writer_open(&w, path, &o, err);
   if (rc)
     return rc;
   for (size_t c = 0; c < s->ncmps; c++) {
-    const stack_cmp_result *r = &s->cmps[c];
     segy_trace_header h;
-    memset(&h, 0, sizeof h);
-    h.line_seq = (int32_t)c + 1;
-    h.file_seq = (int32_t)c + 1;
-    h.cmp = r->cmp;
-    h.cmp_trace = 1;
-    h.kind = r->fold > 0 ? SEGY_KIND_SEISMIC : SEGY_KIND_DEAD;
-    h.vertical_sum = 1;
-    h.stacked_traces = (int16_t)(r->fold > 32767 ? 32767 : r->fold);
-    h.data_use = 1;
-    h.offset = 0;
-    h.coord_scalar = -100;
-    h.elev_scalar = -100;
-    h.source_x = h.receiver_x = h.cmp_x = r->x_m;
-    h.source_y = h.receiver_y = h.cmp_y = r->y_m;
-    h.coord_units = 1;
-    h.delay_ms = p->delay_ms;
-    h.samples = (uint32_t)s->axis.ns;
-    h.interval_us = s->interval_us;
-    /* field shot point at the CMP, scalar -100 so fractions survive (bytes
-     * 197-202, SEG-Y rev 1); surface elevation at the CMP in 41-48 and the
-     * datum in 53-60 with the elevation scalar (69-70) */
-    double sp = 0, elev = 0;
-    int have = stack_plan_cmp_surface(p, r->cmp, &sp, &elev);
-    if ((have & 1) && fabs(sp) * 100 < 2147483647.0) {
-      h.shotpoint = (int32_t)llround(sp * 100);
-      h.shotpoint_scalar = -100;
-    } else {
-      h.shotpoint = r->cmp;
-      h.shotpoint_scalar = 1;
-    }
-    if (have & 2)
-      h.receiver_elev = h.source_elev = elev;
-    if (j->statics.present)
-      h.receiver_datum = h.source_datum = j->statics.datum_m;
+    stack_section_header(s, p, c, &h);
     if ((rc = segy_trace_write(w, &h, s->samples + c * s->axis.ns, err))) {
       segy_writer_abort(w);
       return rc;

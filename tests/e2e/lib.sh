@@ -3,6 +3,10 @@
 set -u
 : "${TZERO:?}" "${WORK:?}"
 T=$(mktemp -d "$WORK/e2e.XXXXXX")
+# a fixed date for the textual headers and histories (reproducible-builds convention),
+# so that outputs of two runs compare equal whatever the clock says
+: "${SOURCE_DATE_EPOCH:=1767225600}"
+export SOURCE_DATE_EPOCH
 ok() { echo "ok - $*"; }
 notok() { echo "not ok - $*"; }
 # expect_status CODE DESC -- cmd...   runs cmd, checks its exit status

@@ -131,7 +131,9 @@ sed 's#"geometry": "headers"#"geometry": {"table": "table.csv"}#' "$J" >"$D/tab.
 sed 's#"geometry": "headers"#"geometry": {"table": "short.csv"}#' "$J" >"$D/short.json"
 expect_status 0 "geometry from a table" -- "$TZERO" stack --job "$D/tab.json" --out "$D/out/tab.sgy" \
   --report "$D/out/tab.json" --quiet
-if cmp -s "$D/out/tab.sgy" "$D/out/t1.sgy"; then ok "table geometry gives the same section as the headers"
+# after the textual header, which names the geometry source in its processing sequence
+tail -c +3201 "$D/out/tab.sgy" >"$D/out/tab.body"; tail -c +3201 "$D/out/t1.sgy" >"$D/out/t1.body"
+if cmp -s "$D/out/tab.body" "$D/out/t1.body"; then ok "table geometry gives the same section as the headers"
 else notok "table geometry differs from the headers"; fi
 rm -f "$D/out/short.sgy"
 expect_status 65 "a trace missing from the geometry table" -- "$TZERO" stack --job "$D/short.json" \
