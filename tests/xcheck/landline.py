@@ -104,11 +104,14 @@ def first_arrival_times():
 
 
 def make_line(d, residual=None, statics_in_data=True, noise=0.02, seed=1, nasty=True,
-              first_shot_point=None):
+              first_shot_point=None, trace_fn=None):
     """Writes shots/shot_NNNN.sgy, the true statics table and a job file.
 
     residual: optional (source_ms, receiver_ms) dicts by station of extra shifts
-    (added to the data's times). Returns the first-arrival truth."""
+    (added to the data's times). trace_fn(t, x, td, th, delay): optional, returns
+    the samples of a trace at offset x instead of the default arrivals (td, th:
+    direct and head-wave times, delay: the reflections' near-surface delay, s).
+    Returns the first-arrival truth."""
     os.makedirs(os.path.join(d, "shots"), exist_ok=True)
     rng = np.random.default_rng(seed)
     fa = first_arrival_times()
@@ -137,7 +140,9 @@ def make_line(d, residual=None, statics_in_data=True, noise=0.02, seed=1, nasty=
                     delay = -(true_static_ms(xs) + true_static_ms(xr)) / 1000.0
                 if residual:
                     delay += (residual[0][s] + residual[1][r]) / 1000.0
-                for t0, v, a in EVENTS:
+                if trace_fn is not None:
+                    tr = trace_fn(t, x, td, th, delay)
+                for t0, v, a in EVENTS if trace_fn is None else ():
                     tr += a * ricker(t - delay - np.sqrt(t0 * t0 + x * x / (v * v)))
                 tr += noise * rng.standard_normal(NS)
                 kind = 1
