@@ -118,6 +118,7 @@ PREFIX_LIST = \
   residual \
   segy \
   semblance \
+  sps \
   spectrum \
   stack \
   statics \

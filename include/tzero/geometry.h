@@ -168,6 +168,12 @@ int geometry_table_load(geometry_table **out, const char *path, tz_err *err);
 int geometry_table_parse(geometry_table **out, const char *name, const char *text, size_t len,
                          tz_err *err);
 void geometry_table_free(geometry_table *t);                 /* NULL is a no-op */
+/* A table built row by row (SPS files, sps.h): new, add the positions of each
+ * (field record, channel) with the source line it came from, then seal (sorts;
+ * no rows or a key given twice is TZ_E_FORMAT naming the lines). */
+int geometry_table_new(geometry_table **out, const char *name, tz_err *err);
+int geometry_table_add(geometry_table *t, const geometry_trace *g, int64_t line, tz_err *err);
+int geometry_table_seal(geometry_table *t, tz_err *err);
 size_t geometry_table_rows(const geometry_table *t);
 /* Finds a row; returns TZ_E_FORMAT ("field record F channel C: not in geometry
  * table NAME") when nothing matches. Fills positions in g (not the derived part). */

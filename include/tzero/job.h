@@ -28,7 +28,8 @@
 #define JOB_MAX_MUTE_POINTS 256u     /* top-mute polyline points (NMO_MUTE_MAX_POINTS) */
 #define JOB_MAX_THREADS 256
 
-enum job_geometry_source { JOB_GEOMETRY_HEADERS = 0, JOB_GEOMETRY_LAYOUT, JOB_GEOMETRY_TABLE };
+enum job_geometry_source { JOB_GEOMETRY_HEADERS = 0, JOB_GEOMETRY_LAYOUT, JOB_GEOMETRY_TABLE,
+                           JOB_GEOMETRY_SPS };
 enum job_interp { JOB_INTERP_LINEAR = 0, JOB_INTERP_SINC8 };
 enum job_sample_format { JOB_FORMAT_IEEE = 5, JOB_FORMAT_IBM = 1 };
 
@@ -80,7 +81,9 @@ typedef struct job_spec {
   char **patterns;
 
   int geometry;               /* enum job_geometry_source */
-  char *geometry_file;        /* layout or table path; NULL for headers */
+  char *geometry_file;        /* layout or table path; NULL for headers and SPS */
+  char *sps[3];               /* JOB_GEOMETRY_SPS: source, receiver and relation files
+                               * (SPS revision 2.1, sps.h) */
   char *header_map;           /* optional SEG-Y header map file (segy.h); NULL = standard */
   uint32_t interval_us;       /* "interval_us": sample interval replacing the files'
                                * (segy_open_opts.interval_us); 0 = from the files */

@@ -23,6 +23,7 @@
 #include "tzero/geometry.h"
 #include "tzero/job.h"
 #include "tzero/segy.h"
+#include "tzero/sps.h"
 #include "tzero/survey.h"
 #include "tzero/table.h"
 
@@ -32,7 +33,7 @@ static void help(void)
          "       tzero geometry --job JOB.json [OPTIONS]\n"
          "\n"
          "Assigns source and receiver positions to every trace (from the trace\n"
-         "headers, a layout or a geometry table), computes midpoints and signed\n"
+         "headers, a layout, a geometry table or SPS files), computes midpoints and signed\n"
          "offsets, bins the midpoints into CMPs along a processing line, and prints\n"
          "the line, bin size, CMP range, fold statistics and a per-shot summary.\n"
          "\n"
@@ -40,7 +41,10 @@ static void help(void)
          "  --job FILE          take shots, geometry and bins from a job file\n"
          "  --layout FILE       geometry from a layout (docs/layout.md)\n"
          "  --table FILE        geometry from a geometry table (docs/geometry-table.md)\n"
-         "                      (neither: from the trace headers)\n"
+         "  --sps S,R,X         geometry from SPS revision 2.1 source, receiver and\n"
+         "                      relation files (SEG, 2006): prints what matched and\n"
+         "                      lists the records that matched nothing\n"
+         "                      (none of the three: from the trace headers)\n"
          "  --header-map FILE   SEG-Y header map for non-standard header positions\n"
          "  --bin-size M        CMP bin size, metres (default half the receiver\n"
          "                      interval)\n"
@@ -87,6 +91,7 @@ typedef struct run {
   size_t nshots, capshots;
   int64_t read, binned, dead, auxiliary, off_line;
   const char *write_dir;
+  const sps_set *sps;            /* --sps: the exchange files' records */
 } run;
 
 static int add_shot(run *r, int file, const geometry_trace *g, tz_err *err)
@@ -362,6 +367,58 @@ static int write_fold_table(const run *r, const bins_fold *pred, const char *pat
   return fileio_commit(o, err);
 }
 
+static const char *const sps_kind_names[3] = { "source", "receiver", "relation" };
+
+static void print_sps(const sps_set *s)
+{
+  sps_summary m;
+  sps_get_summary(s, &m);
+  printf("SPS revision 2.1 files: %zu source points (%zu in matched relations), %zu receiver "
+         "points (%zu), %zu relation records (%zu matched): %zu channels placed\n",
+         m.source_points, m.sources_used, m.receiver_points, m.receivers_used, m.relations,
+         m.relations_matched, m.traces);
+  size_t n = sps_unmatched_count(s);
+  if (n)
+    printf("  unmatched records: %zu\n", n);
+  for (size_t i = 0; i < n; i++) {
+    const sps_unmatched *u = sps_unmatched_get(s, i);
+    printf("    %s line %lld (%s record): %s\n", sps_file_name(s, u->kind), (long long)u->line,
+           sps_kind_names[u->kind], u->what);
+  }
+}
+
+static cJSON *sps_json(const sps_set *s)
+{
+  sps_summary m;
+  sps_get_summary(s, &m);
+  cJSON *o = cJSON_CreateObject();
+  if (!o)
+    return NULL;
+  cJSON_AddStringToObject(o, "source_file", sps_file_name(s, SPS_SOURCE));
+  cJSON_AddStringToObject(o, "receiver_file", sps_file_name(s, SPS_RECEIVER));
+  cJSON_AddStringToObject(o, "relation_file", sps_file_name(s, SPS_RELATION));
+  cJSON_AddNumberToObject(o, "source_points", (double)m.source_points);
+  cJSON_AddNumberToObject(o, "source_points_matched", (double)m.sources_used);
+  cJSON_AddNumberToObject(o, "receiver_points", (double)m.receiver_points);
+  cJSON_AddNumberToObject(o, "receiver_points_matched", (double)m.receivers_used);
+  cJSON_AddNumberToObject(o, "relations", (double)m.relations);
+  cJSON_AddNumberToObject(o, "relations_matched", (double)m.relations_matched);
+  cJSON_AddNumberToObject(o, "channels", (double)m.traces);
+  cJSON *a = cJSON_AddArrayToObject(o, "unmatched");
+  for (size_t i = 0; a && i < sps_unmatched_count(s); i++) {
+    const sps_unmatched *u = sps_unmatched_get(s, i);
+    cJSON *e = cJSON_CreateObject();
+    if (!e)
+      break;
+    cJSON_AddStringToObject(e, "file", sps_file_name(s, u->kind));
+    cJSON_AddStringToObject(e, "record", sps_kind_names[u->kind]);
+    cJSON_AddNumberToObject(e, "line", (double)u->line);
+    cJSON_AddStringToObject(e, "what", u->what);
+    cJSON_AddItemToArray(a, e);
+  }
+  return o;
+}
+
 /* "record number, source point" naming which numbers show a gap. */
 static void gap_kinds(unsigned f, char *out, size_t cap)
 {
@@ -433,6 +490,8 @@ static cJSON *json_summary(const run *r, const bins_fold *pred, const char *kind
   cJSON_AddStringToObject(o, "geometry", kind);
   if (gfile)
     cJSON_AddStringToObject(o, "geometry_file", gfile);
+  if (r->sps)
+    cJSON_AddItemToObject(o, "sps", sps_json(r->sps));
   bins_params p = bins_line_get_params(r->line);
   cJSON *ln = cJSON_AddObjectToObject(o, "line");
   cJSON_AddStringToObject(ln, "kind", bins_line_is_crooked(r->line) ? "crooked" : "straight");
@@ -546,6 +605,8 @@ static void print_text(const run *r, const bins_fold *pred, const char *kind,
   printf("geometry from %s; %zu files, %lld traces (%lld binned, %lld dead, %lld auxiliary, "
          "%lld off the line)\n", kind, r->nfiles, (long long)r->read, (long long)r->binned,
          (long long)r->dead, (long long)r->auxiliary, (long long)r->off_line);
+  if (r->sps)
+    print_sps(r->sps);
   printf("processing line: %s%s, origin %.2f %.2f m, azimuth %.4f deg\n",
          bins_line_is_crooked(r->line) ? "crooked" : "straight", fig->fitted ? " (fitted)" : "",
          p.origin_x, p.origin_y, p.azimuth_deg);
@@ -584,7 +645,7 @@ static void print_text(const run *r, const bins_fold *pred, const char *kind,
   }
 }
 
-enum { O_JOB = 256, O_LAYOUT, O_TABLE, O_MAP, O_BIN, O_OX, O_OY, O_AZ, O_CROOKED, O_FIRST,
+enum { O_JOB = 256, O_LAYOUT, O_TABLE, O_SPS, O_MAP, O_BIN, O_OX, O_OY, O_AZ, O_CROOKED, O_FIRST,
        O_MAXOFF, O_OCLASS, O_FOLD, O_WRITE, O_JSON, O_QUIET };
 
 int cmd_geometry(int argc, char **argv)
@@ -593,6 +654,7 @@ int cmd_geometry(int argc, char **argv)
     { "job", required_argument, NULL, O_JOB },
     { "layout", required_argument, NULL, O_LAYOUT },
     { "table", required_argument, NULL, O_TABLE },
+    { "sps", required_argument, NULL, O_SPS },
     { "header-map", required_argument, NULL, O_MAP },
     { "bin-size", required_argument, NULL, O_BIN },
     { "origin-x", required_argument, NULL, O_OX },
@@ -611,6 +673,7 @@ int cmd_geometry(int argc, char **argv)
   };
   const char *cmd = "geometry";
   const char *job_path = NULL, *layout_path = NULL, *table_path = NULL, *map_path = NULL;
+  const char *sps_arg = NULL;
   const char *crooked = NULL, *fold_path = NULL, *write_dir = NULL;
   double bin = 0, ox = NAN, oy = NAN, az = NAN, maxoff = 0, oclass = 0;
   long long first = 1;
@@ -621,6 +684,7 @@ int cmd_geometry(int argc, char **argv)
     case O_JOB: job_path = optarg; break;
     case O_LAYOUT: layout_path = optarg; break;
     case O_TABLE: table_path = optarg; break;
+    case O_SPS: sps_arg = optarg; break;
     case O_MAP: map_path = optarg; break;
     case O_BIN:
       if (cli_parse_f64(cmd, "--bin-size", optarg, &bin)) return EX_USAGE;
@@ -652,8 +716,28 @@ int cmd_geometry(int argc, char **argv)
     default: return cli_opt_error(cmd, argv, opts);
     }
   }
-  if (layout_path && table_path)
-    return cli_usage_error(cmd, "give --layout or --table, not both");
+  if (!!layout_path + !!table_path + !!sps_arg > 1)
+    return cli_usage_error(cmd, "give one of --layout, --table and --sps");
+  char sps_buf[3 * 4096];
+  const char *sps_paths[3] = { NULL, NULL, NULL };
+  if (sps_arg) {
+    size_t len = strlen(sps_arg);
+    if (len >= sizeof sps_buf)
+      return cli_usage_error(cmd, "--sps: the file names are too long");
+    memcpy(sps_buf, sps_arg, len + 1);
+    char *p = sps_buf;
+    for (int k = 0; k < 3; k++) {
+      char *comma = strchr(p, ',');
+      if ((k < 2) != (comma != NULL) || (comma ? comma == p : !*p))
+        return cli_usage_error(cmd, "--sps: expected three file names SOURCE,RECEIVER,RELATION "
+                               "(the S, R and X files)");
+      sps_paths[k] = p;
+      if (comma) {
+        *comma = '\0';
+        p = comma + 1;
+      }
+    }
+  }
   if ((isnan(ox) + isnan(oy) + isnan(az)) % 3 != 0)
     return cli_usage_error(cmd, "--origin-x, --origin-y and --azimuth go together");
   if (crooked && !isnan(az))
@@ -679,16 +763,20 @@ int cmd_geometry(int argc, char **argv)
   memset(&fig, 0, sizeof fig);
   bins_fold *pred = NULL;
   const char *kind = "headers", *gfile = NULL;
+  sps_set *sps = NULL;
 
   if (job_path) {
     if ((rc = job_load(&job, job_path, &err)))
       goto done;
     r.files = job->shots;
     r.nfiles = job->nshots;
-    if (job->geometry == JOB_GEOMETRY_LAYOUT && !layout_path && !table_path)
+    if (job->geometry == JOB_GEOMETRY_LAYOUT && !layout_path && !table_path && !sps_arg)
       layout_path = job->geometry_file;
-    if (job->geometry == JOB_GEOMETRY_TABLE && !layout_path && !table_path)
+    if (job->geometry == JOB_GEOMETRY_TABLE && !layout_path && !table_path && !sps_arg)
       table_path = job->geometry_file;
+    if (job->geometry == JOB_GEOMETRY_SPS && !layout_path && !table_path && !sps_arg)
+      for (int k = 0; k < 3; k++)
+        sps_paths[k] = job->sps[k];
     if (!map_path)
       map_path = job->header_map;
     r.oo.interval_us = job->interval_us;
@@ -726,6 +814,13 @@ int cmd_geometry(int argc, char **argv)
     if ((rc = geometry_table_load(&t, table_path, &err)) ||
         (rc = geometry_source_table(&r.src, t, &err)))
       goto done;
+  } else if (sps_paths[0]) {
+    kind = "SPS";
+    gfile = sps_paths[2];
+    if ((rc = sps_load(&sps, sps_paths[0], sps_paths[1], sps_paths[2], &err)) ||
+        (rc = sps_geometry_source(sps, &r.src, &err)))
+      goto done;
+    r.sps = sps;
   } else if ((rc = geometry_source_headers(&r.src, &err))) {
     goto done;
   }
@@ -786,6 +881,7 @@ done:
   bins_line_free(r.line);
   survey_free(r.survey);
   geometry_source_free(r.src);
+  sps_free(sps);
   geometry_layout_free(&lay);
   job_free(job);
   return rc ? cli_report(cmd, &err) : EX_OK;

@@ -500,7 +500,7 @@ typedef struct table_row {
 struct geometry_table {
   char *name;
   table_row *rows;
-  size_t n;
+  size_t n, cap;
 };
 
 static int64_t row_key(int32_t ffid, int32_t ch)
@@ -549,7 +549,6 @@ static int table_read(geometry_table *gt, table_reader *tr, tz_err *err)
   for (int i = 0; i < NCOLS; i++)
     if (col_required[i] && col[i] < 0)
       return tz_fail_line(err, TZ_E_FORMAT, hline, "missing column \"%s\"", col_names[i]);
-  size_t cap = 0;
   for (;;) {
     if (table_next(tr, &nf, err))
       return err->status;
@@ -562,18 +561,6 @@ static int table_read(geometry_table *gt, table_reader *tr, tz_err *err)
         maxc = col[i];
     if (nf <= (size_t)maxc)
       return tz_fail_line(err, TZ_E_FORMAT, line, "expected %d fields, got %zu", maxc + 1, nf);
-    if (gt->n == cap) {
-      if (cap >= GEOMETRY_MAX_TABLE_ROWS)
-        return tz_fail_line(err, TZ_E_FORMAT, line, "more than %d rows",
-                            GEOMETRY_MAX_TABLE_ROWS);
-      size_t nc = cap ? cap * 2 : 1024;
-      table_row *nr = realloc(gt->rows, nc * sizeof *nr);
-      if (!nr)
-        return tz_fail(err, TZ_E_NOMEM, "geometry table rows");
-      gt->rows = nr;
-      cap = nc;
-    }
-    table_row *r = &gt->rows[gt->n];
     int64_t ffid, ch;
     double v[NCOLS] = { 0 };
     if (table_field_i64(tr, (size_t)col[COL_FFID], col_names[COL_FFID], &ffid, err) ||
@@ -590,17 +577,18 @@ static int table_read(geometry_table *gt, table_reader *tr, tz_err *err)
         return tz_fail_line(err, TZ_E_FORMAT, line, "column %s: %g m is beyond +-%g m",
                             col_names[i], v[i], lim);
     }
-    r->key = row_key((int32_t)ffid, (int32_t)ch);
-    r->line = line;
-    r->sx = v[COL_SX];
-    r->sy = v[COL_SY];
-    r->sz = v[COL_SZ];
-    r->sd = v[COL_SD];
-    r->rx = v[COL_RX];
-    r->ry = v[COL_RY];
-    r->rz = v[COL_RZ];
-    gt->n++;
+    geometry_trace g = { .field_record = (int32_t)ffid, .channel = (int32_t)ch,
+                         .source_x = v[COL_SX], .source_y = v[COL_SY], .source_z = v[COL_SZ],
+                         .source_depth = v[COL_SD], .receiver_x = v[COL_RX],
+                         .receiver_y = v[COL_RY], .receiver_z = v[COL_RZ] };
+    if (geometry_table_add(gt, &g, line, err))
+      return err->status;
   }
+  return geometry_table_seal(gt, err);
+}
+
+int geometry_table_seal(geometry_table *gt, tz_err *err)
+{
   if (gt->n == 0)
     return tz_fail(err, TZ_E_FORMAT, "geometry table has no rows");
   qsort(gt->rows, gt->n, sizeof *gt->rows, cmp_row);
@@ -613,6 +601,42 @@ static int table_read(geometry_table *gt, table_reader *tr, tz_err *err)
                           (int)(int32_t)(uint32_t)gt->rows[i].key,
                           (long long)(a < b ? a : b));
     }
+  return TZ_OK;
+}
+
+int geometry_table_new(geometry_table **out, const char *name, tz_err *err)
+{
+  geometry_table *gt = calloc(1, sizeof *gt);
+  if (!gt || !(gt->name = strdup(name ? name : ""))) {
+    free(gt);
+    return tz_fail(err, TZ_E_NOMEM, "geometry table");
+  }
+  *out = gt;
+  return TZ_OK;
+}
+
+int geometry_table_add(geometry_table *gt, const geometry_trace *g, int64_t line, tz_err *err)
+{
+  if (gt->n == gt->cap) {
+    if (gt->cap >= GEOMETRY_MAX_TABLE_ROWS)
+      return tz_fail_line(err, TZ_E_FORMAT, line, "more than %d rows", GEOMETRY_MAX_TABLE_ROWS);
+    size_t nc = gt->cap ? gt->cap * 2 : 1024;
+    table_row *nr = realloc(gt->rows, nc * sizeof *nr);
+    if (!nr)
+      return tz_fail(err, TZ_E_NOMEM, "geometry table rows");
+    gt->rows = nr;
+    gt->cap = nc;
+  }
+  table_row *r = &gt->rows[gt->n++];
+  r->key = row_key(g->field_record, g->channel);
+  r->line = line;
+  r->sx = g->source_x;
+  r->sy = g->source_y;
+  r->sz = g->source_z;
+  r->sd = g->source_depth;
+  r->rx = g->receiver_x;
+  r->ry = g->receiver_y;
+  r->rz = g->receiver_z;
   return TZ_OK;
 }
 

@@ -261,23 +261,30 @@ static int parse_geometry(job_spec *j, const cJSON *v, const char *dir, tz_err *
   if (cJSON_IsString(v)) {
     if (strcmp(v->valuestring, "headers"))
       return tz_fail(err, TZ_E_JOB,
-                   "$.geometry: expected \"headers\", {\"layout\": FILE} or {\"table\": FILE}, "
-                   "got \"%s\"", v->valuestring);
+                   "$.geometry: expected \"headers\", {\"layout\": FILE}, {\"table\": FILE} or "
+                   "{\"sps\": {...}}, got \"%s\"", v->valuestring);
     j->geometry = JOB_GEOMETRY_HEADERS;
     return TZ_OK;
   }
   if (!cJSON_IsObject(v))
     return tz_fail(err, TZ_E_JOB,
-                 "$.geometry: expected \"headers\", {\"layout\": FILE} or {\"table\": FILE}, "
-                 "got %s", json_doc_kind_name(v));
-  static const char *const keys[] = { "layout", "table", NULL };
+                 "$.geometry: expected \"headers\", {\"layout\": FILE}, {\"table\": FILE} or "
+                 "{\"sps\": {...}}, got %s", json_doc_kind_name(v));
+  static const char *const keys[] = { "layout", "table", "sps", NULL };
   int rc = json_doc_check_keys(v, "$.geometry", keys, TZ_E_JOB, err);
   if (rc)
     return rc;
+  const cJSON *sps = cJSON_GetObjectItemCaseSensitive(v, "sps");
+  if (sps && cJSON_GetArraySize(v) > 1)
+    return tz_fail(err, TZ_E_JOB, "$.geometry: \"sps\" goes alone (not with \"layout\" or "
+                   "\"table\")");
+  if (sps)
+    return job_sps_parse(j, sps, dir, err);
   const cJSON *lay = cJSON_GetObjectItemCaseSensitive(v, "layout");
   const cJSON *tab = cJSON_GetObjectItemCaseSensitive(v, "table");
   if ((lay && tab) || (!lay && !tab))
-    return tz_fail(err, TZ_E_JOB, "$.geometry: expected exactly one of \"layout\" or \"table\"");
+    return tz_fail(err, TZ_E_JOB, "$.geometry: expected exactly one of \"layout\", \"table\" "
+                   "or \"sps\"");
   j->geometry = lay ? JOB_GEOMETRY_LAYOUT : JOB_GEOMETRY_TABLE;
   return get_path(lay ? lay : tab, lay ? "$.geometry.layout" : "$.geometry.table", dir, 1,
                   &j->geometry_file, err);
@@ -1158,6 +1165,8 @@ void job_free(job_spec *j)
   free(j->path);
   free(j->name);
   free(j->geometry_file);
+  for (int k = 0; k < 3; k++)
+    free(j->sps[k]);
   free(j->header_map);
   free(j->velocity);
   free(j->mute_top);
@@ -1258,6 +1267,8 @@ int job_foreach_input(const job_spec *j, job_input_fn fn, void *ctx)
     { j->path, JOB_INPUT_JOB }, { j->velocity, JOB_INPUT_VELOCITY },
     { j->geometry_file, JOB_INPUT_GEOMETRY }, { j->header_map, JOB_INPUT_HEADER_MAP },
     { j->limits_file, JOB_INPUT_LIMITS }, { j->migration.velocity, JOB_INPUT_TABLE },
+    { j->sps[0], JOB_INPUT_GEOMETRY }, { j->sps[1], JOB_INPUT_GEOMETRY },
+    { j->sps[2], JOB_INPUT_GEOMETRY },
   };
   int rc = 0;
   for (size_t i = 0; !rc && i < sizeof one / sizeof one[0]; i++)
@@ -1470,8 +1481,11 @@ int job_to_json(const job_spec *j, char **out, tz_err *err)
       bad |= add_str(r, "geometry", "headers");
     } else {
       o = cJSON_AddObjectToObject(r, "geometry");
-      bad |= !o || add_str(o, j->geometry == JOB_GEOMETRY_LAYOUT ? "layout" : "table",
-                           j->geometry_file);
+      if (j->geometry == JOB_GEOMETRY_SPS)
+        bad |= !o || job_sps_to_json(j, o);
+      else
+        bad |= !o || add_str(o, j->geometry == JOB_GEOMETRY_LAYOUT ? "layout" : "table",
+                             j->geometry_file);
     }
     bad |= add_str(r, "header_map", j->header_map);
     if (j->interval_us)

@@ -18,4 +18,10 @@ int job_mute_parse(job_spec *j, const cJSON *v, const char *dir, tz_err *err);
 /* The resolved mutes into the "mute" object o of job_to_json(); 0 or -1 (memory). */
 int job_mute_to_json(const job_spec *j, cJSON *o);
 
+/* "geometry": {"sps": {...}} (job_geometry.c): fills j->sps and sets
+ * j->geometry; v is the "sps" value. */
+int job_sps_parse(job_spec *j, const cJSON *v, const char *dir, tz_err *err);
+/* Adds "sps" to the resolved "geometry" object; 0 or -1 (memory). */
+int job_sps_to_json(const job_spec *j, cJSON *geometry);
+
 #endif

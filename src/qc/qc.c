@@ -382,7 +382,8 @@ int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
   stack_line_info li = stack_plan_line(p);
   cJSON *g = cJSON_AddObjectToObject(r, "geometry");
   cJSON_AddStringToObject(g, "source", !j || j->geometry == JOB_GEOMETRY_HEADERS ? "headers"
-                                       : j->geometry == JOB_GEOMETRY_LAYOUT ? "layout" : "table");
+                                       : j->geometry == JOB_GEOMETRY_LAYOUT ? "layout"
+                                       : j->geometry == JOB_GEOMETRY_SPS ? "sps" : "table");
   cJSON *ln = cJSON_AddObjectToObject(g, "line");
   cJSON_AddNumberToObject(ln, "origin_x_m", round_to(li.origin_x_m, 1e-4));
   cJSON_AddNumberToObject(ln, "origin_y_m", round_to(li.origin_y_m, 1e-4));

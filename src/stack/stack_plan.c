@@ -25,6 +25,7 @@
 #include <sys/stat.h>
 #include <pthread.h>
 #include <unistd.h>
+#include "tzero/sps.h"
 
 static const char *const skip_names[STACK_SKIP__COUNT] = {
   [STACK_SKIP_DEAD] = "dead",
@@ -391,6 +392,8 @@ static int open_geometry(stack_plan *p, tz_err *err)
       tz_err_path(err, j->geometry_file);
     return rc;
   }
+  if (j->geometry == JOB_GEOMETRY_SPS)
+    return sps_load_source(&p->geo, (const char *const *)j->sps, err);
   if (j->geometry == JOB_GEOMETRY_TABLE) {
     geometry_table *t = NULL;
     if ((rc = geometry_table_load(&t, j->geometry_file, err)))

@@ -29,3 +29,65 @@ expect_status 0 "inspect a record with a noisy trace" -- "$TZERO" inspect --json
 if "$PYTHON" -c 'import json,sys; f=json.load(open(sys.argv[1]))["files"][0]; n=f["noisy"]; sys.exit(0 if f["noisy_traces"] == 1 and n[0]["channel"] == 40 and n[0]["rms_over_record_median"] > 10 else 1)' "$T/out"; then
   ok "the noisy trace is flagged with its RMS over the record's median"
 else notok "noisy trace in inspect --json"; fi
+
+# SPS revision 2.1 files (SEG Technical Standards Committee, 2006), written by
+# fieldline.write_sps from the published column layout: what matched, what did not.
+S="$D/line.s"; R="$D/line.r"; X="$D/line.x"
+expect_status 0 "geometry --sps S,R,X" -- "$TZERO" geometry --sps "$S,$R,$X" "$D"/shots/*.sgy
+expect_stdout "^geometry from SPS; 29 files, 1392 traces" "geometry from SPS"
+expect_stdout "30 source points \(29 in matched relations\).* 58 relation records \(58 matched\): 1392 channels placed" \
+  "what matched is printed"
+expect_stdout "unmatched records: 4" "unmatched records counted"
+expect_stdout "line.s line 14 \(source record\): source line 4711 point 1049.00 index 1: in no matched relation record" \
+  "the misfired source point is listed with its file and line"
+expect_stdout "line.r line [0-9]+ \(receiver record\): receiver line 9999 point 1.00" "a stray receiver point is listed"
+expect_stdout "receiver interval 5\.000 m" "receiver interval from the SPS positions"
+
+# Malformed records: exit 65 naming the file, the line and the column.
+"$PYTHON" - "$D" <<'PY'
+import sys
+d = sys.argv[1]
+s = open(f"{d}/line.s").read().split("\n")
+s[3] = s[3][:46] + "51x074.6 " + s[3][55:]          # easting, columns 47-55
+open(f"{d}/bad.s", "w").write("\n".join(s))
+x0 = open(f"{d}/line.x").read().split("\n")
+x = list(x0)
+x[4] = x[4][:38] + "   48    1" + x[4][48:]          # from channel 48 to channel 1
+open(f"{d}/bad.x", "w").write("\n".join(x))
+r = open(f"{d}/line.r").read().split("\n")
+open(f"{d}/dup.r", "w").write("\n".join(r + [r[5]]) + "\n")
+open(f"{d}/short.x", "w").write("\n".join(l for l in x0 if not l.startswith("X T0001       1")))
+PY
+expect_status 65 "a malformed easting" -- "$TZERO" geometry --sps "$D/bad.s,$R,$X" "$D"/shots/*.sgy
+expect_stderr "bad.s: line 4: columns 47-55 \(map grid easting\): '51x074.6' is not a number" \
+  "the message names the file, line and columns"
+expect_status 65 "channels running backwards" -- "$TZERO" geometry --sps "$S,$R,$D/bad.x" "$D"/shots/*.sgy
+expect_stderr "bad.x: line 5: columns 39-49 \(from channel 48, to channel 1, channel increment 1\): the channels must run up" \
+  "the relation record's columns are named"
+expect_status 65 "a receiver point given twice" -- "$TZERO" geometry --sps "$S,$D/dup.r,$X" "$D"/shots/*.sgy
+expect_stderr "dup.r: line [0-9]+: line 4711 point 1004.00 index 1 is already given on line 6" \
+  "the duplicate names both lines"
+expect_status 65 "the R file given as the S file" -- "$TZERO" geometry --sps "$R,$R,$X" "$D"/shots/*.sgy
+expect_stderr "line.r: line 3: column 1 \(record identifier\): 'R' is not 'S'" "a wrong file is named"
+expect_status 65 "a record with no relation" -- "$TZERO" geometry --sps "$S,$R,$D/short.x" "$D"/shots/*.sgy
+expect_stderr "rec_001.sgy: trace 1: field record 1 channel 1: not in geometry table .*short.x" \
+  "a trace without a relation record is named"
+expect_status 64 "--sps with two files" -- "$TZERO" geometry --sps "$S,$R" "$D"/shots/*.sgy
+
+# The job form, shared by tzero geometry and tzero stack.
+printf 'cmp,time_ms,velocity_mps\n1,0,1800\n1,220,2000\n1,330,2300\n' > "$D/v.csv"
+cat > "$D/job.json" <<'JOB'
+{ "shots": ["shots/*.sgy"],
+  "geometry": {"sps": {"source": "line.s", "receiver": "line.r", "relation": "line.x"}},
+  "velocity": "v.csv",
+  "output": {"section": "out/stack.sgy", "report": "out/qc.json"} }
+JOB
+expect_status 0 "geometry --job with an SPS geometry" -- "$TZERO" geometry --job "$D/job.json"
+expect_stdout "^geometry from SPS" "the job's SPS files are used"
+expect_status 0 "stack --job with an SPS geometry" -- "$TZERO" stack --quiet --job "$D/job.json"
+if "$PYTHON" -c 'import json,sys; q=json.load(open(sys.argv[1])); g=q["geometry"]; sys.exit(0 if g["source"] == "sps" and g["receiver_interval_m"] == 5 else 1)' "$D/out/qc.json"; then
+  ok "the QC report says the geometry came from SPS files"
+else notok "QC report geometry source"; fi
+sed 's/"relation": "line.x"/"relatoin": "line.x"/' "$D/job.json" > "$D/typo.json"
+expect_status 65 "a misspelt SPS key" -- "$TZERO" stack --job "$D/typo.json"
+expect_stderr "geometry.sps.*relatoin.*relation" "the nearest key is suggested"

@@ -1,0 +1,59 @@
+/* job_geometry.c -- the job's geometry exchange files, crooked-line and unit keys.
+ *
+ * "geometry": {"sps": {"source": FILE, "receiver": FILE, "relation": FILE}} names
+ * the three files of SEG's SPS format, revision 2.1 (sps.h); paths are taken from
+ * the job file's folder and must exist.
+ *
+ * Not here: reading the files (sps.c), the rest of the job (job.c).
+ */
+#include <stdlib.h>
+#include <string.h>
+
+#include "job/job_int.h"
+#include "util/json_doc.h"
+
+int job_sps_parse(job_spec *j, const cJSON *v, const char *dir, tz_err *err)
+{
+  static const char *const keys[] = { "source", "receiver", "relation", NULL };
+  if (!cJSON_IsObject(v))
+    return tz_fail(err, TZ_E_JOB, "$.geometry.sps: expected an object {\"source\": FILE, "
+                   "\"receiver\": FILE, \"relation\": FILE}, got %s", json_doc_kind_name(v));
+  int rc = json_doc_check_keys(v, "$.geometry.sps", keys, TZ_E_JOB, err);
+  for (int k = 0; !rc && k < 3; k++) {
+    char jp[64];
+    snprintf(jp, sizeof jp, "$.geometry.sps.%s", keys[k]);
+    const cJSON *e = cJSON_GetObjectItemCaseSensitive(v, keys[k]);
+    const char *s;
+    if (!e) {
+      rc = tz_fail(err, TZ_E_JOB, "$.geometry.sps: missing key \"%s\" (the SPS %s file)",
+                   keys[k], keys[k]);
+      break;
+    }
+    if ((rc = json_doc_string(e, jp, &s, TZ_E_JOB, err)))
+      break;
+    free(j->sps[k]);
+    if (!(j->sps[k] = job_path_resolve(dir, s))) {
+      rc = tz_fail(err, TZ_E_NOMEM, "job path");
+      break;
+    }
+    rc = job_need_file(j->sps[k], jp, err);
+  }
+  if (!rc) {
+    j->geometry = JOB_GEOMETRY_SPS;
+    free(j->geometry_file);
+    j->geometry_file = NULL;
+  }
+  return rc;
+}
+
+int job_sps_to_json(const job_spec *j, cJSON *geometry)
+{
+  cJSON *o = cJSON_AddObjectToObject(geometry, "sps");
+  if (!o)
+    return -1;
+  static const char *const keys[] = { "source", "receiver", "relation" };
+  for (int k = 0; k < 3; k++)
+    if (!cJSON_AddStringToObject(o, keys[k], j->sps[k] ? j->sps[k] : ""))
+      return -1;
+  return 0;
+}
