@@ -61,6 +61,17 @@ int fileio_same_file(const char *a, const char *b);
  * the same name in the same folder (folders compared by identity, links
  * followed, "." and ".." resolved), whether or not the files exist yet. */
 int fileio_same_output(const char *a, const char *b);
+/* Tidies a path in place for printing and recording, as the shell would reach
+ * the same file: repeated '/' become one, "." components go, and "NAME/.."
+ * is folded away when NAME is a plain folder (kept when NAME is a symbolic
+ * link, where ".." leaves the link's target, or when NAME is missing);
+ * "demo/tarrowvane/../out//x" becomes "demo/out/x". A trailing '/' goes
+ * (except for "/"); an empty result is ".". Returns path. */
+char *fileio_path_clean(char *path);
+/* dir + "/" + rel cleaned as above (rel alone when it is absolute or dir is
+ * NULL, "" or "."). The caller owns the string (free()); NULL when out of memory. */
+char *fileio_path_join(const char *dir, const char *rel);
+
 /* TZ_E_CREATE (path `out`) when writing `out` would replace the input `in`:
  * "WHAT would overwrite the input IN; choose another output". NULLs are fine. */
 int fileio_check_not_input(const char *out, const char *in, const char *what, tz_err *err);

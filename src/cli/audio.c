@@ -220,7 +220,7 @@ int cmd_audio(int argc, char **argv)
   long long ll, first = 1;
   int json = 0, quiet = 0, have_first = 0, c, rc;
   cli_opt_begin();
-  while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
+  while ((c = cli_getopt(argc, argv, "h", opts)) != -1) {
     rc = 0;
     switch (c) {
     case O_OUT: out = optarg; break;

@@ -10,9 +10,13 @@
 #define TZERO_VERSION "0.1.0"
 
 /* The caution every help text and the README carry. */
-#define CLI_CAUTION \
+/* The professional-review caution: in full on `tzero --help` (as in the README
+ * and tzero(1)), once in one line at the foot of each subcommand's page. */
+#define CLI_CAUTION_FULL \
   "A processed section is an interpretation aid: have it reviewed by a qualified\n" \
   "geophysicist. Local regulations and licensed practice govern any site work.\n"
+#define CLI_CAUTION \
+  "Caution: for review by a qualified geophysicist; regulations govern site work.\n"
 
 /* Each subcommand: argv[0] is the subcommand name; returns a <sysexits.h> code. */
 int cmd_inspect(int argc, char **argv);
@@ -58,10 +62,15 @@ int cli_print_json(void *tree);
  * opterr = 0: getopt prints nothing, the messages are ours) and ends its switch
  * with `default: return cli_opt_error(cmd, argv, opts);`, the usage error naming
  * the option getopt did not accept: unknown (with the nearest option name
- * suggested), missing its value, or an abbreviation that fits several options
- * (getopt_long takes an unambiguous prefix of a long option's name). */
+ * suggested), missing its value, or shortened (cli_getopt). */
 struct option;
 void cli_opt_begin(void);
+/* getopt_long(3) that takes long options only as written in full: a shortened
+ * name (which getopt_long would take when it fits one option) is returned as
+ * '?' for cli_opt_error() to name with the full name, so `--stretch 30` never
+ * runs silently as `--stretch-limit 30` nor changes meaning when a later option
+ * shares the prefix. Every subcommand's loop calls it instead of getopt_long. */
+int cli_getopt(int argc, char **argv, const char *shortopts, const struct option *opts);
 int cli_opt_error(const char *cmd, char **argv, const struct option *opts);
 /* The usage error for a stray argument; when no --job was given (`job` NULL) and
  * the argument names a .json file, it suggests `--job ARG`. */

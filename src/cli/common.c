@@ -50,6 +50,7 @@ int cli_opt_error(const char *cmd, char **argv, const struct option *opts)
   char word[128];
   snprintf(word, sizeof word, "%.*s", (int)strcspn(arg + 2, "="), arg + 2);
   size_t len = strlen(word), nmatch = 0, nopts = 0;
+  int exact = 0;
   const char *names[256];
   char list[512] = "";
   for (const struct option *o = opts; o->name && nopts < 256; o++) {
@@ -57,6 +58,7 @@ int cli_opt_error(const char *cmd, char **argv, const struct option *opts)
     if (!strncmp(o->name, word, len)) {
       if (!strcmp(o->name, word)) {   /* whole name: it needed a value */
         nmatch = 1;
+        exact = 1;
         snprintf(list, sizeof list, "--%s", o->name);
         break;
       }
@@ -69,12 +71,34 @@ int cli_opt_error(const char *cmd, char **argv, const struct option *opts)
   if (nmatch > 1)
     return cli_usage_error(cmd, "option '--%s' is ambiguous: it could be %s; give more of "
                            "the name", safe, list);
+  if (nmatch == 1 && !exact)   /* cli_getopt() refused the abbreviation */
+    return cli_usage_error(cmd, "option '--%s' is shortened; write it in full: '%s'", safe,
+                           list);
   if (nmatch == 1)
     return cli_usage_error(cmd, "option '%s' needs a value", list);
   const char *near = tz_nearest(word, names, nopts, len / 3 > 2 ? len / 3 : 2);
   if (near)
     return cli_usage_error(cmd, "unknown option '--%s'; did you mean '--%s'?", safe, near);
   return cli_usage_error(cmd, "unknown option '--%s'", safe);
+}
+
+int cli_getopt(int argc, char **argv, const char *shortopts, const struct option *opts)
+{
+  int li = -1;
+  int c = getopt_long(argc, argv, shortopts, opts, &li);
+  if (c == -1 || c == '?' || c == ':' || li < 0)
+    return c;
+  /* where the option was typed: its own element, or the one before a value
+   * given as the next element (getopt_long permutes only between calls) */
+  int at = optarg && optind >= 2 && optarg == argv[optind - 1] ? optind - 2 : optind - 1;
+  const char *typed = at >= 0 && at < argc ? argv[at] : "";
+  if (strncmp(typed, "--", 2))
+    return c;
+  size_t len = strcspn(typed + 2, "=");
+  if (strlen(opts[li].name) == len && !strncmp(opts[li].name, typed + 2, len))
+    return c;
+  optind = at + 1;   /* cli_opt_error() names argv[optind - 1] */
+  return '?';
 }
 
 int cli_unexpected_arg(const char *cmd, const char *arg, const char *job)

@@ -254,7 +254,7 @@ int cmd_compare(int argc, char **argv)
   double max_db = NAN;
   const char *cmps_text = NULL;
   cli_opt_begin();
-  while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
+  while ((c = cli_getopt(argc, argv, "h", opts)) != -1) {
     int bad = 0;
     switch (c) {
     case O_TMIN: bad = cli_parse_f64("compare", "--time-min", optarg, &p.time_min_ms); break;

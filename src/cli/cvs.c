@@ -66,7 +66,7 @@ int cmd_cvs(int argc, char **argv)
   int json = 0, quiet = 0, c;
   const char *edits = NULL;
   cli_opt_begin();
-  while ((c = getopt_long(argc, argv, "h", lo, NULL)) != -1) {
+  while ((c = cli_getopt(argc, argv, "h", lo)) != -1) {
     int bad = 0;
     switch (c) {
     case O_JOB: jobpath = optarg; break;

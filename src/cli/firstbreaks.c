@@ -82,7 +82,7 @@ int cmd_firstbreaks(int argc, char **argv)
   firstbreak_line_opts fo;
   firstbreak_line_opts_init(&fo);
   cli_opt_begin();
-  while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
+  while ((c = cli_getopt(argc, argv, "h", opts)) != -1) {
     int k = cli_job_option("firstbreaks", c, optarg, &ov);
     if (k < 0)
       return EX_USAGE;

@@ -73,7 +73,7 @@ int cmd_fit(int argc, char **argv)
   };
   int json = 0, quiet = 0, c;
   cli_opt_begin();
-  while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
+  while ((c = cli_getopt(argc, argv, "h", opts)) != -1) {
     switch (c) {
     case 'j': json = 1; break;
     case 'q': quiet = 1; break;

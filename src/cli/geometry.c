@@ -679,7 +679,7 @@ int cmd_geometry(int argc, char **argv)
   long long first = 1;
   int has_first = 0, json = 0, quiet = 0, c;
   cli_opt_begin();
-  while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
+  while ((c = cli_getopt(argc, argv, "h", opts)) != -1) {
     switch (c) {
     case O_JOB: job_path = optarg; break;
     case O_LAYOUT: layout_path = optarg; break;

@@ -19,6 +19,7 @@
 #include <sysexits.h>
 
 #include "cli.h"
+#include "tzero/fileio.h"
 #include "tzero/segy.h"
 
 #define MAX_FILES 100000
@@ -708,13 +709,11 @@ static int list_dir(const char *dir, char ***out, size_t *n, tz_err *err)
       }
       *out = nl;
     }
-    size_t len = strlen(dir) + strlen(e->d_name) + 2;
-    char *p = malloc(len);
+    char *p = fileio_path_join(dir, e->d_name);   /* "dir/" + name without "//" */
     if (!p) {
       rc = tz_fail(err, TZ_E_NOMEM, "file list");
       break;
     }
-    snprintf(p, len, "%s/%s", dir, e->d_name);
     (*out)[(*n)++] = p;
   }
   closedir(d);
@@ -764,7 +763,7 @@ int cmd_inspect(int argc, char **argv)
   long long v;
   int c;
   cli_opt_begin();
-  while ((c = getopt_long(argc, argv, "h", lo, NULL)) != -1) {
+  while ((c = cli_getopt(argc, argv, "h", lo)) != -1) {
     switch (c) {
     case 'H':
       if (cli_parse_i64("inspect", "--headers", optarg, &v))

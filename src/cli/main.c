@@ -60,7 +60,7 @@ static void usage(FILE *fp)
           "fold and mute QC report.\n\nsubcommands:\n");
   for (size_t i = 0; i < NSUB; i++)
     fprintf(fp, "  %-10s %s\n", subcmds[i].name, subcmds[i].summary);
-  fprintf(fp, "\noptions: --help, --version\n\n%s", CLI_CAUTION);
+  fprintf(fp, "\noptions: --help, --version\n\n%s", CLI_CAUTION_FULL);
 }
 
 static void *signal_thread(void *arg)

@@ -57,7 +57,7 @@ int cmd_merge(int argc, char **argv)
   merge_opts mo = { .tool_version = TZERO_VERSION, .run = &run };
   int json = 0, quiet = 0, c;
   cli_opt_begin();
-  while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
+  while ((c = cli_getopt(argc, argv, "h", opts)) != -1) {
     switch (c) {
     case 'o': mo.section = optarg; break;
     case 'r': mo.report = optarg; break;

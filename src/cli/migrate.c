@@ -256,7 +256,7 @@ int cmd_migrate(int argc, char **argv)
   int c, have_cmps = 0;
   long long ll;
   cli_opt_begin();
-  while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
+  while ((c = cli_getopt(argc, argv, "h", opts)) != -1) {
     switch (c) {
     case 'v': a.velocity = optarg; break;
     case 'o': a.out = optarg; break;

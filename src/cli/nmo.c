@@ -58,7 +58,7 @@ int cmd_nmo(int argc, char **argv)
   job_overrides ov;
   job_overrides_init(&ov);
   cli_opt_begin();
-  while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
+  while ((c = cli_getopt(argc, argv, "h", opts)) != -1) {
     int k = cli_job_option("nmo", c, optarg, &ov);
     if (k < 0)
       return EX_USAGE;

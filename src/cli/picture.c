@@ -347,7 +347,7 @@ int cmd_picture(int argc, char **argv)
   cli_spectrum_pic sp = { 0 };
   int json = 0, quiet = 0, format = -1, c;
   cli_opt_begin();
-  while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
+  while ((c = cli_getopt(argc, argv, "h", opts)) != -1) {
     int bad = 0;
     double a, b;
     switch (c) {

@@ -245,7 +245,7 @@ int cmd_report(int argc, char **argv)
   int has_cmp = 0, json = 0, quiet = 0, check = 0, as_survey = 0, c;
   const char *csv = NULL, *html = NULL, *section = NULL;
   cli_opt_begin();
-  while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
+  while ((c = cli_getopt(argc, argv, "h", opts)) != -1) {
     switch (c) {
     case 'c':
       if (cli_parse_i64("report", "--cmp", optarg, &cmp))

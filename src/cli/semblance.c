@@ -139,7 +139,7 @@ static int parse(int argc, char **argv, struct opts *o)
   const char *cmd = "semblance";
   int c;
   cli_opt_begin();
-  while ((c = getopt_long(argc, argv, "h", lo, NULL)) != -1) {
+  while ((c = cli_getopt(argc, argv, "h", lo)) != -1) {
     int bad = 0;
     switch (c) {
     case O_JOB: o->job = optarg; break;

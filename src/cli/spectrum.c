@@ -237,7 +237,7 @@ int cmd_spectrum(int argc, char **argv)
   double max_hz = INFINITY, omax = -1;
   int json = 0, quiet = 0, c, has, ex;
   cli_opt_begin();
-  while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
+  while ((c = cli_getopt(argc, argv, "h", opts)) != -1) {
     switch (c) {
     case 'J': job_path = optarg; break;
     case 'C': conditioned = 1; break;

@@ -68,7 +68,7 @@ static int statics_elevation(int argc, char **argv)
   const char *job = NULL, *out = NULL;
   int json = 0, quiet = 0, c;
   cli_opt_begin();
-  while ((c = getopt_long(argc, argv, "h", lo, NULL)) != -1) {
+  while ((c = cli_getopt(argc, argv, "h", lo)) != -1) {
     switch (c) {
     case O_JOB: job = optarg; break;
     case O_OUT: out = optarg; break;

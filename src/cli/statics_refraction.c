@@ -163,7 +163,7 @@ int cmd_statics_refraction(int argc, char **argv)
   job_overrides_init(&ov);
   optind = 1;
   opterr = 0;
-  while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
+  while ((c = cli_getopt(argc, argv, "h", opts)) != -1) {
     int k = cli_job_option(cmd, c, optarg, &ov);
     if (k < 0)
       return EX_USAGE;

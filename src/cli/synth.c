@@ -121,7 +121,7 @@ int cmd_synth(int argc, char **argv)
   double reverb_c = 0.5;
   int json = 0, quiet = 0, c;
   cli_opt_begin();
-  while ((c = getopt_long(argc, argv, "h", opts, NULL)) != -1) {
+  while ((c = cli_getopt(argc, argv, "h", opts)) != -1) {
     switch (c) {
     case O_MODEL: model_path = optarg; break;
     case O_LAYOUT: layout_path = optarg; break;

@@ -392,7 +392,7 @@ int cmd_velocity(int argc, char **argv)
   long long every = 0;
   int c;
   cli_opt_begin();
-  while ((c = getopt_long(argc, argv, "ho:q", lopts, NULL)) != -1) {
+  while ((c = cli_getopt(argc, argv, "ho:q", lopts)) != -1) {
     switch (c) {
     case 'c':
       if (cli_parse_i64(CMD, "--cmp", optarg, &op.cmp))

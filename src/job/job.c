@@ -42,18 +42,13 @@ static char *dupstr(const char *s)
   return s ? strdup(s) : NULL;
 }
 
-/* dir + "/" + rel, unless rel is absolute or dir is empty. */
 static int need_file(const char *path, const char *jpath, tz_err *err);
 
+/* dir + "/" + rel, unless rel is absolute or dir is empty; tidied for messages
+ * and the report ("demo/tarrowvane/../out/x" is "demo/out/x"). */
 static char *resolve(const char *dir, const char *rel)
 {
-  if (rel[0] == '/' || !dir || !dir[0] || !strcmp(dir, "."))
-    return strdup(rel);
-  size_t n = strlen(dir) + strlen(rel) + 2;
-  char *p = malloc(n);
-  if (p)
-    snprintf(p, n, "%s/%s", dir, rel);
-  return p;
+  return fileio_path_join(dir, rel);
 }
 
 char *job_path_resolve(const char *dir, const char *rel)

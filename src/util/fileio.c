@@ -1095,3 +1095,88 @@ void fileio_glob_free(char **paths, size_t n)
     free(paths[i]);
   free(paths);
 }
+
+/* ---------------------------------------------------------------- path text */
+
+/* Whether the first n bytes of path name a folder that is not a symbolic link
+ * (so "NAME/.." is the folder holding it). */
+static int plain_folder(const char *path, size_t n)
+{
+  char buf[PATH_MAX];
+  if (n == 0 || n >= sizeof buf)
+    return 0;
+  memcpy(buf, path, n);
+  buf[n] = '\0';
+  struct stat st;
+  return lstat(buf, &st) == 0 && S_ISDIR(st.st_mode);
+}
+
+char *fileio_path_clean(char *path)
+{
+  if (!path)
+    return path;
+  int absolute = path[0] == '/';
+  size_t w = absolute ? 1 : 0;   /* write position; components end before it */
+  size_t depth = 0;              /* components written that ".." may fold */
+  const char *r = path;
+  while (*r) {
+    while (*r == '/')
+      r++;
+    size_t len = strcspn(r, "/");
+    if (len == 0)
+      break;
+    if (len == 1 && r[0] == '.') {
+      r += len;
+      continue;
+    }
+    if (len == 2 && r[0] == '.' && r[1] == '.') {
+      if (depth > 0) {
+        size_t end = w > 0 && path[w - 1] == '/' ? w - 1 : w;
+        if (plain_folder(path, end)) {
+          size_t start = end;   /* back to the start of the last component */
+          while (start > 0 && path[start - 1] != '/')
+            start--;
+          w = start;
+          depth--;
+          r += len;
+          continue;
+        }
+      } else if (absolute) {   /* "/.." is "/" */
+        r += len;
+        continue;
+      }
+    }
+    if (w > 0 && path[w - 1] != '/')
+      path[w++] = '/';
+    memmove(path + w, r, len);
+    int dots = len == 2 && r[0] == '.' && r[1] == '.';
+    w += len;
+    r += len;
+    if (!dots)
+      depth++;
+    else
+      depth = 0;   /* a kept ".." cannot be folded by a later one */
+  }
+  if (w > 1 && path[w - 1] == '/')
+    w--;
+  if (w == 0)
+    path[w++] = absolute ? '/' : '.';
+  path[w] = '\0';
+  return path;
+}
+
+char *fileio_path_join(const char *dir, const char *rel)
+{
+  if (!rel)
+    return NULL;
+  char *p;
+  if (rel[0] == '/' || !dir || !dir[0] || !strcmp(dir, ".")) {
+    p = strdup(rel);
+  } else {
+    size_t n = strlen(dir) + strlen(rel) + 2;
+    p = malloc(n);
+    if (p)
+      snprintf(p, n, "%s/%s", dir, rel);
+  }
+  return p ? fileio_path_clean(p) : NULL;
+}

@@ -19,8 +19,14 @@ expect_status 64 "far-off option" -- "$TZERO" stack --zzzzzzzz
 expect_stderr "unknown option '--zzzzzzzz'$" "far-off option: no suggestion"
 expect_status 64 "option missing its value" -- "$TZERO" stack --job
 expect_stderr "option '--job' needs a value" "missing value named"
-# getopt_long(3) (glibc) takes an unambiguous prefix of a long option; an
-# ambiguous one is refused with the candidates listed
+# long options only in full: getopt_long(3) (glibc) would take an unambiguous
+# prefix; we refuse it with the full name, and an ambiguous one lists the candidates
+expect_status 64 "shortened option refused" -- "$TZERO" stack --stretch 30 --job x.json
+expect_stderr "option '--stretch' is shortened; write it in full: '--stretch-limit'" "shortened option: full name given"
+expect_status 64 "shortened option with =VALUE refused" -- "$TZERO" stack --job=x.json --stretch=30
+expect_stderr "write it in full: '--stretch-limit'" "shortened --opt=VALUE: full name given"
+expect_status 64 "shortened option of another subcommand" -- "$TZERO" semblance --supergath 2
+expect_stderr "write it in full: '--supergather'" "semblance: shortened option named"
 expect_status 64 "ambiguous option prefix" -- "$TZERO" synth --noise-train 3
 expect_stderr "option '--noise-train' is ambiguous: it could be --noise-train-amplitude, --noise-train-velocity" "ambiguous prefix: candidates listed"
 expect_status 64 "job file given without --job" -- "$TZERO" stack "$TOP/demo/tarrowvane/gw01.job.json"
@@ -34,3 +40,16 @@ expect_stderr "text.sgy: byte 3224: not a SEG-Y file\? the sample format code at
 expect_status 66 "missing input" -- "$TZERO" inspect "$T/none.sgy"
 expect_stderr "none.sgy: cannot open: No such file" "missing input: no doubled wording"
 if grep -q "cannot open (cannot open" "$T/err"; then notok "doubled wording"; else ok "no doubled wording"; fi
+# the caution: in full on tzero --help; once, in one line, on every subcommand's page
+"$TZERO" --help >"$T/top.txt"
+grep -q "licensed practice govern any site work" "$T/top.txt" && ok "tzero --help: caution in full" \
+  || notok "tzero --help: full caution missing"
+for sub in $(sed -n 's/^  \([a-z]*\) .*/\1/p' "$T/top.txt" | sort -u) "statics refraction" "statics residual"; do
+  # shellcheck disable=SC2086
+  "$TZERO" $sub --help >"$T/page.txt" 2>&1
+  n=$(grep -c "qualified geophysicist" "$T/page.txt")
+  l=$(grep -ci "regulations" "$T/page.txt")
+  if [ "$n" -eq 1 ] && [ "$l" -eq 1 ] && grep -q "qualified geophysicist.*regulations" "$T/page.txt"; then
+    ok "$sub --help: the caution once, in one line"
+  else notok "$sub --help: caution $n times, regulations $l"; fi
+done

@@ -290,6 +290,51 @@ START_TEST(test_same_output_by_folder_identity_and_name)
 }
 END_TEST
 
+START_TEST(test_paths_are_tidied_for_printing)
+{
+  /* lexical clean-up as POSIX path resolution (XBD 4.13) reaches the same
+   * file: "//" is one separator, "." names the folder itself, "NAME/.." is the
+   * folder holding NAME unless NAME is a symbolic link */
+  ck_assert_int_eq(mkdir(at("demo"), 0777), 0);
+  ck_assert_int_eq(mkdir(at("demo/tarrowvane"), 0777), 0);
+  ck_assert_int_eq(mkdir(at("real"), 0777), 0);
+  ck_assert_int_eq(mkdir(at("real/sub"), 0777), 0);
+  ck_assert_int_eq(symlink("real/sub", at("link")), 0);
+  char here[512];
+  ck_assert_ptr_nonnull(getcwd(here, sizeof here));
+  ck_assert_int_eq(chdir(dir), 0);
+  static const char *const cases[][2] = {
+    { "demo/tarrowvane/../out/x", "demo/out/x" },
+    { "demo//out///x.sgy", "demo/out/x.sgy" },
+    { "./demo/./out/", "demo/out" },
+    { "demo/tarrowvane/../../y", "y" },
+    { "../a/b", "../a/b" },
+    { "missing/../x", "missing/../x" },   /* nothing to say where it leads */
+    { "link/../x", "link/../x" },         /* real/x, not ./x */
+    { "/", "/" },
+    { "//x//", "/x" },
+    { "/..", "/" },
+    { ".", "." },
+    { "./", "." },
+  };
+  for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
+    char buf[64];
+    snprintf(buf, sizeof buf, "%s", cases[i][0]);
+    ck_assert_str_eq(fileio_path_clean(buf), cases[i][1]);
+  }
+  char *j = fileio_path_join("demo/tarrowvane", "../out/gw01_stack.sgy");
+  ck_assert_str_eq(j, "demo/out/gw01_stack.sgy");
+  free(j);
+  j = fileio_path_join("demo/out/", "shot_1.sgy");
+  ck_assert_str_eq(j, "demo/out/shot_1.sgy");
+  free(j);
+  j = fileio_path_join("demo", "/abs//x");
+  ck_assert_str_eq(j, "/abs/x");
+  free(j);
+  ck_assert_int_eq(chdir(here), 0);
+}
+END_TEST
+
 START_TEST(test_named_pipe_input_is_refused_without_blocking)
 {
   /* opening a FIFO for reading blocks until a writer comes (POSIX open());
@@ -377,6 +422,7 @@ static Suite *fileio_suite(void)
   tcase_add_test(tc, test_signal_cleanup_removes_temporaries);
   tcase_add_test(tc, test_tmpdir_commit_moves_the_folder_into_place);
   tcase_add_test(tc, test_same_output_by_folder_identity_and_name);
+  tcase_add_test(tc, test_paths_are_tidied_for_printing);
   tcase_add_test(tc, test_named_pipe_input_is_refused_without_blocking);
   tcase_add_test(tc, test_patterns_are_bounded);
   suite_add_tcase(s, tc);
