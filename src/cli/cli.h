@@ -16,7 +16,7 @@
   "A processed section is an interpretation aid: have it reviewed by a qualified\n" \
   "geophysicist. Local regulations and licensed practice govern any site work.\n"
 #define CLI_CAUTION \
-  "Caution: for review by a qualified geophysicist; regulations govern site work.\n"
+  "Interpretation aid: review by a qualified geophysicist; rules govern site work.\n"
 
 /* Each subcommand: argv[0] is the subcommand name; returns a <sysexits.h> code. */
 int cmd_inspect(int argc, char **argv);

@@ -48,8 +48,8 @@ for sub in $(sed -n 's/^  \([a-z]*\) .*/\1/p' "$T/top.txt" | sort -u) "statics r
   # shellcheck disable=SC2086
   "$TZERO" $sub --help >"$T/page.txt" 2>&1
   n=$(grep -c "qualified geophysicist" "$T/page.txt")
-  l=$(grep -ci "regulations" "$T/page.txt")
-  if [ "$n" -eq 1 ] && [ "$l" -eq 1 ] && grep -q "qualified geophysicist.*regulations" "$T/page.txt"; then
+  l=$(grep -c "govern.* site work" "$T/page.txt")
+  if [ "$n" -eq 1 ] && [ "$l" -eq 1 ] && grep -qi "interpretation aid.*qualified geophysicist.*site work" "$T/page.txt"; then
     ok "$sub --help: the caution once, in one line"
-  else notok "$sub --help: caution $n times, regulations $l"; fi
+  else notok "$sub --help: caution $n times, site work $l"; fi
 done

@@ -8,7 +8,7 @@ D="$T/sv"
 "$PYTHON" "$TOP/tests/xcheck/test_stack_segyio.py" --make-survey "$D" || { notok "survey"; exit 1; }
 J="$D/line.json"
 expect_status 0 "--help" -- "$TZERO" spectrum --help
-expect_stdout 'interpretation aid' "--help carries the caution"
+expect_stdout '[Ii]nterpretation aid' "--help carries the caution"
 expect_stdout 'window START:END +time window in ms' "--help names the window option with units"
 expect_status 0 "spectrum of a job's shots" -- "$TZERO" spectrum --job "$J" --records 1-3 --max-hz 100
 expect_stdout '^frequency_hz,amplitude,amplitude_db$' "CSV header"
