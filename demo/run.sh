@@ -51,6 +51,11 @@ echo "== TV-GW-01: stack with the model's exact RMS velocities (job file $D/gw01
 "$TZ" stack --job "$D/gw01.job.json"
 echo "outputs: $O/gw01_stack.sgy (stacked section), $O/gw01_qc.json (QC report)"
 echo "         tzero report $O/gw01_qc.json --cmp 140   (one CMP in detail)"
+echo "what the client receives with the section: its textual header, the navigation file"
+echo "$O/gw01_nav.csv, the processing history $O/gw01_history.md and the velocities"
+"$TZ" inspect "$O/gw01_stack.sgy" | grep -E 'client|CRS|polarity' | head -n 3
+sed -n '1,3p' "$O/gw01_nav.csv"
+"$TZ" velocity --job "$D/gw01.job.json" --export "$O/gw01_velocity_export.csv"
 
 echo
 echo "== TV-GW-01: pictures of the section (first 150 ms) and of the fold and mute coverage"
@@ -73,6 +78,8 @@ echo "picked velocity table: $O/dx04_velocity.csv (model's exact RMS velocities:
 echo
 echo "== TV-DX-04: stack with the picked velocities (spherical divergence gain, band-pass, sinc8 NMO)"
 "$TZ" stack --job "$D/dx04.job.json" | sed -n '1,6p'
+echo "velocities with the section's coordinates every 20 CMPs, Dix interval velocities:"
+"$TZ" velocity --job "$D/dx04.job.json" --export "$O/dx04_velocity_export.csv" --every 20
 
 echo
 echo "== TV-DX-04: rerun with the model's velocities, then compare the two sections"
@@ -132,6 +139,9 @@ echo "   pass, residual statics, a second velocity pass, the final stack"
 "$TZ" semblance --job "$D/rt07_final.job.json" --cmps 40-380:40 --supergather 2 \
   --out "$O/rt07_velocity2.csv" --quiet
 "$TZ" stack --job "$D/rt07_final.job.json" --quiet
+"$TZ" velocity --job "$D/rt07_final.job.json" --export "$O/rt07_final_velocity_export.csv"
+echo "TV-RT-07 deliverables: $O/rt07_stack_final.sgy, $O/rt07_final_nav.csv,"
+echo "  $O/rt07_final_history.md, $O/rt07_final_velocity_export.csv"
 "$TZ" picture "$O/rt07_stack_final.sgy" --out "$O/rt07_stack_final.png" --time-ms 0-1000 \
   --title "TV-RT-07: refraction and residual statics, second velocities" --quiet
 "$TZ" compare "$O/rt07_stack_final.sgy" "$O/rt07_stack_refraction.sgy" | tail -n 2
@@ -197,7 +207,9 @@ echo "  rt07_stack.png (with statics), rt07_stack_nostatics.png, rt07_statics.pn
 echo "  rt07_record_picks.png, rt07_stack_refraction.png, rt07_stack_final.png (velocity loop),"
 echo "  rt07_elevation_statics.csv, rt07s_spectra.png, rt07s_record_{raw,decon,fk}.png,"
 echo "  rt07s_fk_{raw,after}.png, rt07s_stack_{raw,decon,fk}.png (deconvolution and f-k),"
-echo "  dx04_migrated.sgy (.png), dx04_migrated_ps.sgy (.png)"
+echo "  dx04_migrated.sgy (.png), dx04_migrated_ps.sgy (.png);"
+echo "  for the clients: {gw01,dx04,rt07,rt07_final}_nav.csv (navigation), *_history.md"
+echo "  (processing histories), {gw01,dx04,rt07_final}_velocity_export.csv"
 echo "A processed section is an interpretation aid: have it reviewed by a qualified geophysicist."
 echo
 echo "survey QC page (open it in a browser): $O/index.html"

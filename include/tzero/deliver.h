@@ -37,6 +37,11 @@ void deliver_steps_add(deliver_steps *s, const char *fmt, ...)
 /* The job's flow up to the stack, in order: input, geometry and bins, edits,
  * statics, each conditioning step with its parameters, NMO, mutes, the stack. */
 int deliver_steps_job(deliver_steps *s, const job_spec *j, tz_err *err);
+/* A post-stack time migration as one step's text (aperture and dip for Kirchhoff;
+ * max_hz 0 = Nyquist, not shown). */
+void deliver_migration_step(char *out, size_t cap, int kirchhoff, const char *velocity,
+                            double velocity_pct, double aperture_m, double max_dip_deg,
+                            double max_hz);
 /* The job's "migration" object as one step (nothing when the job has none). */
 void deliver_steps_migration(deliver_steps *s, const job_spec *j);
 
@@ -65,6 +70,15 @@ void deliver_section_text(const job_spec *j, const stack_plan *p, int32_t first_
                           int32_t last_cmp, const char *product, const deliver_steps *steps,
                           const deliver_run *run, char *out, size_t cap);
 
+/* A section's textual header carried on by a later step (tzero migrate of a tzero
+ * section): in_text is the input's textual header as decoded (segy_info.text, 40
+ * cards of 80 characters); when it is tzero's (card 1 starts "tzero ", a card reads
+ * "processing sequence:"), `out` gets its cards 1-38 with card 1 naming `product`
+ * and the run's date and `step` appended to the sequence, and 1 is returned.
+ * Otherwise 0 and `out` is untouched. */
+int deliver_section_text_continue(const char *in_text, const char *product, const char *step,
+                                  const deliver_run *run, char *out, size_t cap);
+
 /* The navigation file (output.navigation): CSV with the header
  * cmp,shot_point,x_m,y_m,surface_elevation_m,datum_m,fold and one row per trace
  * of the section, each value as the section's trace header stores it
@@ -75,8 +89,9 @@ int deliver_navigation_write(const stack_section *s, const stack_plan *p, const 
 /* Velocities with coordinates (`tzero velocity --job J --export FILE`): CSV
  * cmp,shot_point,x_m,y_m,time_ms,rms_mps,interval_mps. every = 0: at the table's
  * control CMPs, at their own knots; every = N > 0: at every N-th CMP of the
- * plan's range (from its first CMP), at the knot times of every control CMP,
- * the velocity sampled as the stack samples it (velocity_at). Interval
+ * plan's range (from its first CMP), at the knot times of the nearest control
+ * CMP (the lower of two as near), the velocity sampled as the stack samples it
+ * (velocity_at). Interval
  * velocities by Dix (1955) between consecutive rows of a CMP; empty where
  * V_rms^2 t does not increase (imaginary). *imaginary (may be NULL) counts
  * those. Written under a temporary name, renamed on success. */

@@ -13,6 +13,8 @@
 #include <cjson/cJSON.h>
 
 #include "cli.h"
+#include "jobopts.h"
+#include "tzero/deliver.h"
 #include "tzero/digest.h"
 #include "tzero/migrate.h"
 #include "tzero/qc.h"
@@ -101,6 +103,7 @@ typedef struct run_args {
   double scan[MAX_SCAN];
   size_t nscan;
   double cmp_interval_m;
+  const deliver_run *run;
 } run_args;
 
 static cJSON *report_json(const run_args *a, const migrate_params *p, const migrate_info *info,
@@ -183,10 +186,17 @@ static int run(const run_args *a, migrate_params *p)
     total += n;
   }
   if (!rc) {
-    if (!(text = malloc(2048))) {
+    if (!(text = malloc(DELIVER_TEXT_BYTES))) {
       rc = tz_fail(&e, TZ_E_NOMEM, "text");
     } else {
-      migrate_describe(s, p, a->velocity, a->input, a->scan, a->nscan, text, 2048);
+      /* a tzero section carries its textual header on, the migration appended to
+       * its processing sequence (deliver.h); any other gets the migration's own */
+      char step[DELIVER_STEP_BYTES];
+      deliver_migration_step(step, sizeof step, p->method == MIGRATE_KIRCHHOFF, a->velocity,
+                             p->velocity_pct, p->aperture_m, p->max_dip_deg, p->max_hz);
+      if (a->nscan || !deliver_section_text_continue(s->text, "time-migrated section", step,
+                                                     a->run, text, DELIVER_TEXT_BYTES))
+        migrate_describe(s, p, a->velocity, a->input, a->scan, a->nscan, text, DELIVER_TEXT_BYTES);
       rc = migrate_write(s, p, all, total, a->nscan ? a->scan : NULL, per, text, a->out, &e);
     }
   }
@@ -323,5 +333,8 @@ int cmd_migrate(int argc, char **argv)
     return cli_usage_error("migrate", "--out FILE is required");
   if (a.nscan && !have_cmps)
     return cli_usage_error("migrate", "--scan needs --cmps FIRST-LAST (the panel's CMPs)");
+  deliver_run dr;
+  cli_run_init(&dr, argc, argv);
+  a.run = &dr;
   return run(&a, &p);
 }

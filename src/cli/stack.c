@@ -30,6 +30,9 @@ static void help(void)
          "exact hyperbolic NMO with each CMP's own velocity function, top and stretch\n"
          "mutes, live-fold stack. Writes the stacked section (SEG-Y rev 1, one trace\n"
          "per CMP) and a QC report (JSON, format tzero-qc/1), then prints a summary.\n"
+         "With output.navigation and output.history it also writes the navigation\n"
+         "file and the processing history (docs/section.md), unless --out or\n"
+         "--cmp-range sends the section elsewhere or makes it a part.\n"
          "Options override the job file's values.\n"
          "\n"
          "options:\n"
@@ -304,7 +307,12 @@ int cmd_stack(int argc, char **argv)
   if ((rc = stack_section_write(sec, su.plan, job->section, job->sample_format, text,
                                 deliver_polarity_code(job), &e)))
     goto done;
-  if (job->navigation && (rc = deliver_navigation_write(sec, su.plan, job->navigation, &e)))
+  /* the navigation file and the history belong to the job's section of the whole line:
+   * a part (--cmp-range) or a section elsewhere (--out) leaves them alone (tzero merge
+   * writes them for the joined line) */
+  int deliverables = !ov.section && !ov.has_cmp_range;
+  if (deliverables && job->navigation &&
+      (rc = deliver_navigation_write(sec, su.plan, job->navigation, &e)))
     goto done;
   double t_write = cli_now_s();
   qc_migration mig;
@@ -337,7 +345,7 @@ int cmd_stack(int argc, char **argv)
   }
   if (job->report && !job->no_html && (rc = write_page(job, &e)))
     goto done;
-  if (job->history) {
+  if (deliverables && job->history) {
     const char *outs[6] = { job->section, NULL, NULL, NULL, NULL, NULL };
     size_t no = 1;
     if (job->report)

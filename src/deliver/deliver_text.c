@@ -129,12 +129,12 @@ int deliver_steps_job(deliver_steps *s, const job_spec *j, tz_err *err)
   deliver_steps_add(s, "geometry: %s%s%s%s", geo[g], j->geometry_file ? " " : "",
                     j->geometry_file ? base(j->geometry_file) : "", bins);
   if (edits_spec_active(&j->edits)) {
-    char a[120] = "";
+    char a[120] = "", r[64] = "";
+    if (j->edits.rms_ratio_max > 0)
+      snprintf(r, sizeof r, "%s RMS over %g x the record median", j->edits.auto_dead ? "," : "",
+               j->edits.rms_ratio_max);
     if (j->edits.auto_dead || j->edits.rms_ratio_max > 0)
-      snprintf(a, sizeof a, ", automatic:%s%s%.0g%s", j->edits.auto_dead ? " dead traces" : "",
-               j->edits.rms_ratio_max > 0 ? " RMS above " : "",
-               j->edits.rms_ratio_max > 0 ? j->edits.rms_ratio_max : 0.0,
-               j->edits.rms_ratio_max > 0 ? " x the record median" : "");
+      snprintf(a, sizeof a, ", automatic:%s%s", j->edits.auto_dead ? " dead traces" : "", r);
     deliver_steps_add(s, "edits: %zu kill and %zu reverse selections%s", j->edits.nkill,
                       j->edits.nreverse, a);
   }
@@ -172,23 +172,32 @@ int deliver_steps_job(deliver_steps *s, const job_spec *j, tz_err *err)
   return TZ_OK;
 }
 
+void deliver_migration_step(char *out, size_t cap, int kirchhoff, const char *velocity,
+                            double velocity_pct, double aperture_m, double max_dip_deg,
+                            double max_hz)
+{
+  char more[120] = "";
+  if (kirchhoff)
+    snprintf(more, sizeof more, ", aperture %s%.0f m, max dip %g deg",
+             aperture_m > 0 ? "" : "whole line ", aperture_m > 0 ? aperture_m : 0.0,
+             max_dip_deg);
+  char hz[40] = "";
+  if (max_hz > 0)
+    snprintf(hz, sizeof hz, ", up to %g Hz", max_hz);
+  snprintf(out, cap, "time migration: %s, velocity %s at %g %%%s%s",
+           kirchhoff ? "Kirchhoff" : "phase shift", base(velocity), velocity_pct, more, hz);
+}
+
 void deliver_steps_migration(deliver_steps *s, const job_spec *j)
 {
   if (!j->migration.given)
     return;
-  char more[120] = "";
-  if (j->migration.method)
-    snprintf(more, sizeof more, ", aperture %s%.0f m, max dip %g deg",
-             j->migration.aperture_m > 0 ? "" : "whole line ",
-             j->migration.aperture_m > 0 ? j->migration.aperture_m : 0.0,
-             j->migration.max_dip_deg);
-  char hz[40] = "";
-  if (j->migration.max_hz > 0)
-    snprintf(hz, sizeof hz, ", up to %g Hz", j->migration.max_hz);
-  deliver_steps_add(s, "time migration: %s, velocity %s at %g %%%s%s",
-                    j->migration.method ? "Kirchhoff" : "phase shift",
-                    base(j->migration.velocity ? j->migration.velocity : j->velocity),
-                    j->migration.velocity_pct, more, hz);
+  char step[DELIVER_STEP_BYTES];
+  deliver_migration_step(step, sizeof step, j->migration.method != 0,
+                         j->migration.velocity ? j->migration.velocity : j->velocity,
+                         j->migration.velocity_pct, j->migration.aperture_m,
+                         j->migration.max_dip_deg, j->migration.max_hz);
+  deliver_steps_add(s, "%s", step);
 }
 
 /* Appends one card (cut to 76 characters) to the text. */
@@ -251,4 +260,51 @@ void deliver_section_text(const job_spec *j, const stack_plan *p, int32_t first_
   if (shown < ns + (steps ? steps->dropped : 0))
     card(out, cap, &n, &cards, "%2zu ... and %zu more steps (see the processing history)",
          shown + 1, ns + steps->dropped - shown);
+}
+
+int deliver_section_text_continue(const char *in_text, const char *product, const char *step,
+                                  const deliver_run *run, char *out, size_t cap)
+{
+  /* the input's cards 1-38, columns 5-80, trailing blanks removed */
+  char cards[38][DELIVER_STEP_BYTES];
+  size_t len = in_text ? strlen(in_text) : 0;
+  int seq = -1, last = -1, nsteps = 0;
+  for (int c = 0; c < 38; c++) {
+    size_t at = (size_t)c * 80 + 4, n = 0;
+    while (n < 76 && at + n < len && in_text[at + n])
+      n++;
+    memcpy(cards[c], at < len ? in_text + at : "", at < len ? n : 0);
+    cards[c][at < len ? n : 0] = '\0';
+    for (size_t k = strlen(cards[c]); k > 0 && cards[c][k - 1] == ' '; k--)
+      cards[c][k - 1] = '\0';
+    int num;
+    if (!strcmp(cards[c], "processing sequence:"))
+      seq = c;
+    else if (seq >= 0 && last == c - 1 && sscanf(cards[c], "%d", &num) == 1 && num == nsteps + 1) {
+      last = c;
+      nsteps = num;
+    }
+    if (seq == c)
+      last = c;
+  }
+  if (seq < 0 || strncmp(cards[0], "tzero ", 6))
+    return 0;
+  char date[11];
+  deliver_date(run ? run->time_s : 0, date);
+  snprintf(cards[0], sizeof cards[0], "tzero %s %s, written %s (UTC)",
+           run && run->version ? run->version : "", product, date);
+  if (last < 37)
+    snprintf(cards[last + 1], sizeof cards[0], "%2d %s", nsteps + 1, step);
+  else
+    snprintf(cards[37], sizeof cards[0], "%2d ... and more steps, the last: %s", nsteps, step);
+  size_t n = 0;
+  int used = last < 37 ? last + 2 : 38;
+  out[0] = '\0';
+  for (int c = 0; c < used && n + 1 < cap; c++) {
+    cards[c][76] = '\0';
+    int w = snprintf(out + n, cap - n, "%s%s", c ? "\n" : "", cards[c]);
+    if (w > 0)
+      n += (size_t)w < cap - n ? (size_t)w : cap - n - 1;
+  }
+  return 1;
 }

@@ -23,12 +23,6 @@
 
 #define MAX_EXPORT_ROWS 50000000   /* rows one export writes */
 
-static int cmp_double(const void *a, const void *b)
-{
-  double x = *(const double *)a, y = *(const double *)b;
-  return (x > y) - (x < y);
-}
-
 /* One CMP: its rows from n (time, RMS) knots. */
 static int rows_at(FILE *fp, const stack_plan *p, int32_t cmp, const double *ts,
                    const double *vs, size_t n, velocity_interval *iv, int64_t *rows,
@@ -73,11 +67,11 @@ int deliver_velocity_export(const stack_plan *p, const velocity_table *v, int64_
   int32_t first = stack_plan_first_cmp(p), last = stack_plan_last_cmp(p);
   if (every < 0)
     return tz_fail(err, TZ_E_ARG, "every %lld CMPs: must be > 0", (long long)every);
-  if (every > 0 && (double)((last - first) / every + 1) * (double)all > MAX_EXPORT_ROWS)
-    return tz_fail(err, TZ_E_ARG, "every %lld CMPs over CMPs %d-%d at %zu times is more "
-                   "than %d rows", (long long)every, (int)first, (int)last, all,
+  if (every > 0 && (double)((last - first) / every + 1) * (double)maxk > MAX_EXPORT_ROWS)
+    return tz_fail(err, TZ_E_ARG, "every %lld CMPs over CMPs %d-%d at up to %zu times is "
+                   "more than %d rows", (long long)every, (int)first, (int)last, maxk,
                    MAX_EXPORT_ROWS);
-  size_t cap = every > 0 ? all : maxk;
+  size_t cap = maxk;
   double *ts = malloc(cap * sizeof *ts), *vs = malloc(cap * sizeof *vs);
   velocity_interval *iv = malloc(cap * sizeof *iv);
   fileio_out *out = NULL;
@@ -108,21 +102,19 @@ int deliver_velocity_export(const stack_plan *p, const velocity_table *v, int64_
       rc = rows_at(fp, p, (int32_t)c, ts, vs, n, iv, &rows, &imag, err);
     }
   } else {
-    /* every knot time of every control CMP: the function between control CMPs is
-     * linear in time between these (linear in CMP at equal time) */
-    size_t m = 0;
-    for (size_t i = 0; i < nc; i++)
-      for (size_t k = 0; k < velocity_table_nknots(v, i); k++)
-        velocity_table_knot(v, i, k, &ts[m++], NULL, NULL);
-    qsort(ts, m, sizeof *ts, cmp_double);
-    size_t u = 0;
-    for (size_t k = 0; k < m; k++)
-      if (!u || ts[k] != ts[u - 1])
-        ts[u++] = ts[k];
+    /* at the knot times of the nearest control CMP (the lower of two as near): the
+     * same number of layers as the picks, without the slivers a union of every
+     * control's times would make; the velocity at each time is the stack's */
+    size_t i = 0;
     for (int64_t c = first; c <= last && !rc; c += every) {
-      for (size_t k = 0; k < u; k++)
+      while (i + 1 < nc && velocity_table_cmp(v, i + 1) - c < c - velocity_table_cmp(v, i))
+        i++;
+      size_t n = velocity_table_nknots(v, i);
+      for (size_t k = 0; k < n; k++) {
+        velocity_table_knot(v, i, k, &ts[k], NULL, NULL);
         vs[k] = velocity_at(v, c, ts[k], NULL);
-      rc = rows_at(fp, p, (int32_t)c, ts, vs, u, iv, &rows, &imag, err);
+      }
+      rc = rows_at(fp, p, (int32_t)c, ts, vs, n, iv, &rows, &imag, err);
     }
   }
   if (rc) {

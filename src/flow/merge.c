@@ -593,15 +593,25 @@ int merge_parts(const merge_opts *o, merge_result *res, tz_err *err)
     rc = stack_section_write(s, su.plan, o->section, su.job->sample_format, text,
                              deliver_polarity_code(su.job), err);
   }
-  free(steps);
-  if (!rc && o->report) {
+  /* the line's deliverables (deliver.h), as a whole-line `tzero stack` writes them */
+  if (!rc && su.job->navigation)
+    rc = deliver_navigation_write(s, su.plan, su.job->navigation, err);
+  if (!rc && (o->report || su.job->history)) {
     qc_build_args qa = {
       .job = su.job, .plan = su.plan, .section = s, .velocity = su.velocity,
       .section_path = o->section, .tool_version = o->tool_version,
       .header_pass_s = su.header_pass_s,
     };
     rc = qc_report_build(&qa, &report, err);
-    FILE *fp = rc ? NULL : fileio_stream(rep);
+  }
+  if (!rc && su.job->history) {
+    const char *outs[4] = { o->section, o->report ? o->report : su.job->navigation,
+                            o->report ? su.job->navigation : NULL, NULL };
+    rc = deliver_history_write(su.job, report, steps, o->run, outs, su.job->history, err);
+  }
+  free(steps);
+  if (!rc && o->report) {
+    FILE *fp = fileio_stream(rep);
     if (fp && (fputs(report, fp) == EOF || fputc('\n', fp) == EOF)) {
       tz_fail(err, TZ_E_IO, "write failed");
       rc = tz_err_path(err, o->report);

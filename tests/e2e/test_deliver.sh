@@ -4,7 +4,8 @@
 # values exit 65 naming the JSON path, outputs over inputs or over each other exit 73,
 # bad command lines exit 64 (BSD sysexits(3)); the date in the textual header and the
 # history is SOURCE_DATE_EPOCH's when it is set (the reproducible-builds convention);
-# parts joined by `tzero merge` carry the whole line's textual header (cards 1-38).
+# parts joined by `tzero merge` carry the whole line's textual header (cards 1-38); runs
+# with --out or --cmp-range write no navigation or history, `tzero merge` writes them.
 # The values themselves are read back with segyio and NumPy in
 # tests/xcheck/test_deliverables.py.
 . "$TOP/tests/e2e/lib.sh"
@@ -61,6 +62,8 @@ else notok "the history lacks the date $W"; fi
 "$TZERO" stack --job "$D/ok.json" --out "$D/out/w.sgy" --report "$D/out/w.json" --quiet
 set -- $("$PYTHON" -c 'import json, sys; s = json.load(open(sys.argv[1]))["section"]
 print(s["cmp_first"], (s["cmp_first"] + s["cmp_last"]) // 2, s["cmp_last"])' "$D/out/w.json")
+mv "$D/out/nav.csv" "$D/out/nav_whole.csv"
+mv "$D/out/history.md" "$D/out/history_whole.md"
 "$TZERO" stack --job "$D/ok.json" --cmp-range "$1-$2" --out "$D/out/a.sgy" --report "$D/out/a.json" \
   --quiet
 "$TZERO" stack --job "$D/ok.json" --cmp-range "$(($2 + 1))-$3" --out "$D/out/b.sgy" \
@@ -70,6 +73,11 @@ expect_status 0 "merge the parts" -- "$TZERO" merge "$D/out/a.json" "$D/out/b.js
 if [ "$(head -c 3040 "$D/out/m.sgy" | od -An -tx1)" = "$(head -c 3040 "$D/out/w.sgy" | od -An -tx1)" ]
 then ok "the joined section carries the whole line's textual header"
 else notok "the joined section's textual header differs from the whole line's"; fi
+if cmp -s "$D/out/nav.csv" "$D/out/nav_whole.csv"; then
+  ok "runs with --out and --cmp-range leave the navigation alone; merge writes the line's"
+else notok "the joined line's navigation differs from the whole line's"; fi
+if grep -q "tzero merge" "$D/out/history.md"; then ok "merge writes the line's history"
+else notok "no history from merge"; fi
 
 expect_status 64 "--export without --job" -- "$TZERO" velocity --export "$T/v.csv"
 expect_status 64 "--every 0" -- "$TZERO" velocity --job "$D/ok.json" --export "$T/v.csv" --every 0

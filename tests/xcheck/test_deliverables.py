@@ -117,6 +117,15 @@ ok(mb[3256:3258] == b"\x00\x02", "migrated section: polarity code 2 kept")
 ok([x[F.ShotPoint] for x in mh] == [x[F.ShotPoint] for x in h],
    "migrated section: the stack's shot points (bytes 197-200) kept")
 
+r = run("migrate", stack, "--velocity", os.path.join(d, "vel2.csv"), "--method", "kirchhoff",
+        "--out", os.path.join(d, "out", "kirchhoff.sgy"), "--quiet", env=env)
+ok(r.returncode == 0, "tzero migrate of the stack", r.stderr.strip())
+ktext, kh, kb = read(os.path.join(d, "out", "kirchhoff.sgy"))
+check_text(ktext, "tzero migrate",
+           ["input", "geometry", "statics", "NMO", "top mute", "stack", "time migration"])
+ok("Kirchhoff" in ktext and kb[3256:3258] == b"\x00\x02",
+   "tzero migrate: the step names the method; polarity code kept")
+
 # navigation = headers
 cmp = np.array([x[F.CDP] for x in h])
 sp = np.array([scaled(x[F.ShotPoint], x[F.ShotPointScalar]) for x in h])
@@ -184,6 +193,10 @@ for every in (None, 10):
         ok(err <= 0.006, f"RMS between control CMPs equals NumPy interpolation of the table "
            f"(largest difference {err:.4f} m/s)")
         cmps = sorted({int(r_["cmp"]) for r_ in rows})
+        # times: the knots of the nearest control CMP (the lower of two as near)
+        wrong_t = [c for c in cmps if [float(r_["time_ms"]) for r_ in rows if int(r_["cmp"]) == c]
+                   != ctl[40 if abs(c - 40) <= abs(c - 200) else 200][0]]
+        ok(not wrong_t, "each CMP at the knot times of its nearest control CMP", str(wrong_t[:3]))
         ok(cmps == list(range(int(cmp[0]), int(cmp[-1]) + 1, 10)),
            "every 10th CMP of the line from its first", str(cmps[:4]))
 
