@@ -100,6 +100,7 @@ PREFIX_LIST = \
   fileio \
   firstbreak \
   fit \
+  gathers \
   flow \
   geometry \
   job \

@@ -31,6 +31,11 @@ typedef struct flow_setup {
  * particular file names the job file. On failure nothing is left to free. */
 int flow_setup_load(flow_setup *s, const char *job_path, const job_overrides *ov,
                     int need_velocity, stack_progress_fn progress, void *ctx, tz_err *err);
+/* As flow_setup_load with `edit` set in the job document before it is parsed
+ * (job_load_edited; NULL: none): one panel of a test panel run. */
+int flow_setup_load_edited(flow_setup *s, const char *job_path, const job_edit *edit,
+                           const job_overrides *ov, int need_velocity,
+                           stack_progress_fn progress, void *ctx, tz_err *err);
 void flow_setup_free(flow_setup *s);     /* frees the members; NULL members are fine */
 
 /* The job's post-stack time migration ("migration", docs/migration.md): reads the

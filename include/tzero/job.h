@@ -178,6 +178,24 @@ int job_parse(job_spec **out, const char *text, size_t len, const char *name,
               const char *dir, tz_err *err);
 void job_free(job_spec *j);                          /* NULL is a no-op */
 
+/* One value set in the job document before it is parsed (test panels, `--vary`):
+ * `key` is a JSON path into the job ("moveout.stretch_limit_pct",
+ * "conditioning[2].operator_ms", "mute.top[1][1]"; a leading "$." is allowed),
+ * `value` is JSON text (a number, true, [1, 2] ...) or, when it is not JSON, a
+ * string. Object members missing on the way are created, so every key the job
+ * parser knows can be set; array elements must exist. */
+typedef struct job_edit {
+  const char *key;
+  const char *value;
+} job_edit;
+
+/* As job_load with `edit` applied to the document first (NULL: job_load). A key
+ * the job does not have (a member the parser does not know, an element beyond
+ * an array's end, a step through a value that is not an object or array) is
+ * TZ_E_ARG naming the path, with the nearest known key when there is one; the
+ * edited job is then checked as any job (TZ_E_JOB naming the path). */
+int job_load_edited(job_spec **out, const char *path, const job_edit *edit, tz_err *err);
+
 /* Reads an edits file for --edits: a JSON object with the keys of the job's
  * "edits" object (kill, reverse, auto). Messages name the file and the JSON
  * path ($.kill[0].channels). On success *out owns its lists (edits_spec_free). */

@@ -72,6 +72,11 @@ typedef struct picture_panel {
   const char *title;          /* title line; NULL: none */
   const double *marks_ms;     /* per trace a time to mark with a dot (first-break
                                * picks), NAN for none; NULL: no marks */
+  const int32_t *group;       /* per trace a group number 1..ngroups (test panels): a
+                               * line between groups and group_label[g - 1] at the top
+                               * of each; NULL: no groups */
+  const char *const *group_label;
+  size_t ngroups;
 } picture_panel;
 
 typedef struct picture_opts {
@@ -318,6 +323,12 @@ typedef struct picture_loaded {
   double time_first_ms, interval_ms;
   int cmps_increase;          /* 1 when CMP numbers strictly increase trace to trace */
   int64_t traces_in_file;
+  /* test panels (docs/gathers.md): when the textual header declares them, the
+   * panel number of each trace (bytes 233-236) and "KEY = VALUE" per panel */
+  int32_t *panel;             /* ntraces, or NULL */
+  size_t npanels;
+  char (*panel_label)[112];   /* npanels */
+  const char **panel_label_ptr;  /* npanels pointers into panel_label */
 } picture_loaded;
 
 void picture_loaded_free(picture_loaded *l);   /* NULL is a no-op */

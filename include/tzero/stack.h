@@ -289,6 +289,9 @@ void stack_section_header(const stack_section *s, const stack_plan *p, size_t c,
  * Written under a temporary name, renamed on success. */
 int stack_section_write(const stack_section *s, const stack_plan *p, const char *path,
                         int format_code, const char *text, int16_t polarity, tz_err *err);
+/* The finest time scalar (-100, -10 or 1) for which every time of bytes 95-114
+ * of h fits its 16-bit slot (SEG-Y rev 1 (2002), bytes 215-216). */
+int16_t stack_time_scalar(const segy_trace_header *h);
 
 /* ---- gathers of chosen CMPs ---- */
 
@@ -357,5 +360,65 @@ int stack_collect_records(const stack_plan *p, const int64_t (*rg)[2], size_t nr
                           stack_record_traces *out, tz_err *err);
 void stack_record_traces_free(stack_record_traces *r);   /* NULL is a no-op */
 
+
+/* ---- traces as they leave the chain (stack_visit.c) ---- */
+
+/* How far along the stack's chain a visited trace has gone. */
+enum stack_step {
+  STACK_STEP_EDITS = 0,      /* kills and polarity reversals (listed and automatic) */
+  STACK_STEP_STATICS,        /* + the statics (sub-sample time shift) */
+  STACK_STEP_CONDITIONING,   /* + the first conditioning_steps steps of the conditioning */
+  STACK_STEP_NMO,            /* + the whole conditioning and NMO with the stretch mute
+                              * (no top mute) */
+  STACK_STEP_MUTE,           /* + the job's mutes: the traces the stack sums */
+  STACK_STEP_ALL             /* everything before the stacker (today the same as MUTE) */
+};
+
+/* One trace as stack_visit() sees it. */
+typedef struct stack_visit_trace {
+  size_t input;              /* shot file index in the job */
+  int64_t trace;             /* 0-based trace within it */
+  const segy_trace_header *header;   /* as read; when statics applied, bytes 99-104
+                              * (source, receiver, total static) hold them */
+  int32_t cmp;
+  double x_m, y_m;           /* the CMP's bin centre */
+  double offset_m, offset_signed_m;
+  int32_t field_record, channel;
+  int32_t source_station, receiver_station;  /* the plan's station numbers (statics or
+                              * station edits), else positions along the line at the
+                              * receiver interval; 0 when that is unknown */
+  double static_ms;          /* total static applied (0 before the statics step) */
+  size_t live_lo, live_hi;   /* samples holding recorded data after the statics */
+  const float *samples;      /* ns samples after the step; NULL when offered to `want` */
+  const float *weight;       /* ns live weights as the stacker counts them (0 muted, 1
+                              * live, between inside a taper; before NMO 1 on
+                              * [live_lo, live_hi)); NULL when offered to `want` */
+} stack_visit_trace;
+
+/* `want` sees each trace the stack would use (header and geometry only) and
+ * returns 1 to have it processed; `emit` gets each wanted trace that survived
+ * the edits, after the step, in input order; a non-zero return stops the visit
+ * with that status. Both are borrowed for the call. */
+typedef int (*stack_visit_want_fn)(void *ctx, const stack_visit_trace *t);
+typedef int (*stack_visit_emit_fn)(void *ctx, const stack_visit_trace *t, tz_err *err);
+
+typedef struct stack_visit_opts {
+  int through;                       /* enum stack_step */
+  size_t conditioning_steps;         /* STACK_STEP_CONDITIONING: how many steps */
+  const condition_chain *conditioning; /* the chain (NULL = none); borrowed */
+  const velocity_table *velocity;    /* NMO, and a spherical gain from the table */
+  const nmo_params *nmo;             /* from STACK_STEP_NMO on (stack_run_opts.nmo) */
+  const nmo_top_mute *mute;          /* from STACK_STEP_MUTE on (stack_run_opts.mute) */
+  const mute_set *mutes;             /* from STACK_STEP_MUTE on (stack_run_opts.mutes) */
+  stack_visit_want_fn want;
+  stack_visit_emit_fn emit;
+  void *ctx;
+} stack_visit_opts;
+
+/* Runs the stack's chain (stack_chain_record, then stack_nmo_trace) on the
+ * traces `want` chooses, up to o->through, reading each record that holds one
+ * (whole when the chain has record-wide steps). Traces outside the plan's CMP
+ * range and killed traces are never emitted. Single-threaded (FFTW planner). */
+int stack_visit(const stack_plan *p, const stack_visit_opts *o, tz_err *err);
 
 #endif

@@ -24,6 +24,7 @@ int cmd_synth(int argc, char **argv);
 int cmd_geometry(int argc, char **argv);
 int cmd_velocity(int argc, char **argv);
 int cmd_nmo(int argc, char **argv);
+int cmd_gathers(int argc, char **argv);
 int cmd_stack(int argc, char **argv);
 int cmd_report(int argc, char **argv);
 int cmd_semblance(int argc, char **argv);

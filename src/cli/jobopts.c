@@ -62,6 +62,32 @@ void cli_run_init(deliver_run *r, int argc, char **argv)
   r->argv = argv;
 }
 
+int cli_vary_parse(const char *cmd, const char *arg, cli_vary *v)
+{
+  memset(v, 0, sizeof *v);
+  if (strlen(arg) >= sizeof v->buf)
+    return cli_usage_error(cmd, "--vary: longer than %zu characters", sizeof v->buf - 1);
+  snprintf(v->buf, sizeof v->buf, "%s", arg);
+  char *eq = strchr(v->buf, '=');
+  if (!eq || eq == v->buf || !eq[1])
+    return cli_usage_error(cmd, "--vary: expected KEY=V1,V2,... (a JSON path of the job, "
+                           "e.g. moveout.stretch_limit_pct=30,50,70), got '%s'", arg);
+  *eq = '\0';
+  v->key = v->buf;
+  for (char *s = eq + 1; s;) {
+    char *comma = strchr(s, ',');
+    if (comma)
+      *comma = '\0';
+    if (!*s)
+      return cli_usage_error(cmd, "--vary: an empty value in '%s'", arg);
+    if (v->n == CLI_VARY_MAX)
+      return cli_usage_error(cmd, "--vary: more than %d values", CLI_VARY_MAX);
+    v->values[v->n++] = s;
+    s = comma ? comma + 1 : NULL;
+  }
+  return 0;
+}
+
 double cli_now_s(void)
 {
   struct timespec ts;

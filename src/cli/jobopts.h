@@ -27,6 +27,18 @@ int cli_job_option(const char *cmd, int c, const char *arg, job_overrides *ov);
   "  --edits FILE.json         trace edits replacing the job's \"edits\" (kill, reverse,\n" \
   "                            auto; docs/statics.md)\n"
 
+/* --vary KEY=V1,V2,...: a JSON path of the job and the values of its test
+ * panels (job_load_edited), split in place in buf. */
+#define CLI_VARY_MAX 24
+typedef struct cli_vary {
+  char buf[2048];
+  const char *key;
+  const char *values[CLI_VARY_MAX];
+  size_t n;
+} cli_vary;
+/* 0, or EX_USAGE after printing a usage error. */
+int cli_vary_parse(const char *cmd, const char *arg, cli_vary *v);
+
 /* A progress line on stderr, drawn only when stderr is a terminal. */
 typedef struct cli_progress {
   int on;

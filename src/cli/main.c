@@ -35,6 +35,7 @@ static const struct subcmd subcmds[] = {
   { "firstbreaks", cmd_firstbreaks, "pick first arrivals on every live trace (refraction statics)" },
   { "statics",   cmd_statics,   "station statics tables: refraction, residual" },
   { "nmo",       cmd_nmo,       "write NMO-corrected CMP gathers for checking velocities" },
+  { "gathers",   cmd_gathers,   "gathers after the chain up to a step; test panels over a job key" },
   { "semblance", cmd_semblance, "semblance velocity scans and automatic picks" },
   { "cvs",       cmd_cvs,       "constant-velocity stack panels over a CMP range" },
   { "spectrum",  cmd_spectrum,  "average amplitude spectra of chosen traces of shot files or a section" },

@@ -30,7 +30,8 @@ static void help(void)
          "offset in m, or trial velocity in m/s for semblance panels (bytes 37-40)\n"
          "when those vary, else by trace number. The title line gives the file, the\n"
          "CMP and time ranges; the line below it the clip and colour legend; a\n"
-         "colour bar on the right gives amplitude values.\n"
+         "colour bar on the right gives amplitude values. Test panels (tzero gathers\n"
+         "--vary) are separated and each labelled with its KEY = VALUE.\n"
          "With --fold, draws the fold per CMP from the QC report of tzero stack,\n"
          "with the nominal fold dashed and the live fraction after the mutes below.\n"
          "\n"
@@ -477,6 +478,11 @@ int cmd_picture(int argc, char **argv)
     return cli_report(cmd, &err);
   }
   p.marks_ms = marks;
+  if (l.panel && l.npanels) {   /* test panels (tzero gathers/stack --vary) */
+    p.group = l.panel;
+    p.group_label = l.panel_label_ptr;
+    p.ngroups = l.npanels;
+  }
   rc = picture_draw_panel(&p, &po, format, &ctx, &info, &err);
   free(marks);
   if (!rc)

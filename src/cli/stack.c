@@ -19,6 +19,7 @@
 #include "tzero/page.h"
 #include "tzero/qc.h"
 #include "tzero/flow.h"
+#include "tzero/gathers.h"
 #include "tzero/stack.h"
 #include "tzero/table.h"
 
@@ -57,6 +58,13 @@ static void help(void)
          "  --brief                print one line instead: line, exit status, CMPs,\n"
          "                         fold, muted %%, skipped traces, velocity warnings\n"
          "                         (also after a failure); with --json, one JSON object\n"
+         "  --vary KEY=V1,V2,...   test panels (with --cmp-range and --out): the CMP\n"
+         "                         range stacked once per value of the job key KEY, a\n"
+         "                         JSON path (moveout.stretch_limit_pct,\n"
+         "                         conditioning[0].corners_hz[3]); panels one after\n"
+         "                         the other in --out, the panel number and value in\n"
+         "                         trace bytes 233-236 and 237-240 (docs/gathers.md);\n"
+         "                         no report is written\n"
          "  --depfile FILE         write a make(1) dependency file: the section and\n"
          "                         report depend on the job, its shot files, velocity\n"
          "                         table and every other input (docs/batch.md)\n"
@@ -193,6 +201,63 @@ static int print_summary(const char *report, const char *report_path, tz_err *e)
   return rc;
 }
 
+/* --vary: one stacked panel of the --cmp-range per value of a job key, all in
+ * --out (no report: panels are for choosing a parameter, not for delivery). */
+static int stack_vary(const char *jobpath, const job_overrides *ov, const cli_vary *vary,
+                      int quiet)
+{
+  flow_setup su[CLI_VARY_MAX];
+  stack_section *sec[CLI_VARY_MAX] = { NULL };
+  const stack_plan *plans[CLI_VARY_MAX];
+  memset(su, 0, sizeof su);
+  tz_err e;
+  tz_err_init(&e);
+  int rc = TZ_OK;
+  size_t i;
+  for (i = 0; i < vary->n; i++) {
+    job_edit ed = { vary->key, vary->values[i] };
+    cli_progress pg;
+    cli_progress_init(&pg, "header pass", quiet);
+    rc = flow_setup_load_edited(&su[i], jobpath, &ed, ov, 1, cli_progress_show, &pg, &e);
+    cli_progress_end(&pg);
+    if (!rc && i == 0 && !(rc = job_check_output(su[0].job, ov->section, "--out", 1, &e)))
+      rc = fileio_probe(ov->section, &e);
+    stack_run_opts ro;
+    if (!rc && !(rc = stack_run_opts_init(&ro, su[i].plan, su[i].velocity, &e))) {
+      cli_progress_init(&pg, "stacking", quiet);
+      ro.progress = cli_progress_show;
+      ro.progress_ctx = &pg;
+      rc = stack_run(su[i].plan, &ro, &sec[i], &e);
+      cli_progress_end(&pg);
+    }
+    if (rc)
+      break;
+    plans[i] = su[i].plan;
+  }
+  gathers_panels panels = { .key = vary->key, .n = vary->n, .values = vary->values };
+  if (!rc)
+    rc = gathers_write_stack_panels((const stack_section *const *)sec, plans, &panels,
+                                    ov->section, su[0].job->sample_format, &e);
+  if (rc) {
+    tz_err_path(&e, jobpath);
+    rc = cli_report("stack", &e);
+    if (i < vary->n)
+      fprintf(stderr, "tzero stack: (panel %zu: %s = %s)\n", i + 1, vary->key, vary->values[i]);
+  } else if (!quiet) {
+    printf("%s: %zu test panels of CMPs %d-%d, %s = ", ov->section, vary->n,
+           (int)sec[0]->first_cmp, (int)(sec[0]->first_cmp + (int32_t)sec[0]->ncmps - 1),
+           vary->key);
+    for (size_t k = 0; k < vary->n; k++)
+      printf("%s%s", k ? ", " : "", vary->values[k]);
+    printf("\n");
+  }
+  for (size_t k = 0; k < vary->n; k++) {
+    stack_section_free(sec[k]);
+    flow_setup_free(&su[k]);
+  }
+  return rc;
+}
+
 int cmd_stack(int argc, char **argv)
 {
   static const struct option opts[] = {
@@ -204,6 +269,7 @@ int cmd_stack(int argc, char **argv)
     { "check", no_argument, NULL, 'C' },
     { "brief", no_argument, NULL, 'B' },
     { "depfile", required_argument, NULL, 'D' },
+    { "vary", required_argument, NULL, 'V' },
     { "quiet", no_argument, NULL, 'q' },
     { "help", no_argument, NULL, 'h' },
     JOBOPTS_LONG,
@@ -211,6 +277,8 @@ int cmd_stack(int argc, char **argv)
   };
   const char *jobpath = NULL, *depfile = NULL;
   int json = 0, quiet = 0, check = 0, brief = 0, c;
+  cli_vary vary;
+  memset(&vary, 0, sizeof vary);
   job_overrides ov;
   job_overrides_init(&ov);
   cli_opt_begin();
@@ -232,6 +300,10 @@ int cmd_stack(int argc, char **argv)
     case 'C': check = 1; break;
     case 'B': brief = 1; break;
     case 'D': depfile = optarg; break;
+    case 'V':
+      if (cli_vary_parse("stack", optarg, &vary))
+        return EX_USAGE;
+      break;
     case 'q': quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
@@ -242,6 +314,15 @@ int cmd_stack(int argc, char **argv)
     return cli_unexpected_arg("stack", argv[optind], jobpath);
   if (!jobpath)
     return cli_usage_error("stack", "--job FILE is required");
+  if (vary.n) {
+    if (!ov.has_cmp_range || !ov.section)
+      return cli_usage_error("stack", "--vary needs --cmp-range and --out (test panels of "
+                             "a part of the line)");
+    if (check || brief || json || depfile || ov.report)
+      return cli_usage_error("stack", "--vary writes test panels only: no --report, --check, "
+                             "--brief, --json or --depfile");
+    return stack_vary(jobpath, &ov, &vary, quiet);
+  }
 
   double t_start = cli_now_s();
   tz_err e;

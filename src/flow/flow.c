@@ -30,9 +30,16 @@ static double mono_s(void)
 int flow_setup_load(flow_setup *s, const char *job_path, const job_overrides *ov,
                      int need_velocity, stack_progress_fn progress, void *ctx, tz_err *err)
 {
+  return flow_setup_load_edited(s, job_path, NULL, ov, need_velocity, progress, ctx, err);
+}
+
+int flow_setup_load_edited(flow_setup *s, const char *job_path, const job_edit *edit,
+                           const job_overrides *ov, int need_velocity,
+                           stack_progress_fn progress, void *ctx, tz_err *err)
+{
   memset(s, 0, sizeof *s);
   double t0 = mono_s();
-  int rc = job_load(&s->job, job_path, err);
+  int rc = job_load_edited(&s->job, job_path, edit, err);
   if (!rc && ov)
     rc = job_apply_overrides(s->job, ov, err);
   if (!rc && !s->job->velocity && need_velocity) {

@@ -20,6 +20,7 @@
  * (qc.c owns the report), printing (the front end).
  */
 #include "tzero/picture.h"
+#include "tzero/gathers.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -404,6 +405,50 @@ static int draw_wiggles(picture_ctx *c, const picture_panel *p, double clip,
   return TZ_OK;
 }
 
+/* Test panels: a black line between groups of traces and each group's label
+ * at its top left, on a white box so it reads over the data. */
+static void draw_groups(picture_ctx *c, const picture_panel *p, const picture_info *in)
+{
+  static const unsigned char white[3] = { 255, 255, 255 };
+  double cols = (double)in->plot_w / (double)p->ntraces;
+  picture_ctx_group(c, "class=\"panels\"");
+  for (size_t i = 0; i < p->ntraces; i++) {
+    if (i > 0 && p->group[i] == p->group[i - 1])
+      continue;
+    double x = in->plot_x + (double)i * cols;
+    if (i > 0) {
+      double xs[2] = { floor(x) + 0.5, floor(x) + 0.5 };
+      double ys[2] = { in->plot_y, in->plot_y + in->plot_h };
+      picture_ctx_polyline(c, xs, ys, 2, 2, 0, black);
+    }
+    int32_t g = p->group[i];
+    if (g < 1 || (size_t)g > p->ngroups || !p->group_label[g - 1])
+      continue;
+    /* the whole "KEY = VALUE", else its last key part, else the value, whichever
+     * fits the panel's width */
+    size_t j = i;
+    while (j < p->ntraces && p->group[j] == g)
+      j++;
+    double room = (double)(j - i) * cols - 8;
+    const char *lab = p->group_label[g - 1], *eq = strstr(lab, " = ");
+    double tw = picture_ctx_text_width(c, lab, 12, 1);
+    if (tw > room && eq) {
+      const char *k = eq;
+      while (k > lab && k[-1] != '.' && k[-1] != ']')
+        k--;
+      lab = k;
+      tw = picture_ctx_text_width(c, lab, 12, 1);
+      if (tw > room) {
+        lab = eq + 3;
+        tw = picture_ctx_text_width(c, lab, 12, 1);
+      }
+    }
+    picture_ctx_fill_rect(c, x + 3, in->plot_y + 3, tw + 6, 17, white);
+    picture_ctx_text(c, x + 6, in->plot_y + 16, lab, 12, PICTURE_ANCHOR_LEFT, 1, 0, black);
+  }
+  picture_ctx_group_end(c);
+}
+
 static void plot_area(uint32_t w, uint32_t h, int right, picture_info *in)
 {
   in->plot_x = PICTURE_MARGIN_LEFT;
@@ -499,6 +544,8 @@ int picture_draw_panel(const picture_panel *p, const picture_opts *o, int format
     }
     picture_ctx_group_end(c);
   }
+  if (p->group && p->ngroups)
+    draw_groups(c, p, &in);
   double t_last = p->time_first_ms + (double)(p->nsamples - 1) * p->interval_ms;
   left_axis(c, in.plot_x, in.plot_y + 0.5 * rows_per_sample - 0.5,
             in.plot_y + ((double)p->nsamples - 0.5) * rows_per_sample - 0.5, p->time_first_ms,
@@ -795,12 +842,55 @@ void picture_loaded_free(picture_loaded *l)
   free(l->offset);
   free(l->field_record);
   free(l->channel);
+  free(l->panel);
+  free(l->panel_label);
+  free(l->panel_label_ptr);
   memset(l, 0, sizeof *l);
 }
 
 static int keep_trace(const picture_select *s, const segy_trace_header *h)
 {
   return !s || !s->have_cmps || (h->cmp >= s->cmp_first && h->cmp <= s->cmp_last);
+}
+
+/* Test panels (gathers.h): only when the textual header declares them. */
+static int load_panels(segy_file *f, const picture_select *sel, int64_t first,
+                       picture_loaded *out, tz_err *err)
+{
+  const char *text = segy_get_info(f)->text;
+  if (!strstr(text, "test panels: panel number bytes 233-236"))
+    return TZ_OK;
+  char key[80] = "value";
+  gathers_panel_key(text, key, sizeof key);
+  if (!(out->panel = malloc(out->ntraces * sizeof *out->panel)))
+    return tz_fail(err, TZ_E_NOMEM, "panel numbers");
+  int64_t nt = segy_trace_count(f);
+  size_t k = 0;
+  int32_t maxp = 0;
+  segy_trace_header h;
+  for (int64_t i = first; i < nt && k < out->ntraces; i++) {
+    int rc = segy_header_read(f, i, &h, err);
+    if (rc)
+      return rc;
+    if (!keep_trace(sel, &h))
+      continue;
+    int32_t pn = gathers_panel_get(&h, NULL);
+    out->panel[k++] = pn > 0 && pn <= GATHERS_MAX_PANELS ? pn : 0;
+    maxp = pn > maxp && pn <= GATHERS_MAX_PANELS ? pn : maxp;
+  }
+  out->npanels = (size_t)maxp;
+  out->panel_label = calloc(out->npanels ? out->npanels : 1, sizeof *out->panel_label);
+  out->panel_label_ptr = calloc(out->npanels ? out->npanels : 1, sizeof *out->panel_label_ptr);
+  if (!out->panel_label || !out->panel_label_ptr)
+    return tz_fail(err, TZ_E_NOMEM, "panel labels");
+  for (size_t p = 0; p < out->npanels; p++) {
+    char val[80];
+    if (!gathers_panel_label(text, (int32_t)p + 1, val, sizeof val))
+      snprintf(val, sizeof val, "panel %zu", p + 1);
+    snprintf(out->panel_label[p], sizeof out->panel_label[p], "%s = %s", key, val);
+    out->panel_label_ptr[p] = out->panel_label[p];
+  }
+  return TZ_OK;
 }
 
 int picture_load_segy(const char *path, const picture_select *sel, picture_loaded *out,
@@ -897,6 +987,8 @@ int picture_load_segy(const char *path, const picture_select *sel, picture_loade
   }
   out->ntraces = k;
   out->nsamples = nk;
+  if ((rc = load_panels(f, sel, first_kept, out, err)))
+    goto fail;
   out->interval_ms = dt;
   out->time_first_ms = t0 + (double)j0 * dt;
   free(buf);

@@ -45,13 +45,19 @@ struct stack_chain_ws {
 int stack_chain_new(stack_chain **out, const stack_plan *p, const condition_chain *c,
                     const velocity_table *v, tz_err *err)
 {
+  return stack_chain_new_upto(out, p, c, v, 1, err);
+}
+
+int stack_chain_new_upto(stack_chain **out, const stack_plan *p, const condition_chain *c,
+                         const velocity_table *v, int statics, tz_err *err)
+{
   stack_chain *ch = calloc(1, sizeof *ch);
   if (!ch)
     return tz_fail(err, TZ_E_NOMEM, "processing chain");
   ch->p = p;
   ch->ns = p->axis.ns;
   ch->edits = edits_spec_active(&p->job->edits) ? &p->job->edits : NULL;
-  ch->statics = p->job->statics.present;
+  ch->statics = statics && p->job->statics.present;
   ch->win_lo = 0;
   ch->win_hi = ch->ns;
   if (ch->edits && ch->edits->window_end_ms > 0) {

@@ -1,9 +1,9 @@
 /* stack_collect.c -- traces of chosen CMPs, CMP lists, and writing the section.
  *
- * stack_collect() scans each shot file's headers once (seek-only), notes the
- * traces whose CMP is wanted, then reads only those traces' samples. The
- * classification is the plan's own (stack_plan_classify), so a gather holds
- * exactly the traces the stack would use. Gathers are sorted by |offset|
+ * stack_collect() asks stack_visit() for the traces whose CMP is wanted: one
+ * header scan per shot file, then only the records holding them are read and
+ * go through the stack's chain. The classification is the plan's own
+ * (stack_plan_classify), so a gather holds exactly the traces the stack would use. Gathers are sorted by |offset|
  * (stable: equal offsets keep input order).
  *
  * stack_section_write() puts a stacked section on disk as SEG-Y rev 1 with the
@@ -134,6 +134,45 @@ static int sort_gather(stack_gather *g, size_t ns, tz_err *err)
   return TZ_OK;
 }
 
+/* stack_collect() on stack_visit(): the wanted CMPs, and each trace appended
+ * to its CMP's gather as it leaves the chain. */
+typedef struct collect_ctx {
+  stack_gathers *G;
+  const int32_t *want;
+  size_t n;
+  size_t *cap;
+  size_t total, ns;
+} collect_ctx;
+
+static int collect_want(void *ctx, const stack_visit_trace *t)
+{
+  const collect_ctx *cc = ctx;
+  return bsearch(&t->cmp, cc->want, cc->n, sizeof *cc->want, cmp_i32) != NULL;
+}
+
+static int collect_emit(void *ctx, const stack_visit_trace *t, tz_err *err)
+{
+  collect_ctx *cc = ctx;
+  const int32_t *at = bsearch(&t->cmp, cc->want, cc->n, sizeof *cc->want, cmp_i32);
+  size_t gi = (size_t)(at - cc->want), ns = cc->ns;
+  stack_gather *g = &cc->G->g[gi];
+  if (++cc->total > STACK_MAX_GATHER_TRACES)
+    return tz_fail(err, TZ_E_ARG, "more than %d traces in the requested gathers",
+                   STACK_MAX_GATHER_TRACES);
+  int rc = grow(g, &cc->cap[gi], ns, err);
+  if (rc)
+    return rc;
+  size_t q = g->ntraces++;
+  g->headers[q] = *t->header;
+  memcpy(g->samples + q * ns, t->samples, ns * sizeof *g->samples);
+  g->offset_m[q] = t->offset_m;
+  g->offset_signed_m[q] = t->offset_signed_m;
+  g->static_ms[q] = t->static_ms;
+  g->live_lo[q] = t->live_lo;
+  g->live_hi[q] = t->live_hi;
+  return TZ_OK;
+}
+
 int stack_collect(const stack_plan *p, const int32_t *cmps, size_t ncmps,
                   const condition_chain *c, const velocity_table *v, stack_gathers **out,
                   tz_err *err)
@@ -141,15 +180,8 @@ int stack_collect(const stack_plan *p, const int32_t *cmps, size_t ncmps,
   stack_gathers *G = calloc(1, sizeof *G);
   int32_t *want = ncmps ? malloc(ncmps * sizeof *want) : NULL;
   size_t *cap = ncmps ? calloc(ncmps, sizeof *cap) : NULL;
-  size_t rmax = p->max_record > 0 ? (size_t)p->max_record : 1, ns = p->axis.ns;
-  float *rs = malloc(rmax * ns * sizeof *rs);          /* one record's samples */
-  stack_tinfo *ti = malloc(rmax * sizeof *ti);
-  segy_trace_header *rh = malloc(rmax * sizeof *rh);
-  ptrdiff_t *rg = malloc(rmax * sizeof *rg);           /* gather of each trace, or -1 */
-  stack_chain *ch = NULL;
-  stack_chain_ws *cws = NULL;
   int rc = TZ_OK;
-  if (!G || (ncmps && (!want || !cap)) || !rs || !ti || !rh || !rg) {
+  if (!G || (ncmps && (!want || !cap))) {
     rc = tz_fail(err, TZ_E_NOMEM, "gathers");
     goto done;
   }
@@ -173,97 +205,18 @@ int stack_collect(const stack_plan *p, const int32_t *cmps, size_t ncmps,
     G->g[i].x_m = cp.x_m;
     G->g[i].y_m = cp.y_m;
   }
-  if (n && ((rc = stack_chain_new(&ch, p, c, v, err)) ||
-            (rc = stack_chain_ws_new(&cws, ch, rmax, err))))
-    goto done;
-  int whole = n ? stack_chain_whole_records(ch) : 0;
-  size_t total = 0;
-  for (size_t fi = 0; fi < p->ninputs && n && !rc; fi++) {
-    if (p->inputs[fi].bad || !p->records[fi].n)
-      continue;
-    segy_file *f = NULL;
-    if ((rc = stack_open_input(p, fi, &f, err)))
-      break;
-    if (!stack_file_axis_ok(p, segy_get_info(f))) {
-      segy_close(f);
-      continue;
-    }
-    /* record by record: headers first; a record with a wanted trace is read
-     * (whole when the chain has record-wide steps) and goes through the chain */
-    for (size_t k = 0; k < p->records[fi].n && !rc; k++) {
-      int64_t a, m;
-      stack_record_span(p, fi, k, &a, &m);
-      size_t hits = 0;
-      for (int64_t t = a; t < a + m; t++) {
-        size_t j = (size_t)(t - a);
-        int reason;
-        rg[j] = -1;
-        ti[j].read = ti[j].counted = 0;
-        if ((rc = segy_header_read(f, t, &rh[j], err))) {
-          tz_err_path(err, p->inputs[fi].path);
-          break;
-        }
-        ti[j].stackable = stack_locate(p, &rh[j], t, &ti[j].cmp, &ti[j].off_abs,
-                                       &ti[j].off_signed, &ti[j].g, &reason);
-        if (!ti[j].stackable || !stack_plan_in_range(p, ti[j].cmp))
-          continue;
-        int32_t *at = bsearch(&ti[j].cmp, want, n, sizeof *want, cmp_i32);
-        if (at) {
-          rg[j] = at - want;
-          ti[j].counted = 1;
-          hits++;
-        }
-      }
-      if (rc || !hits)
-        continue;
-      for (size_t j = 0; j < (size_t)m && !rc; j++) {
-        if (!ti[j].stackable || (rg[j] < 0 && !whole))
-          continue;
-        if ((rc = segy_trace_read(f, a + (int64_t)j, &rh[j], rs + j * ns, ns, err)))
-          tz_err_path(err, p->inputs[fi].path);
-        ti[j].read = 1;
-      }
-      if (rc || (rc = stack_chain_record(ch, cws, fi, a, (size_t)m, rs, ti, err)))
-        break;
-      for (size_t j = 0; j < (size_t)m && !rc; j++) {
-        if (rg[j] < 0 || ti[j].killed)
-          continue;
-        stack_gather *g = &G->g[rg[j]];
-        if (++total > STACK_MAX_GATHER_TRACES) {
-          rc = tz_fail(err, TZ_E_ARG, "more than %d traces in the requested gathers",
-                       STACK_MAX_GATHER_TRACES);
-          break;
-        }
-        if ((rc = grow(g, &cap[rg[j]], ns, err)))
-          break;
-        size_t q = g->ntraces++;
-        g->headers[q] = rh[j];
-        memcpy(g->samples + q * ns, rs + j * ns, ns * sizeof *rs);
-        g->offset_m[q] = ti[j].off_abs;
-        g->offset_signed_m[q] = ti[j].off_signed;
-        g->static_ms[q] = ti[j].static_ms;
-        g->live_lo[q] = ti[j].live_lo;
-        g->live_hi[q] = ti[j].live_hi;
-        if (p->job->statics.present) {
-          g->headers[q].source_static_ms = ti[j].static_src_ms;
-          g->headers[q].receiver_static_ms = ti[j].static_rcv_ms;
-          g->headers[q].total_static_ms = ti[j].static_ms;
-        }
-      }
-    }
-    segy_close(f);
-  }
+  collect_ctx cc = { .G = G, .want = want, .n = n, .cap = cap, .ns = p->axis.ns };
+  stack_visit_opts vo = { .through = STACK_STEP_CONDITIONING,
+                          .conditioning_steps = c ? c->n : 0,
+                          .conditioning = c, .velocity = v,
+                          .want = collect_want, .emit = collect_emit, .ctx = &cc };
+  if (n)
+    rc = stack_visit(p, &vo, err);
   for (size_t i = 0; i < n && !rc; i++)
-    rc = sort_gather(&G->g[i], ns, err);
+    rc = sort_gather(&G->g[i], p->axis.ns, err);
 done:
   free(want);
   free(cap);
-  free(rs);
-  free(ti);
-  free(rh);
-  free(rg);
-  stack_chain_ws_free(cws);
-  stack_chain_free(ch);
   if (rc) {
     stack_gathers_free(G);
     return rc;

@@ -168,6 +168,10 @@ const stack_chain_counts *stack_chain_ws_counts(const stack_chain_ws *ws);
  * chain needs none). Single-threaded (FFTW planner). *out owns the chain. */
 int stack_chain_new(stack_chain **out, const stack_plan *p, const condition_chain *c,
                     const velocity_table *v, tz_err *err);
+/* As stack_chain_new, with the statics left out when statics is 0 (a chain that
+ * stops after the edits). */
+int stack_chain_new_upto(stack_chain **out, const stack_plan *p, const condition_chain *c,
+                         const velocity_table *v, int statics, tz_err *err);
 void stack_chain_free(stack_chain *ch);
 /* 1 when a run must read every stackable trace of a record it uses (record-wide
  * steps: automatic kills, record-wide conditioning). */
@@ -182,9 +186,6 @@ void stack_chain_ws_free(stack_chain_ws *ws);
 int stack_chain_record(const stack_chain *ch, stack_chain_ws *ws, size_t file, int64_t a,
                        size_t n, float *samples, stack_tinfo *ti, tz_err *err);
 
-/* The finest time scalar (-100, -10 or 1) for which every time of bytes 95-114
- * of h fits its 16-bit slot. */
-int16_t stack_time_scalar(const segy_trace_header *h);
 
 /* NMO of one trace after the chain: as nmo_apply, but samples outside
  * [live_lo, live_hi) (shifted in by a static) are not live: an input time
