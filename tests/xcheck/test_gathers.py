@@ -23,6 +23,9 @@ Checks (each names its source):
   - sorting: shot gathers come by field record then channel, receiver gathers
     share one receiver position each, CMP gathers run by |offset| (common
     practice); a near-offset section holds one trace per CMP, the nearest;
+  - a key inside the mutes along the line (`mute.top.controls[0].polyline[1][1]`)
+    moves the far trace's top mute later panel by panel (common practice: a top
+    mute zeroes the samples before its time);
   - test panels: `--vary moveout.stretch_limit_pct=20,50,80` gives three
     panels whose headers carry panel numbers 1-3 (bytes 233-236) and the
     values as IEEE floats (bytes 237-240, IEEE 754 single), each equal to a
@@ -179,6 +182,25 @@ for k, v in enumerate(vals):
     same = same and np.array_equal(one, p[ph[233] == k + 1])
 tz.ok(same, "each panel equals a separate run with --stretch-limit V")
 tz.ok(not np.array_equal(p[ph[233] == 1], p[ph[233] == 3]), "the panels differ")
+
+# a key inside the mutes along the line: the first control's far mute time
+ctl = dict(job)
+ctl["mute"] = {"top": {"controls": [{"cmp": 220, "polyline": [[0, 20], [400, 250]]},
+                                    {"cmp": 350, "polyline": [[0, 20], [400, 250]]}]}}
+JC = os.path.join(D, "controls.json")
+json.dump(ctl, open(JC, "w"))
+mv = ["150", "300", "450"]
+tz.run("gathers", "--job", JC, "--through", "mute", "--select", "222", "--vary",
+       "mute.top.controls[0].polyline[1][1]=" + ",".join(mv), "--out", out("ctl.sgy"), "--quiet")
+c, ch, ctext = read(out("ctl.sgy"))
+lead = []
+for k in range(1, 4):
+    far = c[ch[233] == k][-1]                   # the farthest trace of the CMP
+    lead.append(int(np.argmax(far != 0)))       # first live sample after the top mute
+tz.ok(sorted(set(ch[233].tolist())) == [1, 2, 3] and lead[0] < lead[1] < lead[2] and
+      "panel 3: 450" in ctext,
+      "--vary mute.top.controls[0].polyline[1][1]: the far trace's mute moves later panel by "
+      "panel (top mute: samples before the mute time are zeroed)", f"first live samples {lead}")
 
 tz.run("stack", "--job", J, "--cmp-range", "240-260", "--vary",
        "moveout.stretch_limit_pct=" + ",".join(vals), "--out", out("stack_panels.sgy"), "--quiet")
