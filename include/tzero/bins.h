@@ -22,6 +22,7 @@
 #define BINS_MAX_NODES 100000          /* crooked-line nodes */
 #define BINS_MAX_CMPS 10000000         /* CMP range a fold accumulator may span */
 #define BINS_OFFSET_CLASSES 16         /* offset distribution classes per CMP */
+#define BINS_CROOKED_PASSES 3          /* smoothing passes of an automatic crooked line */
 
 /* A straight processing line. */
 typedef struct bins_params {
@@ -89,6 +90,30 @@ int bins_fitter_add(bins_fitter *f, double mx, double my, tz_err *err);
 int bins_fitter_solve(const bins_fitter *f, double size_m, int32_t first_cmp,
                       double max_off_line_m, bins_params *p, bins_fit_report *rep,
                       tz_err *err);
+
+/* An automatic crooked line through the midpoints: a straight fit first, then
+ * BINS_CROOKED_PASSES passes that locate every midpoint on the current line and
+ * put nodes every smoothing_m / 8 (at least a bin apart) along it, from the first
+ * midpoint to the last, each moved across the line by a least-squares straight
+ * line through the midpoints' signed distances within smoothing_m of along-line
+ * window centred on it (moved inside the data at the ends): a running linear fit;
+ * the first pass smooths about the straight fit, the later ones about the
+ * previous polyline, so a bend is followed. The first node is at the first
+ * midpoint along the line, so its bin is first_cmp. On success *out owns a new
+ * crooked line; rep (may be NULL) gives the RMS and largest midpoint distance
+ * from it and the along-line length. */
+int bins_fitter_solve_crooked(const bins_fitter *f, double smoothing_m, double size_m,
+                              int32_t first_cmp, double max_off_line_m, bins_line **out,
+                              bins_fit_report *rep, tz_err *err);
+
+/* Nodes of a crooked line (0 for a straight line) and node i. */
+size_t bins_line_node_count(const bins_line *l);
+void bins_line_node(const bins_line *l, size_t i, double *x, double *y);
+
+/* Reads a node file: CSV with the header row x_m,y_m and the nodes in order (at
+ * least 2, none repeating the previous one). On success *x and *y own the
+ * coordinates (free()); errors name the file and line. */
+int bins_nodes_load(const char *path, double **x, double **y, size_t *n, tz_err *err);
 
 /* The processing line of a layout before any data exists: the layout azimuth,
  * origin at the projection of the layout's smallest along-line midpoint, so its

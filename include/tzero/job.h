@@ -43,6 +43,9 @@ typedef struct job_bins {
   int64_t first_cmp;                          /* CMP number of the origin's bin (default 1) */
   double max_distance_m;  /* a midpoint farther than this from the line is off the line;
                            * 0 = no limit (default) */
+  char *crooked_file;     /* "crooked": FILE: node file (x_m,y_m), resolved; NULL = none */
+  double crooked_smoothing_m; /* "crooked": {"smoothing_m": M}: automatic crooked line;
+                               * 0 = none */
 } job_bins;
 
 /* How a kind of mute was given in the job (docs/job-file.md, "Mutes"). */

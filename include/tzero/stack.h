@@ -82,6 +82,7 @@ typedef struct stack_line_info {
   double fit_rms_off_line_m;       /* when fitted */
   double max_off_line_m;           /* 0 = no limit */
   double largest_off_line_m;       /* largest distance of a trace's midpoint from the line */
+  size_t nodes;                    /* crooked line: its nodes (0 = straight) */
 } stack_line_info;
 
 /* Builds the plan from a resolved job: opens the geometry source (headers, layout

@@ -5,9 +5,10 @@
  * layout, survey_finish() gives the acquisition figures:
  *   receiver interval dg  median of the per-record medians of the along-line
  *                         step between consecutive channels (each step
- *                         projected on the record's own receiver line, the
- *                         principal axis of its receiver positions, so GPS
- *                         scatter across the line does not lengthen it);
+ *                         projected on the chord of the record's receivers
+ *                         from 3 before it to 3 after it, so GPS scatter
+ *                         across the line does not lengthen it and a bend
+ *                         does not shorten it);
  *   source interval ds    median distance between the sources of consecutive
  *                         records (moves under 5 mm are repeats, not moves);
  *                         both rounded to a round figure when within 0.5 % of
@@ -52,6 +53,9 @@ typedef struct survey_line_spec {
   size_t nnodes;
   int32_t first_cmp;            /* CMP number of the origin's bin */
   double max_off_line_m;        /* 0 = no limit */
+  double crooked_smoothing_m;   /* > 0: an automatic crooked line through the midpoints
+                                 * with this smoothing length (bins_fitter_solve_crooked);
+                                 * needs trace positions (not a layout) */
 } survey_line_spec;
 
 /* The acquisition figures (see the top of this header). */

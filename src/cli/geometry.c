@@ -53,6 +53,9 @@ static void help(void)
          "                      clockwise from north); without them the line comes\n"
          "                      from the layout, or is fitted through the midpoints\n"
          "  --crooked FILE      crooked line: CSV with columns x_m,y_m (nodes in order)\n"
+         "  --crooked-smoothing M\n"
+         "                      fit a crooked line through the midpoints: a running\n"
+         "                      mean of the midpoints across the line, M metres long\n"
          "  --first-cmp N       CMP number of the origin's bin (default 1)\n"
          "  --max-off-line M    skip traces whose midpoint lies farther from the line,\n"
          "                      metres (default 0 = no limit)\n"
@@ -293,55 +296,6 @@ static int check_write_names(char **files, size_t n, tz_err *err)
   return rc;
 }
 
-static int load_crooked(const char *path, double **x, double **y, size_t *n, tz_err *err)
-{
-  table_reader *t;
-  if (table_open(&t, path, err))
-    return err->status;
-  size_t nf, cap = 0;
-  int rc = table_next(t, &nf, err);
-  *x = *y = NULL;
-  *n = 0;
-  if (!rc && (nf < 2 || strcmp(table_field(t, 0), "x_m") || strcmp(table_field(t, 1), "y_m"))) {
-    tz_err_path(err, path);
-    rc = tz_fail_line(err, TZ_E_FORMAT, table_line(t), "expected the header row x_m,y_m");
-  }
-  while (!rc) {
-    if ((rc = table_next(t, &nf, err)) || nf == 0)
-      break;
-    if (*n == cap) {
-      cap = cap ? cap * 2 : 64;
-      if (cap > BINS_MAX_NODES * 2u) {
-        tz_err_path(err, path);
-        rc = tz_fail_line(err, TZ_E_FORMAT, table_line(t), "more than %d nodes", BINS_MAX_NODES);
-        break;
-      }
-      double *nx = realloc(*x, cap * sizeof *nx), *ny = nx ? realloc(*y, cap * sizeof *ny) : NULL;
-      if (nx) *x = nx;
-      if (ny) *y = ny;
-      if (!nx || !ny) {
-        rc = tz_fail(err, TZ_E_NOMEM, "crooked-line nodes");
-        break;
-      }
-    }
-    if ((rc = table_field_f64(t, 0, "x_m", &(*x)[*n], err)) ||
-        (rc = table_field_f64(t, 1, "y_m", &(*y)[*n], err)))
-      break;
-    if (*n && (*x)[*n] == (*x)[*n - 1] && (*y)[*n] == (*y)[*n - 1]) {
-      tz_err_path(err, path);
-      rc = tz_fail_line(err, TZ_E_FORMAT, table_line(t), "node repeats the previous node");
-      break;
-    }
-    (*n)++;
-  }
-  table_close(t);
-  if (!rc && *n < 2) {
-    tz_err_path(err, path);
-    rc = tz_fail(err, TZ_E_FORMAT, "a crooked line needs at least 2 nodes");
-  }
-  return rc;
-}
-
 static int write_fold_table(const run *r, const bins_fold *pred, const char *path, tz_err *err)
 {
   fileio_out *o;
@@ -495,6 +449,14 @@ static cJSON *json_summary(const run *r, const bins_fold *pred, const char *kind
   bins_params p = bins_line_get_params(r->line);
   cJSON *ln = cJSON_AddObjectToObject(o, "line");
   cJSON_AddStringToObject(ln, "kind", bins_line_is_crooked(r->line) ? "crooked" : "straight");
+  if (bins_line_is_crooked(r->line)) {
+    cJSON *nd = cJSON_AddArrayToObject(ln, "nodes");
+    for (size_t i = 0; nd && i < bins_line_node_count(r->line); i++) {
+      double xy[2];
+      bins_line_node(r->line, i, &xy[0], &xy[1]);
+      cJSON_AddItemToArray(nd, cJSON_CreateDoubleArray(xy, 2));
+    }
+  }
   cJSON_AddBoolToObject(ln, "fitted", fig->fitted);
   cJSON_AddNumberToObject(ln, "origin_x_m", p.origin_x);
   cJSON_AddNumberToObject(ln, "origin_y_m", p.origin_y);
@@ -610,6 +572,9 @@ static void print_text(const run *r, const bins_fold *pred, const char *kind,
   printf("processing line: %s%s, origin %.2f %.2f m, azimuth %.4f deg\n",
          bins_line_is_crooked(r->line) ? "crooked" : "straight", fig->fitted ? " (fitted)" : "",
          p.origin_x, p.origin_y, p.azimuth_deg);
+  if (bins_line_is_crooked(r->line))
+    printf("  %zu nodes%s\n", bins_line_node_count(r->line),
+           fig->fitted ? ", fitted through the midpoints (a running mean across the line)" : "");
   if (fig->fitted)
     printf("  fit: RMS distance off the line %.3f m, largest %.3f m, length %.2f m\n",
            fig->fit.rms_off_line_m, fig->fit.max_off_line_m, fig->fit.length_m);
@@ -645,7 +610,7 @@ static void print_text(const run *r, const bins_fold *pred, const char *kind,
   }
 }
 
-enum { O_JOB = 256, O_LAYOUT, O_TABLE, O_SPS, O_MAP, O_BIN, O_OX, O_OY, O_AZ, O_CROOKED, O_FIRST,
+enum { O_JOB = 256, O_LAYOUT, O_TABLE, O_SPS, O_MAP, O_BIN, O_OX, O_OY, O_AZ, O_CROOKED, O_CSMOOTH, O_FIRST,
        O_MAXOFF, O_OCLASS, O_FOLD, O_WRITE, O_JSON, O_QUIET };
 
 int cmd_geometry(int argc, char **argv)
@@ -661,6 +626,7 @@ int cmd_geometry(int argc, char **argv)
     { "origin-y", required_argument, NULL, O_OY },
     { "azimuth", required_argument, NULL, O_AZ },
     { "crooked", required_argument, NULL, O_CROOKED },
+    { "crooked-smoothing", required_argument, NULL, O_CSMOOTH },
     { "first-cmp", required_argument, NULL, O_FIRST },
     { "max-off-line", required_argument, NULL, O_MAXOFF },
     { "offset-class", required_argument, NULL, O_OCLASS },
@@ -675,7 +641,7 @@ int cmd_geometry(int argc, char **argv)
   const char *job_path = NULL, *layout_path = NULL, *table_path = NULL, *map_path = NULL;
   const char *sps_arg = NULL;
   const char *crooked = NULL, *fold_path = NULL, *write_dir = NULL;
-  double bin = 0, ox = NAN, oy = NAN, az = NAN, maxoff = 0, oclass = 0;
+  double csmooth = 0, bin = 0, ox = NAN, oy = NAN, az = NAN, maxoff = 0, oclass = 0;
   long long first = 1;
   int has_first = 0, json = 0, quiet = 0, c;
   cli_opt_begin();
@@ -694,6 +660,10 @@ int cmd_geometry(int argc, char **argv)
     case O_OY: if (cli_parse_f64(cmd, "--origin-y", optarg, &oy)) return EX_USAGE; break;
     case O_AZ: if (cli_parse_f64(cmd, "--azimuth", optarg, &az)) return EX_USAGE; break;
     case O_CROOKED: crooked = optarg; break;
+    case O_CSMOOTH:
+      if (cli_parse_f64(cmd, "--crooked-smoothing", optarg, &csmooth)) return EX_USAGE;
+      if (!(csmooth > 0)) return cli_usage_error(cmd, "--crooked-smoothing: must be > 0 m");
+      break;
     case O_FIRST:
       if (cli_parse_i64(cmd, "--first-cmp", optarg, &first)) return EX_USAGE;
       if (first < -1000000000LL || first > 1000000000LL)
@@ -740,8 +710,11 @@ int cmd_geometry(int argc, char **argv)
   }
   if ((isnan(ox) + isnan(oy) + isnan(az)) % 3 != 0)
     return cli_usage_error(cmd, "--origin-x, --origin-y and --azimuth go together");
-  if (crooked && !isnan(az))
-    return cli_usage_error(cmd, "--crooked replaces --origin-x/--origin-y/--azimuth");
+  if ((crooked || csmooth > 0) && !isnan(az))
+    return cli_usage_error(cmd, "--crooked and --crooked-smoothing replace "
+                           "--origin-x/--origin-y/--azimuth");
+  if (crooked && csmooth > 0)
+    return cli_usage_error(cmd, "give --crooked FILE or --crooked-smoothing M, not both");
   if (job_path && optind < argc)
     return cli_usage_error(cmd, "with --job the shot files come from the job");
   if (!job_path && optind >= argc)
@@ -789,6 +762,10 @@ int cmd_geometry(int argc, char **argv)
     }
     if (!has_first)
       first = job->bins.first_cmp;
+    if (!crooked && !(csmooth > 0) && isnan(az)) {
+      crooked = job->bins.crooked_file;
+      csmooth = job->bins.crooked_smoothing_m;
+    }
     if (maxoff == 0)
       maxoff = job->bins.max_distance_m;
   } else {
@@ -824,12 +801,13 @@ int cmd_geometry(int argc, char **argv)
   } else if ((rc = geometry_source_headers(&r.src, &err))) {
     goto done;
   }
-  if (crooked && (rc = load_crooked(crooked, &nx, &ny, &nn, &err)))
+  if (crooked && (rc = bins_nodes_load(crooked, &nx, &ny, &nn, &err)))
     goto done;
   survey_line_spec ls = { .bin_size_m = bin > 0 ? bin : 0, .has_line = !isnan(az),
                           .origin_x_m = ox, .origin_y_m = oy, .azimuth_deg = az,
                           .node_x = nx, .node_y = ny, .nnodes = nn,
-                          .first_cmp = (int32_t)first, .max_off_line_m = maxoff };
+                          .first_cmp = (int32_t)first, .max_off_line_m = maxoff,
+                          .crooked_smoothing_m = csmooth };
   if ((rc = survey_new(&r.survey, r.src, &ls, &err)))
     goto done;
   if (survey_wants_traces(r.survey) && (rc = scan_shots(&r, 1, &err)))

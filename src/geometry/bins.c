@@ -14,6 +14,7 @@
  * Not here: trace positions (geometry.c), stacking (src/stack/).
  */
 #include "tzero/bins.h"
+#include "tzero/table.h"
 
 #include <math.h>
 #include <stdlib.h>
@@ -480,4 +481,234 @@ int bins_fold_predict(bins_fold *f, const bins_line *line, const geometry_layout
   if (off_line)
     *off_line = off;
   return TZ_OK;
+}
+
+/* ---- automatic crooked line ---- */
+
+size_t bins_line_node_count(const bins_line *l) { return l->n; }
+
+void bins_line_node(const bins_line *l, size_t i, double *x, double *y)
+{
+  *x = i < l->n ? l->x[i] : l->p.origin_x;
+  *y = i < l->n ? l->y[i] : l->p.origin_y;
+}
+
+/* Point at along-line position s and the unit vector to the right of the line there. */
+static void line_frame(const bins_line *l, double s, double *x, double *y, double *rx,
+                       double *ry)
+{
+  if (!l->n) {
+    *x = l->p.origin_x + s * l->su;
+    *y = l->p.origin_y + s * l->cu;
+    *rx = l->cu;
+    *ry = -l->su;
+    return;
+  }
+  size_t i = 0;
+  while (i + 2 < l->n && s > l->cum[i + 1])
+    i++;
+  crooked_point(l, s, x, y);
+  *rx = (l->y[i + 1] - l->y[i]) / l->len[i];
+  *ry = -(l->x[i + 1] - l->x[i]) / l->len[i];
+}
+
+typedef struct along_off { double s, d; } along_off;
+
+static int cmp_along(const void *a, const void *b)
+{
+  const along_off *x = a, *y = b;
+  return (x->s > y->s) - (x->s < y->s);
+}
+
+/* First index of v[0..n) (sorted by s) with s >= t. */
+static size_t first_at(const along_off *v, size_t n, double t)
+{
+  size_t lo = 0, hi = n;
+  while (lo < hi) {
+    size_t mid = lo + (hi - lo) / 2;
+    if (v[mid].s < t)
+      lo = mid + 1;
+    else
+      hi = mid;
+  }
+  return lo;
+}
+
+/* One smoothing pass: the midpoints located on `cur`, nodes every h along it
+ * from the first midpoint to the last, each moved across the line by a local
+ * straight-line fit (least squares) of the midpoints' signed off-line distance
+ * against along-line position within a window of length w centred on the node
+ * (a running linear fit, the box-weighted form of Cleveland's 1979 locally
+ * weighted regression); near the ends the window is moved inside the data, so
+ * the end nodes follow the line's trend instead of the few midpoints there. */
+static int smooth_pass(const bins_fitter *f, const bins_line *cur, double w, along_off *v,
+                       double **nx, double **ny, size_t *nn, tz_err *err)
+{
+  size_t n = f->n;
+  for (size_t i = 0; i < n; i++) {
+    bins_loc loc;
+    bins_locate(cur, f->x0 + f->p[2 * i], f->y0 + f->p[2 * i + 1], &loc);
+    v[i].s = loc.along_m;
+    v[i].d = loc.off_line_m;
+  }
+  qsort(v, n, sizeof *v, cmp_along);
+  /* Nodes every w / 8 (but not closer than a bin): a polyline turns at its nodes,
+   * and midpoints either side of a turn would crowd or thin the bins there. */
+  double s0 = v[0].s, s1 = v[n - 1].s, h = fmax(w / 8.0, cur->p.size_m);
+  if (!(s1 - s0 > 0))
+    return tz_fail(err, TZ_E_FORMAT, "cannot fit a crooked line: the midpoints do not spread "
+                   "along the line");
+  double k = ceil((s1 - s0) / h);
+  if (k + 1 > BINS_MAX_NODES)
+    k = BINS_MAX_NODES - 1;
+  if (k < 1)
+    k = 1;
+  size_t m = (size_t)k + 1;
+  h = (s1 - s0) / k;
+  double *x = malloc(m * sizeof *x), *y = malloc(m * sizeof *y);
+  if (!x || !y) {
+    free(x);
+    free(y);
+    return tz_fail(err, TZ_E_NOMEM, "crooked-line nodes");
+  }
+  double last = 0;
+  for (size_t j = 0; j < m; j++) {
+    double s = s0 + (double)j * h, lo = s - 0.5 * w, hi = s + 0.5 * w;
+    if (lo < s0) { hi += s0 - lo; lo = s0; }
+    if (hi > s1) { lo -= hi - s1; hi = s1; }
+    if (lo < s0) lo = s0;
+    size_t a = first_at(v, n, lo), b = first_at(v, n, hi);
+    while (b < n && v[b].s <= hi)
+      b++;
+    double c = 0, st = 0, sd = 0, stt = 0, std_ = 0;
+    for (size_t i = a; i < b; i++) {
+      double t = v[i].s - s;
+      c += 1;
+      st += t;
+      sd += v[i].d;
+      stt += t * t;
+      std_ += t * v[i].d;
+    }
+    double den = c * stt - st * st, d = last;
+    if (c >= 2 && den > 1e-9 * c * c * w * w) {
+      double slope = (c * std_ - st * sd) / den;
+      d = (sd - slope * st) / c;
+    } else if (c >= 1) {
+      d = sd / c;
+    }
+    last = d;
+    double px, py, rx, ry;
+    line_frame(cur, s, &px, &py, &rx, &ry);
+    x[j] = px + d * rx;
+    y[j] = py + d * ry;
+  }
+  *nx = x;
+  *ny = y;
+  *nn = m;
+  return TZ_OK;
+}
+
+int bins_fitter_solve_crooked(const bins_fitter *f, double smoothing_m, double size_m,
+                              int32_t first_cmp, double max_off_line_m, bins_line **out,
+                              bins_fit_report *rep, tz_err *err)
+{
+  if (!(smoothing_m > 0) || !isfinite(smoothing_m))
+    return tz_fail(err, TZ_E_ARG, "crooked-line smoothing length must be > 0 m (got %g)",
+                   smoothing_m);
+  bins_params p;
+  if (bins_fitter_solve(f, size_m, first_cmp, max_off_line_m, &p, NULL, err))
+    return err->status;
+  size_t n = f->n;
+  along_off *v = malloc(n * sizeof *v);
+  bins_line *cur = NULL;
+  int rc = !v ? tz_fail(err, TZ_E_NOMEM, "crooked-line fit (%zu midpoints)", n)
+                      : bins_line_straight(&cur, &p, err);
+  /* Three passes: the first smooths about the straight fit, the next two about
+   * the previous polyline, so a bend of the line is followed, not cut. */
+  for (int pass = 0; pass < BINS_CROOKED_PASSES && !rc; pass++) {
+    double *nx = NULL, *ny = NULL;
+    size_t nn = 0;
+    bins_line *next = NULL;
+    rc = smooth_pass(f, cur, smoothing_m, v, &nx, &ny, &nn, err);
+    if (!rc)
+      rc = bins_line_crooked(&next, nx, ny, nn, size_m, first_cmp, max_off_line_m, err);
+    free(nx);
+    free(ny);
+    if (!rc) {
+      bins_line_free(cur);
+      cur = next;
+    }
+  }
+  if (!rc && rep) {
+    double ss = 0, dmax = 0, smin = INFINITY, smax = -INFINITY;
+    for (size_t i = 0; i < n; i++) {
+      bins_loc loc;
+      bins_locate(cur, f->x0 + f->p[2 * i], f->y0 + f->p[2 * i + 1], &loc);
+      ss += loc.off_line_m * loc.off_line_m;
+      if (fabs(loc.off_line_m) > dmax) dmax = fabs(loc.off_line_m);
+      if (loc.along_m < smin) smin = loc.along_m;
+      if (loc.along_m > smax) smax = loc.along_m;
+    }
+    rep->n = n;
+    rep->rms_off_line_m = sqrt(ss / (double)n);
+    rep->max_off_line_m = dmax;
+    rep->length_m = smax - smin;
+  }
+  free(v);
+  if (rc) {
+    bins_line_free(cur);
+    return rc;
+  }
+  *out = cur;
+  return TZ_OK;
+}
+
+int bins_nodes_load(const char *path, double **x, double **y, size_t *n, tz_err *err)
+{
+  table_reader *t;
+  *x = *y = NULL;
+  *n = 0;
+  if (table_open(&t, path, err))
+    return err->status;
+  size_t nf, cap = 0;
+  int rc = table_next(t, &nf, err);
+  if (!rc && (nf < 2 || strcmp(table_field(t, 0), "x_m") || strcmp(table_field(t, 1), "y_m")))
+    rc = tz_fail_line(err, TZ_E_FORMAT, table_line(t), "expected the header row x_m,y_m");
+  while (!rc) {
+    if ((rc = table_next(t, &nf, err)) || nf == 0)
+      break;
+    if (*n == cap) {
+      cap = cap ? cap * 2 : 64;
+      if (cap > BINS_MAX_NODES * 2u) {
+        rc = tz_fail_line(err, TZ_E_FORMAT, table_line(t), "more than %d nodes", BINS_MAX_NODES);
+        break;
+      }
+      double *nx = realloc(*x, cap * sizeof *nx), *ny = nx ? realloc(*y, cap * sizeof *ny) : NULL;
+      if (nx) *x = nx;
+      if (ny) *y = ny;
+      if (!nx || !ny) {
+        rc = tz_fail(err, TZ_E_NOMEM, "crooked-line nodes");
+        break;
+      }
+    }
+    if ((rc = table_field_f64(t, 0, "x_m", &(*x)[*n], err)) ||
+        (rc = table_field_f64(t, 1, "y_m", &(*y)[*n], err)))
+      break;
+    if (*n && (*x)[*n] == (*x)[*n - 1] && (*y)[*n] == (*y)[*n - 1]) {
+      rc = tz_fail_line(err, TZ_E_FORMAT, table_line(t), "node repeats the previous node");
+      break;
+    }
+    (*n)++;
+  }
+  table_close(t);
+  if (!rc && *n < 2)
+    rc = tz_fail(err, TZ_E_FORMAT, "a crooked line needs at least 2 nodes");
+  if (rc) {
+    tz_err_path(err, path);
+    free(*x);
+    free(*y);
+    *x = *y = NULL;
+    *n = 0;
+  }
+  return rc;
 }

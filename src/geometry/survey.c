@@ -31,11 +31,10 @@ struct survey {
   bins_fitter *fit;               /* NULL unless the line is fitted */
   record *rec;
   size_t nrec, caprec;
-  double *steps;                  /* receiver steps (dx, dy) of the current record */
+  double *steps;                  /* receiver positions (x, y) of the current record,
+                                   * from its first receiver; then room for its steps */
   size_t nsteps, capsteps;
   double rx0, ry0;                /* the current record's first receiver */
-  double mx, my, mxx, mxy, myy;   /* moments of its receivers about rx0, ry0 */
-  double nrcv;
   survey_gap *gaps;
   size_t ngaps;
   int open;                       /* a record is open */
@@ -85,6 +84,9 @@ int survey_new(survey **out, const geometry_source *src, const survey_line_spec 
       s->spec.node_y = s->node_y;
     }
   }
+  if (!rc && spec->crooked_smoothing_m > 0 && (s->layout || spec->nnodes || spec->has_line))
+    rc = tz_fail(err, TZ_E_ARG, "an automatic crooked line is fitted through the midpoints: "
+                 "not with a given line or node file, nor a layout (whose line is straight)");
   if (!rc && !s->layout && !spec->nnodes && !spec->has_line)
     rc = bins_fitter_new(&s->fit, err);
   if (rc) {
@@ -110,27 +112,30 @@ void survey_free(survey *s)
 
 int survey_wants_traces(const survey *s) { return s->layout == NULL; }
 
-/* The record's receiver line is the principal axis of its receiver positions
- * (orthogonal least squares); each channel step is projected on it, so scatter
- * across the line does not lengthen the steps (hypot(5, 0.4) = 5.016). */
+/* Each channel step is measured along the record's receiver line where it is:
+ * projected on the chord from SURVEY_CHORD_STEPS receivers before it to as many
+ * after it, so scatter across the line does not lengthen the steps
+ * (hypot(5, 0.4) = 5.016) and a bend in the line does not shorten them. */
+#define SURVEY_CHORD_STEPS 3
 static void close_record(survey *s)
 {
   if (s->open) {
-    double n = s->nrcv > 0 ? s->nrcv : 1;
-    double cxx = s->mxx - s->mx * s->mx / n, cyy = s->myy - s->my * s->my / n;
-    double cxy = s->mxy - s->mx * s->my / n;
-    double th = 0.5 * atan2(2 * cxy, cxx - cyy), ux = cos(th), uy = sin(th);
-    size_t k = 0;
-    for (size_t i = 0; i < s->nsteps; i++) {
-      double a = fabs(s->steps[2 * i] * ux + s->steps[2 * i + 1] * uy);
-      if (a >= SURVEY_REPEAT_M)
-        s->steps[k++] = a;
+    const double *p = s->steps;
+    size_t n = s->nsteps, k = 0;
+    double *out = s->steps + 2 * n;          /* the second half of the buffer */
+    for (size_t i = 0; i + 1 < n; i++) {
+      size_t a = i > SURVEY_CHORD_STEPS ? i - SURVEY_CHORD_STEPS : 0;
+      size_t b = i + 1 + SURVEY_CHORD_STEPS < n ? i + 1 + SURVEY_CHORD_STEPS : n - 1;
+      double cx = p[2 * b] - p[2 * a], cy = p[2 * b + 1] - p[2 * a + 1], c = hypot(cx, cy);
+      double dx = p[2 * i + 2] - p[2 * i], dy = p[2 * i + 3] - p[2 * i + 1];
+      double d = c > 0 ? fabs(dx * cx + dy * cy) / c : hypot(dx, dy);
+      if (d >= SURVEY_REPEAT_M)
+        out[k++] = d;
     }
-    s->rec[s->nrec - 1].dg = median(s->steps, k);
+    s->rec[s->nrec - 1].dg = median(out, k);
   }
   s->open = 0;
   s->nsteps = 0;
-  s->mx = s->my = s->mxx = s->mxy = s->myy = s->nrcv = 0;
 }
 
 static int open_record(survey *s, size_t file, const geometry_trace *g, tz_err *err)
@@ -173,30 +178,19 @@ int survey_add(survey *s, size_t file, const segy_trace_header *h, const geometr
     if ((rc = open_record(s, file, g, err)))
       return rc;
     s->rec[s->nrec - 1].source_point = h->source_point;
-  } else {
-    double dx = g->receiver_x - s->prx, dy = g->receiver_y - s->pry;
-    if (hypot(dx, dy) >= SURVEY_REPEAT_M) {
-      if (s->nsteps == s->capsteps) {
-        size_t nc = s->capsteps ? s->capsteps * 2 : 256;
-        double *v = realloc(s->steps, 2 * nc * sizeof *v);
-        if (!v)
-          return tz_fail(err, TZ_E_NOMEM, "receiver steps");
-        s->steps = v;
-        s->capsteps = nc;
-      }
-      s->steps[2 * s->nsteps] = dx;
-      s->steps[2 * s->nsteps + 1] = dy;
-      s->nsteps++;
-    }
   }
-  {
-    double x = g->receiver_x - s->rx0, y = g->receiver_y - s->ry0;
-    s->mx += x;
-    s->my += y;
-    s->mxx += x * x;
-    s->mxy += x * y;
-    s->myy += y * y;
-    s->nrcv += 1;
+  if (s->nsteps == 0 || hypot(g->receiver_x - s->prx, g->receiver_y - s->pry) >= SURVEY_REPEAT_M) {
+    if (s->nsteps == s->capsteps) {
+      size_t nc = s->capsteps ? s->capsteps * 2 : 256;
+      double *v = realloc(s->steps, 4 * nc * sizeof *v);   /* positions, then steps */
+      if (!v)
+        return tz_fail(err, TZ_E_NOMEM, "receiver positions");
+      s->steps = v;
+      s->capsteps = nc;
+    }
+    s->steps[2 * s->nsteps] = g->receiver_x - s->rx0;
+    s->steps[2 * s->nsteps + 1] = g->receiver_y - s->ry0;
+    s->nsteps++;
   }
   s->rec[s->nrec - 1].channels++;
   s->prx = g->receiver_x;
@@ -361,6 +355,11 @@ static int make_line(survey *s, double size, bins_line **line, survey_figures *f
   if (sp->nnodes)
     return bins_line_crooked(line, sp->node_x, sp->node_y, sp->nnodes, size, sp->first_cmp,
                              sp->max_off_line_m, err);
+  if (sp->crooked_smoothing_m > 0) {
+    fig->fitted = 1;
+    return bins_fitter_solve_crooked(s->fit, sp->crooked_smoothing_m, size, sp->first_cmp,
+                                     sp->max_off_line_m, line, &fig->fit, err);
+  }
   bins_params p;
   int rc;
   if (sp->has_line) {

@@ -294,10 +294,10 @@ static int want_object(const cJSON *v, const char *path, tz_err *err)
 
 #define ITEM(obj, key) cJSON_GetObjectItemCaseSensitive((obj), (key))
 
-static int parse_bins(job_spec *j, const cJSON *v, tz_err *err)
+static int parse_bins(job_spec *j, const cJSON *v, const char *dir, tz_err *err)
 {
   static const char *const keys[] = { "size_m", "origin_x_m", "origin_y_m", "azimuth_deg",
-                                      "first_cmp", "max_distance_m", NULL };
+                                      "first_cmp", "max_distance_m", "crooked", NULL };
   int rc = want_object(v, "$.bins", err);
   if (!rc)
     rc = json_doc_check_keys(v, "$.bins", keys, TZ_E_JOB, err);
@@ -334,6 +334,8 @@ static int parse_bins(job_spec *j, const cJSON *v, tz_err *err)
   if ((e = ITEM(v, "max_distance_m")) &&
       (rc = json_doc_number(e, "$.bins.max_distance_m", 0, 1e9, &b->max_distance_m, TZ_E_JOB, err)))
     return rc;
+  if ((e = ITEM(v, "crooked")))
+    return job_crooked_parse(j, e, dir, err);
   return TZ_OK;
 }
 
@@ -1050,7 +1052,7 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
   if ((e = ITEM(root, "header_map")) && (rc = get_path(e, "$.header_map", dir, 1,
                                                        &j->header_map, err)))
     return rc;
-  if ((e = ITEM(root, "bins")) && (rc = parse_bins(j, e, err)))
+  if ((e = ITEM(root, "bins")) && (rc = parse_bins(j, e, dir, err)))
     return rc;
   /* Not checked to exist: semblance writes the table a job names. Commands that
    * read it check at load time (flow_setup_load). */
@@ -1162,6 +1164,7 @@ void job_free(job_spec *j)
   free(j->geometry_file);
   for (int k = 0; k < 3; k++)
     free(j->sps[k]);
+  free(j->bins.crooked_file);
   free(j->header_map);
   free(j->velocity);
   free(j->mute_top);
@@ -1263,7 +1266,7 @@ int job_foreach_input(const job_spec *j, job_input_fn fn, void *ctx)
     { j->geometry_file, JOB_INPUT_GEOMETRY }, { j->header_map, JOB_INPUT_HEADER_MAP },
     { j->limits_file, JOB_INPUT_LIMITS }, { j->migration.velocity, JOB_INPUT_TABLE },
     { j->sps[0], JOB_INPUT_GEOMETRY }, { j->sps[1], JOB_INPUT_GEOMETRY },
-    { j->sps[2], JOB_INPUT_GEOMETRY },
+    { j->sps[2], JOB_INPUT_GEOMETRY }, { j->bins.crooked_file, JOB_INPUT_GEOMETRY },
   };
   int rc = 0;
   for (size_t i = 0; !rc && i < sizeof one / sizeof one[0]; i++)
@@ -1501,6 +1504,7 @@ int job_to_json(const job_spec *j, char **out, tz_err *err)
       }
       cJSON_AddNumberToObject(o, "first_cmp", (double)j->bins.first_cmp);
       cJSON_AddNumberToObject(o, "max_distance_m", j->bins.max_distance_m);
+      bad |= job_crooked_to_json(j, o);
     }
     bad |= add_str(r, "velocity", j->velocity);
     o = cJSON_AddObjectToObject(r, "moveout");

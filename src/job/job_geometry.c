@@ -4,6 +4,10 @@
  * the three files of SEG's SPS format, revision 2.1 (sps.h); paths are taken from
  * the job file's folder and must exist.
  *
+ * "bins": {"crooked": FILE} names a crooked line's node file (CSV x_m,y_m, as
+ * `tzero geometry --crooked` reads); "bins": {"crooked": {"smoothing_m": M}} asks
+ * for an automatic crooked line through the midpoints (bins.h).
+ *
  * Not here: reading the files (sps.c), the rest of the job (job.c).
  */
 #include <stdlib.h>
@@ -55,5 +59,43 @@ int job_sps_to_json(const job_spec *j, cJSON *geometry)
   for (int k = 0; k < 3; k++)
     if (!cJSON_AddStringToObject(o, keys[k], j->sps[k] ? j->sps[k] : ""))
       return -1;
+  return 0;
+}
+
+int job_crooked_parse(job_spec *j, const cJSON *v, const char *dir, tz_err *err)
+{
+  job_bins *b = &j->bins;
+  if (b->has_origin || b->has_azimuth)
+    return tz_fail(err, TZ_E_JOB, "$.bins.crooked: a crooked line replaces origin_x_m, "
+                   "origin_y_m and azimuth_deg (give one or the other)");
+  if (cJSON_IsString(v)) {
+    free(b->crooked_file);
+    if (!(b->crooked_file = job_path_resolve(dir, v->valuestring)))
+      return tz_fail(err, TZ_E_NOMEM, "job path");
+    return job_need_file(b->crooked_file, "$.bins.crooked", err);
+  }
+  static const char *const keys[] = { "smoothing_m", NULL };
+  if (!cJSON_IsObject(v))
+    return tz_fail(err, TZ_E_JOB, "$.bins.crooked: expected a node file (\"nodes.csv\") or "
+                   "{\"smoothing_m\": M}, got %s", json_doc_kind_name(v));
+  int rc = json_doc_check_keys(v, "$.bins.crooked", keys, TZ_E_JOB, err);
+  if (rc)
+    return rc;
+  const cJSON *e = cJSON_GetObjectItemCaseSensitive(v, "smoothing_m");
+  if (!e)
+    return tz_fail(err, TZ_E_JOB, "$.bins.crooked: missing key \"smoothing_m\" (the length "
+                   "of the running mean along the line, metres)");
+  return json_doc_number(e, "$.bins.crooked.smoothing_m", 1e-3, 1e6, &b->crooked_smoothing_m,
+                         TZ_E_JOB, err);
+}
+
+int job_crooked_to_json(const job_spec *j, cJSON *bins)
+{
+  if (j->bins.crooked_file)
+    return cJSON_AddStringToObject(bins, "crooked", j->bins.crooked_file) ? 0 : -1;
+  if (j->bins.crooked_smoothing_m > 0) {
+    cJSON *o = cJSON_AddObjectToObject(bins, "crooked");
+    return o && cJSON_AddNumberToObject(o, "smoothing_m", j->bins.crooked_smoothing_m) ? 0 : -1;
+  }
   return 0;
 }

@@ -24,4 +24,10 @@ int job_sps_parse(job_spec *j, const cJSON *v, const char *dir, tz_err *err);
 /* Adds "sps" to the resolved "geometry" object; 0 or -1 (memory). */
 int job_sps_to_json(const job_spec *j, cJSON *geometry);
 
+/* "bins": {"crooked": FILE | {"smoothing_m": M}} (job_geometry.c); v is the
+ * "crooked" value. Refused with a given origin and azimuth. */
+int job_crooked_parse(job_spec *j, const cJSON *v, const char *dir, tz_err *err);
+/* Adds "crooked" to the resolved "bins" object when given; 0 or -1 (memory). */
+int job_crooked_to_json(const job_spec *j, cJSON *bins);
+
 #endif

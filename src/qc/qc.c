@@ -391,6 +391,9 @@ int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
   cJSON_AddNumberToObject(ln, "bin_size_m", li.size_m);
   cJSON_AddNumberToObject(ln, "first_cmp", li.first_cmp);
   cJSON_AddStringToObject(ln, "origin", li.fitted ? "fitted" : li.from_layout ? "layout" : "job");
+  cJSON_AddStringToObject(ln, "kind", li.nodes ? "crooked" : "straight");
+  if (li.nodes)
+    cJSON_AddNumberToObject(ln, "nodes", (double)li.nodes);
   if (li.fitted)
     cJSON_AddNumberToObject(ln, "fit_rms_off_line_m", round_to(li.fit_rms_off_line_m, 1e-4));
   cJSON_AddNumberToObject(ln, "max_off_line_m", li.max_off_line_m);

@@ -351,9 +351,18 @@ static int make_line(stack_plan *p, tz_err *err)
     .azimuth_deg = j->bins.azimuth_deg,
     .first_cmp = (int32_t)j->bins.first_cmp,
     .max_off_line_m = j->bins.max_distance_m,
+    .crooked_smoothing_m = j->bins.crooked_smoothing_m,
   };
+  double *nx = NULL, *ny = NULL;
   survey *sv = NULL;
-  int rc = survey_new(&sv, p->geo, &ls, err);
+  int rc = j->bins.crooked_file ? bins_nodes_load(j->bins.crooked_file, &nx, &ny, &ls.nnodes, err)
+                                : TZ_OK;
+  ls.node_x = nx;
+  ls.node_y = ny;
+  if (!rc)
+    rc = survey_new(&sv, p->geo, &ls, err);
+  free(nx);
+  free(ny);
   if (!rc && survey_wants_traces(sv))
     rc = scan_survey(p, sv, err);
   if (!rc && (rc = survey_finish(sv, p->geo, &p->line, &p->survey, err)))
@@ -372,6 +381,7 @@ static int make_line(stack_plan *p, tz_err *err)
   p->line_info.size_m = bp.size_m;
   p->line_info.first_cmp = bp.first_cmp;
   p->line_info.max_off_line_m = bp.max_off_line_m;
+  p->line_info.nodes = bins_line_node_count(p->line);
   return TZ_OK;
 }
 

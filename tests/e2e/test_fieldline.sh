@@ -91,3 +91,39 @@ else notok "QC report geometry source"; fi
 sed 's/"relation": "line.x"/"relatoin": "line.x"/' "$D/job.json" > "$D/typo.json"
 expect_status 65 "a misspelt SPS key" -- "$TZERO" stack --job "$D/typo.json"
 expect_stderr "geometry.sps.*relatoin.*relation" "the nearest key is suggested"
+
+# Crooked processing lines in the job, shared by stack, nmo, semblance, cvs and statics:
+# a node file (bins.crooked: FILE, as tzero geometry --crooked reads) and an automatic
+# line through the midpoints (bins.crooked: {"smoothing_m": M}). Stations every 2.5 m: the
+# line starts at a midpoint, half a station from the receivers, and 5 m stations would
+# take two scattered receivers 4.9 m apart for one.
+B="$T/bent"
+PYTHONPATH="$TOP/tests/xcheck" "$PYTHON" -c 'import sys, fieldline; fieldline.write_shots(sys.argv[1], bend=40.0)' "$B" ||
+  { notok "bent line"; exit 1; }
+printf 'cmp,time_ms,velocity_mps\n1,0,1800\n1,220,2000\n1,330,2300\n' > "$B/v.csv"
+for form in auto nodes; do
+  if [ $form = auto ]; then CR='{"smoothing_m": 100}'; else CR='"nodes.csv"'; fi
+  cat > "$B/$form.json" <<JOB
+{ "shots": ["shots/*.sgy"], "velocity": "v.csv",
+  "bins": {"crooked": $CR},
+  "statics": {"datum_m": 100, "replacement_velocity_mps": 2000, "station_interval_m": 2.5},
+  "output": {"section": "out/$form.sgy", "report": "out/$form.json"} }
+JOB
+  if [ $form = auto ]; then
+    expect_status 0 "geometry --job, automatic crooked line" -- "$TZERO" geometry --json --job "$B/auto.json"
+    "$PYTHON" -c 'import json,sys; n=json.load(open(sys.argv[1]))["line"]["nodes"]; print("x_m,y_m"); [print(f"{x!r},{y!r}") for x, y in n]' "$T/out" > "$B/nodes.csv"
+  fi
+  expect_status 0 "stack --job, crooked line ($form)" -- "$TZERO" stack --quiet --job "$B/$form.json"
+  if "$PYTHON" -c 'import json,sys; l=json.load(open(sys.argv[1]))["geometry"]["line"]; sys.exit(0 if l["kind"] == "crooked" and l["nodes"] > 10 else 1)' "$B/out/$form.json"; then
+    ok "the QC report names the crooked line ($form)"; else notok "QC report line kind ($form)"; fi
+  expect_status 0 "nmo --job on the crooked line ($form)" -- "$TZERO" nmo --job "$B/$form.json" --cmps 90 --out "$B/out/nmo_$form.sgy"
+  expect_status 0 "semblance --job on the crooked line ($form)" -- "$TZERO" semblance --job "$B/$form.json" --cmps 90 --out "$B/out/picks_$form.csv"
+  expect_status 0 "cvs --job on the crooked line ($form)" -- "$TZERO" cvs --job "$B/$form.json" --cmps 80-100 --velocities 1800,2000 --out "$B/out/cvs_$form.sgy"
+  expect_status 0 "statics elevation --job on the crooked line ($form)" -- "$TZERO" statics elevation --job "$B/$form.json" --out "$B/out/elev_$form.csv"
+done
+if cmp -s "$B/out/auto.sgy" "$B/out/nodes.sgy"; then
+  ok "the node file of the automatic line stacks the same section"
+else notok "automatic line and its node file give different sections"; fi
+sed 's/"bins": {"crooked"/"bins": {"azimuth_deg": 35, "origin_x_m": 0, "origin_y_m": 0, "crooked"/' "$B/auto.json" > "$B/both.json"
+expect_status 65 "a crooked line and a straight one" -- "$TZERO" stack --job "$B/both.json"
+expect_stderr "bins.crooked: a crooked line replaces origin_x_m" "the clash is named"

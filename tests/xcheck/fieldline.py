@@ -74,16 +74,41 @@ def unit_vectors():
     return (math.sin(a), math.cos(a)), (math.cos(a), -math.sin(a))   # along, right
 
 
-def station_positions():
-    """Surveyed (x, y, z) of every station in metres, GPS scatter included."""
+BEND_FROM_M, BEND_TO_M = 150.0, 400.0   # a bent line turns between these along-line distances
+
+
+def bend_azimuth(s, bend):
+    """Line azimuth (degrees) at arc length s: AZ_DEG, turning by `bend` degrees
+    between BEND_FROM_M and BEND_TO_M (a smoothstep)."""
+    t = np.clip((np.asarray(s) - BEND_FROM_M) / (BEND_TO_M - BEND_FROM_M), 0.0, 1.0)
+    return AZ_DEG + bend * t * t * (3 - 2 * t)
+
+
+def true_line(bend=0.0, step=0.01):
+    """The line itself (no scatter): arc length, x, y on a fine grid, integrated
+    from its azimuth (NumPy cumulative sum)."""
+    last = FIRST_SHOT_STATION + STATION_STEP * (NPOS - 1) + GAP_STATIONS + HALF
+    s = np.arange(-50.0, (last - FIRST_STATION) * DG + 50.0, step)
+    a = np.radians(bend_azimuth(s, bend))
+    x = X0 + np.concatenate([[0.0], np.cumsum(np.sin(a[:-1]) * step)])
+    y = Y0 + np.concatenate([[0.0], np.cumsum(np.cos(a[:-1]) * step)])
+    k = np.searchsorted(s, 0.0)
+    return s, x - (x[k] - X0), y - (y[k] - Y0)
+
+
+def station_positions(bend=0.0):
+    """Surveyed (x, y, z) of every station in metres, GPS scatter included. With
+    bend != 0 the line turns by that many degrees (true_line)."""
     rng = np.random.default_rng(1717)
     last = FIRST_SHOT_STATION + STATION_STEP * (NPOS - 1) + GAP_STATIONS + HALF
-    (ua, va), (ur, vr) = unit_vectors()
+    ls, lx, ly = true_line(bend)
     pos = {}
     for st in range(FIRST_STATION, last + 1):
         s = (st - FIRST_STATION) * DG + SCATTER_ALONG_M * rng.standard_normal()
         r = SCATTER_CROSS_M * rng.standard_normal()
-        pos[st] = (X0 + s * ua + r * ur, Y0 + s * va + r * vr,
+        a = math.radians(float(bend_azimuth(s, bend)))
+        ur, vr = math.cos(a), -math.sin(a)
+        pos[st] = (float(np.interp(s, ls, lx)) + r * ur, float(np.interp(s, ls, ly)) + r * vr,
                    120.0 + 4.0 * math.sin(st / 17.0))
     return pos
 
@@ -115,11 +140,11 @@ def cm(v):
     return int(round(v * 100))
 
 
-def positions(feet=False):
+def positions(feet=False, bend=0.0):
     """Every trace as stored: dict (ffid, channel) -> (sx, sy, rx, ry) in the
     file's unit (centimetre rounding of the stored coordinates)."""
     k = scale(feet)
-    pos = station_positions()
+    pos = station_positions(bend)
     out = {}
     for ffid, s in records():
         sx, sy, _ = pos[s]
@@ -129,12 +154,12 @@ def positions(feet=False):
     return out
 
 
-def write_shots(d, feet=False, coords=True, seed=5):
+def write_shots(d, feet=False, coords=True, seed=5, bend=0.0):
     """One SEG-Y file per record under d/shots; returns the file paths."""
     os.makedirs(os.path.join(d, "shots"), exist_ok=True)
     rng = np.random.default_rng(seed)
     k = scale(feet)
-    pos = station_positions()
+    pos = station_positions(bend)
     t = np.arange(NS) * DT_US * 1e-6
     F = segyio.TraceField
     paths = []
@@ -149,15 +174,16 @@ def write_shots(d, feet=False, coords=True, seed=5):
         paths.append(path)
         with segyio.create(path, spec) as f:
             f.bin.update(hdt=DT_US, hns=NS, format=5, mfeet=2 if feet else 1)
-            (ua, va), _ = unit_vectors()
             for c, r in enumerate(recs):
+                (ua, va) = (math.sin(math.radians(float(bend_azimuth((s - FIRST_STATION) * DG, bend)))),
+                            math.cos(math.radians(float(bend_azimuth((s - FIRST_STATION) * DG, bend)))))
                 rx, ry, rz = pos[r]
                 dx, dy = rx - sx, ry - sy
                 x = math.hypot(dx, dy)
                 sign = -1.0 if dx * ua + dy * va < 0 else 1.0
                 tr = np.zeros(NS)
                 for t0, v, a in EVENTS:
-                    tr += a * ricker(t - np.sqrt(t0 * t0 + x * x / (v * v)))
+                    tr += a * ricker(t - np.sqrt(t0 * t0 + x * x / (v * v)))   # metres, m/s
                 tr += 0.02 * rng.standard_normal(NS)
                 kind = 1
                 if (ffid, c + 1) == NOISY:
