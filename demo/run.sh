@@ -147,6 +147,24 @@ echo "  $O/rt07_final_history.md, $O/rt07_final_velocity_export.csv"
 "$TZ" compare "$O/rt07_stack_final.sgy" "$O/rt07_stack_refraction.sgy" | tail -n 2
 
 echo
+echo "== Test panels on TV-RT-07: choosing the stretch limit (tzero gathers and stack --vary)"
+"$TZ" gathers --job "$D/rt07_final.job.json" --through mute --sort cmp --select 120,200 \
+  --vary moveout.stretch_limit_pct=30,50,80 --out "$O/rt07_panels_stretch_gathers.sgy"
+"$TZ" picture "$O/rt07_panels_stretch_gathers.sgy" --out "$O/rt07_panels_stretch_gathers.png" \
+  --time-ms 0-1000 --title "TV-RT-07 CMPs 120 and 200 after NMO and mutes, three stretch limits" \
+  --quiet
+"$TZ" stack --job "$D/rt07_final.job.json" --cmp-range 100-220 \
+  --vary moveout.stretch_limit_pct=30,50,80 --out "$O/rt07_panels_stretch_stack.sgy"
+"$TZ" picture "$O/rt07_panels_stretch_stack.sgy" --out "$O/rt07_panels_stretch_stack.png" \
+  --time-ms 0-1000 --title "TV-RT-07 CMPs 100-220 stacked with three stretch limits" --quiet
+"$TZ" gathers --job "$D/rt07_final.job.json" --through statics --sort shot --select 7040 \
+  --out "$O/rt07_record7040_statics.sgy" --quiet
+"$TZ" gathers --job "$D/rt07_final.job.json" --through mute --sort offset --select 0-60 \
+  --one-per-cmp --out "$O/rt07_near_offset.sgy"
+"$TZ" picture "$O/rt07_near_offset.sgy" --out "$O/rt07_near_offset.png" --time-ms 0-1000 \
+  --title "TV-RT-07 near-offset section (0-60 m), statics, NMO and mutes applied" --quiet
+
+echo
 echo "== The QC gate: TV-DX-04 stacked again with --check against its job's limits ($D/limits.json)"
 "$TZ" stack --job "$D/dx04.job.json" --check --quiet && echo "TV-DX-04 holds every limit (exit 0)"
 
