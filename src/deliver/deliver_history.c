@@ -97,16 +97,20 @@ static void warnings(tz_buf *b, const cJSON *o, const char *where, int *n)
   }
 }
 
+/* One input's row: the digest the run recorded, else one read here for the history. */
 static void digest_line(tz_buf *b, const char *what, const char *path, const char *known)
 {
   char hex[DIGEST_HEX_LEN + 1] = "";
+  const char *from = "the run";
   tz_err e;
   tz_err_init(&e);
   if (known && known[0])
     snprintf(hex, sizeof hex, "%s", known);
   else if (digest_file(path, hex, &e))
     snprintf(hex, sizeof hex, "(unreadable)");
-  tz_buf_put(b, "| %s | `%s` | %s |\n", what, path, hex);
+  else
+    from = "read for this history";
+  tz_buf_put(b, "| %s | `%s` | %s | %s |\n", what, path, hex, from);
 }
 
 static void markdown_inline(tz_buf *b, const char *s)
@@ -158,7 +162,7 @@ int deliver_history_write(const job_spec *j, const char *report, const deliver_s
   markdown_inline(&b, path);
   tz_buf_put(&b, "` (this history)\n");
 
-  tz_buf_put(&b, "\n## Inputs\n\n| input | file | SHA-256 |\n|---|---|---|\n");
+  tz_buf_put(&b, "\n## Inputs\n\n| input | file | SHA-256 | digested by |\n|---|---|---|---|\n");
   if (j->path && j->path[0])
     digest_line(&b, "job", j->path, NULL);
   const cJSON *vel = r ? ITEM(r, "velocity") : NULL;

@@ -133,6 +133,52 @@ START_TEST(test_job_keys_and_steps)
 }
 END_TEST
 
+/* A tzero section's header carried on by a later step: the input's cards as a reader
+ * decodes them (40 cards of 80 characters with "Cnn " prefixes). */
+START_TEST(test_continue)
+{
+  char dir[] = "/tmp/tzero-deliver-XXXXXX";
+  job_spec *j = job_in_folder(dir);
+  static deliver_steps s;
+  deliver_steps_init(&s);
+  tz_err e;
+  tz_err_init(&e);
+  ck_assert_int_eq(deliver_steps_job(&s, j, &e), TZ_OK);
+  deliver_run run = { .version = "9.9.9", .time_s = 0 };
+  char text[DELIVER_TEXT_BYTES], cards[3201], out[DELIVER_TEXT_BYTES];
+  deliver_section_text(j, NULL, 1, 100, "stacked section", &s, &run, text, sizeof text);
+  const char *p = text;
+  for (int c = 0; c < 40; c++) {
+    char line[81];
+    int n = snprintf(line, sizeof line, "C%2d ", c + 1);
+    const char *nl = strchr(p, '\n');
+    size_t len = c < 38 && *p ? (nl ? (size_t)(nl - p) : strlen(p)) : 0;
+    memcpy(line + n, p, len);
+    memset(line + n + len, ' ', 80 - n - len);
+    memcpy(cards + 80 * c, line, 80);
+    p = len || nl ? (nl ? nl + 1 : p + len) : p;
+  }
+  cards[3200] = '\0';
+  run.time_s = 951782400;
+  ck_assert_int_eq(deliver_section_text_continue(cards, "time-migrated section",
+                                                 "time migration: Kirchhoff", &run, out,
+                                                 sizeof out), 1);
+  ck_assert_ptr_nonnull(strstr(out, "tzero 9.9.9 time-migrated section, written 2000-02-29"));
+  char want[64];
+  snprintf(want, sizeof want, "\n%2zu time migration: Kirchhoff", s.n + 1);
+  ck_assert_msg(strstr(out, want) != NULL, "no '%s' in\n%s", want + 1, out);
+  ck_assert_ptr_nonnull(strstr(out, "client: Quillmere Parish Council"));
+  /* not tzero's: refused, the output untouched */
+  memset(cards, ' ', 3200);
+  memcpy(cards, "C 1 CLIENT SOMEONE", 18);
+  strcpy(out, "x");
+  ck_assert_int_eq(deliver_section_text_continue(cards, "m", "s", &run, out, sizeof out), 0);
+  ck_assert_str_eq(out, "x");
+  job_free(j);
+  rmdir(dir);
+}
+END_TEST
+
 static Suite *deliver_suite(void)
 {
   Suite *s = suite_create("deliver");
@@ -140,6 +186,7 @@ static Suite *deliver_suite(void)
   tcase_add_test(tc, test_steps_add);
   tcase_add_test(tc, test_date);
   tcase_add_test(tc, test_job_keys_and_steps);
+  tcase_add_test(tc, test_continue);
   suite_add_tcase(s, tc);
   return s;
 }
