@@ -1018,11 +1018,6 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
     if ((rc = json_doc_string(e, "$.name", &s, TZ_E_JOB, err)))
       return rc;
     free(j->name);
-  free(j->client);
-  free(j->contractor);
-  free(j->crs);
-  free(j->navigation);
-  free(j->history);
     if (!(j->name = strdup(s)))
       return tz_fail(err, TZ_E_NOMEM, "job name");
   }
@@ -1161,6 +1156,11 @@ void job_free(job_spec *j)
   free(j->patterns);
   free(j->path);
   free(j->name);
+  free(j->client);
+  free(j->contractor);
+  free(j->crs);
+  free(j->navigation);
+  free(j->history);
   free(j->geometry_file);
   for (int k = 0; k < 3; k++)
     free(j->sps[k]);
