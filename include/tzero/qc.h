@@ -41,6 +41,11 @@ typedef struct qc_build_args {
   const char *tool_version;         /* e.g. "0.1.0"; may be NULL */
   double header_pass_s, data_pass_s, write_s, total_s;
   const qc_migration *migration;    /* NULL = the run migrated nothing */
+  const char *cmp_keys;             /* reuse key of each CMP of the section (stack_reuse_keys),
+                                     * or NULL */
+  const char *reused_section;       /* --reuse: the section given, or NULL */
+  size_t cmps_carried;              /* CMPs copied from it */
+  const char *reuse_note;           /* why nothing could be carried, or NULL */
 } qc_build_args;
 
 /* Builds the report. On success *json owns NUL-terminated JSON text (free()). */

@@ -195,6 +195,11 @@ typedef struct stack_run_opts {
                                     * (init: section's max offset / 8, >= 1 m) */
   stack_progress_fn progress;      /* may be NULL */
   void *progress_ctx;
+  const unsigned char *restack;    /* NULL (init): every CMP is stacked; else one flag per
+                                    * CMP of the range, 1 = stacked, 0 = carried from a
+                                    * reused section (stack_reuse_*): its traces are not
+                                    * read (unless a record-wide step needs the whole
+                                    * record), counted or stacked, and its row is left 0 */
 } stack_run_opts;
 
 int stack_run_opts_init(stack_run_opts *o, const stack_plan *p, const velocity_table *v,
@@ -293,6 +298,37 @@ int stack_section_write(const stack_section *s, const stack_plan *p, const char 
 /* The finest time scalar (-100, -10 or 1) for which every time of bytes 95-114
  * of h fits its 16-bit slot (SEG-Y rev 1 (2002), bytes 215-216). */
 int16_t stack_time_scalar(const segy_trace_header *h);
+
+/* ---- reruns that restack only what changed (stack_reuse.c) ----
+ *
+ * A CMP's reuse key is the SHA-256 digest of everything that makes its stacked
+ * trace: the job but its velocity table (with the bytes of every file it
+ * names and the size and modification time of every shot file) and the CMP's
+ * velocity function as the NMO samples it. A CMP whose key is unchanged from
+ * the run that wrote a reused section is carried: its trace copied, its
+ * traces not read. The section is then the one a full run writes, bit for bit. */
+
+typedef struct stack_reuse stack_reuse;
+
+/* The reuse key of each CMP of o's range: *keys owns ncmps * (DIGEST_HEX_LEN + 1)
+ * characters, key i (NUL-terminated hex) at *keys + i * (DIGEST_HEX_LEN + 1). */
+int stack_reuse_keys(const stack_plan *p, const stack_run_opts *o, char **keys, tz_err *err);
+/* Compares keys with the report of a reused section. A missing section or
+ * report is no error: *out = NULL (every CMP restacked) and `why` says what
+ * was missing; so does a report without keys (*out made, nothing carried). A
+ * section that is not of this line (other sample axis, a carried CMP without
+ * its trace) or an unreadable one is TZ_E_FORMAT naming the file. */
+int stack_reuse_open(stack_reuse **out, const stack_plan *p, const stack_run_opts *o,
+                     const char *keys, const char *section, const char *report, char *why,
+                     size_t whycap, tz_err *err);
+/* Per CMP of the range: 1 restack, 0 carried (stack_run_opts.restack); NULL for r NULL. */
+const unsigned char *stack_reuse_restack(const stack_reuse *r);
+size_t stack_reuse_carried(const stack_reuse *r);
+/* Copies the carried CMPs into the section stack_run made with o.restack =
+ * stack_reuse_restack(r): samples from the reused section, fold, live fraction
+ * and full-fold time from its report. */
+int stack_reuse_apply(const stack_reuse *r, stack_section *s, tz_err *err);
+void stack_reuse_free(stack_reuse *r);     /* NULL is a no-op */
 
 /* ---- gathers of chosen CMPs ---- */
 

@@ -46,8 +46,16 @@ static void help(void)
          "  --interpolation NAME   linear or sinc8\n"
          "  --cmp-range FIRST-LAST stack only these CMPs (a part of the line: parts\n"
          "                         are joined by tzero merge)\n"
-         "  --threads N            threads (default: the machine's online cores);\n"
-         "                         the output is bitwise identical for any N\n"
+         "  --threads N            threads (default and most: the CPUs this process may\n"
+         "                         use); the output is bitwise identical for any N\n"
+         "  --reuse SECTION        a section an earlier run of this line wrote: CMPs\n"
+         "                         whose velocity function and every other input are\n"
+         "                         unchanged (the reuse keys in its report) are copied,\n"
+         "                         only the others are read and restacked; the result\n"
+         "                         is the section a full run writes. Missing section or\n"
+         "                         report: a full run, with a note (docs/performance.md)\n"
+         "  --reuse-report FILE    the report of the reused section (default: the job's\n"
+         "                         report, as a rerun of the same job finds it)\n"
          "  --skip-bad-files       list missing or corrupt shot files in the report\n"
          "                         instead of stopping\n"
          "  --check                after the section and report are written, hold\n"
@@ -270,12 +278,14 @@ int cmd_stack(int argc, char **argv)
     { "brief", no_argument, NULL, 'B' },
     { "depfile", required_argument, NULL, 'D' },
     { "vary", required_argument, NULL, 'V' },
+    { "reuse", required_argument, NULL, 'U' },
+    { "reuse-report", required_argument, NULL, 'R' },
     { "quiet", no_argument, NULL, 'q' },
     { "help", no_argument, NULL, 'h' },
     JOBOPTS_LONG,
     { NULL, 0, NULL, 0 },
   };
-  const char *jobpath = NULL, *depfile = NULL;
+  const char *jobpath = NULL, *depfile = NULL, *reuse = NULL, *reuse_report = NULL;
   int json = 0, quiet = 0, check = 0, brief = 0, c;
   cli_vary vary;
   memset(&vary, 0, sizeof vary);
@@ -304,6 +314,8 @@ int cmd_stack(int argc, char **argv)
       if (cli_vary_parse("stack", optarg, &vary))
         return EX_USAGE;
       break;
+    case 'U': reuse = optarg; break;
+    case 'R': reuse_report = optarg; break;
     case 'q': quiet = 1; break;
     case 'h': help(); return EX_OK;
     default:
@@ -332,6 +344,9 @@ int cmd_stack(int argc, char **argv)
   deliver_steps *steps = NULL;
   char *report = NULL, *page = NULL;
   fileio_out *rep_out = NULL;
+  char *keys = NULL;
+  stack_reuse *ru = NULL;
+  char reuse_why[1200] = "";
   cli_progress pg;
   cli_progress_init(&pg, "header pass", quiet || json);
   int rc = flow_setup_load(&su, jobpath, &ov, 1, cli_progress_show, &pg, &e);
@@ -365,11 +380,24 @@ int cmd_stack(int argc, char **argv)
   stack_run_opts ro;
   if ((rc = stack_run_opts_init(&ro, su.plan, su.velocity, &e)))
     goto done;
+  if ((rc = stack_reuse_keys(su.plan, &ro, &keys, &e)))
+    goto done;
+  if (reuse) {
+    if ((rc = stack_reuse_open(&ru, su.plan, &ro, keys, reuse,
+                               reuse_report ? reuse_report : job->report, reuse_why,
+                               sizeof reuse_why, &e)))
+      goto done;
+    if (reuse_why[0] && !quiet && !json && !brief)
+      fprintf(stderr, "tzero stack: note: %s\n", reuse_why);
+    ro.restack = stack_reuse_restack(ru);
+  }
   cli_progress_init(&pg, "stacking", quiet || json);
   ro.progress = cli_progress_show;
   ro.progress_ctx = &pg;
   rc = stack_run(su.plan, &ro, &sec, &e);
   cli_progress_end(&pg);
+  if (!rc)
+    rc = stack_reuse_apply(ru, sec, &e);
   if (rc)
     goto done;
   double t_run = cli_now_s();
@@ -406,6 +434,8 @@ int cmd_stack(int argc, char **argv)
     .header_pass_s = t_plan - t_start, .data_pass_s = t_run - t_plan,
     .write_s = t_write - t_run, .total_s = cli_now_s() - t_start,
     .migration = job->migrated ? &mig : NULL,
+    .cmp_keys = keys, .reused_section = reuse, .cmps_carried = stack_reuse_carried(ru),
+    .reuse_note = reuse_why[0] ? reuse_why : NULL,
   };
   if ((rc = qc_report_build(&qa, &report, &e)))
     goto done;
@@ -477,6 +507,8 @@ done:
   free(steps);
   free(page);
   free(report);
+  free(keys);
+  stack_reuse_free(ru);
   stack_section_free(sec);
   flow_setup_free(&su);
   return rc;

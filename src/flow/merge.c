@@ -597,12 +597,20 @@ int merge_parts(const merge_opts *o, merge_result *res, tz_err *err)
   if (!rc && su.job->navigation)
     rc = deliver_navigation_write(s, su.plan, su.job->navigation, err);
   if (!rc && (o->report || su.job->history)) {
+    /* the joined line's reuse keys, as a whole-line run gives them */
+    stack_run_opts ro;
+    char *keys = NULL;
+    rc = stack_run_opts_init(&ro, su.plan, su.velocity, err);
+    if (!rc)
+      rc = stack_reuse_keys(su.plan, &ro, &keys, err);
     qc_build_args qa = {
       .job = su.job, .plan = su.plan, .section = s, .velocity = su.velocity,
       .section_path = o->section, .tool_version = o->tool_version,
-      .header_pass_s = su.header_pass_s,
+      .header_pass_s = su.header_pass_s, .cmp_keys = keys,
     };
-    rc = qc_report_build(&qa, &report, err);
+    if (!rc)
+      rc = qc_report_build(&qa, &report, err);
+    free(keys);
   }
   if (!rc && su.job->history) {
     const char *outs[4] = { o->section, o->report ? o->report : su.job->navigation,

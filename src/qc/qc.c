@@ -9,6 +9,7 @@
  *
  * Not here: printing (the front end), the stacking itself (stack_*.c).
  */
+#include "tzero/digest.h"
 #include "tzero/qc.h"
 
 #include <cjson/cJSON.h>
@@ -440,6 +441,17 @@ int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
   add_edits(r, a->job, s);
   add_statics(r, a->job, p, s);
 
+  if (a->reused_section) {
+    /* a rerun: which CMPs were copied; the trace, edit, statics and mute
+     * counts of this report cover the restacked CMPs' traces only */
+    cJSON *ru = cJSON_AddObjectToObject(r, "reuse");
+    cJSON_AddStringToObject(ru, "section", a->reused_section);
+    cJSON_AddNumberToObject(ru, "cmps_carried", (double)a->cmps_carried);
+    cJSON_AddNumberToObject(ru, "cmps_restacked", (double)(s->ncmps - a->cmps_carried));
+    cJSON_AddStringToObject(ru, "counts_cover", a->cmps_carried ? "restacked CMPs" : "every CMP");
+    if (a->reuse_note)
+      cJSON_AddStringToObject(ru, "note", a->reuse_note);
+  }
   cJSON *cm = cJSON_AddArrayToObject(r, "cmps");
   int64_t fmin = INT64_MAX, fmax = 0, fsum = 0, zero = 0;
   for (size_t c = 0; c < s->ncmps; c++) {
@@ -459,6 +471,8 @@ int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
     cJSON_AddNumberToObject(o, "top_muted_samples", (double)x->muted_top);
     cJSON_AddNumberToObject(o, "inner_muted_samples", (double)x->muted_inner);
     cJSON_AddNumberToObject(o, "bottom_muted_samples", (double)x->muted_bottom);
+    if (a->cmp_keys)
+      cJSON_AddStringToObject(o, "reuse_key_sha256", a->cmp_keys + c * (DIGEST_HEX_LEN + 1));
     cJSON_AddItemToArray(cm, o);
     if (x->fold < fmin)
       fmin = x->fold;

@@ -19,6 +19,9 @@
 typedef struct stack_records {
   int64_t *start;
   size_t n;
+  int32_t *cmp_lo, *cmp_hi;   /* per record: the least and greatest CMP of its traces
+                               * stacked in the plan's range (lo > hi: none); lets a
+                               * run that restacks some CMPs skip the other records */
 } stack_records;
 
 #define STACK_MAX_RECORD_TRACES 100000
@@ -72,6 +75,11 @@ struct stack_plan {
   int64_t traces, stackable;
   int64_t skipped[STACK_SKIP__COUNT];
 };
+
+/* The CPUs this process may run on: online CPUs, fewer when the affinity mask
+ * (taskset, a container's CPU set) allows fewer; at least 1. Thread counts are
+ * capped at it. */
+long stack_usable_cpus(void);
 
 /* Opens shot file i of the plan with the plan's header map. */
 int stack_open_input(const stack_plan *p, size_t i, segy_file **f, tz_err *err);

@@ -24,6 +24,7 @@
 #include <string.h>
 #include <sys/stat.h>
 #include <pthread.h>
+#include <sched.h>
 #include <unistd.h>
 #include "tzero/sps.h"
 
@@ -53,6 +54,19 @@ int stack_kind_reason(int kind)
   case GEOMETRY_TRACE_DEAD: return STACK_SKIP_DEAD;
   default: return STACK_SKIP_AUXILIARY;
   }
+}
+
+long stack_usable_cpus(void)
+{
+  long n = sysconf(_SC_NPROCESSORS_ONLN);
+  cpu_set_t set;
+  CPU_ZERO(&set);
+  if (sched_getaffinity(0, sizeof set, &set) == 0) {
+    long a = CPU_COUNT(&set);
+    if (a > 0 && (n <= 0 || a < n))
+      n = a;
+  }
+  return n > 0 ? n : 1;
 }
 
 int stack_open_input(const stack_plan *p, size_t i, segy_file **f, tz_err *err)
@@ -486,8 +500,13 @@ static void scan_one(file_scan *s)
   }
   stack_records *rec = &p->records[i];
   free(rec->start);
+  free(rec->cmp_lo);
+  free(rec->cmp_hi);
   rec->n = 0;
-  if (!(rec->start = malloc((size_t)(n ? n : 1) * sizeof *rec->start))) {
+  rec->cmp_lo = malloc((size_t)(n ? n : 1) * sizeof *rec->cmp_lo);
+  rec->cmp_hi = malloc((size_t)(n ? n : 1) * sizeof *rec->cmp_hi);
+  if (!(rec->start = malloc((size_t)(n ? n : 1) * sizeof *rec->start)) || !rec->cmp_lo ||
+      !rec->cmp_hi) {
     segy_close(f);
     s->state = -1;
     tz_fail(&s->err, TZ_E_NOMEM, "record list of %lld traces", (long long)n);
@@ -507,6 +526,8 @@ static void scan_one(file_scan *s)
     double off;
     int reason;
     if (t == 0 || h.field_record != rec_no || t - rec->start[rec->n - 1] >= STACK_MAX_RECORD_TRACES) {
+      rec->cmp_lo[rec->n] = INT32_MAX;
+      rec->cmp_hi[rec->n] = INT32_MIN;
       rec->start[rec->n++] = t;
       rec_no = h.field_record;
       if (rmax >= rmin)
@@ -551,6 +572,10 @@ static void scan_one(file_scan *s)
     }
     s->cmp[s->n] = cmp;
     s->off[s->n++] = off;
+    if (cmp < rec->cmp_lo[rec->n - 1])
+      rec->cmp_lo[rec->n - 1] = cmp;
+    if (cmp > rec->cmp_hi[rec->n - 1])
+      rec->cmp_hi[rec->n - 1] = cmp;
   }
   if (rmax >= rmin && s->nspan < s->cap)
     s->span[s->nspan++] = rmax - rmin + 1;
@@ -558,6 +583,12 @@ static void scan_one(file_scan *s)
   int64_t *shrunk = rec->n ? realloc(rec->start, rec->n * sizeof *rec->start) : NULL;
   if (shrunk)
     rec->start = shrunk;
+  int32_t *lo = rec->n ? realloc(rec->cmp_lo, rec->n * sizeof *lo) : NULL;
+  if (lo)
+    rec->cmp_lo = lo;
+  int32_t *hi = rec->n ? realloc(rec->cmp_hi, rec->n * sizeof *hi) : NULL;
+  if (hi)
+    rec->cmp_hi = hi;
 }
 
 static void *scan_thread(void *arg)
@@ -745,8 +776,11 @@ void stack_plan_free(stack_plan *p)
   free(p->spans);
   for (size_t i = 0; p->inputs && i < p->ninputs; i++)
     free((char *)p->inputs[i].error);
-  for (size_t i = 0; p->records && i < p->ninputs; i++)
+  for (size_t i = 0; p->records && i < p->ninputs; i++) {
     free(p->records[i].start);
+    free(p->records[i].cmp_lo);
+    free(p->records[i].cmp_hi);
+  }
   free(p->records);
   stack_stations_free(p);
   stack_points_free(p);
@@ -802,8 +836,8 @@ int stack_plan_build(stack_plan **out, const job_spec *job, stack_progress_fn pr
   if (lay && (rc = bins_fold_predict(acq, p->line, lay, NULL, err)))
     goto fail;
   {
-    long cores = sysconf(_SC_NPROCESSORS_ONLN);
-    int T = job->threads > 0 ? job->threads : (cores > 0 ? (int)cores : 1);
+    long cores = stack_usable_cpus();
+    int T = job->threads > 0 && job->threads < cores ? job->threads : (int)cores;
     if ((rc = scan_bins(p, fold, lay ? NULL : acq, T, progress, ctx, err)))
       goto fail;
   }

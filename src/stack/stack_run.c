@@ -16,8 +16,9 @@
  * thread reads its slice of batch k+2, runs the chain on its records of batch
  * k+1 and stacks its CMPs of batch k, then all meet at one barrier (a short spin before sleeping: a futex wake-up costs
  * hundreds of microseconds on a virtual machine, as long as a phase). The spin
- * adapts: none when there are more threads than online cores, a budget that
- * shrinks each time a spin ends in sleep anyway (other runs share the cores)
+ * adapts: the job's thread count is capped at the CPUs the process may use
+ * (online and in its affinity mask); no spin when there are still more
+ * threads than cores; otherwise a budget that shrinks each time a spin ends in sleep anyway (other runs share the cores)
  * and grows back when spins succeed, with sched_yield() between polls so a
  * spinning thread hands its core to whichever thread it is waiting for.
  * Ownership is decided per batch from the batch's own CMPs: their traces are
@@ -192,7 +193,10 @@ struct run_shared {
   size_t ns;
   int32_t first;             /* run range */
   size_t ncmps;
-  int subset;                /* run range narrower than the plan's: headers first */
+  int subset;                /* run range narrower than the plan's, or CMPs carried from
+                              * a reused section: headers first */
+  const unsigned char *need; /* per CMP of the run: 1 stacked here, 0 carried (o->restack);
+                              * NULL: every CMP */
   float *sum, *wsum;         /* ncmps * ns */
   int32_t *fold;
   int64_t *live;
@@ -218,7 +222,12 @@ int stack_run_opts_init(stack_run_opts *o, const stack_plan *p, const velocity_t
 {
   memset(o, 0, sizeof *o);
   o->velocity = v;
-  o->threads = p->job->threads;
+  /* No more threads than CPUs this process may run on: an extra thread has
+   * no core to run on, and every step's barrier would wait for it to be
+   * scheduled (the section does not depend on the count; a caller may still
+   * set o->threads higher, as the thread-count tests do). */
+  long cpus = stack_usable_cpus();
+  o->threads = p->job->threads > cpus ? (int)cpus : p->job->threads;
   o->first_cmp = p->first_cmp;
   o->last_cmp = p->last_cmp;
   double maxoff = p->line_offset_max_m;
@@ -272,6 +281,8 @@ static int read_slice(worker *w, const batch *b, int64_t lo, int64_t hi)
     int in_run = ti->cmp >= sh->first && (int64_t)ti->cmp < sh->first + (int64_t)sh->ncmps;
     if (!in_run)
       w->skipped[STACK_SKIP_CMP_RANGE]++;
+    else if (sh->need && !sh->need[ti->cmp - sh->first])
+      in_run = 0;      /* its CMP is carried from the reused section: not read */
     if (sh->subset && (in_run || sh->whole) &&
         (rc = segy_trace_read(w->f, t, &h, buf, sh->ns, &w->err)))
       return tz_err_path(&w->err, p->inputs[b->file].path);
@@ -299,8 +310,7 @@ static int chain_share(worker *w, batch *b)
       return rc;
     for (size_t j = j0; j < j0 + (size_t)n; j++) {
       const stack_tinfo *ti = &b->ti[j];
-      if (!ti->read || !ti->stackable || ti->cmp < sh->first ||
-          (int64_t)ti->cmp >= sh->first + (int64_t)sh->ncmps)
+      if (!ti->read || !ti->stackable || !ti->counted)
         continue;
       if (ti->killed) {
         w->killed[ti->killed - 1]++;
@@ -495,10 +505,32 @@ static void prefault_share(float *a, size_t n, int t, int T)
   memset(a + lo, 0, (hi - lo) * sizeof *a);
 }
 
-/* Advances (*fi, *a) to the next batch at or after file *fi, trace *a; every
- * thread walks the same sequence. Returns 0 after the last file. */
-static int next_batch(const stack_plan *p, batch *b, size_t fi, int64_t a)
+/* 1 when record k of file fi holds a trace of a CMP the run restacks (always
+ * without o->restack, or when the plan has no CMP bounds of its records). */
+static int record_wanted(const run_shared *sh, size_t fi, size_t k)
 {
+  const stack_records *rec = &sh->p->records[fi];
+  if (!sh->need || !rec->cmp_lo)
+    return 1;
+  int64_t lo = (int64_t)rec->cmp_lo[k] - sh->first, hi = (int64_t)rec->cmp_hi[k] - sh->first;
+  if (lo < 0)
+    lo = 0;
+  if (hi >= (int64_t)sh->ncmps)
+    hi = (int64_t)sh->ncmps - 1;
+  for (int64_t c = lo; c <= hi; c++)
+    if (sh->need[c])
+      return 1;
+  return 0;
+}
+
+/* Advances (*fi, *a) to the next batch at or after file *fi, trace *a; every
+ * thread walks the same sequence. Returns 0 after the last file. A run that
+ * carries CMPs from a reused section skips the records holding none of the
+ * CMPs it restacks (their traces are not read at all); a batch is whole
+ * consecutive records, so it ends before a skipped one. */
+static int next_batch(const run_shared *sh, batch *b, size_t fi, int64_t a)
+{
+  const stack_plan *p = sh->p;
   for (; fi < p->ninputs; fi++, a = 0) {
     if (p->inputs[fi].bad || a >= p->inputs[fi].traces)
       continue;
@@ -520,13 +552,19 @@ static int next_batch(const stack_plan *p, batch *b, size_t fi, int64_t a)
       else
         hi = mid;
     }
+    while (lo < rec->n && !record_wanted(sh, fi, lo))
+      lo++;
+    if (lo == rec->n)
+      continue;
     b->rec0 = lo;
     b->n = 0;
     for (size_t k = lo; k < rec->n; k++) {
       int64_t ra, rn;
       stack_record_span(p, fi, k, &ra, &rn);
-      if (b->nrec && b->n + rn > BATCH_TRACES)
+      if (b->nrec && (b->n + rn > BATCH_TRACES || !record_wanted(sh, fi, k)))
         break;
+      if (!b->nrec)
+        b->a = ra;
       b->n += rn;
       b->nrec++;
     }
@@ -567,7 +605,7 @@ static void *work(void *arg)
   /* Step k reads batch k, runs the chain on the records of batch k - 1 and
    * stacks batch k - 2, each stage in its own buffer; one barrier per step. */
   batch rd = sh->bt[0], ch = sh->bt[1], st = sh->bt[2];
-  int have_rd = next_batch(p, &rd, 0, 0), have_ch = 0, have_st = 0, stop = 0;
+  int have_rd = next_batch(sh, &rd, 0, 0), have_ch = 0, have_st = 0, stop = 0;
   while ((have_rd || have_ch || have_st) && !stop) {
     if (have_rd)
       read_share(w, &rd);
@@ -587,7 +625,7 @@ static void *work(void *arg)
     ch = rd;
     have_ch = have_rd;
     rd = t;
-    have_rd = have_ch ? next_batch(p, &rd, ch.file, ch.a + ch.n) : 0;
+    have_rd = have_ch ? next_batch(sh, &rd, ch.file, ch.a + ch.n) : 0;
   }
   segy_close(w->f);
   w->f = NULL;
@@ -664,14 +702,15 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
   memset(&sh, 0, sizeof sh);
   sh.p = p;
   sh.o = o;
-  long cores = sysconf(_SC_NPROCESSORS_ONLN);
+  long cores = stack_usable_cpus();
   sh.T = o->threads > 0 ? o->threads : (cores > 0 ? (int)cores : 1);
   if (sh.T > JOB_MAX_THREADS)
     sh.T = JOB_MAX_THREADS;
   sh.ns = p->axis.ns;
   sh.first = o->first_cmp;
   sh.ncmps = (size_t)((int64_t)o->last_cmp - o->first_cmp + 1);
-  sh.subset = o->first_cmp != p->first_cmp || o->last_cmp != p->last_cmp;
+  sh.need = o->restack;
+  sh.subset = o->first_cmp != p->first_cmp || o->last_cmp != p->last_cmp || sh.need;
   sh.use_eta = o->nmo.use_eta && velocity_table_has_eta(o->velocity);
   sh.class_m = o->offset_class_m > 0 ? o->offset_class_m : 1;
   double maxoff = p->line_offset_max_m;
