@@ -214,4 +214,25 @@ int geometry_source_trace(const geometry_source *s, const segy_trace_header *h, 
  * elevation scalar -100, offset rounded to metres, coordinate units 1). */
 void geometry_to_header(const geometry_trace *g, segy_trace_header *h);
 
+/* ---- units of length (SEG-Y rev 1 (2002), binary header bytes 3255-3256) ----
+ * A line is processed in one unit: metres, or feet for coordinates, offsets,
+ * bins, elevations and velocities (ft/s) alike; numbers are never converted,
+ * only checked and labelled. The unit is the job's "units" when given, else what
+ * the shot files' binary headers say (1 metres, 2 feet; other codes say
+ * nothing), else metres. A file that disagrees with the job or with an earlier
+ * file is TZ_E_FORMAT naming both (byte 3254 of the file). */
+enum geometry_unit { GEOMETRY_UNIT_UNKNOWN = 0, GEOMETRY_UNIT_METRES = 1, GEOMETRY_UNIT_FEET = 2 };
+#define GEOMETRY_FOOT_M 0.3048        /* the international foot, exactly */
+typedef struct geometry_units {
+  int job;                      /* the job's unit, 0 = not given */
+  int files;                    /* the files' unit, 0 = none said yet */
+  char first_path[256];         /* the first file that said it */
+} geometry_units;
+void geometry_units_init(geometry_units *u, int job_unit);
+int geometry_units_file(geometry_units *u, int code, const char *path, tz_err *err);
+int geometry_units_resolved(const geometry_units *u);     /* GEOMETRY_UNIT_METRES or _FEET */
+const char *geometry_units_source(const geometry_units *u); /* "job", "binary header", "default" */
+const char *geometry_unit_name(int unit);                 /* "metres" / "feet" */
+const char *geometry_unit_symbol(int unit);               /* "m" / "ft" */
+
 #endif

@@ -85,6 +85,8 @@ typedef struct job_spec {
 
   int geometry;               /* enum job_geometry_source */
   char *geometry_file;        /* layout or table path; NULL for headers and SPS */
+  int units;                  /* "units": 0 = not given (the files' binary headers say,
+                               * else metres), 1 = "metres", 2 = "feet" (geometry.h) */
   char *sps[3];               /* JOB_GEOMETRY_SPS: source, receiver and relation files
                                * (SPS revision 2.1, sps.h) */
   char *header_map;           /* optional SEG-Y header map file (segy.h); NULL = standard */

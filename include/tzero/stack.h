@@ -120,6 +120,10 @@ void stack_plan_cmp(const stack_plan *p, int32_t cmp, stack_cmp_plan *out);
 double stack_plan_nominal_fold(const stack_plan *p);
 /* Every acquisition figure of the survey inference (the same as `tzero geometry`). */
 survey_figures stack_plan_survey(const stack_plan *p);
+/* The line's unit of length (geometry.h: GEOMETRY_UNIT_METRES or _FEET) and where
+ * it came from ("job", "binary header", "default"). */
+int stack_plan_units(const stack_plan *p);
+const char *stack_plan_units_source(const stack_plan *p);
 /* The full-fold part of the section: the first and last CMP whose acquisition
  * fold (stack_cmp_plan.acquired_fold) reaches the whole nominal fold. Returns 0
  * when no CMP does (a line shorter than its spread). */

@@ -64,6 +64,9 @@ static void help(void)
          "  --fold-table FILE   write the fold per CMP as CSV\n"
          "  --write DIR         write copies of the shot files with the geometry in the\n"
          "                      standard header positions (and CMP numbers)\n"
+         "  --units UNIT        metres or feet: the unit of every length (default: what\n"
+         "                      the files' binary header bytes 3255-3256 say, else\n"
+         "                      metres); files that say the other unit are an error\n"
          "  --json              print the summary as JSON (cmps, fold, line, shots)\n"
          "  --quiet             print nothing but errors\n"
          "  -h, --help          this text\n"
@@ -95,6 +98,7 @@ typedef struct run {
   int64_t read, binned, dead, auxiliary, off_line;
   const char *write_dir;
   const sps_set *sps;            /* --sps: the exchange files' records */
+  geometry_units units;          /* the job's and the files' unit of length */
 } run;
 
 static int add_shot(run *r, int file, const geometry_trace *g, tz_err *err)
@@ -152,6 +156,12 @@ static int scan_shots(run *r, int which, tz_err *err)
       return rc;
     const segy_info *info = segy_get_info(sf);
     int64_t n = segy_trace_count(sf);
+    if (which == 1 || !survey_wants_traces(r->survey)) {
+      if ((rc = geometry_units_file(&r->units, info->measurement_system, r->files[f], err))) {
+        segy_close(sf);
+        return rc;
+      }
+    }
     int writing = which == 2 && r->write_dir;
     if (writing) {
       char path[4200], text[38 * 78 + 1];
@@ -165,7 +175,8 @@ static int scan_shots(run *r, int which, tz_err *err)
                              .sorting_code = info->sorting_code ? info->sorting_code : 1,
                              .ensemble_fold = info->ensemble_fold,
                              .traces_per_ensemble = info->traces_per_ensemble,
-                             .measurement_system = 1, .line_no = info->line_no,
+                             .measurement_system = (int16_t)geometry_units_resolved(&r->units),
+                             .line_no = info->line_no,
                              .text = text };
       if (info->samples > bufcap) {
         free(buf);
@@ -446,6 +457,9 @@ static cJSON *json_summary(const run *r, const bins_fold *pred, const char *kind
     cJSON_AddStringToObject(o, "geometry_file", gfile);
   if (r->sps)
     cJSON_AddItemToObject(o, "sps", sps_json(r->sps));
+  cJSON *un = cJSON_AddObjectToObject(o, "units");
+  cJSON_AddStringToObject(un, "length", geometry_unit_name(geometry_units_resolved(&r->units)));
+  cJSON_AddStringToObject(un, "from", geometry_units_source(&r->units));
   bins_params p = bins_line_get_params(r->line);
   cJSON *ln = cJSON_AddObjectToObject(o, "line");
   cJSON_AddStringToObject(ln, "kind", bins_line_is_crooked(r->line) ? "crooked" : "straight");
@@ -567,6 +581,10 @@ static void print_text(const run *r, const bins_fold *pred, const char *kind,
   printf("geometry from %s; %zu files, %lld traces (%lld binned, %lld dead, %lld auxiliary, "
          "%lld off the line)\n", kind, r->nfiles, (long long)r->read, (long long)r->binned,
          (long long)r->dead, (long long)r->auxiliary, (long long)r->off_line);
+  int u = geometry_units_resolved(&r->units);
+  printf("units: %s (from the %s%s)%s\n", geometry_unit_name(u), geometry_units_source(&r->units),
+         r->units.job || r->units.files ? "" : ": no file's binary header bytes 3255-3256 say",
+         u == GEOMETRY_UNIT_FEET ? "; every length below is in feet where it says m" : "");
   if (r->sps)
     print_sps(r->sps);
   printf("processing line: %s%s, origin %.2f %.2f m, azimuth %.4f deg\n",
@@ -610,7 +628,7 @@ static void print_text(const run *r, const bins_fold *pred, const char *kind,
   }
 }
 
-enum { O_JOB = 256, O_LAYOUT, O_TABLE, O_SPS, O_MAP, O_BIN, O_OX, O_OY, O_AZ, O_CROOKED, O_CSMOOTH, O_FIRST,
+enum { O_UNITS = 200, O_JOB = 256, O_LAYOUT, O_TABLE, O_SPS, O_MAP, O_BIN, O_OX, O_OY, O_AZ, O_CROOKED, O_CSMOOTH, O_FIRST,
        O_MAXOFF, O_OCLASS, O_FOLD, O_WRITE, O_JSON, O_QUIET };
 
 int cmd_geometry(int argc, char **argv)
@@ -620,6 +638,7 @@ int cmd_geometry(int argc, char **argv)
     { "layout", required_argument, NULL, O_LAYOUT },
     { "table", required_argument, NULL, O_TABLE },
     { "sps", required_argument, NULL, O_SPS },
+    { "units", required_argument, NULL, O_UNITS },
     { "header-map", required_argument, NULL, O_MAP },
     { "bin-size", required_argument, NULL, O_BIN },
     { "origin-x", required_argument, NULL, O_OX },
@@ -640,6 +659,7 @@ int cmd_geometry(int argc, char **argv)
   const char *cmd = "geometry";
   const char *job_path = NULL, *layout_path = NULL, *table_path = NULL, *map_path = NULL;
   const char *sps_arg = NULL;
+  int units = 0;
   const char *crooked = NULL, *fold_path = NULL, *write_dir = NULL;
   double csmooth = 0, bin = 0, ox = NAN, oy = NAN, az = NAN, maxoff = 0, oclass = 0;
   long long first = 1;
@@ -651,6 +671,11 @@ int cmd_geometry(int argc, char **argv)
     case O_LAYOUT: layout_path = optarg; break;
     case O_TABLE: table_path = optarg; break;
     case O_SPS: sps_arg = optarg; break;
+    case O_UNITS:
+      if (!strcmp(optarg, "metres")) units = GEOMETRY_UNIT_METRES;
+      else if (!strcmp(optarg, "feet")) units = GEOMETRY_UNIT_FEET;
+      else return cli_usage_error(cmd, "--units: expected metres or feet");
+      break;
     case O_MAP: map_path = optarg; break;
     case O_BIN:
       if (cli_parse_f64(cmd, "--bin-size", optarg, &bin)) return EX_USAGE;
@@ -726,6 +751,7 @@ int cmd_geometry(int argc, char **argv)
   memset(&r, 0, sizeof r);
   r.cmd = cmd;
   r.write_dir = write_dir;
+  geometry_units_init(&r.units, units);
   job_spec *job = NULL;
   geometry_layout lay;
   geometry_layout_init(&lay);
@@ -743,6 +769,8 @@ int cmd_geometry(int argc, char **argv)
       goto done;
     r.files = job->shots;
     r.nfiles = job->nshots;
+    if (!units)
+      geometry_units_init(&r.units, job->units);
     if (job->geometry == JOB_GEOMETRY_LAYOUT && !layout_path && !table_path && !sps_arg)
       layout_path = job->geometry_file;
     if (job->geometry == JOB_GEOMETRY_TABLE && !layout_path && !table_path && !sps_arg)

@@ -12,6 +12,7 @@
 #include "cli.h"
 #include "jobopts.h"
 #include "tzero/fileio.h"
+#include "tzero/geometry.h"
 #include "tzero/job.h"
 #include "tzero/segy.h"
 #include "tzero/semblance.h"
@@ -404,6 +405,21 @@ int cmd_semblance(int argc, char **argv)
     goto done;
   if ((rc = stack_plan_nmo(plan, &o.sp.nmo, &mute, &err)))
     goto done;
+  if (stack_plan_units(plan) == GEOMETRY_UNIT_FEET) {
+    /* The default scan and bounds are in m/s: on a line in feet they are taken in
+     * ft/s (rounded to 10 ft/s, the step to 1 ft/s); values given are kept. */
+    semblance_params d;
+    semblance_pick_params dp;
+    semblance_params_init(&d);
+    semblance_pick_params_init(&dp);
+    double *v[] = { &o.sp.velocity_min_mps, &o.sp.velocity_max_mps, &o.sp.velocity_step_mps,
+                    &o.pp.interval_min_mps, &o.pp.interval_max_mps };
+    const double dv[] = { d.velocity_min_mps, d.velocity_max_mps, d.velocity_step_mps,
+                          dp.interval_min_mps, dp.interval_max_mps };
+    for (size_t i = 0; i < sizeof v / sizeof v[0]; i++)
+      if (*v[i] == dv[i])
+        *v[i] = i == 2 ? round(dv[i] / GEOMETRY_FOOT_M) : 10 * round(dv[i] / GEOMETRY_FOOT_M / 10);
+  }
   o.sp.mute = &mute;
   o.sp.threads = job->threads;
   if (o.sp.threads <= 0) {

@@ -14,6 +14,7 @@
 
 #include <cjson/cJSON.h>
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -896,4 +897,50 @@ void geometry_to_header(const geometry_trace *g, segy_trace_header *h)
   h->coord_scalar = -100;
   h->elev_scalar = -100;
   h->coord_units = 1;
+}
+
+/* ---- units of length ---- */
+
+void geometry_units_init(geometry_units *u, int job_unit)
+{
+  memset(u, 0, sizeof *u);
+  u->job = job_unit == GEOMETRY_UNIT_METRES || job_unit == GEOMETRY_UNIT_FEET ? job_unit : 0;
+}
+
+const char *geometry_unit_name(int unit) { return unit == GEOMETRY_UNIT_FEET ? "feet" : "metres"; }
+const char *geometry_unit_symbol(int unit) { return unit == GEOMETRY_UNIT_FEET ? "ft" : "m"; }
+
+int geometry_units_file(geometry_units *u, int code, const char *path, tz_err *err)
+{
+  if (code != GEOMETRY_UNIT_METRES && code != GEOMETRY_UNIT_FEET)
+    return TZ_OK;                       /* 0 or another value: the file does not say */
+  if (u->job && code != u->job) {
+    tz_fail_at(err, TZ_E_FORMAT, -1, 3254, "binary header bytes 3255-3256 give measurement "
+               "system %d (%s), but the line's units are set to %s (the job's \"units\" or "
+               "--units): a line is processed in one unit (convert the files, or set %s)", code,
+               geometry_unit_name(code), geometry_unit_name(u->job), geometry_unit_name(code));
+    return tz_err_path(err, path);
+  }
+  if (u->files && code != u->files) {
+    tz_fail_at(err, TZ_E_FORMAT, -1, 3254, "binary header bytes 3255-3256 give measurement "
+               "system %d (%s), but %s gives %d (%s): the files mix units, which cannot be "
+               "resolved (convert them to one unit; the job's \"units\" names it)", code,
+               geometry_unit_name(code), u->first_path, u->files, geometry_unit_name(u->files));
+    return tz_err_path(err, path);
+  }
+  if (!u->files) {
+    u->files = code;
+    snprintf(u->first_path, sizeof u->first_path, "%s", path ? path : "");
+  }
+  return TZ_OK;
+}
+
+int geometry_units_resolved(const geometry_units *u)
+{
+  return u->job ? u->job : u->files ? u->files : GEOMETRY_UNIT_METRES;
+}
+
+const char *geometry_units_source(const geometry_units *u)
+{
+  return u->job ? "job" : u->files ? "binary header" : "default";
 }

@@ -1000,7 +1000,7 @@ static void set_defaults(job_spec *j)
 
 static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *err)
 {
-  static const char *const keys[] = { "name", "shots", "geometry", "header_map", "bins",
+  static const char *const keys[] = { "name", "shots", "units", "geometry", "header_map", "bins",
                                       "velocity", "moveout", "mute", "selection", "output",
                                       "conditioning", "edits", "statics", "limits", "threads",
                                       "skip_bad_files", "interval_us", "migration", "client",
@@ -1041,6 +1041,8 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
     return tz_fail(err, TZ_E_JOB, "$.shots: required key missing (file patterns of the shot "
                  "records)");
   if ((rc = parse_shots(j, e, dir, err)))
+    return rc;
+  if ((e = ITEM(root, "units")) && (rc = job_units_parse(j, e, err)))
     return rc;
   if ((e = ITEM(root, "geometry")) && (rc = parse_geometry(j, e, dir, err)))
     return rc;
@@ -1461,6 +1463,8 @@ int job_to_json(const job_spec *j, char **out, tz_err *err)
   if (!bad) {
     bad |= add_str(r, "name", j->name);
     bad |= add_str(r, "job_file", j->path);
+    if (j->units)
+      bad |= add_str(r, "units", j->units == 2 ? "feet" : "metres");
     if (j->client)
       bad |= add_str(r, "client", j->client);
     if (j->contractor)

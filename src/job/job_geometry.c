@@ -8,6 +8,9 @@
  * `tzero geometry --crooked` reads); "bins": {"crooked": {"smoothing_m": M}} asks
  * for an automatic crooked line through the midpoints (bins.h).
  *
+ * "units": "metres" or "feet": the unit of every length and velocity of the line
+ * (geometry.h, geometry_units).
+ *
  * Not here: reading the files (sps.c), the rest of the job (job.c).
  */
 #include <stdlib.h>
@@ -98,4 +101,11 @@ int job_crooked_to_json(const job_spec *j, cJSON *bins)
     return o && cJSON_AddNumberToObject(o, "smoothing_m", j->bins.crooked_smoothing_m) ? 0 : -1;
   }
   return 0;
+}
+
+int job_units_parse(job_spec *j, const cJSON *v, tz_err *err)
+{
+  static const char *const names[] = { "metres", "feet", NULL };
+  static const int values[] = { 1, 2 };
+  return json_doc_choice(v, "$.units", names, values, &j->units, TZ_E_JOB, err);
 }

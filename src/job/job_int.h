@@ -30,4 +30,7 @@ int job_crooked_parse(job_spec *j, const cJSON *v, const char *dir, tz_err *err)
 /* Adds "crooked" to the resolved "bins" object when given; 0 or -1 (memory). */
 int job_crooked_to_json(const job_spec *j, cJSON *bins);
 
+/* "units": "metres" | "feet" (job_geometry.c). */
+int job_units_parse(job_spec *j, const cJSON *v, tz_err *err);
+
 #endif

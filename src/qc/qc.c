@@ -214,7 +214,10 @@ static int add_velocity(cJSON *r, const qc_build_args *a, tz_err *err)
   }
   velocity_warning *vw = NULL;
   size_t nw = 0;
-  int rc = velocity_check(a->velocity, 0, 0, &vw, &nw, err);
+  /* the plausible range in the line's unit (velocity.h gives it in m/s) */
+  double vk = a->plan && stack_plan_units(a->plan) == GEOMETRY_UNIT_FEET ? 1.0 / GEOMETRY_FOOT_M : 1.0;
+  int rc = velocity_check(a->velocity, VELOCITY_PLAUSIBLE_MIN_MPS * vk,
+                          VELOCITY_PLAUSIBLE_MAX_MPS * vk, &vw, &nw, err);
   if (rc)
     return rc;
   for (size_t i = 0; i < nw; i++) {
@@ -381,6 +384,17 @@ int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
   }
 
   stack_line_info li = stack_plan_line(p);
+  {
+    int u = stack_plan_units(p);
+    cJSON *un = cJSON_AddObjectToObject(r, "units");
+    cJSON_AddStringToObject(un, "length", geometry_unit_name(u));
+    cJSON_AddStringToObject(un, "velocity", u == GEOMETRY_UNIT_FEET ? "ft/s" : "m/s");
+    cJSON_AddStringToObject(un, "from", stack_plan_units_source(p));
+    cJSON_AddStringToObject(un, "note", u == GEOMETRY_UNIT_FEET
+                            ? "every length in this report is in feet and every velocity in "
+                              "ft/s, whatever its key's _m or _mps suffix says"
+                            : "lengths in metres, velocities in m/s");
+  }
   cJSON *g = cJSON_AddObjectToObject(r, "geometry");
   cJSON_AddStringToObject(g, "source", !j || j->geometry == JOB_GEOMETRY_HEADERS ? "headers"
                                        : j->geometry == JOB_GEOMETRY_LAYOUT ? "layout"

@@ -301,7 +301,7 @@ int stack_section_write(const stack_section *s, const stack_plan *p, const char 
   double nom = round(p->nominal_fold);
   o.ensemble_fold = (int16_t)(nom > 32767 ? 32767 : nom < 0 ? 0 : nom);
   o.traces_per_ensemble = 1;
-  o.measurement_system = 1;
+  o.measurement_system = (int16_t)stack_plan_units(p);
   o.polarity = polarity;
   o.text = text;
   segy_writer *w = NULL;
@@ -364,7 +364,7 @@ int stack_write_nmo_gathers(const stack_plan *p, const stack_gathers *G, const s
   double nom = round(p->nominal_fold);
   wo.ensemble_fold = (int16_t)(nom > 32767 ? 32767 : nom < 0 ? 0 : nom);
   wo.traces_per_ensemble = (int16_t)(maxfold > 32767 ? 32767 : maxfold);
-  wo.measurement_system = 1;
+  wo.measurement_system = (int16_t)stack_plan_units(p);
   wo.text = text;
   float *vel = malloc(ns * sizeof *vel), *eta = NULL, *out = malloc(ns * sizeof *out);
   int use_eta = o->nmo.use_eta && velocity_table_has_eta(o->velocity);

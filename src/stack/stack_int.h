@@ -28,6 +28,7 @@ typedef struct stack_records {
 
 struct stack_plan {
   const job_spec *job;            /* borrowed */
+  geometry_units units;           /* the job's and the shot files' unit of length */
   segy_header_map map;
   int has_map;
   geometry_source *geo;           /* owned */

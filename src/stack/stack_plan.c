@@ -96,6 +96,8 @@ int32_t stack_plan_last_cmp(const stack_plan *p) { return p->last_cmp; }
 size_t stack_plan_ncmps(const stack_plan *p) { return p->ncmps; }
 double stack_plan_nominal_fold(const stack_plan *p) { return p->nominal_fold; }
 survey_figures stack_plan_survey(const stack_plan *p) { return p->survey; }
+int stack_plan_units(const stack_plan *p) { return geometry_units_resolved(&p->units); }
+const char *stack_plan_units_source(const stack_plan *p) { return geometry_units_source(&p->units); }
 int stack_plan_full_fold(const stack_plan *p, int32_t *first, int32_t *last)
 {
   *first = p->full_fold_first;
@@ -447,6 +449,7 @@ typedef struct file_scan {
                                * but for the CMP range */
   int64_t traces;
   int state;                  /* 0 scanned, 1 bad (skipped), -1 failed (err) */
+  int measurement_system;     /* binary header bytes 3255-3256 */
   tz_err err;
 } file_scan;
 
@@ -471,6 +474,7 @@ static void scan_one(file_scan *s)
   int64_t n = segy_trace_count(f);
   s->state = 0;
   s->traces = n;
+  s->measurement_system = segy_get_info(f)->measurement_system;
   if (!stack_file_axis_ok(p, segy_get_info(f))) {
     s->counts[STACK_SKIP_SAMPLE_AXIS] = n;
     segy_close(f);
@@ -659,6 +663,9 @@ static int scan_bins(stack_plan *p, bins_fold *fold, bins_fold *acq, int threads
       }
       if (s->state > 0)
         continue;     /* bad file (skip_bad_files): counted by the caller */
+      if ((rc = geometry_units_file(&p->units, s->measurement_system, p->inputs[s->file].path,
+                                    err)))
+        break;
       for (size_t t = 0; t < s->n && !rc; t++)
         if ((rc = bins_fold_add(fold, s->cmp[t], s->off[t], err)))
           tz_err_path(err, p->inputs[s->file].path);
@@ -795,6 +802,7 @@ int stack_plan_build(stack_plan **out, const job_spec *job, stack_progress_fn pr
   if (!p)
     return tz_fail(err, TZ_E_NOMEM, "stack plan");
   p->job = job;
+  geometry_units_init(&p->units, job->units);
   int rc = TZ_OK;
   bins_fold *fold = NULL, *acq = NULL;
   if (!job->nshots) {

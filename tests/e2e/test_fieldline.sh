@@ -127,3 +127,20 @@ else notok "automatic line and its node file give different sections"; fi
 sed 's/"bins": {"crooked"/"bins": {"azimuth_deg": 35, "origin_x_m": 0, "origin_y_m": 0, "crooked"/' "$B/auto.json" > "$B/both.json"
 expect_status 65 "a crooked line and a straight one" -- "$TZERO" stack --job "$B/both.json"
 expect_stderr "bins.crooked: a crooked line replaces origin_x_m" "the clash is named"
+
+# Units: a line in feet (binary header bytes 3255-3256 = 2, SEG-Y rev 1) is processed
+# in feet; a job or a file in the other unit is a clear error.
+F="$T/feet"
+PYTHONPATH="$TOP/tests/xcheck" "$PYTHON" -c 'import sys, fieldline; fieldline.write_shots(sys.argv[1], feet=True, x0=150000.0, y0=450000.0)' "$F" ||
+  { notok "feet line"; exit 1; }
+expect_status 0 "geometry on a line in feet" -- "$TZERO" geometry "$F"/shots/*.sgy
+expect_stdout "^units: feet \(from the binary header\); every length below is in feet" "the unit is said"
+expect_stdout "receiver interval 16\.40 m|receiver interval 16\.4[0-9]+ m" "the receiver interval in feet (5 m = 16.40 ft)"
+expect_status 65 "geometry --units metres on files in feet" -- "$TZERO" geometry --units metres "$F"/shots/*.sgy
+expect_stderr "rec_001.sgy: byte 3254: binary header bytes 3255-3256 give measurement system 2 \(feet\), but the line's units are set to metres" \
+  "the clash names the file, the bytes and both units"
+cp "$F/shots/rec_030.sgy" "$D/shots/rec_030.sgy"
+expect_status 65 "one file in feet among files in metres" -- "$TZERO" geometry "$D"/shots/*.sgy
+expect_stderr "rec_030.sgy: byte 3254: .*measurement system 2 \(feet\), but .*rec_001.sgy gives 1 \(metres\): the files mix units" \
+  "mixed files are named"
+rm -f "$D/shots/rec_030.sgy"

@@ -18,7 +18,7 @@ Shares no code with tzero. What a real line brings (issue 17):
   2 feet); with feet=True every length and velocity is written in feet
   (1 ft = 0.3048 m exactly, the international foot).
 
-The coordinates are written with coordinate scalar -100 (centimetres), and
+The coordinates are written with coordinate scalar -100 (hundredths of the unit), and
 positions() gives every trace's positions as stored (rounded the same way), so
 a test compares tzero with NumPy on the very numbers in the files.
 
@@ -84,24 +84,24 @@ def bend_azimuth(s, bend):
     return AZ_DEG + bend * t * t * (3 - 2 * t)
 
 
-def true_line(bend=0.0, step=0.01):
+def true_line(bend=0.0, step=0.01, x0=X0, y0=Y0):
     """The line itself (no scatter): arc length, x, y on a fine grid, integrated
     from its azimuth (NumPy cumulative sum)."""
     last = FIRST_SHOT_STATION + STATION_STEP * (NPOS - 1) + GAP_STATIONS + HALF
     s = np.arange(-50.0, (last - FIRST_STATION) * DG + 50.0, step)
     a = np.radians(bend_azimuth(s, bend))
-    x = X0 + np.concatenate([[0.0], np.cumsum(np.sin(a[:-1]) * step)])
-    y = Y0 + np.concatenate([[0.0], np.cumsum(np.cos(a[:-1]) * step)])
+    x = x0 + np.concatenate([[0.0], np.cumsum(np.sin(a[:-1]) * step)])
+    y = y0 + np.concatenate([[0.0], np.cumsum(np.cos(a[:-1]) * step)])
     k = np.searchsorted(s, 0.0)
-    return s, x - (x[k] - X0), y - (y[k] - Y0)
+    return s, x - (x[k] - x0), y - (y[k] - y0)
 
 
-def station_positions(bend=0.0):
+def station_positions(bend=0.0, x0=X0, y0=Y0):
     """Surveyed (x, y, z) of every station in metres, GPS scatter included. With
     bend != 0 the line turns by that many degrees (true_line)."""
     rng = np.random.default_rng(1717)
     last = FIRST_SHOT_STATION + STATION_STEP * (NPOS - 1) + GAP_STATIONS + HALF
-    ls, lx, ly = true_line(bend)
+    ls, lx, ly = true_line(bend, x0=x0, y0=y0)
     pos = {}
     for st in range(FIRST_STATION, last + 1):
         s = (st - FIRST_STATION) * DG + SCATTER_ALONG_M * rng.standard_normal()
@@ -140,26 +140,34 @@ def cm(v):
     return int(round(v * 100))
 
 
-def positions(feet=False, bend=0.0):
+def coord_scale(feet):
+    """Stored coordinate units per file unit: hundredths (scalar -100), in feet too (a
+    feet line should use a local grid: 22 million feet of UTM northing would overflow
+    a 32-bit field in hundredths)."""
+    return 100
+
+
+def positions(feet=False, bend=0.0, x0=X0, y0=Y0):
     """Every trace as stored: dict (ffid, channel) -> (sx, sy, rx, ry) in the
     file's unit (centimetre rounding of the stored coordinates)."""
     k = scale(feet)
-    pos = station_positions(bend)
+    pos = station_positions(bend, x0, y0)
     out = {}
     for ffid, s in records():
         sx, sy, _ = pos[s]
         for c, r in enumerate(receivers(s)):
             rx, ry, _ = pos[r]
-            out[(ffid, c + 1)] = tuple(cm(v * k) / 100.0 for v in (sx, sy, rx, ry))
+            q = coord_scale(feet)
+            out[(ffid, c + 1)] = tuple(int(round(v * k * q)) / q for v in (sx, sy, rx, ry))
     return out
 
 
-def write_shots(d, feet=False, coords=True, seed=5, bend=0.0):
+def write_shots(d, feet=False, coords=True, seed=5, bend=0.0, x0=X0, y0=Y0):
     """One SEG-Y file per record under d/shots; returns the file paths."""
     os.makedirs(os.path.join(d, "shots"), exist_ok=True)
     rng = np.random.default_rng(seed)
     k = scale(feet)
-    pos = station_positions(bend)
+    pos = station_positions(bend, x0, y0)
     t = np.arange(NS) * DT_US * 1e-6
     F = segyio.TraceField
     paths = []
@@ -200,7 +208,7 @@ def write_shots(d, feet=False, coords=True, seed=5, bend=0.0):
                     F.TraceIdentificationCode: kind,
                     F.offset: int(round(sign * x * k)),
                     F.ElevationScalar: -100,
-                    F.SourceGroupScalar: -100,
+                    F.SourceGroupScalar: -coord_scale(feet),
                     F.ReceiverGroupElevation: cm(rz * k),
                     F.SourceSurfaceElevation: cm(sz * k),
                     F.TRACE_SAMPLE_COUNT: NS,
@@ -208,8 +216,9 @@ def write_shots(d, feet=False, coords=True, seed=5, bend=0.0):
                     F.CoordinateUnits: 1,
                 }
                 if coords:
-                    h.update({F.SourceX: cm(sx * k), F.SourceY: cm(sy * k),
-                              F.GroupX: cm(rx * k), F.GroupY: cm(ry * k)})
+                    q = coord_scale(feet)
+                    h.update({F.SourceX: int(round(sx * k * q)), F.SourceY: int(round(sy * k * q)),
+                              F.GroupX: int(round(rx * k * q)), F.GroupY: int(round(ry * k * q))})
                 f.header[c] = h
                 f.trace[c] = tr.astype(np.float32)
     return paths
