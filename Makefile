@@ -114,6 +114,7 @@ PREFIX_LIST = \
   nmo \
   page \
   picture \
+  poststack \
   qc \
   refraction \
   residual \

@@ -68,6 +68,12 @@ mkdir -p docs/img
 cp "$O/gw01_stack.png" "$O/gw01_fold.png" docs/img/
 
 echo
+echo "== TV-GW-01: post-stack conditioning of the stack (tzero condition, steps $D/gw01_poststack.json):"
+echo "   a time-variant band-pass (two windows cross-faded over 70-100 ms) and f-x prediction"
+"$TZ" condition "$O/gw01_stack.sgy" --steps "$D/gw01_poststack.json" --out "$O/gw01_stack_cond.sgy"
+"$TZ" picture "$O/gw01_stack_cond.sgy" --out "$O/gw01_stack_cond.png" --time-ms 0-150
+
+echo
 echo "== TV-DX-04: velocity analysis (semblance on 5-CMP supergathers, automatic picks)"
 "$TZ" semblance --job "$D/dx04.job.json" --cmps 60-260:40 --supergather 2 \
   --velocity-min 1500 --velocity-max 3500 --velocity-step 20 \
@@ -76,7 +82,8 @@ echo "picked velocity table: $O/dx04_velocity.csv (model's exact RMS velocities:
 "$TZ" velocity check "$O/dx04_velocity.csv" | tail -n 1
 
 echo
-echo "== TV-DX-04: stack with the picked velocities (spherical divergence gain, band-pass, sinc8 NMO)"
+echo "== TV-DX-04: stack with the picked velocities (spherical divergence gain, band-pass, sinc8 NMO;"
+echo "   post-stack: a time-variant band-pass and f-x prediction, and trace balancing after migration)"
 "$TZ" stack --job "$D/dx04.job.json" | sed -n '1,6p'
 echo "velocities with the section's coordinates every 20 CMPs, Dix interval velocities:"
 "$TZ" velocity --job "$D/dx04.job.json" --export "$O/dx04_velocity_export.csv" --every 20
@@ -225,7 +232,7 @@ echo "  rt07_stack.png (with statics), rt07_stack_nostatics.png, rt07_statics.pn
 echo "  rt07_record_picks.png, rt07_stack_refraction.png, rt07_stack_final.png (velocity loop),"
 echo "  rt07_elevation_statics.csv, rt07s_spectra.png, rt07s_record_{raw,decon,fk}.png,"
 echo "  rt07s_fk_{raw,after}.png, rt07s_stack_{raw,decon,fk}.png (deconvolution and f-k),"
-echo "  dx04_migrated.sgy (.png), dx04_migrated_ps.sgy (.png);"
+echo "  dx04_migrated.sgy (.png), dx04_migrated_ps.sgy (.png), gw01_stack_cond.sgy (.png);"
 echo "  for the clients: {gw01,dx04,rt07,rt07_final}_nav.csv (navigation), *_history.md"
 echo "  (processing histories), {gw01,dx04,rt07_final}_velocity_export.csv"
 echo "A processed section is an interpretation aid: have it reviewed by a qualified geophysicist."

@@ -53,4 +53,45 @@ int flow_migrate(const job_spec *job, const stack_plan *plan, const velocity_tab
                  int threads, const struct deliver_steps *steps, const struct deliver_run *run,
                  struct qc_migration *out, tz_err *err);
 
+/* The job's "poststack" chain (docs/poststack.md). flow_poststack_check() binds each
+ * stage to the plan's section axis and CMP count, so a corner above Nyquist or a
+ * window the section cannot hold is refused (TZ_E_JOB naming $.poststack[i]...)
+ * before the data pass. flow_poststack_stack() applies the steps before migration to
+ * the stacked section in memory (zero-fold CMPs untouched), before it is written.
+ * flow_poststack_apply() applies one stage to any section in memory (ntr x ns,
+ * trace-major; live may be NULL). */
+int flow_poststack_check(const job_spec *job, const stack_plan *plan, tz_err *err);
+int flow_poststack_stack(const job_spec *job, stack_section *sec, tz_err *err);
+int flow_poststack_apply(const job_spec *job, int stage, double t_first_s, double dt_s,
+                         size_t ns, size_t ntr, float *samples, const unsigned char *live,
+                         tz_err *err);
+
+/* `tzero condition`: reads any post-stack section (one time axis for every trace),
+ * applies every step of the chain in order (after_migration is ignored: the section
+ * is whatever it is), and writes out_path (SEG-Y rev 1, big-endian, the input's IBM
+ * or else IEEE samples) with every trace header as read, the input's binary header
+ * values (sorting code, ensemble fold, line number, measurement system) and, for a
+ * section tzero wrote, its textual header with each step appended to the processing
+ * sequence (deliver_section_text_continue, dated by `run`); for another program's
+ * section, its textual header's cards followed by the steps. Traces of kind 2 or 3 (dead, dummy) are left
+ * as they are. Written under a temporary name, renamed on success; the input is
+ * closed before the output is written, so out_path may be in_path. */
+#define FLOW_CONDITION_MAX_TRACES 1000000
+#define FLOW_CONDITION_MAX_SAMPLES (1ull << 30)
+typedef struct flow_condition_info {
+  size_t traces, samples, steps;
+  uint32_t interval_us;
+  size_t dead;                     /* traces left untouched (kind 2 or 3) */
+  int64_t bad_samples;             /* non-finite input samples, read as 0 */
+} flow_condition_info;
+int flow_condition_section(const char *in_path, const poststack_chain *c,
+                           const char *steps_path, const char *out_path,
+                           const struct deliver_run *run, flow_condition_info *info,
+                           tz_err *err);
+/* The processing sequence (deliver.h): one "post-stack ..." step per step of the
+ * job's chain in `stage` (POSTSTACK_STAGE_BEFORE after the stack's steps,
+ * POSTSTACK_STAGE_AFTER after the migration). */
+struct deliver_steps;
+void flow_poststack_steps(const job_spec *job, int stage, struct deliver_steps *steps);
+
 #endif

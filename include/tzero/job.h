@@ -22,6 +22,7 @@
 #include "tzero/error.h"
 #include "tzero/limits.h"
 #include "tzero/mute.h"
+#include "tzero/poststack.h"
 
 #define JOB_MAX_BYTES (16u << 20)    /* a job file larger than this is refused */
 #define JOB_MAX_SHOTS 1000000u       /* expanded shot files */
@@ -166,6 +167,11 @@ typedef struct job_spec {
                                * 0 = not given */
   char *navigation;           /* "output.navigation": CMP navigation CSV */
   char *history;              /* "output.history": processing history (markdown) */
+  /* "poststack" (docs/poststack.md): conditioning of the stacked section before it is
+   * written and migrated; steps with "after_migration" run on the migrated section.
+   * n = 0 = none (default). Nyquist and window lengths are checked against the
+   * section's axis before the data pass (stack_plan). */
+  poststack_chain poststack;
 
   int threads;                /* 0 = the machine's online cores */
   int skip_bad_files;         /* 0 = a missing or corrupt shot file stops the run */
@@ -205,6 +211,12 @@ int job_load_edited(job_spec **out, const char *path, const job_edit *edit, tz_e
  * "edits" object (kill, reverse, auto). Messages name the file and the JSON
  * path ($.kill[0].channels). On success *out owns its lists (edits_spec_free). */
 int job_load_edits(edits_spec *out, const char *path, tz_err *err);
+
+/* Reads a steps file for `tzero condition --steps`: a JSON array of post-stack steps
+ * (as a job's "poststack"; messages name "$[1].windows[0]...") or an object
+ * {"poststack": [...]} ("$.poststack[1]..."). TZ_E_NOINPUT, or TZ_E_FORMAT (not
+ * JSON, or a bad step naming its JSON path), with the file's path. */
+int job_load_poststack(poststack_chain *out, const char *path, tz_err *err);
 
 /* Command-line overrides; NULL / negative / NaN means "not given". */
 typedef struct job_overrides {

@@ -36,6 +36,7 @@ int cmd_audio(int argc, char **argv);
 int cmd_spectrum(int argc, char **argv);
 int cmd_merge(int argc, char **argv);
 int cmd_migrate(int argc, char **argv);
+int cmd_condition(int argc, char **argv);
 int cmd_firstbreaks(int argc, char **argv);
 int cmd_statics(int argc, char **argv);   /* verbs: src/cli/statics.c */
 int cmd_statics_refraction(int argc, char **argv);   /* src/cli/statics_refraction.c */

@@ -44,6 +44,7 @@ static const struct subcmd subcmds[] = {
   { "stack",     cmd_stack,     "the whole flow from a job file: stacked section and QC report" },
   { "merge",     cmd_merge,     "join the parts of a line stacked by separate runs (--cmp-range)" },
   { "migrate",   cmd_migrate,   "post-stack time migration of a section (phase shift, Kirchhoff)" },
+  { "condition", cmd_condition, "post-stack conditioning of a section (band-pass, f-x, balance, AGC)" },
   { "report",    cmd_report,    "print a saved QC report, one CMP, or its fold table" },
   { "compare",   cmd_compare,   "compare two stacks of the same line CMP by CMP" },
   { "picture",   cmd_picture,   "draw a section, gather or fold chart as a PNG picture" },

@@ -376,6 +376,8 @@ int cmd_stack(int argc, char **argv)
    * the run before the section appears */
   if (job->report && (rc = fileio_create(&rep_out, job->report, &e)))
     goto done;
+  if ((rc = flow_poststack_check(job, su.plan, &e)))
+    goto done;
   double t_plan = cli_now_s();
   stack_run_opts ro;
   if ((rc = stack_run_opts_init(&ro, su.plan, su.velocity, &e)))
@@ -401,6 +403,8 @@ int cmd_stack(int argc, char **argv)
   if (rc)
     goto done;
   double t_run = cli_now_s();
+  if ((rc = flow_poststack_stack(job, sec, &e)))
+    goto done;
   deliver_run run;
   cli_run_init(&run, argc, argv);
   if (!(steps = malloc(sizeof *steps))) {
@@ -410,6 +414,7 @@ int cmd_stack(int argc, char **argv)
   deliver_steps_init(steps);
   if ((rc = deliver_steps_job(steps, job, &e)))
     goto done;
+  flow_poststack_steps(job, POSTSTACK_STAGE_BEFORE, steps);
   char text[DELIVER_TEXT_BYTES];
   deliver_section_text(job, su.plan, sec->first_cmp, sec->first_cmp + (int32_t)sec->ncmps - 1,
                        "stacked section", steps, &run, text, sizeof text);
@@ -428,6 +433,10 @@ int cmd_stack(int argc, char **argv)
   if (job->migrated &&
       (rc = flow_migrate(job, su.plan, su.velocity, job->threads, steps, &run, &mig, &e)))
     goto done;
+  if (job->migrated) {   /* the history's sequence goes on as the migrated section's does */
+    deliver_steps_migration(steps, job);
+    flow_poststack_steps(job, POSTSTACK_STAGE_AFTER, steps);
+  }
   qc_build_args qa = {
     .job = job, .plan = su.plan, .section = sec, .velocity = su.velocity,
     .section_path = job->section, .tool_version = TZERO_VERSION,

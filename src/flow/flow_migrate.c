@@ -12,6 +12,7 @@
 
 #include "tzero/deliver.h"
 #include "tzero/migrate.h"
+#include "tzero/poststack.h"
 #include "tzero/qc.h"
 
 int flow_migrate(const job_spec *job, const stack_plan *plan, const velocity_table *velocity,
@@ -34,6 +35,7 @@ int flow_migrate(const job_spec *job, const stack_plan *plan, const velocity_tab
   else
     deliver_steps_init(all);
   deliver_steps_migration(all, job);
+  flow_poststack_steps(job, POSTSTACK_STAGE_AFTER, all);
   const char *vpath = job->migration.velocity ? job->migration.velocity : job->velocity;
   int rc = migrate_section_load(&s, job->section, 0, err);
   if (!rc && job->migration.velocity) {
@@ -52,6 +54,18 @@ int flow_migrate(const job_spec *job, const stack_plan *plan, const velocity_tab
   p.threads = threads;
   if (!rc && (rc = migrate_run(s, velocity, &p, &samples, &n, &info, err)))
     tz_err_path(err, job->section);
+  if (!rc && n == s->ntraces &&
+      poststack_chain_count(&job->poststack, POSTSTACK_STAGE_AFTER)) {
+    unsigned char *live = malloc(n);   /* trace kinds 2 and 3 (dead, dummy) stay as they are */
+    if (!live)
+      rc = tz_fail(err, TZ_E_NOMEM, "post-stack conditioning of %zu traces", n);
+    for (size_t i = 0; live && i < n; i++)
+      live[i] = s->headers[i].kind != SEGY_KIND_DEAD && s->headers[i].kind != SEGY_KIND_DUMMY;
+    if (!rc)
+      rc = flow_poststack_apply(job, POSTSTACK_STAGE_AFTER, s->t0_s, s->dt_s, s->ns, n, samples,
+                                live, err);
+    free(live);
+  }
   if (!rc) {
     deliver_section_text(job, plan, s->headers[0].cmp, s->headers[s->ntraces - 1].cmp,
                          "time-migrated section", all, run, text, sizeof text);

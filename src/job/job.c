@@ -27,6 +27,7 @@
 #include "tzero/fileio.h"
 #include "job/job_int.h"
 #include "util/json_doc.h"
+#include "job/job_poststack.h"
 
 #define PATHBUF 640
 
@@ -1004,7 +1005,7 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
                                       "velocity", "moveout", "mute", "selection", "output",
                                       "conditioning", "edits", "statics", "limits", "threads",
                                       "skip_bad_files", "interval_us", "migration", "client",
-                                      "contractor", "crs", "polarity", NULL };
+                                      "contractor", "crs", "polarity", "poststack", NULL };
   static const char *const pnames[] = { "negative", "positive", NULL };
   static const int pvals[] = { 1, 2 };
   int rc;
@@ -1073,6 +1074,13 @@ static int parse_tree(job_spec *j, const cJSON *root, const char *dir, tz_err *e
     return rc;
   if ((e = ITEM(root, "migration")) && (rc = parse_migration(j, e, dir, err)))
     return rc;
+  if ((e = ITEM(root, "poststack")) && (rc = job_parse_poststack(e, "$.poststack", &j->poststack,
+                                                                 err)))
+    return rc;
+  for (size_t i = 0; i < j->poststack.n; i++)
+    if (j->poststack.step[i].after_migration && !j->migrated)
+      return tz_fail(err, TZ_E_JOB, "$.poststack[%zu].after_migration: the job writes no "
+                     "migrated section (output.migrated)", i);
   if (j->migrated && !j->migration.given)
     return tz_fail(err, TZ_E_JOB, "$.output.migrated: a migrated section needs a \"migration\" "
                    "object (at least {\"method\": \"phase-shift\"})");
@@ -1594,6 +1602,8 @@ int job_to_json(const job_spec *j, char **out, tz_err *err)
       cJSON_AddNumberToObject(o, "max_dip_deg", j->migration.max_dip_deg);
       cJSON_AddNumberToObject(o, "max_hz", j->migration.max_hz);
     }
+    if (j->poststack.n)
+      bad |= !cJSON_AddItemToObject(r, "poststack", job_poststack_json(&j->poststack));
     cJSON_AddNumberToObject(r, "threads", j->threads);
     cJSON_AddBoolToObject(r, "skip_bad_files", j->skip_bad_files);
   }
