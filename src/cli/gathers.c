@@ -123,6 +123,8 @@ int cmd_gathers(int argc, char **argv)
     return cli_unexpected_arg(cmd, argv[optind], jobpath);
   if (!jobpath || !out)
     return cli_usage_error(cmd, "--job and --out are required");
+  if (cli_vary_check(cmd, &vary, &ov))
+    return EX_USAGE;
   gathers_request rq;
   memset(&rq, 0, sizeof rq);
   if ((rq.sort = gathers_sort_parse(sortname)) < 0)

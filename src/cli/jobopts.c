@@ -88,6 +88,30 @@ int cli_vary_parse(const char *cmd, const char *arg, cli_vary *v)
   return 0;
 }
 
+int cli_vary_check(const char *cmd, const cli_vary *v, const job_overrides *ov)
+{
+  /* keys an option of the command line sets after the job is read: varying
+   * them would give the same panel every time */
+  static const struct { const char *key, *opt; } pairs[] = {
+    { "velocity", "--velocity" }, { "moveout.stretch_limit_pct", "--stretch-limit" },
+    { "moveout.interpolation", "--interpolation" }, { "edits", "--edits" },
+    { "selection.cmp_first", "--cmp-range" }, { "selection.cmp_last", "--cmp-range" },
+  };
+  if (!v->n)
+    return 0;
+  const char *k = strncmp(v->key, "$.", 2) ? v->key : v->key + 2;
+  int given[] = { ov->velocity != NULL, ov->stretch_limit_pct == ov->stretch_limit_pct,
+                  ov->interpolation >= 0, ov->edits != NULL, ov->has_cmp_range,
+                  ov->has_cmp_range };
+  for (size_t i = 0; i < sizeof pairs / sizeof pairs[0]; i++) {
+    size_t n = strlen(pairs[i].key);
+    if (given[i] && !strncmp(k, pairs[i].key, n) && (!k[n] || k[n] == '.' || k[n] == '['))
+      return cli_usage_error(cmd, "--vary %s: %s sets that key for every panel; leave one out",
+                             v->key, pairs[i].opt);
+  }
+  return 0;
+}
+
 double cli_now_s(void)
 {
   struct timespec ts;

@@ -38,6 +38,9 @@ typedef struct cli_vary {
 } cli_vary;
 /* 0, or EX_USAGE after printing a usage error. */
 int cli_vary_parse(const char *cmd, const char *arg, cli_vary *v);
+/* EX_USAGE (after the message) when an option given sets the varied key after
+ * the job is read (--stretch-limit with moveout.stretch_limit_pct, ...), else 0. */
+int cli_vary_check(const char *cmd, const cli_vary *v, const job_overrides *ov);
 
 /* A progress line on stderr, drawn only when stderr is a terminal. */
 typedef struct cli_progress {

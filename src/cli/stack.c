@@ -327,6 +327,8 @@ int cmd_stack(int argc, char **argv)
   if (!jobpath)
     return cli_usage_error("stack", "--job FILE is required");
   if (vary.n) {
+    if (cli_vary_check("stack", &vary, &ov))
+      return EX_USAGE;
     if (!ov.has_cmp_range || !ov.section)
       return cli_usage_error("stack", "--vary needs --cmp-range and --out (test panels of "
                              "a part of the line)");

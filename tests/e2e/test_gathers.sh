@@ -60,6 +60,8 @@ expect_status 64 "--vary into a number" -- $G --vary "moveout.stretch_limit_pct.
 expect_status 64 "--vary without values" -- $G --vary moveout.stretch_limit_pct= --out "$D/out/bad.sgy"
 expect_status 65 "--vary a value the job refuses" -- $G --vary moveout.stretch_limit_pct=-5 --out "$D/out/bad.sgy"
 expect_stderr '\$\.moveout\.stretch_limit_pct' "refused value: JSON path"
+expect_status 64 "--vary a key an option also sets" -- $G --stretch-limit 40 --vary moveout.stretch_limit_pct=20,50 --out "$D/out/bad.sgy"
+expect_stderr "stretch-limit sets that key for every panel" "key set by an option: message"
 expect_no_file "$D/out/bad.sgy" "no output after the --vary errors"
 # stack --vary
 expect_status 0 "stack --vary" -- "$TZERO" stack --job "$J" --cmp-range 240-250 --vary moveout.stretch_limit_pct=30,60 --out "$D/out/sp.sgy"
