@@ -485,8 +485,15 @@ int cmd_stack(int argc, char **argv)
       goto done;
   }
   if (depfile) {
-    const char *targets[2] = { job->section, job->report };
-    if ((rc = job_write_depfile(job, targets, job->report ? 2 : 1, depfile, &e)))
+    const char *targets[4] = { job->section, NULL, NULL, NULL };
+    size_t nt = 1;
+    if (job->report)
+      targets[nt++] = job->report;
+    if (deliverables && job->navigation)
+      targets[nt++] = job->navigation;
+    if (deliverables && job->history)
+      targets[nt++] = job->history;
+    if ((rc = job_write_depfile(job, targets, nt, depfile, &e)))
       goto done;
   }
   if (json && !brief)

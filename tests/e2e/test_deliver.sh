@@ -57,6 +57,10 @@ else notok "card 1 lacks the date $W"; fi
 if grep -q "on $W (UTC)" "$D/out/history.md"; then ok "the history gives the same date"
 else notok "the history lacks the date $W"; fi
 [ -s "$D/out/nav.csv" ] && ok "navigation file written" || notok "no navigation file"
+"$TZERO" stack --job "$D/ok.json" --quiet --depfile "$D/out/ok.d"
+if head -n 1 "$D/out/ok.d" | grep -q 'nav.csv .*history.md:'; then
+  ok "the dependency file names the navigation file and the history as targets (make(1))"
+else notok "depfile targets: $(head -n 1 "$D/out/ok.d")"; fi
 
 # a line in parts, joined: the same cards 1-38 as the whole line
 "$TZERO" stack --job "$D/ok.json" --out "$D/out/w.sgy" --report "$D/out/w.json" --quiet
