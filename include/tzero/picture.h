@@ -77,7 +77,14 @@ typedef struct picture_panel {
                                * of each; NULL: no groups */
   const char *const *group_label;
   size_t ngroups;
+  const double *lines_ms;     /* nlines values per trace (line j of trace i at
+                               * lines_ms[i * nlines + j]): times joined trace to
+                               * trace as lines over the panel (mutes: top, inner
+                               * start, inner end, bottom), broken at NAN; NULL: none */
+  size_t nlines;              /* at most PICTURE_MAX_LINES */
 } picture_panel;
+
+#define PICTURE_MAX_LINES 4
 
 typedef struct picture_opts {
   int map;                    /* enum picture_map */
@@ -319,6 +326,7 @@ typedef struct picture_loaded {
   float *data;
   double *cmp, *offset;       /* per trace: bytes 21-24 and 37-40 */
   int32_t *field_record, *channel;   /* per trace: bytes 9-12 and 13-16 */
+  int64_t *trace;             /* per trace: its 0-based index in the file */
   size_t ntraces, nsamples;
   double time_first_ms, interval_ms;
   int cmps_increase;          /* 1 when CMP numbers strictly increase trace to trace */

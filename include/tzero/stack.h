@@ -181,6 +181,21 @@ int stack_plan_cmp_surface(const stack_plan *p, int32_t cmp, double *shot_point,
 /* The station interval in use (0 when stations are not numbered). */
 double stack_plan_station_interval(const stack_plan *p);
 
+/* ---- mutes on pictures (stack_mutes.c) ---- */
+
+/* The job's mutes of traces `traces[0..n-1]` (0-based) of the SEG-Y file `path`,
+ * for drawing them over the traces: each trace is located as the stack locates
+ * it (CMP, offset, field record and channel from its header and the plan's
+ * geometry) and its mute times evaluated (mute_eval). out gets 4 values per
+ * trace (ms): top, inner cone start, inner cone end, bottom; NAN where a kind
+ * is absent or the stack would not use the trace. The times are on the file's
+ * own time axis: when the job applies statics and the trace header says no
+ * static was applied (bytes 103-104 zero), the file holds field times and the
+ * trace's static is taken off the processing-datum times. */
+#define STACK_MUTE_LINES 4
+int stack_mute_lines(const stack_plan *p, const mute_set *m, const char *path,
+                     const int64_t *traces, size_t n, double *out, tz_err *err);
+
 /* ---- the data pass ---- */
 
 typedef struct stack_run_opts {

@@ -11,6 +11,7 @@
 #include "cli.h"
 #include "tzero/fileio.h"
 #include "tzero/firstbreak.h"
+#include "tzero/flow.h"
 #include "tzero/picture.h"
 #include "tzero/table.h"
 
@@ -61,6 +62,11 @@ static void help(void)
          "  --picks PICKS.csv       mark first-break picks (tzero firstbreaks) with green\n"
          "                          dots on the traces they belong to (matched by field\n"
          "                          record, bytes 9-12, and channel, bytes 13-16)\n"
+         "  --job FILE --show-mutes draw the job's mutes over the traces: top (orange),\n"
+         "                          inner cone (purple, its end dashed), bottom (teal),\n"
+         "                          each trace located as tzero stack locates it; on\n"
+         "                          field records (no static in bytes 103-104) the\n"
+         "                          lines are moved back to field time by the static\n"
          "  --spectrum A.csv,...    draw spectra written by tzero spectrum (dB against\n"
          "                          frequency, up to 8 curves); --labels names them\n"
          "  --fk-record N           draw the f-k amplitude spectrum of field record N\n"
@@ -308,11 +314,33 @@ static int pick_marks(const char *path, const picture_loaded *l, double **out, t
   return TZ_OK;
 }
 
+/* The job's mute times of every trace of the panel (stack_mute_lines); *out owns
+ * the STACK_MUTE_LINES values per trace. */
+static int mute_lines(const char *jobpath, const char *path, const picture_loaded *l,
+                      double **out, tz_err *err)
+{
+  flow_setup su;
+  int rc = flow_setup_load(&su, jobpath, NULL, 0, NULL, NULL, err);
+  if (rc)
+    return rc;
+  double *v = malloc((l->ntraces ? l->ntraces : 1) * STACK_MUTE_LINES * sizeof *v);
+  if (!v)
+    rc = tz_fail(err, TZ_E_NOMEM, "%zu traces", l->ntraces);
+  else
+    rc = stack_mute_lines(su.plan, su.job->mutes, path, l->trace, l->ntraces, v, err);
+  flow_setup_free(&su);
+  if (rc)
+    free(v);
+  else
+    *out = v;
+  return rc;
+}
+
 int cmd_picture(int argc, char **argv)
 {
   enum { O_OUT = 256, O_CMPS, O_TIME, O_PCT, O_CLIP, O_MAP, O_STYLE, O_W, O_H, O_TITLE, O_FOLD,
          O_JSON, O_QUIET, O_FORMAT, O_SPECTRUM, O_LABELS, O_FK, O_SPACING, O_MAXHZ, O_MINDB,
-         O_FAN, O_STATICS, O_PICKS };
+         O_FAN, O_STATICS, O_PICKS, O_JOB, O_SHOW_MUTES };
   static const struct option opts[] = {
     { "out", required_argument, NULL, O_OUT },
     { "cmps", required_argument, NULL, O_CMPS },
@@ -330,6 +358,8 @@ int cmd_picture(int argc, char **argv)
     { "quiet", no_argument, NULL, O_QUIET },
     { "format", required_argument, NULL, O_FORMAT },
     { "picks", required_argument, NULL, O_PICKS },
+    { "job", required_argument, NULL, O_JOB },
+    { "show-mutes", no_argument, NULL, O_SHOW_MUTES },
     { "spectrum", required_argument, NULL, O_SPECTRUM },
     { "labels", required_argument, NULL, O_LABELS },
     { "fk-record", required_argument, NULL, O_FK },
@@ -343,6 +373,8 @@ int cmd_picture(int argc, char **argv)
   static const char *const maps[] = { "diverging", "grey", "semblance", NULL };
   static const char *const styles[] = { "auto", "density", "wiggle", "both", NULL };
   const char *out = NULL, *title = NULL, *fold = NULL, *statics = NULL, *picks = NULL;
+  const char *jobpath = NULL;
+  int show_mutes = 0;
   picture_opts po = { 0 };
   picture_select sel = { 0 };
   cli_spectrum_pic sp = { 0 };
@@ -383,6 +415,8 @@ int cmd_picture(int argc, char **argv)
     case O_TITLE: title = optarg; break;
     case O_FOLD: fold = optarg; break;
     case O_PICKS: picks = optarg; break;
+    case O_JOB: jobpath = optarg; break;
+    case O_SHOW_MUTES: show_mutes = 1; break;
     case O_SPECTRUM: sp.spectra = optarg; break;
     case O_LABELS: sp.labels = optarg; break;
     case O_FK: sp.fk_record = optarg; break;
@@ -432,6 +466,9 @@ int cmd_picture(int argc, char **argv)
       return cli_usage_error(cmd, "--fold draws a QC report; no SEG-Y file goes with it");
     return run_fold(fold, out, format, title, po.width, po.height, json, quiet);
   }
+  if (show_mutes != (jobpath != NULL))
+    return cli_usage_error(cmd, "--show-mutes and --job go together (the job's mutes over "
+                           "the traces)");
   if (argc - optind != 1)
     return cli_usage_error(cmd, "expected one SEG-Y file, got %d", argc - optind);
   const char *in_path = argv[optind];
@@ -483,8 +520,17 @@ int cmd_picture(int argc, char **argv)
     p.group_label = l.panel_label_ptr;
     p.ngroups = l.npanels;
   }
+  double *lines = NULL;
+  if (show_mutes && (rc = mute_lines(jobpath, in_path, &l, &lines, &err))) {
+    free(marks);
+    picture_loaded_free(&l);
+    return cli_report(cmd, &err);
+  }
+  p.lines_ms = lines;
+  p.nlines = lines ? STACK_MUTE_LINES : 0;
   rc = picture_draw_panel(&p, &po, format, &ctx, &info, &err);
   free(marks);
+  free(lines);
   if (!rc)
     rc = picture_ctx_write(ctx, out, &err);
   double cmin = l.cmp[0], cmax = l.cmp[0];

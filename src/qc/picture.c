@@ -459,6 +459,51 @@ static void plot_area(uint32_t w, uint32_t h, int right, picture_info *in)
   in->height = h;
 }
 
+/* Lines over a panel (mutes): line j joins its time at the centre of each trace,
+ * broken where a trace has none (NAN); colours and dashes per line in
+ * docs/pictures.md. */
+static void draw_lines(picture_ctx *c, const picture_panel *p, const picture_info *in,
+                       double rows_per_sample)
+{
+  static const unsigned char col[PICTURE_MAX_LINES][3] = {
+    { 230, 120, 0 }, { 140, 0, 170 }, { 140, 0, 170 }, { 0, 120, 120 } };
+  static const char *const names[PICTURE_MAX_LINES] = { "top", "inner-start", "inner-end",
+                                                        "bottom" };
+  double cols_per_trace = (double)in->plot_w / (double)p->ntraces;
+  double *x = malloc(p->ntraces * sizeof *x), *y = malloc(p->ntraces * sizeof *y);
+  if (!x || !y) {
+    free(x);
+    free(y);
+    return;
+  }
+  size_t nl = p->nlines < PICTURE_MAX_LINES ? p->nlines : PICTURE_MAX_LINES;
+  double ymin = in->plot_y, ymax = in->plot_y + in->plot_h;
+  for (size_t j = 0; j < nl; j++) {
+    char attrs[64];
+    snprintf(attrs, sizeof attrs, "class=\"mute-%s\"", names[j]);
+    picture_ctx_group(c, attrs);
+    size_t n = 0;
+    for (size_t i = 0; i <= p->ntraces; i++) {
+      double tm = i < p->ntraces ? p->lines_ms[i * p->nlines + j] : NAN;
+      if (isfinite(tm)) {
+        double js = (tm - p->time_first_ms) / p->interval_ms;
+        double yy = in->plot_y + (js + 0.5) * rows_per_sample - 0.5;
+        x[n] = in->plot_x + ((double)i + 0.5) * cols_per_trace - 0.5;
+        y[n++] = yy < ymin ? ymin : yy > ymax ? ymax : yy;
+        continue;
+      }
+      if (n == 1)
+        picture_ctx_dot(c, x[0], y[0], 1.5, col[j]);
+      else if (n > 1)
+        picture_ctx_polyline(c, x, y, n, 2.0, j == 2, col[j]);
+      n = 0;
+    }
+    picture_ctx_group_end(c);
+  }
+  free(x);
+  free(y);
+}
+
 int picture_draw_panel(const picture_panel *p, const picture_opts *o, int format,
                        picture_ctx **out, picture_info *info, tz_err *err)
 {
@@ -546,6 +591,8 @@ int picture_draw_panel(const picture_panel *p, const picture_opts *o, int format
   }
   if (p->group && p->ngroups)
     draw_groups(c, p, &in);
+  if (p->lines_ms && p->nlines)
+    draw_lines(c, p, &in, rows_per_sample);
   double t_last = p->time_first_ms + (double)(p->nsamples - 1) * p->interval_ms;
   left_axis(c, in.plot_x, in.plot_y + 0.5 * rows_per_sample - 0.5,
             in.plot_y + ((double)p->nsamples - 0.5) * rows_per_sample - 0.5, p->time_first_ms,
@@ -845,6 +892,7 @@ void picture_loaded_free(picture_loaded *l)
   free(l->panel);
   free(l->panel_label);
   free(l->panel_label_ptr);
+  free(l->trace);
   memset(l, 0, sizeof *l);
 }
 
@@ -961,8 +1009,10 @@ int picture_load_segy(const char *path, const picture_select *sel, picture_loade
   out->offset = malloc((size_t)keep * sizeof *out->offset);
   out->field_record = malloc((size_t)keep * sizeof *out->field_record);
   out->channel = malloc((size_t)keep * sizeof *out->channel);
+  out->trace = malloc((size_t)keep * sizeof *out->trace);
   buf = malloc(ns * sizeof *buf);
-  if (!out->data || !out->cmp || !out->offset || !out->field_record || !out->channel || !buf) {
+  if (!out->data || !out->cmp || !out->offset || !out->field_record || !out->channel ||
+      !out->trace || !buf) {
     rc = tz_fail(err, TZ_E_NOMEM, "%lld traces of %zu samples", (long long)keep, nk);
     goto fail;
   }
@@ -981,6 +1031,7 @@ int picture_load_segy(const char *path, const picture_select *sel, picture_loade
     out->offset[k] = h.offset;
     out->field_record[k] = h.field_record;
     out->channel[k] = h.channel;
+    out->trace[k] = i;
     if (k > 0 && !(out->cmp[k] > out->cmp[k - 1]))
       out->cmps_increase = 0;
     k++;

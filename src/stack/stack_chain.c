@@ -258,6 +258,18 @@ static void edit_record(const stack_chain *ch, stack_chain_ws *ws, size_t file, 
   }
 }
 
+double stack_trace_static_ms(const stack_plan *p, const geometry_trace *g, int32_t cmp,
+                             double *src_ms, double *rcv_ms)
+{
+  const stack_station *s = stack_station_find(
+      p, STATICS_SOURCE, stack_station_of(p, g->source_x, g->source_y));
+  const stack_station *r = stack_station_find(
+      p, STATICS_RECEIVER, stack_station_of(p, g->receiver_x, g->receiver_y));
+  *src_ms = s ? s->static_ms : 0;
+  *rcv_ms = r ? r->static_ms : 0;
+  return *src_ms + *rcv_ms + stack_floating_ms(p, cmp);
+}
+
 /* Statics: each live trace shifted by its source plus receiver static (sinc8). */
 static int shift_record(const stack_chain *ch, stack_chain_ws *ws, size_t file, int64_t a,
                         size_t n, float *samples, stack_tinfo *ti, tz_err *err)
@@ -267,13 +279,8 @@ static int shift_record(const stack_chain *ch, stack_chain_ws *ws, size_t file, 
   for (size_t k = 0; k < n; k++) {
     if (!ti[k].read || !ti[k].stackable || ti[k].killed)
       continue;
-    const stack_station *s = stack_station_find(
-        p, STATICS_SOURCE, stack_station_of(p, ti[k].g.source_x, ti[k].g.source_y));
-    const stack_station *r = stack_station_find(
-        p, STATICS_RECEIVER, stack_station_of(p, ti[k].g.receiver_x, ti[k].g.receiver_y));
-    ti[k].static_src_ms = s ? s->static_ms : 0;
-    ti[k].static_rcv_ms = r ? r->static_ms : 0;
-    ti[k].static_ms = ti[k].static_src_ms + ti[k].static_rcv_ms + stack_floating_ms(p, ti[k].cmp);
+    ti[k].static_ms = stack_trace_static_ms(p, &ti[k].g, ti[k].cmp, &ti[k].static_src_ms,
+                                            &ti[k].static_rcv_ms);
     if (ti[k].static_ms == 0)
       continue;
     float *x = samples + k * ns;

@@ -195,6 +195,12 @@ void stack_chain_ws_free(stack_chain_ws *ws);
 int stack_chain_record(const stack_chain *ch, stack_chain_ws *ws, size_t file, int64_t a,
                        size_t n, float *samples, stack_tinfo *ti, tz_err *err);
 
+/* The total static the chain applies to a trace (source + receiver station statics +
+ * the floating-datum term of its CMP), with its source and receiver terms; the
+ * plan must have stations (p->has_stations). */
+double stack_trace_static_ms(const stack_plan *p, const geometry_trace *g, int32_t cmp,
+                             double *src_ms, double *rcv_ms);
+
 
 /* NMO of one trace after the chain: as nmo_apply, but samples outside
  * [live_lo, live_hi) (shifted in by a static) are not live: an input time

@@ -134,3 +134,39 @@ bad_mute "a file out of CMP order" 'backward\.csv: line 4: CMP 200: CMP 200 is n
 with_mute bad '{"bottom_file": "nowhere.csv"}'
 expect_status 66 "a missing mute file" -- "$TZERO" stack --job "$D/bad.json" --out "$D/out/bad.sgy" --quiet
 expect_stderr 'mute\.bottom_file: cannot open' "a missing mute file: message"
+
+# --- tzero picture --job J --show-mutes: the mute lines sit on the traces they cut
+# (pixel rule of docs/pictures.md: sample j is centred on row y + (j + 0.5) h / ns - 0.5)
+expect_status 0 "picture of a CMP gather with its mutes" -- "$TZERO" picture "$D/out/g.sgy" \
+  --job "$D/ctl.json" --show-mutes --out "$D/out/g.svg" --json
+cp "$T/out" "$D/out/g_info.json"
+"$PYTHON" - "$D/out/g.sgy" "$D/out/g.svg" "$D/out/g_info.json" <<'EOF'
+import json, re, sys
+import numpy as np
+import segyio
+with segyio.open(sys.argv[1], ignore_geometry=True) as f:
+    off = np.abs(f.attributes(segyio.TraceField.offset)[:]).astype(float)
+    ns = len(f.samples)
+svg = open(sys.argv[2]).read()
+info = json.load(open(sys.argv[3]))["plot_area_px"]
+def pts(cls):
+    m = re.search(r'<g class="%s">\s*<polyline[^>]*points="([^"]+)"' % cls, svg)
+    return np.array([[float(v) for v in p.split(",")] for p in m.group(1).split()]) if m else None
+def y_of(t_ms):
+    return info["y"] + (t_ms / 2.0 + 0.5) * info["height"] / ns - 0.5
+# CMP 300 between the top controls at 230 and 340: linear in CMP at each offset
+f = (300 - 230) / 110.0
+top = [np.interp(x, [150, 400], [80, 260]) * (1 - f) + np.interp(x, [150, 400], [120, 300]) * f for x in off]
+res = []
+for cls, want in (("mute-top", top),
+                  ("mute-inner-start", [np.interp(x, [150, 400], [350, 900]) for x in off]),
+                  ("mute-inner-end", [np.interp(x, [150, 400], [420, 1000]) for x in off]),
+                  ("mute-bottom", [np.interp(x, [150, 400], [900, 700]) for x in off])):
+    p = pts(cls)
+    want = np.minimum(np.array([y_of(t) for t in want]), info["y"] + info["height"])
+    good = p is not None and len(p) == len(off) and np.allclose(p[:, 1], want, atol=0.02)
+    print(("ok - " if good else "not ok - ") + f"picture: the {cls} line at the job's mute times")
+EOF
+[ $? -eq 0 ] || notok "the picture checks ran"
+expect_status 64 "--show-mutes needs --job" -- "$TZERO" picture "$D/out/g.sgy" --show-mutes \
+  --out "$D/out/x.png"
