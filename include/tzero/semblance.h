@@ -56,6 +56,10 @@ void semblance_acc_min_fold(semblance_acc *a, size_t min_fold);
 size_t semblance_acc_max_live(const semblance_acc *a);
 /* One trace of ns samples; only samples in [lo, hi) are added and counted live. */
 void semblance_acc_add(semblance_acc *a, const float *s, size_t lo, size_t hi);
+/* simd = 0 selects the portable accumulation, 1 (the default) the AVX2 one where
+ * the CPU has it; both give the same bits (tests/unit/check_simd.c). Returns 1
+ * when the AVX2 path is in use. */
+int semblance_acc_simd(semblance_acc *a, int simd);
 /* One trace with nmo_apply()'s weight array: a sample counts live where weight > 0
  * (its value already carries any taper factor). */
 void semblance_acc_add_weighted(semblance_acc *a, const float *s, const float *weight);

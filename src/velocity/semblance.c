@@ -35,6 +35,18 @@
 #include "tzero/table.h"
 #include "tzero/velocity.h"
 
+/* The accumulation of corrected traces runs four samples at a time on CPUs
+ * with AVX2 (chosen at run time, as nmo.c does): a float widened to double,
+ * one add to the sum, one multiply and one add to the sum of squares, each
+ * lane exactly the scalar loop's operations (no fused multiply-add), so the
+ * panel is bit for bit the same on any CPU. */
+#if defined(__x86_64__) && defined(__GNUC__)
+#include <immintrin.h>
+#define SEMB_AVX2 1
+#else
+#define SEMB_AVX2 0
+#endif
+
 /* ---------------------------------------------------------------- accumulator */
 
 struct semblance_acc {
@@ -47,7 +59,24 @@ struct semblance_acc {
   double min_live;  /* windows with fewer live traces on average give 0 */
   int32_t min_fold; /* samples with fewer live traces give 0 (no pick there) */
   int32_t max_live; /* largest live count at a sample, from the last finish */
+  int avx2;         /* the CPU has AVX2 */
 };
+
+#if SEMB_AVX2
+__attribute__((target("avx2"))) static size_t add_avx2(double *restrict sum,
+                                                       double *restrict sq,
+                                                       const float *restrict s, size_t lo,
+                                                       size_t hi)
+{
+  size_t j = lo;
+  for (; j + 4 <= hi; j += 4) {
+    __m256d v = _mm256_cvtps_pd(_mm_loadu_ps(s + j));
+    _mm256_storeu_pd(sum + j, _mm256_add_pd(_mm256_loadu_pd(sum + j), v));
+    _mm256_storeu_pd(sq + j, _mm256_add_pd(_mm256_loadu_pd(sq + j), _mm256_mul_pd(v, v)));
+  }
+  return j;
+}
+#endif
 
 int semblance_acc_new(semblance_acc **out, size_t ns, tz_err *err)
 {
@@ -70,6 +99,9 @@ int semblance_acc_new(semblance_acc **out, size_t ns, tz_err *err)
     return tz_fail(err, TZ_E_NOMEM, "semblance accumulator of %zu samples", ns);
   }
   semblance_acc_reset(a);
+#if SEMB_AVX2
+  a->avx2 = __builtin_cpu_supports("avx2") ? 1 : 0;
+#endif
   *out = a;
   return TZ_OK;
 }
@@ -112,6 +144,17 @@ void semblance_acc_reset(semblance_acc *a)
   memset(a->cnt, 0, a->ns * sizeof *a->cnt);
 }
 
+int semblance_acc_simd(semblance_acc *a, int simd)
+{
+#if SEMB_AVX2
+  a->avx2 = simd && __builtin_cpu_supports("avx2");
+#else
+  (void)simd;
+  a->avx2 = 0;
+#endif
+  return a->avx2;
+}
+
 void semblance_acc_add(semblance_acc *a, const float *s, size_t lo, size_t hi)
 {
   if (hi > a->ns)
@@ -119,7 +162,12 @@ void semblance_acc_add(semblance_acc *a, const float *s, size_t lo, size_t hi)
   if (lo >= hi)
     return;
   double *restrict sum = a->sum, *restrict sq = a->sq;
-  for (size_t j = lo; j < hi; j++) {
+  size_t j0 = lo;
+#if SEMB_AVX2
+  if (a->avx2)
+    j0 = add_avx2(sum, sq, s, lo, hi);
+#endif
+  for (size_t j = j0; j < hi; j++) {
     double v = s[j];
     sum[j] += v;
     sq[j] += v * v;
