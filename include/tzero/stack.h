@@ -123,6 +123,8 @@ survey_figures stack_plan_survey(const stack_plan *p);
 /* The line's unit of length (geometry.h: GEOMETRY_UNIT_METRES or _FEET) and where
  * it came from ("job", "binary header", "default"). */
 int stack_plan_units(const stack_plan *p);
+/* The gaps in the shooting the survey inference found (survey.h; borrowed). */
+const survey_gap *stack_plan_gaps(const stack_plan *p, size_t *n);
 const char *stack_plan_units_source(const stack_plan *p);
 /* The full-fold part of the section: the first and last CMP whose acquisition
  * fold (stack_cmp_plan.acquired_fold) reaches the whole nominal fold. Returns 0

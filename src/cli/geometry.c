@@ -408,10 +408,11 @@ static void print_gaps(const run *r, const survey_figures *fig)
   for (size_t i = 0; i < n; i++) {
     char k[64];
     gap_kinds(g[i].flags, k, sizeof k);
-    printf("  after record %d (source point %d at %.2f %.2f m) and before record %d (source "
-           "point %d, %.2f m along the line): %lld missing, seen in the %s\n",
-           (int)g[i].record_before, (int)g[i].point_before, g[i].x_before_m, g[i].y_before_m,
-           (int)g[i].record_after, (int)g[i].point_after, g[i].distance_m,
+    const char *U = geometry_unit_symbol(geometry_units_resolved(&r->units));
+    printf("  after record %d (source point %d at %.2f %.2f %s) and before record %d (source "
+           "point %d, %.2f %s along the line): %lld missing, seen in the %s\n",
+           (int)g[i].record_before, (int)g[i].point_before, g[i].x_before_m, g[i].y_before_m, U,
+           (int)g[i].record_after, (int)g[i].point_after, g[i].distance_m, U,
            (long long)g[i].missing, k);
   }
 }
@@ -584,23 +585,24 @@ static void print_text(const run *r, const bins_fold *pred, const char *kind,
   int u = geometry_units_resolved(&r->units);
   printf("units: %s (from the %s%s)%s\n", geometry_unit_name(u), geometry_units_source(&r->units),
          r->units.job || r->units.files ? "" : ": no file's binary header bytes 3255-3256 say",
-         u == GEOMETRY_UNIT_FEET ? "; every length below is in feet where it says m" : "");
+         u == GEOMETRY_UNIT_FEET ? "; lengths in ft, velocities in ft/s" : "");
+  const char *U = geometry_unit_symbol(u);
   if (r->sps)
     print_sps(r->sps);
-  printf("processing line: %s%s, origin %.2f %.2f m, azimuth %.4f deg\n",
+  printf("processing line: %s%s, origin %.2f %.2f %s, azimuth %.4f deg\n",
          bins_line_is_crooked(r->line) ? "crooked" : "straight", fig->fitted ? " (fitted)" : "",
-         p.origin_x, p.origin_y, p.azimuth_deg);
+         p.origin_x, p.origin_y, U, p.azimuth_deg);
   if (bins_line_is_crooked(r->line))
     printf("  %zu nodes%s\n", bins_line_node_count(r->line),
            fig->fitted ? ", fitted through the midpoints (a running mean across the line)" : "");
   if (fig->fitted)
-    printf("  fit: RMS distance off the line %.3f m, largest %.3f m, length %.2f m\n",
-           fig->fit.rms_off_line_m, fig->fit.max_off_line_m, fig->fit.length_m);
-  printf("bin size %.3f m; receiver interval %.3f m; source interval %.3f m\n", p.size_m,
-         fig->receiver_interval_m, fig->source_interval_m);
+    printf("  fit: RMS distance off the line %.3f %s, largest %.3f %s, length %.2f %s\n",
+           fig->fit.rms_off_line_m, U, fig->fit.max_off_line_m, U, fig->fit.length_m, U);
+  printf("bin size %.3f %s; receiver interval %.3f %s; source interval %.3f %s\n", p.size_m, U,
+         fig->receiver_interval_m, U, fig->source_interval_m, U);
   if (fig->receiver_step_median_m > 0)
-    printf("  measured: median along-line receiver step %.4f m, median source move %.4f m\n",
-           fig->receiver_step_median_m, fig->source_step_median_m);
+    printf("  measured: median along-line receiver step %.4f %s, median source move %.4f %s\n",
+           fig->receiver_step_median_m, U, fig->source_step_median_m, U);
   printf("%lld records, %.1f channels per record; shooting azimuth %.4f deg\n",
          (long long)fig->records, fig->channels_per_record, fig->shooting_azimuth_deg);
   printf("CMPs %d to %d (%lld with traces)\n", (int)s.first_cmp, (int)s.last_cmp,

@@ -417,6 +417,34 @@ int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
   survey_figures fig = stack_plan_survey(p);
   cJSON_AddNumberToObject(g, "receiver_interval_m", fig.receiver_interval_m);
   cJSON_AddNumberToObject(g, "source_interval_m", fig.source_interval_m);
+  if (fig.receiver_step_median_m > 0) {
+    cJSON_AddNumberToObject(g, "receiver_step_median_m", fig.receiver_step_median_m);
+    cJSON_AddNumberToObject(g, "source_step_median_m", fig.source_step_median_m);
+  }
+  {
+    size_t ng;
+    const survey_gap *gp = stack_plan_gaps(p, &ng);
+    cJSON *ms = cJSON_AddObjectToObject(g, "missing_shots");
+    cJSON_AddNumberToObject(ms, "count", (double)fig.shots_missing);
+    cJSON *ga = cJSON_AddArrayToObject(ms, "gaps");
+    for (size_t i = 0; ga && i < ng; i++) {
+      cJSON *e = cJSON_CreateObject();
+      if (!e)
+        break;
+      cJSON_AddNumberToObject(e, "record_before", gp[i].record_before);
+      cJSON_AddNumberToObject(e, "record_after", gp[i].record_after);
+      cJSON_AddNumberToObject(e, "source_point_before", gp[i].point_before);
+      cJSON_AddNumberToObject(e, "source_point_after", gp[i].point_after);
+      cJSON_AddNumberToObject(e, "source_x_before_m", gp[i].x_before_m);
+      cJSON_AddNumberToObject(e, "source_y_before_m", gp[i].y_before_m);
+      cJSON_AddNumberToObject(e, "distance_m", round_to(gp[i].distance_m, 1e-4));
+      cJSON_AddNumberToObject(e, "missing", (double)gp[i].missing);
+      cJSON_AddBoolToObject(e, "in_record_numbers", (gp[i].flags & SURVEY_GAP_RECORD) != 0);
+      cJSON_AddBoolToObject(e, "in_source_points", (gp[i].flags & SURVEY_GAP_POINT) != 0);
+      cJSON_AddBoolToObject(e, "in_source_positions", (gp[i].flags & SURVEY_GAP_POSITION) != 0);
+      cJSON_AddItemToArray(ga, e);
+    }
+  }
   cJSON_AddNumberToObject(g, "channels_per_record", fig.channels_per_record);
   cJSON_AddNumberToObject(g, "records", (double)fig.records);
   cJSON_AddNumberToObject(g, "shooting_azimuth_deg", round_to(fig.shooting_azimuth_deg, 1e-6));

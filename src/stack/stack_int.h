@@ -29,6 +29,8 @@ typedef struct stack_records {
 struct stack_plan {
   const job_spec *job;            /* borrowed */
   geometry_units units;           /* the job's and the shot files' unit of length */
+  survey_gap *gaps;               /* gaps in the shooting (owned copy of survey_gaps) */
+  size_t ngaps;
   segy_header_map map;
   int has_map;
   geometry_source *geo;           /* owned */

@@ -96,6 +96,12 @@ int32_t stack_plan_last_cmp(const stack_plan *p) { return p->last_cmp; }
 size_t stack_plan_ncmps(const stack_plan *p) { return p->ncmps; }
 double stack_plan_nominal_fold(const stack_plan *p) { return p->nominal_fold; }
 survey_figures stack_plan_survey(const stack_plan *p) { return p->survey; }
+const survey_gap *stack_plan_gaps(const stack_plan *p, size_t *n)
+{
+  *n = p->ngaps;
+  return p->gaps;
+}
+
 int stack_plan_units(const stack_plan *p) { return geometry_units_resolved(&p->units); }
 const char *stack_plan_units_source(const stack_plan *p) { return geometry_units_source(&p->units); }
 int stack_plan_full_fold(const stack_plan *p, int32_t *first, int32_t *last)
@@ -383,6 +389,16 @@ static int make_line(stack_plan *p, tz_err *err)
     rc = scan_survey(p, sv, err);
   if (!rc && (rc = survey_finish(sv, p->geo, &p->line, &p->survey, err)))
     tz_err_path(err, j->path);
+  if (!rc) {
+    size_t ng;
+    const survey_gap *g = survey_gaps(sv, &ng);
+    if (ng && !(p->gaps = malloc(ng * sizeof *p->gaps)))
+      rc = tz_fail(err, TZ_E_NOMEM, "gaps in the shooting");
+    else if (ng) {
+      memcpy(p->gaps, g, ng * sizeof *g);
+      p->ngaps = ng;
+    }
+  }
   survey_free(sv);
   if (rc)
     return rc;
@@ -781,6 +797,7 @@ void stack_plan_free(stack_plan *p)
   bins_line_free(p->line);
   free(p->cmps);
   free(p->spans);
+  free(p->gaps);
   for (size_t i = 0; p->inputs && i < p->ninputs; i++)
     free((char *)p->inputs[i].error);
   for (size_t i = 0; p->records && i < p->ninputs; i++) {

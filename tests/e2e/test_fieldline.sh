@@ -88,6 +88,9 @@ expect_status 0 "stack --job with an SPS geometry" -- "$TZERO" stack --quiet --j
 if "$PYTHON" -c 'import json,sys; q=json.load(open(sys.argv[1])); g=q["geometry"]; sys.exit(0 if g["source"] == "sps" and g["receiver_interval_m"] == 5 else 1)' "$D/out/qc.json"; then
   ok "the QC report says the geometry came from SPS files"
 else notok "QC report geometry source"; fi
+if "$PYTHON" -c 'import json,sys; m=json.load(open(sys.argv[1]))["geometry"]["missing_shots"]; g=m["gaps"]; sys.exit(0 if m["count"] == 2 and g[0]["record_before"] == 11 and g[0]["in_source_positions"] and g[1]["record_after"] == 23 and g[1]["in_record_numbers"] else 1)' "$D/out/qc.json"; then
+  ok "the QC report lists the missing shots and where they are"
+else notok "QC report missing shots"; fi
 sed 's/"relation": "line.x"/"relatoin": "line.x"/' "$D/job.json" > "$D/typo.json"
 expect_status 65 "a misspelt SPS key" -- "$TZERO" stack --job "$D/typo.json"
 expect_stderr "geometry.sps.*relatoin.*relation" "the nearest key is suggested"
@@ -134,8 +137,8 @@ F="$T/feet"
 PYTHONPATH="$TOP/tests/xcheck" "$PYTHON" -c 'import sys, fieldline; fieldline.write_shots(sys.argv[1], feet=True, x0=150000.0, y0=450000.0)' "$F" ||
   { notok "feet line"; exit 1; }
 expect_status 0 "geometry on a line in feet" -- "$TZERO" geometry "$F"/shots/*.sgy
-expect_stdout "^units: feet \(from the binary header\); every length below is in feet" "the unit is said"
-expect_stdout "receiver interval 16\.40 m|receiver interval 16\.4[0-9]+ m" "the receiver interval in feet (5 m = 16.40 ft)"
+expect_stdout "^units: feet \(from the binary header\); lengths in ft, velocities in ft/s" "the unit is said"
+expect_stdout "receiver interval 16\.4[0-9]+ ft" "the receiver interval in feet (5 m = 16.40 ft)"
 expect_status 65 "geometry --units metres on files in feet" -- "$TZERO" geometry --units metres "$F"/shots/*.sgy
 expect_stderr "rec_001.sgy: byte 3254: binary header bytes 3255-3256 give measurement system 2 \(feet\), but the line's units are set to metres" \
   "the clash names the file, the bytes and both units"

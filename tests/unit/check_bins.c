@@ -222,6 +222,51 @@ START_TEST(test_fold_growth)
 }
 END_TEST
 
+/* An automatic crooked line through midpoints on a circular arc (radius 500 m,
+ * 60 degrees, a midpoint every metre, no scatter): the nodes more than a
+ * window (50 m) from the ends lie within 0.1 m of the arc (a centred linear fit
+ * of a circle is biased by about w^2 / (24 R) = 0.2 m, and each pass fits what
+ * the previous one left: computed by hand from the quadratic term), the end
+ * ones within 0.45 m, and the CMP numbers follow the arc length. */
+START_TEST(test_crooked_automatic)
+{
+  tz_err e;
+  tz_err_init(&e);
+  bins_fitter *f = NULL;
+  ck_assert_int_eq(bins_fitter_new(&f, &e), TZ_OK);
+  const double R = 500, a0 = 0, a1 = M_PI / 3;
+  size_t n = (size_t)(R * (a1 - a0));
+  for (size_t i = 0; i <= n; i++) {
+    double a = a0 + (double)i / R;
+    ck_assert_int_eq(bins_fitter_add(f, 1000 + R * sin(a), 2000 + R * cos(a), &e), TZ_OK);
+  }
+  bins_line *l = NULL;
+  bins_fit_report rep;
+  ck_assert_int_eq(bins_fitter_solve_crooked(f, 50, 2.5, 1, 0, &l, &rep, &e), TZ_OK);
+  ck_assert(bins_line_is_crooked(l));
+  ck_assert_uint_ge(bins_line_node_count(l), 40);
+  size_t nn = bins_line_node_count(l);
+  for (size_t k = 0; k < nn; k++) {
+    double x, y;
+    bins_line_node(l, k, &x, &y);
+    /* within a window of the ends the fit is one-sided: a straight line through an
+     * arc's end, evaluated at the end, is off by up to w^2 / (12 R) = 0.4 m */
+    double along = (double)k / (double)(nn - 1) * R * (a1 - a0);
+    double tol = along < 50 || along > R * (a1 - a0) - 50 ? 0.45 : 0.1;
+    ck_assert_double_le(fabs(hypot(x - 1000, y - 2000) - R), tol);
+  }
+  ck_assert_double_le(rep.rms_off_line_m, 0.1);
+  ck_assert_double_eq_tol(rep.length_m, R * (a1 - a0), 1.0);
+  bins_loc loc;                                     /* halfway along the arc */
+  double a = 0.5 * (a0 + a1);
+  bins_locate(l, 1000 + R * sin(a), 2000 + R * cos(a), &loc);
+  ck_assert_int_le(abs(loc.cmp - (1 + (int)lround(R * (a - a0) / 2.5))), 1);
+  ck_assert_int_eq(bins_fitter_solve_crooked(f, 0, 2.5, 1, 0, &l, &rep, &e), TZ_E_ARG);
+  bins_line_free(l);
+  bins_fitter_free(f);
+}
+END_TEST
+
 static Suite *bins_suite(void)
 {
   Suite *s = suite_create("bins");
@@ -231,6 +276,7 @@ static Suite *bins_suite(void)
   tcase_add_test(tc, test_fit_line);
   tcase_add_test(tc, test_predicted_fold_roll_along);
   tcase_add_test(tc, test_fold_growth);
+  tcase_add_test(tc, test_crooked_automatic);
   suite_add_tcase(s, tc);
   return s;
 }
