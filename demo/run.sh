@@ -124,6 +124,12 @@ echo "== TV-RT-07: stacked without statics, then with elevation and uphole stati
 "$TZ" picture "$O/rt07_stack.sgy" --out "$O/rt07_stack.png" --time-ms 0-1000
 "$TZ" picture "$O/rt07_stack_nostatics.sgy" --out "$O/rt07_stack_nostatics.png" --time-ms 0-1000
 "$TZ" picture --statics "$O/rt07_qc.json" --out "$O/rt07_statics.png"
+# the top mute follows the ground: 5 controls along the line (the first-break time at
+# each control CMP plus 30 ms), drawn over a record where it cuts (moved back to field
+# time by each trace's static)
+"$TZ" picture "$O/rt07/shot_007040.sgy" --job "$D/rt07.job.json" --show-mutes --time-ms 0-600 \
+  --title "TV-RT-07 record 7040 and the top mute from 5 controls (field time)" \
+  --out "$O/rt07_record_mutes.png" --quiet
 
 echo
 echo "== TV-RT-07: the velocity loop: first breaks and refraction statics, a first velocity"
