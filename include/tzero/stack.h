@@ -221,6 +221,10 @@ typedef struct stack_run_opts {
                                     * reused section (stack_reuse_*): its traces are not
                                     * read (unless a record-wide step needs the whole
                                     * record), counted or stacked, and its row is left 0 */
+  int records_in_range;            /* 1: records holding no trace of the range are not
+                                    * read at all (their traces are then missing from the
+                                    * section's trace counts); 0 (init): every header is
+                                    * read, so the counts of the parts of a line add up */
 } stack_run_opts;
 
 int stack_run_opts_init(stack_run_opts *o, const stack_plan *p, const velocity_table *v,

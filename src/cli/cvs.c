@@ -161,6 +161,7 @@ int cmd_cvs(int argc, char **argv)
       goto done;
     so.first_cmp = first;
     so.last_cmp = last;
+    so.records_in_range = 1;   /* only the records under the range are read */
     if ((rc = stack_run(plan, &so, &sec, &err)))
       goto done;
     for (size_t i = 0; i < sec->ncmps; i++) {

@@ -197,6 +197,7 @@ struct run_shared {
                               * a reused section: headers first */
   const unsigned char *need; /* per CMP of the run: 1 stacked here, 0 carried (o->restack);
                               * NULL: every CMP */
+  int skip_records;          /* records with no CMP the run stacks are not read */
   float *sum, *wsum;         /* ncmps * ns */
   int32_t *fold;
   int64_t *live;
@@ -510,13 +511,15 @@ static void prefault_share(float *a, size_t n, int t, int T)
 static int record_wanted(const run_shared *sh, size_t fi, size_t k)
 {
   const stack_records *rec = &sh->p->records[fi];
-  if (!sh->need || !rec->cmp_lo)
+  if (!sh->skip_records || !rec->cmp_lo)
     return 1;
   int64_t lo = (int64_t)rec->cmp_lo[k] - sh->first, hi = (int64_t)rec->cmp_hi[k] - sh->first;
   if (lo < 0)
     lo = 0;
   if (hi >= (int64_t)sh->ncmps)
     hi = (int64_t)sh->ncmps - 1;
+  if (!sh->need)
+    return lo <= hi;
   for (int64_t c = lo; c <= hi; c++)
     if (sh->need[c])
       return 1;
@@ -525,9 +528,9 @@ static int record_wanted(const run_shared *sh, size_t fi, size_t k)
 
 /* Advances (*fi, *a) to the next batch at or after file *fi, trace *a; every
  * thread walks the same sequence. Returns 0 after the last file. A run that
- * carries CMPs from a reused section skips the records holding none of the
- * CMPs it restacks (their traces are not read at all); a batch is whole
- * consecutive records, so it ends before a skipped one. */
+ * carries CMPs from a reused section, or asks (o->records_in_range), skips the
+ * records holding none of the CMPs it stacks (their traces are not read at
+ * all); a batch is whole consecutive records, so it ends before a skipped one. */
 static int next_batch(const run_shared *sh, batch *b, size_t fi, int64_t a)
 {
   const stack_plan *p = sh->p;
@@ -710,6 +713,7 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
   sh.first = o->first_cmp;
   sh.ncmps = (size_t)((int64_t)o->last_cmp - o->first_cmp + 1);
   sh.need = o->restack;
+  sh.skip_records = o->restack || o->records_in_range;
   sh.subset = o->first_cmp != p->first_cmp || o->last_cmp != p->last_cmp || sh.need;
   sh.use_eta = o->nmo.use_eta && velocity_table_has_eta(o->velocity);
   sh.class_m = o->offset_class_m > 0 ? o->offset_class_m : 1;
