@@ -50,6 +50,13 @@ typedef struct qc_build_args {
 
 /* Builds the report. On success *json owns NUL-terminated JSON text (free()). */
 int qc_report_build(const qc_build_args *a, char **json, tz_err *err);
+
+/* The gaps in the shooting (survey.h) as a JSON array (the report's
+ * geometry.missing_shots.gaps; tzero geometry --json adds the files when `files`,
+ * the input paths by file index, is not NULL). The caller owns the array
+ * (cJSON_Delete, or add it to an object); NULL when out of memory. */
+struct cJSON;
+struct cJSON *qc_gaps_json(const survey_gap *g, size_t n, const char *const *files);
 /* Writes text to path (adding a final newline if missing) through a temporary
  * file renamed on success. */
 int qc_write_text(const char *path, const char *text, tz_err *err);

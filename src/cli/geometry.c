@@ -22,6 +22,7 @@
 #include "tzero/fileio.h"
 #include "tzero/geometry.h"
 #include "tzero/job.h"
+#include "tzero/qc.h"
 #include "tzero/segy.h"
 #include "tzero/sps.h"
 #include "tzero/survey.h"
@@ -421,29 +422,7 @@ static cJSON *gaps_json(const run *r)
 {
   size_t n;
   const survey_gap *g = survey_gaps(r->survey, &n);
-  cJSON *a = cJSON_CreateArray();
-  for (size_t i = 0; a && i < n; i++) {
-    cJSON *e = cJSON_CreateObject();
-    if (!e)
-      break;
-    cJSON_AddNumberToObject(e, "record_before", g[i].record_before);
-    cJSON_AddNumberToObject(e, "record_after", g[i].record_after);
-    cJSON_AddNumberToObject(e, "source_point_before", g[i].point_before);
-    cJSON_AddNumberToObject(e, "source_point_after", g[i].point_after);
-    cJSON_AddNumberToObject(e, "source_x_before_m", g[i].x_before_m);
-    cJSON_AddNumberToObject(e, "source_y_before_m", g[i].y_before_m);
-    cJSON_AddNumberToObject(e, "source_x_after_m", g[i].x_after_m);
-    cJSON_AddNumberToObject(e, "source_y_after_m", g[i].y_after_m);
-    cJSON_AddNumberToObject(e, "distance_m", g[i].distance_m);
-    cJSON_AddNumberToObject(e, "missing", (double)g[i].missing);
-    cJSON_AddBoolToObject(e, "in_record_numbers", (g[i].flags & SURVEY_GAP_RECORD) != 0);
-    cJSON_AddBoolToObject(e, "in_source_points", (g[i].flags & SURVEY_GAP_POINT) != 0);
-    cJSON_AddBoolToObject(e, "in_source_positions", (g[i].flags & SURVEY_GAP_POSITION) != 0);
-    cJSON_AddStringToObject(e, "file_before", r->files[g[i].file_before]);
-    cJSON_AddStringToObject(e, "file_after", r->files[g[i].file_after]);
-    cJSON_AddItemToArray(a, e);
-  }
-  return a;
+  return qc_gaps_json(g, n, (const char *const *)r->files);
 }
 
 static cJSON *json_summary(const run *r, const bins_fold *pred, const char *kind,

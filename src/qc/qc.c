@@ -348,6 +348,35 @@ static void add_statics(cJSON *r, const job_spec *j, const stack_plan *p, const 
   cJSON_AddNumberToObject(ap, "rms_ms", round_to(s->static_rms_ms, 1e-4));
 }
 
+struct cJSON *qc_gaps_json(const survey_gap *g, size_t n, const char *const *files)
+{
+  cJSON *a = cJSON_CreateArray();
+  for (size_t i = 0; a && i < n; i++) {
+    cJSON *e = cJSON_CreateObject();
+    if (!e)
+      break;
+    cJSON_AddNumberToObject(e, "record_before", g[i].record_before);
+    cJSON_AddNumberToObject(e, "record_after", g[i].record_after);
+    cJSON_AddNumberToObject(e, "source_point_before", g[i].point_before);
+    cJSON_AddNumberToObject(e, "source_point_after", g[i].point_after);
+    cJSON_AddNumberToObject(e, "source_x_before_m", g[i].x_before_m);
+    cJSON_AddNumberToObject(e, "source_y_before_m", g[i].y_before_m);
+    cJSON_AddNumberToObject(e, "source_x_after_m", g[i].x_after_m);
+    cJSON_AddNumberToObject(e, "source_y_after_m", g[i].y_after_m);
+    cJSON_AddNumberToObject(e, "distance_m", g[i].distance_m);
+    cJSON_AddNumberToObject(e, "missing", (double)g[i].missing);
+    cJSON_AddBoolToObject(e, "in_record_numbers", (g[i].flags & SURVEY_GAP_RECORD) != 0);
+    cJSON_AddBoolToObject(e, "in_source_points", (g[i].flags & SURVEY_GAP_POINT) != 0);
+    cJSON_AddBoolToObject(e, "in_source_positions", (g[i].flags & SURVEY_GAP_POSITION) != 0);
+    if (files) {
+      cJSON_AddStringToObject(e, "file_before", files[g[i].file_before]);
+      cJSON_AddStringToObject(e, "file_after", files[g[i].file_after]);
+    }
+    cJSON_AddItemToArray(a, e);
+  }
+  return a;
+}
+
 int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
 {
   const stack_plan *p = a->plan;
@@ -426,24 +455,7 @@ int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
     const survey_gap *gp = stack_plan_gaps(p, &ng);
     cJSON *ms = cJSON_AddObjectToObject(g, "missing_shots");
     cJSON_AddNumberToObject(ms, "count", (double)fig.shots_missing);
-    cJSON *ga = cJSON_AddArrayToObject(ms, "gaps");
-    for (size_t i = 0; ga && i < ng; i++) {
-      cJSON *e = cJSON_CreateObject();
-      if (!e)
-        break;
-      cJSON_AddNumberToObject(e, "record_before", gp[i].record_before);
-      cJSON_AddNumberToObject(e, "record_after", gp[i].record_after);
-      cJSON_AddNumberToObject(e, "source_point_before", gp[i].point_before);
-      cJSON_AddNumberToObject(e, "source_point_after", gp[i].point_after);
-      cJSON_AddNumberToObject(e, "source_x_before_m", gp[i].x_before_m);
-      cJSON_AddNumberToObject(e, "source_y_before_m", gp[i].y_before_m);
-      cJSON_AddNumberToObject(e, "distance_m", round_to(gp[i].distance_m, 1e-4));
-      cJSON_AddNumberToObject(e, "missing", (double)gp[i].missing);
-      cJSON_AddBoolToObject(e, "in_record_numbers", (gp[i].flags & SURVEY_GAP_RECORD) != 0);
-      cJSON_AddBoolToObject(e, "in_source_points", (gp[i].flags & SURVEY_GAP_POINT) != 0);
-      cJSON_AddBoolToObject(e, "in_source_positions", (gp[i].flags & SURVEY_GAP_POSITION) != 0);
-      cJSON_AddItemToArray(ga, e);
-    }
+    cJSON_AddItemToObject(ms, "gaps", qc_gaps_json(gp, ng, NULL));
   }
   cJSON_AddNumberToObject(g, "channels_per_record", fig.channels_per_record);
   cJSON_AddNumberToObject(g, "records", (double)fig.records);
