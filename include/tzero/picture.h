@@ -82,6 +82,15 @@ typedef struct picture_panel {
                                * trace as lines over the panel (mutes: top, inner
                                * start, inner end, bottom), broken at NAN; NULL: none */
   size_t nlines;              /* at most PICTURE_MAX_LINES */
+  /* Gathers or panels side by side: group_starts[g] is the first trace of group g
+   * (group_starts[0] = 0, increasing); a long tick above the plot marks each
+   * boundary. With group_labels set each group is labelled at its centre with
+   * the xvalue of its first trace (one velocity per constant-velocity panel)
+   * instead of trace by trace. nstarts 0 or 1: no boundaries. */
+  const size_t *group_starts;
+  size_t nstarts;
+  int group_labels;
+  const char *group_unit;     /* appended to each group label ("m/s"); NULL: none */
 } picture_panel;
 
 #define PICTURE_MAX_LINES 4

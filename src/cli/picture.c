@@ -336,6 +336,120 @@ static int mute_lines(const char *jobpath, const char *path, const picture_loade
   return rc;
 }
 
+/* What a SEG-Y file drawn as one panel holds, from its trace headers. */
+enum { PANEL_SECTION, PANEL_CVS, PANEL_GATHERS, PANEL_RECORD, PANEL_TRACES };
+
+static int channels_vary(const picture_loaded *l)
+{
+  for (size_t i = 1; i < l->ntraces; i++)
+    if (l->channel[i] != l->channel[0])
+      return 1;
+  return 0;
+}
+
+/* Groups of consecutive traces with the same key (field record or CMP):
+ * *starts (owned, free()) lists the first trace of each. -1 when out of memory. */
+static int group_runs(const picture_loaded *l, int by_record, size_t **starts, size_t *n)
+{
+  *n = 0;
+  *starts = malloc(l->ntraces * sizeof **starts);
+  if (!*starts)
+    return -1;
+  for (size_t i = 0; i < l->ntraces; i++)
+    if (i == 0 || (by_record ? l->field_record[i] != l->field_record[i - 1]
+                             : l->cmp[i] != l->cmp[i - 1]))
+      (*starts)[(*n)++] = i;
+  return 0;
+}
+
+/* Sorts the file into a kind: a section (CMPs increasing trace to trace, not a
+ * single field record); constant-velocity panels (tzero cvs: panel number in
+ * bytes 9-12, one velocity in 37-40 and increasing CMPs within each panel);
+ * one shot record (one field record number, channels varying); gathers side
+ * by side (runs of one CMP: NMO gathers, semblance panels); or plain traces. */
+static int panel_kind(const picture_loaded *l, size_t **starts, size_t *ngroups)
+{
+  *starts = NULL;
+  *ngroups = 0;
+  int one_record = l->ntraces > 1 && l->field_record[0] > 0 && channels_vary(l);
+  for (size_t i = 1; one_record && i < l->ntraces; i++)
+    one_record = l->field_record[i] == l->field_record[0];
+  if (one_record)
+    return PANEL_RECORD;
+  if (l->cmps_increase || l->ntraces == 1)
+    return PANEL_SECTION;
+  if (group_runs(l, 1, starts, ngroups))
+    return -1;
+  /* panels of one CMP range each (the same length and first CMP) */
+  int cvs = *ngroups > 1 && (*starts)[1] >= 2;
+  for (size_t g = 0; cvs && g < *ngroups; g++) {
+    size_t a = (*starts)[g], b = g + 1 < *ngroups ? (*starts)[g + 1] : l->ntraces;
+    cvs = b - a == (*starts)[1] && l->cmp[a] == l->cmp[0];
+    for (size_t i = a + 1; cvs && i < b; i++)
+      cvs = l->offset[i] == l->offset[a] && l->cmp[i] > l->cmp[i - 1];
+  }
+  if (cvs)
+    return PANEL_CVS;
+  free(*starts);
+  if (group_runs(l, 0, starts, ngroups))
+    return -1;
+  if (*ngroups > 1 && *ngroups < l->ntraces)
+    return PANEL_GATHERS;
+  free(*starts);
+  *starts = NULL;
+  *ngroups = 0;
+  return PANEL_TRACES;
+}
+
+/* The horizontal axis and the title's description of the panel. */
+static void describe_panel(const picture_loaded *l, int kind, int semblance, const size_t *starts,
+                           size_t ngroups, picture_panel *p, char *what, size_t cap)
+{
+  int offsets_vary = 0;
+  for (size_t i = 1; i < l->ntraces; i++)
+    offsets_vary |= l->offset[i] != l->offset[0];
+  size_t n = l->ntraces;
+  switch (kind) {
+  case PANEL_RECORD:
+    p->xvalue = offsets_vary ? l->offset : NULL;
+    p->xlabel = offsets_vary ? "Offset (m)" : "Channel";
+    snprintf(what, cap, "record %d, %zu channels", (int)l->field_record[0], n);
+    break;
+  case PANEL_CVS:
+    p->xvalue = l->offset;
+    p->xlabel = "Velocity";   /* each panel labelled "V m/s" */
+    p->group_labels = 1;
+    p->group_unit = "m/s";
+    snprintf(what, cap, "%zu constant-velocity panels %g-%g m/s, CMP %.0f-%.0f", ngroups,
+             l->offset[0], l->offset[starts[ngroups - 1]], l->cmp[0], l->cmp[starts[1] - 1]);
+    break;
+  case PANEL_GATHERS:
+    p->xvalue = offsets_vary ? l->offset : NULL;
+    p->xlabel = semblance ? "Velocity (m/s)" : "Offset (m)";
+    snprintf(what, cap, "%zu %s, CMP %.0f-%.0f", ngroups,
+             semblance ? "semblance panels" : "gathers", l->cmp[0], l->cmp[starts[ngroups - 1]]);
+    break;
+  case PANEL_SECTION:
+    p->xvalue = l->cmp;
+    p->xlabel = "CMP";
+    if (n == 1)
+      snprintf(what, cap, "CMP %.0f", l->cmp[0]);
+    else
+      snprintf(what, cap, "CMP %.0f-%.0f", l->cmp[0], l->cmp[n - 1]);
+    break;
+  default:
+    if (offsets_vary) { /* a gather, or trial velocities of a semblance panel */
+      p->xvalue = l->offset;
+      p->xlabel = semblance ? "Velocity (m/s)" : "Offset (m)";
+    }
+    if (l->cmp[0] == l->cmp[n - 1])
+      snprintf(what, cap, "CMP %.0f, %zu %s", l->cmp[0], n,
+               semblance && offsets_vary ? "trial velocities" : "traces");
+    else
+      snprintf(what, cap, "%zu traces", n);
+  }
+}
+
 int cmd_picture(int argc, char **argv)
 {
   enum { O_OUT = 256, O_CMPS, O_TIME, O_PCT, O_CLIP, O_MAP, O_STYLE, O_W, O_H, O_TITLE, O_FOLD,
@@ -485,28 +599,19 @@ int cmd_picture(int argc, char **argv)
     return cli_report(cmd, &err);
   picture_panel p = { .data = l.data, .ntraces = l.ntraces, .nsamples = l.nsamples,
                       .time_first_ms = l.time_first_ms, .interval_ms = l.interval_ms };
-  int offsets_vary = 0, semblance = po.map == PICTURE_MAP_SEQUENTIAL;
-  for (size_t i = 1; i < l.ntraces; i++)
-    offsets_vary |= l.offset[i] != l.offset[0];
-  if (l.cmps_increase && l.ntraces > 1) {
-    p.xvalue = l.cmp;
-    p.xlabel = "CMP";
-  } else if (offsets_vary) { /* a gather, or trial velocities of a semblance panel */
-    p.xvalue = l.offset;
-    p.xlabel = semblance ? "Velocity (m/s)" : "Offset (m)";
-  } else if (l.ntraces == 1) {
-    p.xvalue = l.cmp;
-    p.xlabel = "CMP";
-  }
-  char t[PICTURE_MAX_TITLE + 1], what[80];
+  int semblance = po.map == PICTURE_MAP_SEQUENTIAL;
+  char t[PICTURE_MAX_TITLE + 1], what[160];
   double t_last = l.time_first_ms + (double)(l.nsamples - 1) * l.interval_ms;
-  if (l.cmps_increase || l.ntraces == 1)
-    snprintf(what, sizeof what, "CMP %.0f-%.0f", l.cmp[0], l.cmp[l.ntraces - 1]);
-  else if (l.cmp[0] == l.cmp[l.ntraces - 1])
-    snprintf(what, sizeof what, "CMP %.0f, %zu %s", l.cmp[0], l.ntraces,
-             semblance && offsets_vary ? "trial velocities" : "traces");
-  else
-    snprintf(what, sizeof what, "%zu traces", l.ntraces);
+  size_t *starts = NULL, ngroups = 0;
+  int kind = panel_kind(&l, &starts, &ngroups);
+  if (kind < 0) {
+    picture_loaded_free(&l);
+    return cli_report(cmd, &(tz_err){ .status = TZ_E_NOMEM, .trace = -1, .byte = -1,
+                                      .msg = "trace groups" });
+  }
+  describe_panel(&l, kind, semblance, starts, ngroups, &p, what, sizeof what);
+  p.group_starts = starts;
+  p.nstarts = ngroups;
   snprintf(t, sizeof t, "%s, %s, %g-%g ms", base_name(in_path), what, l.time_first_ms, t_last);
   p.title = title ? title : t;
   double *marks = NULL;
@@ -531,6 +636,7 @@ int cmd_picture(int argc, char **argv)
   rc = picture_draw_panel(&p, &po, format, &ctx, &info, &err);
   free(marks);
   free(lines);
+  free(starts);
   if (!rc)
     rc = picture_ctx_write(ctx, out, &err);
   double cmin = l.cmp[0], cmax = l.cmp[0];

@@ -274,6 +274,40 @@ static void top_axis(picture_ctx *c, double x, double y, double w, const double 
   corner_title(c, x, y, xlabel);
 }
 
+/* Boundaries between gathers side by side: a tick three times the usual length
+ * above the plot at the edge between the last trace of one group and the first
+ * of the next; with labels, each group's value at its centre. */
+static void group_axis(picture_ctx *c, double x, double y, double w, const picture_panel *p,
+                       const char *xlabel)
+{
+  double dx = w / (double)p->ntraces, last_right = -1e30;
+  for (size_t g = 0; g < p->nstarts; g++) {
+    size_t a = p->group_starts[g];
+    size_t b = g + 1 < p->nstarts ? p->group_starts[g + 1] : p->ntraces;
+    if (a >= p->ntraces || b <= a)
+      continue;
+    if (g > 0) {
+      double xb = floor(x + (double)a * dx) + 0.5;
+      double xs[2] = { xb, xb }, ys[2] = { y - 1, y - 1 - 3 * TICK_LEN };
+      picture_ctx_polyline(c, xs, ys, 2, 1, 0, black);
+    }
+    if (!p->group_labels || !p->xvalue)
+      continue;
+    char lab[32];
+    snprintf(lab, sizeof lab, "%g%s%s", p->xvalue[a], p->group_unit ? " " : "",
+             p->group_unit ? p->group_unit : "");
+    double xc = floor(x + 0.5 * (double)(a + b) * dx) + 0.5;
+    double lw = picture_ctx_text_width(c, lab, LABEL_PX, 0);
+    if (xc - lw / 2 > last_right + 4) {
+      tick_down(c, xc, y);
+      top_label(c, xc, y, lab);
+      last_right = xc + lw / 2;
+    }
+  }
+  if (p->group_labels)
+    corner_title(c, x, y, xlabel);
+}
+
 /* Labels for values that do not run monotonically (offsets of a split-spread
  * gather): every k-th trace is labelled with its own value, k the smallest
  * stride that keeps the labels apart. */
@@ -602,7 +636,12 @@ int picture_draw_panel(const picture_panel *p, const picture_opts *o, int format
   for (size_t i = 0; finite && i < p->ntraces; i++)
     finite = isfinite(p->xvalue[i]);
   const char *xlabel = mono || finite ? (p->xlabel ? p->xlabel : "X") : "Trace";
-  if (!mono && finite)
+  int grouped = p->group_starts && p->nstarts > 1;
+  if (grouped)
+    group_axis(c, in.plot_x, in.plot_y, in.plot_w, p, xlabel);
+  if (grouped && p->group_labels && finite)
+    ;   /* the groups carry the labels */
+  else if (!mono && finite)
     trace_labels(c, in.plot_x, in.plot_y, in.plot_w, p->xvalue, p->ntraces, xlabel);
   else
     top_axis(c, in.plot_x, in.plot_y, in.plot_w, mono ? p->xvalue : NULL, p->ntraces, xlabel);

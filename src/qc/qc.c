@@ -937,6 +937,14 @@ int qc_report_summary(const qc_report *r, char **text, tz_err *err)
   tz_buf_put(&b, "mute        stretch limit %.1f %%: %.2f %% of stacked samples muted (stretch %.2f %%, "
       "top %.2f %%)\n", numv(R, "mute.stretch_limit_pct"), 100 * numv(R, "mute.muted_fraction"),
       100 * numv(R, "mute.stretch_muted_fraction"), 100 * numv(R, "mute.top_muted_fraction"));
+  /* a sample both mutes remove counts as stretch-muted (nmo_apply's zones), so a
+   * top mute lying under the stretch edge shows as (nearly) 0 %: say why */
+  double top_f = numv(R, "mute.top_muted_fraction"), str_f = numv(R, "mute.stretch_muted_fraction");
+  if (numv(R, "mute.top_mute_points") > 0 && str_f > 0 && !(top_f * 10 >= str_f))
+    tz_buf_put(&b, "              top mute only %.2f %%: on most traces the stretch mute (with the samples\n"
+        "              whose moveout reaches before the trace start) already removes what the\n"
+        "              top mute would; a sample both remove is counted as stretch-muted\n",
+        100 * top_f);
   if (numv(R, "mute.inner_muted_fraction") > 0 || numv(R, "mute.bottom_muted_fraction") > 0)
     tz_buf_put(&b, "              inner cone %.2f %%, bottom %.2f %%\n",
         100 * numv(R, "mute.inner_muted_fraction"), 100 * numv(R, "mute.bottom_muted_fraction"));
