@@ -94,6 +94,26 @@ void semblance_params_init(semblance_params *p);
  * trial velocities v_k = min + k step, k = 0..nvel-1, v_k <= max (+1e-9 step). */
 int semblance_params_check(const semblance_params *p, size_t *nvel, tz_err *err);
 
+/* The data's own window (common practice: a semblance window of about one to
+ * two dominant periods resolves events without chasing noise). The dominant
+ * frequency of a gather is where the mean amplitude spectrum of its traces
+ * (whole traces, 10 % cosine taper at each end, FFTW), smoothed by a running
+ * mean over +-SEMBLANCE_SPECTRUM_SMOOTH_HZ (at most a quarter of the raw peak),
+ * peaks, refined by a parabola through the peak bin and its neighbours; the
+ * 0 Hz bin is skipped.
+ * *hz is 0 when the gather has no energy. TZ_E_FFT, TZ_E_NOMEM. Plans with
+ * FFTW: call it from one thread at a time. */
+#define SEMBLANCE_WINDOW_PERIODS 1.5       /* default window, dominant periods */
+#define SEMBLANCE_WINDOW_MIN_MS 4.0        /* bounds of the derived window */
+#define SEMBLANCE_WINDOW_MAX_MS 120.0
+#define SEMBLANCE_SPECTRUM_SMOOTH_HZ 10.0  /* half-width of the spectrum's running mean */
+struct semblance_gather;
+int semblance_dominant_hz(const struct semblance_gather *g, double *hz, tz_err *err);
+/* SEMBLANCE_WINDOW_PERIODS periods of hz in ms, within SEMBLANCE_WINDOW_MIN_MS
+ * (and 3 samples of dt_s) and SEMBLANCE_WINDOW_MAX_MS; the old fixed 40 ms
+ * when hz is not positive. */
+double semblance_window_for_hz(double hz, double dt_s);
+
 /* A (super)gather: the traces of one or more neighbouring CMPs, borrowed. */
 typedef struct semblance_gather {
   size_t ntraces;

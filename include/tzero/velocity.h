@@ -68,6 +68,13 @@ int velocity_table_set_low_fold(velocity_table *t, const int64_t *cmps, size_t n
 /* The list (borrowed) and its length; 0 when none. */
 size_t velocity_table_low_fold(const velocity_table *t, const int64_t **cmps);
 
+/* Lateral smoothing (velocity_smooth.c): a new table with the same control CMPs
+ * and knot times, each knot's velocity (and eta) the mean over the control CMPs
+ * within half_width_cmps CMP numbers of its own of their functions at its time.
+ * 0 copies the table. *out owns it; the low-fold list is not copied. */
+int velocity_table_smooth_cmps(const velocity_table *in, int64_t half_width_cmps,
+                               velocity_table **out, tz_err *err);
+
 /* Writes the table in the file format (header line, then rows in table order).
  * velocity_table_write() goes through a temporary file renamed into place. */
 int velocity_table_write(const velocity_table *t, const char *path, tz_err *err);
@@ -140,7 +147,8 @@ typedef enum {
   VELOCITY_WARN_IMAGINARY = 1, /* Dix V_int^2 <= 0: V_rms^2 t does not increase */
   VELOCITY_WARN_LOW,           /* interval velocity below the plausible minimum */
   VELOCITY_WARN_HIGH,          /* interval velocity above the plausible maximum */
-  VELOCITY_WARN_INVERSION      /* RMS velocity decreases with time at this knot */
+  VELOCITY_WARN_INVERSION,     /* RMS velocity decreases with time at this knot */
+  VELOCITY_WARN_OUTSIDE        /* a control CMP outside the line's CMP range */
 } velocity_warning_kind;
 
 typedef struct velocity_warning {
@@ -163,5 +171,12 @@ typedef struct velocity_warning {
 int velocity_check(const velocity_table *t, double min_mps, double max_mps,
                    velocity_warning **out, size_t *n, tz_err *err);
 const char *velocity_warning_name(int kind);   /* "imaginary", "low", ... never NULL */
+/* Appends to *out (n warnings; realloc'd, the caller frees it) one
+ * VELOCITY_WARN_OUTSIDE warning ("outside_line") per control CMP outside
+ * [first_cmp, last_cmp], the line's CMPs: a typo (200 -> 2000) would otherwise
+ * pass, the line's CMPs taking the nearest control CMPs' function instead. A
+ * table of one control CMP (one function held along the whole line) gives none. */
+int velocity_check_cmp_range(const velocity_table *t, int64_t first_cmp, int64_t last_cmp,
+                             velocity_warning **out, size_t *n, tz_err *err);
 
 #endif

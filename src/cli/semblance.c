@@ -34,11 +34,18 @@ static void help(void)
          "  --cmps LIST              analysis CMPs: 250 | 200,250,300 | 200-300 |\n"
          "                           200-900:50 (commas combine items)\n"
          "  --supergather K          add the K neighbouring CMPs either side (default 0)\n"
+         "  --smooth-cmps N          smooth the table between analysis CMPs: each knot's\n"
+         "                           velocity becomes the mean of the picked functions\n"
+         "                           of the analysis CMPs within N CMPs of its own, at\n"
+         "                           its time (default 0: as picked; --json and the\n"
+         "                           text keep the picks as made)\n"
          "scan:\n"
          "  --velocity-min V         first trial velocity, m/s (default 1400)\n"
          "  --velocity-max V         last trial velocity, m/s (default 4500)\n"
          "  --velocity-step V        trial velocity step, m/s (default 20)\n"
-         "  --window MS              semblance window length, ms (default 40)\n"
+         "  --window MS              semblance window length, ms (default: 1.5 periods\n"
+         "                           of each supergather's dominant frequency, the peak\n"
+         "                           of its mean amplitude spectrum; 4-120 ms)\n"
          "  --min-live F             semblance is 0 where fewer than F x the traces\n"
          "                           (and fewer than 2) are live after the mutes\n"
          "                           (fraction 0..1, default 0.25)\n"
@@ -82,10 +89,12 @@ struct opts {
   const char *edits;
   const char *job, *cmps, *out, *panels;
   long long supergather;
+  long long smooth_cmps;   /* --smooth-cmps N: the table smoothed over N CMPs either side */
   long long min_fold;
   long long threads;
   double stretch;
   int json, quiet;
+  int window_given;        /* --window: one window for every CMP */
   semblance_params sp;
   semblance_pick_params pp;
 };
@@ -97,6 +106,8 @@ struct cmp_result {
   size_t ntraces;
   size_t max_live;         /* most traces live at any pick time and trial velocity */
   int low_fold;            /* 1: no pick for lack of fold (max_live < --min-fold) */
+  double window_ms;        /* semblance window used */
+  double dominant_hz;      /* the supergather's dominant frequency (0 with --window) */
   semblance_pick *picks;
   size_t npicks;
 };
@@ -104,7 +115,7 @@ struct cmp_result {
 enum {
   O_JOB = 256, O_CMPS, O_SUPER, O_VMIN, O_VMAX, O_VSTEP, O_WIN, O_STRETCH, O_THREADS, O_TMIN,
   O_TMAX, O_MINS, O_MINP, O_MINLIVE, O_SEP, O_IMIN, O_IMAX, O_INV, O_OUT, O_PANELS, O_JSON, O_QUIET,
-  O_MINFOLD
+  O_MINFOLD, O_SMOOTH
 };
 
 static int parse(int argc, char **argv, struct opts *o)
@@ -113,6 +124,7 @@ static int parse(int argc, char **argv, struct opts *o)
     { "job", required_argument, NULL, O_JOB },
     { "cmps", required_argument, NULL, O_CMPS },
     { "supergather", required_argument, NULL, O_SUPER },
+    { "smooth-cmps", required_argument, NULL, O_SMOOTH },
     { "velocity-min", required_argument, NULL, O_VMIN },
     { "velocity-max", required_argument, NULL, O_VMAX },
     { "velocity-step", required_argument, NULL, O_VSTEP },
@@ -147,10 +159,14 @@ static int parse(int argc, char **argv, struct opts *o)
     case JOBOPT_EDITS: o->edits = optarg; break;
     case O_CMPS: o->cmps = optarg; break;
     case O_SUPER: bad = cli_parse_i64(cmd, "--supergather", optarg, &o->supergather); break;
+    case O_SMOOTH: bad = cli_parse_i64(cmd, "--smooth-cmps", optarg, &o->smooth_cmps); break;
     case O_VMIN: bad = cli_parse_f64(cmd, "--velocity-min", optarg, &o->sp.velocity_min_mps); break;
     case O_VMAX: bad = cli_parse_f64(cmd, "--velocity-max", optarg, &o->sp.velocity_max_mps); break;
     case O_VSTEP: bad = cli_parse_f64(cmd, "--velocity-step", optarg, &o->sp.velocity_step_mps); break;
-    case O_WIN: bad = cli_parse_f64(cmd, "--window", optarg, &o->sp.window_ms); break;
+    case O_WIN:
+      bad = cli_parse_f64(cmd, "--window", optarg, &o->sp.window_ms);
+      o->window_given = 1;
+      break;
     case O_STRETCH: bad = cli_parse_f64(cmd, "--stretch-limit", optarg, &o->stretch); break;
     case O_THREADS: bad = cli_parse_i64(cmd, "--threads", optarg, &o->threads); break;
     case O_TMIN: bad = cli_parse_f64(cmd, "--time-min", optarg, &o->pp.time_min_ms); break;
@@ -180,6 +196,8 @@ static int parse(int argc, char **argv, struct opts *o)
     return cli_usage_error(cmd, "--job and --cmps are required");
   if (o->supergather < 0 || o->supergather > 1000)
     return cli_usage_error(cmd, "--supergather %lld: expected 0 to 1000 CMPs", o->supergather);
+  if (o->smooth_cmps < 0 || o->smooth_cmps > 1000000)
+    return cli_usage_error(cmd, "--smooth-cmps %lld: expected 0 to 1000000 CMPs", o->smooth_cmps);
   if (o->min_fold < 0 || o->min_fold > (long long)SEMBLANCE_MAX_MIN_FOLD)
     return cli_usage_error(cmd, "--min-fold %lld: expected 0 to %u live traces", o->min_fold,
                            SEMBLANCE_MAX_MIN_FOLD);
@@ -245,6 +263,11 @@ static cJSON *picks_json(const struct cmp_result *r)
   cJSON_AddNumberToObject(o, "traces", (double)r->ntraces);
   cJSON_AddNumberToObject(o, "max_live_traces", (double)r->max_live);
   cJSON_AddBoolToObject(o, "low_fold", r->low_fold);
+  cJSON_AddNumberToObject(o, "window_ms", round(r->window_ms * 1000.0) / 1000.0);
+  if (r->dominant_hz > 0)
+    cJSON_AddNumberToObject(o, "dominant_hz", round(r->dominant_hz * 100.0) / 100.0);
+  else
+    cJSON_AddNullToObject(o, "dominant_hz");
   cJSON *a = cJSON_AddArrayToObject(o, "picks");
   for (size_t i = 0; a && i < r->npicks; i++) {
     cJSON *p = cJSON_CreateObject();
@@ -275,11 +298,16 @@ static int print_json(const struct opts *o, const struct cmp_result *res, size_t
     cJSON_AddNumberToObject(par, "velocity_max_mps", o->sp.velocity_max_mps);
     cJSON_AddNumberToObject(par, "velocity_step_mps", o->sp.velocity_step_mps);
     cJSON_AddNumberToObject(par, "trial_velocities", (double)nvel);
-    cJSON_AddNumberToObject(par, "window_ms", o->sp.window_ms);
+    if (o->window_given)
+      cJSON_AddNumberToObject(par, "window_ms", o->sp.window_ms);
+    else
+      cJSON_AddNullToObject(par, "window_ms");   /* per CMP: cmps[].window_ms */
+    cJSON_AddStringToObject(par, "window", o->window_given ? "given" : "dominant_period");
     cJSON_AddNumberToObject(par, "min_live_fraction", o->sp.min_live_fraction);
     cJSON_AddNumberToObject(par, "min_fold", (double)o->sp.min_fold);
     cJSON_AddNumberToObject(par, "stretch_limit_pct", o->sp.nmo.stretch_limit_pct);
     cJSON_AddNumberToObject(par, "supergather", (double)o->supergather);
+    cJSON_AddNumberToObject(par, "smooth_cmps", (double)o->smooth_cmps);
     cJSON_AddNumberToObject(par, "min_semblance", o->pp.min_semblance);
     cJSON_AddNumberToObject(par, "min_relative_power", o->pp.min_relative_power);
     cJSON_AddNumberToObject(par, "min_separation_ms", o->pp.min_separation_ms);
@@ -304,8 +332,12 @@ static void print_text(const struct cmp_result *res, size_t n)
 {
   for (size_t i = 0; i < n; i++) {
     const struct cmp_result *r = &res[i];
-    printf("CMP %d (CMPs %d-%d, %zu traces): %zu picks\n", r->cmp, r->first, r->last,
+    printf("CMP %d (CMPs %d-%d, %zu traces): %zu picks", r->cmp, r->first, r->last,
            r->ntraces, r->npicks);
+    if (r->dominant_hz > 0)
+      printf(", window %.1f ms (1.5 periods of %.1f Hz)\n", r->window_ms, r->dominant_hz);
+    else
+      printf(", window %.1f ms\n", r->window_ms);
     for (size_t k = 0; k < r->npicks; k++)
       printf("  %9.1f ms %8.1f m/s  semblance %.3f  interval %8.1f m/s\n",
              r->picks[k].time_s * 1000.0, r->picks[k].velocity_mps, r->picks[k].semblance,
@@ -505,9 +537,14 @@ int cmd_semblance(int argc, char **argv)
     } else {
       semblance_gather sg = { .ntraces = r->ntraces, .axis = ax, .samples = samples,
                               .offset_m = offsets };
-      rc = semblance_panel_live(&sg, &o.sp, panel, power, &r->max_live, &err);
+      semblance_params sp = o.sp;
+      if (!o.window_given && !(rc = semblance_dominant_hz(&sg, &r->dominant_hz, &err)))
+        sp.window_ms = semblance_window_for_hz(r->dominant_hz, ax.dt_s);
+      r->window_ms = sp.window_ms;
       if (!rc)
-        rc = semblance_autopick(panel, power, nvel, &ax, &o.sp, &o.pp, &r->picks,
+        rc = semblance_panel_live(&sg, &sp, panel, power, &r->max_live, &err);
+      if (!rc)
+        rc = semblance_autopick(panel, power, nvel, &ax, &sp, &o.pp, &r->picks,
                                 &r->npicks, &err);
     }
     free(samples);
@@ -527,6 +564,13 @@ int cmd_semblance(int argc, char **argv)
               r->cmp, r->ntraces ? "no pick met the picking rules" : "no live traces");
     if (pw && (rc = write_panel(pw, gs, r, &o.sp, nvel, panel, &err)))
       goto done;
+  }
+  if (o.smooth_cmps > 0 && with_picks) {
+    velocity_table *sm = NULL;
+    if ((rc = velocity_table_smooth_cmps(vt, o.smooth_cmps, &sm, &err)))
+      goto done;
+    velocity_table_free(vt);
+    vt = sm;
   }
   if (nlow) {
     if (!o.quiet)

@@ -26,6 +26,7 @@
 static void help(void)
 {
   printf("usage: tzero velocity check FILE [--json] [--quiet] [--min-mps V] [--max-mps V]\n"
+         "       tzero velocity check [FILE] --job JOB [...]\n"
          "       tzero velocity intervals FILE [--out FILE.csv]\n"
          "       tzero velocity at FILE --cmp N [--dt-ms DT] [--length-ms L]\n"
          "                         [--first-ms T] [--out FILE.csv] [--json]\n"
@@ -64,7 +65,9 @@ static void help(void)
          "  --min-mps V      plausible interval velocity minimum, m/s (check; default %g)\n"
          "  --max-mps V      plausible interval velocity maximum, m/s (check; default %g)\n"
          "  --out FILE       write CSV to FILE (written whole, or not at all)\n"
-         "  --job JOB        the job whose line and velocity table --export uses\n"
+         "  --job JOB        the job whose line and velocity table --export uses; with\n"
+         "                   check, also warn of control CMPs outside the line's CMPs\n"
+         "                   (from the job's header pass; FILE defaults to the job's table)\n"
          "  --export FILE    write the velocity export to FILE (CSV)\n"
          "  --every N        export every N-th CMP instead of the control CMPs\n"
          "  --json           print a JSON summary instead of text (check, at)\n"
@@ -181,13 +184,19 @@ static void add_warnings_json(cJSON *o, const velocity_warning *w, size_t nw)
   }
 }
 
-static int do_check(const struct opts *op, const velocity_table *t, tz_err *err)
+static int do_check(const struct opts *op, const velocity_table *t, const stack_plan *line,
+                    tz_err *err)
 {
   velocity_warning *w = NULL;
   size_t nw = 0;
   int rc = velocity_check(t, op->min_mps, op->max_mps, &w, &nw, err);
-  if (rc)
+  if (!rc && line)   /* --job: control CMPs off the line's CMPs */
+    rc = velocity_check_cmp_range(t, stack_plan_first_cmp(line), stack_plan_last_cmp(line), &w,
+                                  &nw, err);
+  if (rc) {
+    free(w);
     return cli_report(CMD, err);
+  }
   size_t nk = 0, nc = velocity_table_ncmps(t);
   for (size_t i = 0; i < nc; i++)
     nk += velocity_table_nknots(t, i);
@@ -443,7 +452,9 @@ int cmd_velocity(int argc, char **argv)
       return cli_opt_error(CMD, argv, lopts);
     }
   }
-  if (job || export || every) {
+  int check_job = job && !export && !every && argc - optind >= 1 &&
+                  !strcmp(argv[optind], "check");
+  if (!check_job && (job || export || every)) {
     if (!job || !export)
       return cli_usage_error(CMD, "--export FILE and --job JOB go together (--every with them)");
     if (optind < argc)
@@ -459,9 +470,13 @@ int cmd_velocity(int argc, char **argv)
   int is_at = !strcmp(op.action, "at");
   if (!is_check && !is_int && !is_at)
     return cli_usage_error(CMD, "unknown action '%s' (check, intervals or at)", op.action);
-  if (argc - optind != 2)
+  if (check_job && argc - optind == 1) {
+    op.file = NULL;   /* the job's own table */
+  } else if (argc - optind != 2) {
     return cli_usage_error(CMD, "%s: expected one velocity table file", op.action);
-  op.file = argv[optind + 1];
+  } else {
+    op.file = argv[optind + 1];
+  }
   if (is_at && !op.have_cmp)
     return cli_usage_error(CMD, "at: --cmp N is required");
   if (!is_at && (op.have_cmp || op.length_ms >= 0))
@@ -475,12 +490,24 @@ int cmd_velocity(int argc, char **argv)
   tz_err_init(&err);
   if (fileio_check_not_input(op.out, op.file, "--out", &err))
     return cli_report(CMD, &err);
+  if (check_job) {   /* the line's CMPs from the job's header pass */
+    flow_setup su;
+    job_overrides ov;
+    job_overrides_init(&ov);
+    ov.velocity = op.file;
+    if (flow_setup_load(&su, job, &ov, 1, NULL, NULL, &err))
+      return cli_report(CMD, &err);
+    op.file = velocity_table_source(su.velocity);
+    int ex = do_check(&op, su.velocity, su.plan, &err);
+    flow_setup_free(&su);
+    return ex;
+  }
   velocity_table *t;
   if (velocity_table_load(&t, op.file, &err))
     return cli_report(CMD, &err);
   int ex;
   if (is_check) {
-    ex = do_check(&op, t, &err);
+    ex = do_check(&op, t, NULL, &err);
   } else if (is_int) {
     ex = emit(op.out, intervals_fn, t, NULL, &err) ? cli_report(CMD, &err) : EX_OK;
   } else {

@@ -218,8 +218,14 @@ static int add_velocity(cJSON *r, const qc_build_args *a, tz_err *err)
   double vk = a->plan && stack_plan_units(a->plan) == GEOMETRY_UNIT_FEET ? 1.0 / GEOMETRY_FOOT_M : 1.0;
   int rc = velocity_check(a->velocity, VELOCITY_PLAUSIBLE_MIN_MPS * vk,
                           VELOCITY_PLAUSIBLE_MAX_MPS * vk, &vw, &nw, err);
-  if (rc)
+  /* control CMPs off the line (a whole line: a part's range is not the line's) */
+  if (!rc && a->plan && !(a->job && a->job->has_cmp_range))
+    rc = velocity_check_cmp_range(a->velocity, stack_plan_first_cmp(a->plan),
+                                  stack_plan_last_cmp(a->plan), &vw, &nw, err);
+  if (rc) {
+    free(vw);
     return rc;
+  }
   for (size_t i = 0; i < nw; i++) {
     cJSON *o = cJSON_CreateObject();
     cJSON_AddStringToObject(o, "kind", velocity_warning_name(vw[i].kind));
@@ -577,6 +583,7 @@ int qc_report_build(const qc_build_args *a, char **json, tz_err *err)
 
   if ((rc = add_velocity(r, a, err)))
     goto fail;
+  qc_add_provenance(r, a);
   if (a->migration) {
     const qc_migration *m = a->migration;
     cJSON *mo = cJSON_AddObjectToObject(r, "migration");

@@ -16,4 +16,8 @@ const cJSON *qc_json_at(const cJSON *o, const char *path);
 double qc_json_num(const cJSON *o, const char *path);
 const char *qc_json_str(const cJSON *o, const char *path, const char *dflt);
 
+/* "provenance" (qc_provenance.c): SHA-256 digests of the job file, the velocity
+ * table, each statics table and each shot file's file header. */
+void qc_add_provenance(cJSON *r, const qc_build_args *a);
+
 #endif

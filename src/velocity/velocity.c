@@ -646,6 +646,7 @@ const char *velocity_warning_name(int kind)
   case VELOCITY_WARN_LOW: return "low";
   case VELOCITY_WARN_HIGH: return "high";
   case VELOCITY_WARN_INVERSION: return "inversion";
+  case VELOCITY_WARN_OUTSIDE: return "outside_line";
   default: return "unknown";
   }
 }
@@ -740,5 +741,32 @@ int velocity_check(const velocity_table *t, double min_mps, double max_mps,
   }
   *out = l.w;
   *n = l.n;
+  return TZ_OK;
+}
+
+int velocity_check_cmp_range(const velocity_table *t, int64_t first_cmp, int64_t last_cmp,
+                             velocity_warning **out, size_t *n, tz_err *err)
+{
+  if (t->ncmp < 2)   /* one function for the whole line: where it sits does not matter */
+    return TZ_OK;
+  for (size_t i = 0; i < t->ncmp; i++) {
+    int64_t c = t->cmps[i].cmp;
+    if (c >= first_cmp && c <= last_cmp)
+      continue;
+    velocity_warning *w = realloc(*out, (*n + 1) * sizeof *w);
+    if (!w)
+      return tz_fail(err, TZ_E_NOMEM, "velocity warnings");
+    *out = w;
+    w += (*n)++;
+    memset(w, 0, sizeof *w);
+    w->kind = VELOCITY_WARN_OUTSIDE;
+    w->cmp = c;
+    w->line = t->line ? t->line[t->cmps[i].first] : 0;
+    w->value = (double)c;
+    snprintf(w->msg, sizeof w->msg,
+             "control cmp %lld lies outside the line's CMPs %lld-%lld (a typo?): the line "
+             "takes the nearest control CMPs' velocities instead", (long long)c,
+             (long long)first_cmp, (long long)last_cmp);
+  }
   return TZ_OK;
 }

@@ -294,6 +294,57 @@ START_TEST(test_dix_imaginary_flagged)
 }
 END_TEST
 
+START_TEST(test_smooth_cmps_and_cmp_range)
+{
+  /* worked by hand: CMP 100 is 1500 m/s at 0.1 s and 1700 at 0.3 s; CMP 140 is
+   * 2100 at 0.2 s; CMP 300 is 3000 at 0.1 s. Over 40 CMPs, CMP 100 at 0.1 s is
+   * the mean of 1500 and CMP 140's 2100 (held above its knot) = 1800; at 0.3 s
+   * (1700 + 2100) / 2 = 1900; CMP 140 at 0.2 s: CMP 100 read at 0.2 s is 1600
+   * (linear between its knots), so (1600 + 2100) / 2 = 1850; CMP 300 has no
+   * neighbour within 40 CMPs and keeps 3000. */
+  velocity_table *t = parse_ok("cmp,time_ms,velocity_mps\n100,100,1500\n100,300,1700\n"
+                               "140,200,2100\n300,100,3000\n");
+  velocity_table *sm = NULL;
+  tz_err e;
+  tz_err_init(&e);
+  ck_assert_int_eq(velocity_table_smooth_cmps(t, 40, &sm, &e), TZ_OK);
+  ck_assert_uint_eq(velocity_table_ncmps(sm), 3);
+  double ts, v;
+  velocity_table_knot(sm, 0, 0, &ts, &v, NULL);
+  ck_assert_double_eq_tol(v, 1800, 1e-9);
+  velocity_table_knot(sm, 0, 1, &ts, &v, NULL);
+  ck_assert_double_eq_tol(ts, 0.3, 1e-12);
+  ck_assert_double_eq_tol(v, 1900, 1e-9);
+  velocity_table_knot(sm, 1, 0, &ts, &v, NULL);
+  ck_assert_double_eq_tol(v, 1850, 1e-9);
+  velocity_table_knot(sm, 2, 0, &ts, &v, NULL);
+  ck_assert_double_eq_tol(v, 3000, 1e-9);
+  velocity_table_free(sm);
+  ck_assert_int_eq(velocity_table_smooth_cmps(t, 0, &sm, &e), TZ_OK);   /* 0: a copy */
+  velocity_table_knot(sm, 1, 0, &ts, &v, NULL);
+  ck_assert_double_eq_tol(v, 2100, 1e-9);
+  velocity_table_free(sm);
+  /* CMPs 90-250: CMP 300 (line 5 of the file) lies outside */
+  velocity_warning *w = NULL;
+  size_t n = 0;
+  ck_assert_int_eq(velocity_check_cmp_range(t, 90, 250, &w, &n, &e), TZ_OK);
+  ck_assert_uint_eq(n, 1);
+  ck_assert_int_eq(w[0].cmp, 300);
+  ck_assert_int_eq(w[0].line, 5);
+  ck_assert_str_eq(velocity_warning_name(w[0].kind), "outside_line");
+  free(w);
+  velocity_table_free(t);
+  /* one function for the whole line, wherever its CMP: no warning */
+  t = parse_ok("cmp,time_ms,velocity_mps\n1,0,1500\n1,400,2000\n");
+  w = NULL;
+  n = 0;
+  ck_assert_int_eq(velocity_check_cmp_range(t, 216, 355, &w, &n, &e), TZ_OK);
+  ck_assert_uint_eq(n, 0);
+  free(w);
+  velocity_table_free(t);
+}
+END_TEST
+
 START_TEST(test_check_warnings)
 {
   velocity_table *t = parse_ok("cmp,time_ms,velocity_mps\n"
@@ -402,6 +453,7 @@ static Suite *velocity_suite(void)
   tcase_add_test(tc, test_dix_worked_example);
   tcase_add_test(tc, test_dix_imaginary_flagged);
   tcase_add_test(tc, test_check_warnings);
+  tcase_add_test(tc, test_smooth_cmps_and_cmp_range);
   tcase_add_test(tc, test_load_missing_file);
   tcase_add_test(tc, test_random_tables_never_crash);
   suite_add_tcase(s, tc);
