@@ -295,6 +295,22 @@ int picture_draw_fold(const picture_fold *f, const char *title, uint32_t width, 
 int picture_render_fold(const picture_fold *f, const char *title, uint32_t width,
                         uint32_t height, picture_image *img, picture_info *info, tz_err *err);
 
+/* ---- velocity field (src/qc/picture_velocity.c) ---- */
+
+struct velocity_table;
+typedef struct picture_velocity_field {
+  const struct velocity_table *table;   /* borrowed */
+  int64_t cmp_first, cmp_last;          /* horizontal range */
+  double time_max_s;                    /* vertical range 0 .. time_max_s */
+} picture_velocity_field;
+
+/* RMS (left) and Dix interval (right) velocity, CMP by time, on one colour
+ * scale, with a dot at every knot of every control CMP (in SVG each carries
+ * data-cmp, data-time-ms and data-rms-mps). width/height 0: 1200 x 720. */
+int picture_draw_velocity_field(const picture_velocity_field *f, const char *title,
+                                uint32_t width, uint32_t height, int format, picture_ctx **out,
+                                tz_err *err);
+
 /* ---- statics chart (src/qc/picture_statics.c) ---- */
 
 typedef struct picture_statics_point {

@@ -50,6 +50,12 @@ typedef struct cli_spectrum_pic {
 int cli_picture_spectrum(const cli_spectrum_pic *a, const char *in_path, const char *out,
                          int format, const char *title, uint32_t w, uint32_t h, int quiet);
 
+/* `tzero picture --velocity-field TABLE.csv [--job JOB]` (picture_velocity.c). */
+struct picture_select;
+int cli_picture_velocity(const char *table, const char *job, const struct picture_select *sel,
+                         const char *out, int format, const char *title, uint32_t w, uint32_t h,
+                         int quiet);
+
 /* Prints "tzero CMD: <formatted error>[: strerror]" to stderr and returns the
  * exit status for the error's status. */
 int cli_report(const char *cmd, const tz_err *e);

@@ -24,6 +24,7 @@ static void help(void)
          "       tzero picture --spectrum A.csv[,B.csv...] [--labels A,B] --out FILE\n"
          "       tzero picture --fk-record N SHOT.sgy --out FILE [--spacing M] [--fan V,...]\n"
          "       tzero picture --statics QC.json --out FILE.png|.svg|.pdf\n"
+         "       tzero picture --velocity-field TABLE.csv [--job JOB] --out FILE\n"
          "\n"
          "Draws a SEG-Y panel (a stacked section, CMP gathers, semblance panels) as a\n"
          "picture: time in ms increasing downward, traces left to right, labelled\n"
@@ -79,6 +80,11 @@ static void help(void)
          "                          (defaults: Nyquist; -80 dB, -60 dB for f-k)\n"
          "  --statics QC.json       draw the statics chart of a QC report: elevations with\n"
          "                          the datum, source and receiver statics (ms) by station\n"
+         "  --velocity-field TABLE.csv  draw the table's velocity field: RMS (left) and\n"
+         "                          Dix interval (right) velocity, CMP by time, one colour\n"
+         "                          scale, a dot at every control point; --job JOB gives\n"
+         "                          the line's CMPs (else the table's), --cmps and\n"
+         "                          --time-ms narrow it\n"
          "  --json                  print what was drawn (size, plot area, clip) as JSON\n"
          "  --quiet                 print nothing but errors\n"
          "  -h, --help              this text\n"
@@ -454,7 +460,7 @@ int cmd_picture(int argc, char **argv)
 {
   enum { O_OUT = 256, O_CMPS, O_TIME, O_PCT, O_CLIP, O_MAP, O_STYLE, O_W, O_H, O_TITLE, O_FOLD,
          O_JSON, O_QUIET, O_FORMAT, O_SPECTRUM, O_LABELS, O_FK, O_SPACING, O_MAXHZ, O_MINDB,
-         O_FAN, O_STATICS, O_PICKS, O_JOB, O_SHOW_MUTES };
+         O_FAN, O_STATICS, O_PICKS, O_JOB, O_SHOW_MUTES, O_VFIELD };
   static const struct option opts[] = {
     { "out", required_argument, NULL, O_OUT },
     { "cmps", required_argument, NULL, O_CMPS },
@@ -468,6 +474,7 @@ int cmd_picture(int argc, char **argv)
     { "title", required_argument, NULL, O_TITLE },
     { "fold", required_argument, NULL, O_FOLD },
     { "statics", required_argument, NULL, O_STATICS },
+    { "velocity-field", required_argument, NULL, O_VFIELD },
     { "json", no_argument, NULL, O_JSON },
     { "quiet", no_argument, NULL, O_QUIET },
     { "format", required_argument, NULL, O_FORMAT },
@@ -487,7 +494,7 @@ int cmd_picture(int argc, char **argv)
   static const char *const maps[] = { "diverging", "grey", "semblance", NULL };
   static const char *const styles[] = { "auto", "density", "wiggle", "both", NULL };
   const char *out = NULL, *title = NULL, *fold = NULL, *statics = NULL, *picks = NULL;
-  const char *jobpath = NULL;
+  const char *jobpath = NULL, *vfield = NULL;
   int show_mutes = 0;
   picture_opts po = { 0 };
   picture_select sel = { 0 };
@@ -531,6 +538,7 @@ int cmd_picture(int argc, char **argv)
     case O_PICKS: picks = optarg; break;
     case O_JOB: jobpath = optarg; break;
     case O_SHOW_MUTES: show_mutes = 1; break;
+    case O_VFIELD: vfield = optarg; break;
     case O_SPECTRUM: sp.spectra = optarg; break;
     case O_LABELS: sp.labels = optarg; break;
     case O_FK: sp.fk_record = optarg; break;
@@ -568,6 +576,15 @@ int cmd_picture(int argc, char **argv)
       return cli_usage_error(cmd, "expected at most one SEG-Y file, got %d", argc - optind);
     return cli_picture_spectrum(&sp, optind < argc ? argv[optind] : NULL, out, format, title,
                                 po.width, po.height, quiet);
+  }
+  if (vfield) {
+    if (argc - optind != 0 || fold || statics)
+      return cli_usage_error(cmd, "--velocity-field draws a velocity table; no SEG-Y file, "
+                             "--fold or --statics goes with it");
+    if (show_mutes)
+      return cli_usage_error(cmd, "--show-mutes draws over traces, not a velocity field");
+    return cli_picture_velocity(vfield, jobpath, &sel, out, format, title, po.width,
+                                po.height, quiet);
   }
   if (statics) {
     if (argc - optind != 0 || fold)

@@ -94,3 +94,25 @@ PY
 run stack --job "$J" --velocity demo/out/smooth.csv --out demo/out/s2.sgy --report demo/out/s2_qc.json
 "$PYTHON" -c 'import json,sys; a,b=(json.load(open(p))["provenance"]["velocity"]["sha256"] for p in sys.argv[1:]); sys.exit(a == b)' \
   "$R/demo/out/gw01_qc.json" "$R/demo/out/s2_qc.json" && ok "another velocity table, another digest" || notok "velocity digests equal"
+
+# a picture of the velocity field: RMS and interval, CMP by time, a dot per
+# control point (SVG data attributes read back); the table is written here
+printf 'cmp,time_ms,velocity_mps\n100,0,1500\n100,400,1800\n100,900,2300\n200,0,1500\n200,300,1700\n200,800,2500\n300,0,1550\n300,500,2000\n' \
+  >"$R/demo/out/field.csv"
+run picture --velocity-field demo/out/field.csv --out demo/out/field.svg
+if grep -q "wrote demo/out/field.svg: velocity field of 3 control CMPs, CMP 100-300" "$T/out"; then
+  ok "picture --velocity-field draws the table"; else notok "picture --velocity-field"; sed 's/^/#   /' "$T/err"; fi
+"$PYTHON" - "$R/demo/out/field.svg" "$R/demo/out/field.csv" <<'PY' && ok "velocity field: both panels carry every control point" || notok "velocity field: control points"
+import re, sys
+svg, rows = open(sys.argv[1]).read(), [l.strip().split(",") for l in open(sys.argv[2])][1:]
+dots = re.findall(r'data-cmp="(\d+)" data-time-ms="([0-9.e+-]+)" data-rms-mps="([0-9.e+-]+)"', svg)
+want = sorted((int(c), float(t), float(v)) for c, t, v in rows)
+got = sorted((int(c), float(t), float(v)) for c, t, v in dots)
+assert got == sorted(want * 2), (got, want)   # RMS panel and interval panel
+for lab in ("CMP (RMS velocity)", "CMP (interval velocity)", "Velocity (m/s)", "Time (ms)"):
+    assert lab in svg, lab
+PY
+run picture --velocity-field demo/out/field.csv --job "$J" --out demo/out/field_line.png
+grep -q "CMP 1-285" "$T/out" && ok "--job: the line's CMPs" || notok "--job: $(cat "$T/out" "$T/err")"
+run picture --velocity-field demo/out/field.csv demo/out/gw01_stack.sgy --out demo/out/x.png
+[ -s "$T/err" ] && grep -q "no SEG-Y file" "$T/err" && ok "--velocity-field with a SEG-Y file is refused" || notok "refusal"
