@@ -101,7 +101,7 @@ static int32_t clamp32(double v)
   return (int32_t)(v > INT32_MAX ? INT32_MAX : v < INT32_MIN ? INT32_MIN : v);
 }
 
-static inline void set_field(segy_trace_header *h, const segy_field *fd, double v, int is_float)
+static inline __attribute__((always_inline)) void set_field(segy_trace_header *h, const segy_field *fd, double v, int is_float)
 {
   char *m = (char *)h + fd->off;
   switch (fd->kind) {
@@ -144,7 +144,7 @@ static inline void set_field(segy_trace_header *h, const segy_field *fd, double 
 }
 
 /* The value a slot holds, as the table-driven decoder reads it. */
-static inline double slot_value(const unsigned char *p, int order, int width, int kind)
+static inline __attribute__((always_inline)) double slot_value(const unsigned char *p, int order, int width, int kind)
 {
   if (width == 4)
     return kind == SEGY_K_U16 ? (double)segy_ld32(order, p) : (double)u32_to_i32(segy_ld32(order, p));

@@ -98,8 +98,11 @@ static int job_part(const stack_plan *p, char hex[KEY_LEN], tz_err *err)
     return tz_fail(err, TZ_E_NOMEM, "reuse key of the job");
   /* not part of any CMP's trace: the velocity table (its function per CMP is
    * digested below), the outputs, the threads, the CMP range (a part of the line
-   * gives the same bits as the whole line), the shots (identified below) */
-  static const char *const drop[] = { "velocity", "output", "threads", "shots" };
+   * gives the same bits as the whole line), the shots (identified below by size
+   * and time, not digested: that would be a second read of every byte), the job
+   * file's name (its content is the resolved job) */
+  static const char *const drop[] = { "velocity", "output", "threads", "shots", "shot_files",
+                                      "job_file" };
   for (size_t k = 0; k < sizeof drop / sizeof drop[0]; k++)
     cJSON_DeleteItemFromObjectCaseSensitive(root, drop[k]);
   cJSON *sel = cJSON_GetObjectItemCaseSensitive(root, "selection");
