@@ -627,6 +627,15 @@ int cmd_picture(int argc, char **argv)
                                       .msg = "trace groups" });
   }
   describe_panel(&l, kind, semblance, starts, ngroups, &p, what, sizeof what);
+  if (l.panel && l.npanels) {   /* test panels: each labelled KEY = VALUE (below) */
+    p.group_labels = 0;
+    if (!p.xvalue) {            /* stacked panels: CMPs restart in each */
+      p.xvalue = l.cmp;
+      p.xlabel = "CMP";
+    }
+    size_t k = strlen(what);
+    snprintf(what + k, sizeof what - k, ", %zu test panels", l.npanels);
+  }
   p.group_starts = starts;
   p.nstarts = ngroups;
   snprintf(t, sizeof t, "%s, %s, %g-%g ms", base_name(in_path), what, l.time_first_ms, t_last);
