@@ -210,7 +210,9 @@ static int print_summary(const char *report, const char *report_path, tz_err *e)
 }
 
 /* --vary: one stacked panel of the --cmp-range per value of a job key, all in
- * --out (no report: panels are for choosing a parameter, not for delivery). */
+ * --out, each with the job's post-stack steps before migration as the section
+ * gets them (no report, no migration: panels are for choosing a parameter, not
+ * for delivery). */
 static int stack_vary(const char *jobpath, const job_overrides *ov, const cli_vary *vary,
                       int quiet)
 {
@@ -231,12 +233,16 @@ static int stack_vary(const char *jobpath, const job_overrides *ov, const cli_va
     if (!rc && i == 0 && !(rc = job_check_output(su[0].job, ov->section, "--out", 1, &e)))
       rc = fileio_probe(ov->section, &e);
     stack_run_opts ro;
-    if (!rc && !(rc = stack_run_opts_init(&ro, su[i].plan, su[i].velocity, &e))) {
+    if (!rc && !(rc = flow_poststack_check(su[i].job, su[i].plan, &e)) &&
+        !(rc = stack_run_opts_init(&ro, su[i].plan, su[i].velocity, &e))) {
       cli_progress_init(&pg, "stacking", quiet);
       ro.progress = cli_progress_show;
       ro.progress_ctx = &pg;
       rc = stack_run(su[i].plan, &ro, &sec[i], &e);
       cli_progress_end(&pg);
+      /* the job's post-stack steps before migration, as the section gets them */
+      if (!rc)
+        rc = flow_poststack_stack(su[i].job, sec[i], &e);
     }
     if (rc)
       break;

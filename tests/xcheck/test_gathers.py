@@ -30,7 +30,9 @@ Checks (each names its source):
     panels whose headers carry panel numbers 1-3 (bytes 233-236) and the
     values as IEEE floats (bytes 237-240, IEEE 754 single), each equal to a
     separate run with `--stretch-limit V`; `tzero stack --vary` with
-    `--cmp-range` likewise equals separate stacks.
+    `--cmp-range` likewise equals separate stacks, and applies the job's
+    post-stack steps: varying a balance's RMS target from 1 to 2 doubles the
+    panel (the balance scales a trace to the target RMS: linear in it).
 """
 import json
 import os
@@ -213,6 +215,22 @@ for k, v in enumerate(vals):
     same = same and np.array_equal(one, sp[sph[233] == k + 1]) and \
         np.array_equal(oh[21], sph[21][sph[233] == k + 1])
 tz.ok(same, "tzero stack --vary: three panels of CMPs 240-260, each = a separate stack")
+
+# stack panels get the job's post-stack steps, and their keys can be varied
+ps = dict(job)
+ps["poststack"] = [{"step": "balance", "from_ms": 200, "to_ms": 900, "target_rms": 1}]
+JP = os.path.join(D, "poststack.json")
+json.dump(ps, open(JP, "w"))
+tz.run("stack", "--job", JP, "--cmp-range", "240-260", "--vary", "poststack[0].target_rms=1,2",
+       "--out", out("ps_panels.sgy"), "--quiet")
+tz.run("stack", "--job", JP, "--cmp-range", "240-260", "--out", out("ps.sgy"), "--report",
+       out("ps.json"), "--quiet")
+pp, pph, _ = read(out("ps_panels.sgy"))
+one, _, _ = read(out("ps.sgy"))
+p1, p2 = pp[pph[233] == 1], pp[pph[233] == 2]
+tz.ok(np.array_equal(p1, one) and np.allclose(p2, 2 * p1, rtol=1e-5, atol=1e-6 * np.abs(p2).max()),
+      "stack --vary poststack[0].target_rms=1,2: panel 1 = the section with its post-stack "
+      "steps, panel 2 = twice it (a balance to an RMS target is linear in the target)")
 
 shutil.rmtree(D, ignore_errors=True)
 tz.done()
