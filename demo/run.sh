@@ -79,7 +79,9 @@ echo "== TV-DX-04: velocity analysis (semblance on 5-CMP supergathers, automatic
   --velocity-min 1500 --velocity-max 3500 --velocity-step 20 \
   --out "$O/dx04_velocity.csv" --panels "$O/dx04_panels.sgy" --quiet
 echo "picked velocity table: $O/dx04_velocity.csv (model's exact RMS velocities: $O/dx04_field/rms_velocity.csv)"
-"$TZ" velocity check "$O/dx04_velocity.csv" | tail -n 1
+"$TZ" velocity check "$O/dx04_velocity.csv" --job "$D/dx04.job.json" | tail -n 1
+"$TZ" picture --velocity-field "$O/dx04_velocity.csv" --job "$D/dx04.job.json" \
+  --out "$O/dx04_velocity_field.png"
 
 echo
 echo "== TV-DX-04: stack with the picked velocities (spherical divergence gain, band-pass, sinc8 NMO;"
@@ -233,7 +235,7 @@ if B="$B" sh demo/screenshots.sh "$O" docs/img; then :; else
 
 echo
 echo "outputs in $O/: gw01_stack.sgy, gw01_qc.json, gw01_stack.png (.pdf), gw01_fold.png (.svg),"
-echo "  dx04_velocity.csv, dx04_stack.sgy, dx04_qc.json, dx04_stack.png, dx04_panels.png,"
+echo "  dx04_velocity.csv, dx04_stack.sgy, dx04_qc.json, dx04_stack.png, dx04_panels.png, dx04_velocity_field.png,"
 echo "  rt07_stack.png (with statics), rt07_stack_nostatics.png, rt07_statics.png,"
 echo "  rt07_record_picks.png, rt07_stack_refraction.png, rt07_stack_final.png (velocity loop),"
 echo "  rt07_elevation_statics.csv, rt07s_spectra.png, rt07s_record_{raw,decon,fk}.png,"

@@ -82,7 +82,7 @@ static void help(void)
          "                          the datum, source and receiver statics (ms) by station\n"
          "  --velocity-field TABLE.csv  draw the table's velocity field: RMS (left) and\n"
          "                          Dix interval (right) velocity, CMP by time, one colour\n"
-         "                          scale, a dot at every control point; --job JOB gives\n"
+         "                          scale, a dot at every control point; --job FILE gives\n"
          "                          the line's CMPs (else the table's), --cmps and\n"
          "                          --time-ms narrow it\n"
          "  --json                  print what was drawn (size, plot area, clip) as JSON\n"
