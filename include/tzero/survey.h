@@ -118,5 +118,9 @@ int survey_finish(survey *s, geometry_source *src, bins_line **line, survey_figu
 /* The gaps found by survey_finish() (borrowed; valid until survey_free()). A
  * layout's skipped shot points are not listed here (the layout says them). */
 const survey_gap *survey_gaps(const survey *s, size_t *n);
+/* The position along `line` (bins_loc.along_m) of a station centre chosen so
+ * that the records' receivers sit at station centres, in [-(1/2 + 1e-6),
+ * 1/2 - 1e-6) intervals; 0 when there are no records (a layout). */
+double survey_station_anchor(const survey *s, const bins_line *line, double interval_m);
 
 #endif

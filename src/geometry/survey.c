@@ -18,6 +18,7 @@
 typedef struct record {
   double dg;            /* median along-line receiver step (NAN when the record has none) */
   double sx, sy;        /* source of the first channel */
+  double rx[2], ry[2];  /* first and last receiver */
   double channels;
   size_t file;
   int32_t field_record, source_point;
@@ -133,6 +134,8 @@ static void close_record(survey *s)
         out[k++] = d;
     }
     s->rec[s->nrec - 1].dg = median(out, k);
+    s->rec[s->nrec - 1].rx[1] = s->prx;
+    s->rec[s->nrec - 1].ry[1] = s->pry;
   }
   s->open = 0;
   s->nsteps = 0;
@@ -155,6 +158,8 @@ static int open_record(survey *s, size_t file, const geometry_trace *g, tz_err *
   r->dg = NAN;
   r->sx = g->source_x;
   r->sy = g->source_y;
+  r->rx[0] = r->rx[1] = g->receiver_x;
+  r->ry[0] = r->ry[1] = g->receiver_y;
   r->channels = 0;
   r->file = file;
   r->field_record = g->field_record;
@@ -423,4 +428,46 @@ const survey_gap *survey_gaps(const survey *s, size_t *n)
 {
   *n = s->ngaps;
   return s->gaps;
+}
+
+/* Receivers at station centres: with r = s / interval - floor(s / interval) the
+ * fraction of each record's first and last receiver's position s along the
+ * line (bins_locate), the phase is the circular mean of r (atan2 of the summed sines and
+ * cosines of 2 pi r; Mardia & Jupp, "Directional Statistics", 2000, sec. 2.2.1)
+ * refined by the median of the differences from it, each wrapped to [-1/2, 1/2)
+ * (robust to a few receivers off the grid); the anchor is the phase times the
+ * interval, wrapped to [-(1/2 + 1e-6), 1/2 - 1e-6) intervals so that a phase of
+ * one half within rounding numbers the stations as floor(s / interval + 1/2)
+ * does. Stations numbered floor((s - anchor) / interval + 1/2) then put scattered
+ * receivers at the nominal interval on distinct stations. */
+double survey_station_anchor(const survey *s, const bins_line *line, double interval_m)
+{
+  if (!s || !s->nrec || !line || !(interval_m > 0))
+    return 0;
+  double sum_s = 0, sum_c = 0;
+  double *d = malloc(2 * s->nrec * sizeof *d);
+  if (!d)
+    return 0;
+  size_t n = 0;
+  for (size_t i = 0; i < s->nrec; i++)
+    for (int k = 0; k < 2; k++) {
+      bins_loc loc;
+      bins_locate(line, s->rec[i].rx[k], s->rec[i].ry[k], &loc);
+      double a = loc.along_m / interval_m;
+      double r = a - floor(a);
+      if (!isfinite(r))
+        continue;
+      d[n++] = r;
+      sum_s += sin(2 * M_PI * r);
+      sum_c += cos(2 * M_PI * r);
+    }
+  double phi0 = atan2(sum_s, sum_c) / (2 * M_PI);
+  for (size_t i = 0; i < n; i++) {
+    double w = d[i] - phi0;
+    d[i] = w - floor(w + 0.5);
+  }
+  double phi = n ? phi0 + median(d, n) : 0;
+  free(d);
+  phi -= floor(phi + 0.5 + 1e-6);
+  return phi * interval_m;
 }

@@ -61,6 +61,8 @@ struct stack_plan {
   /* stations (stack_stations.c): numbered when the job has statics or station edits */
   int has_stations;
   double st_ox, st_oy, st_sin, st_cos, st_interval;
+  double st_anchor_m;             /* along-line position of a station centre (0 on a
+                                   * layout): survey_station_anchor() */
   stack_station *stations[2];     /* per kind, sorted by number; owned */
   size_t nstations[2];
   /* floating datum (statics.floating_datum_smooth_m > 0): per CMP of the plan's

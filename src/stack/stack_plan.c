@@ -390,6 +390,11 @@ static int make_line(stack_plan *p, tz_err *err)
   if (!rc && (rc = survey_finish(sv, p->geo, &p->line, &p->survey, err)))
     tz_err_path(err, j->path);
   if (!rc) {
+    double iv = j->statics.station_interval_m > 0 ? j->statics.station_interval_m
+                                                   : p->survey.receiver_interval_m;
+    p->st_anchor_m = survey_station_anchor(sv, p->line, iv);
+  }
+  if (!rc) {
     size_t ng;
     const survey_gap *g = survey_gaps(sv, &ng);
     if (ng && !(p->gaps = malloc(ng * sizeof *p->gaps)))

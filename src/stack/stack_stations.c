@@ -1,9 +1,12 @@
 /* stack_stations.c -- source and receiver stations of a line and their statics.
  *
  * Station numbers come from the position along the processing line: for a
- * layout the distance from the layout's station 0 along its azimuth (so the
+ * layout the distance s from the layout's station 0 along its azimuth (so the
  * numbers are the layout's own), otherwise the distance from the processing
- * line's origin; station = floor(s / interval + 1/2) (halves round up), with
+ * line's origin (along a crooked line: bins_locate) less an anchor a that puts the receivers at station centres
+ * (survey_station_anchor: a line fitted through the midpoints starts half a
+ * station off the receivers, where GPS scatter would split or merge them);
+ * station = floor((s - a) / interval + 1/2) (halves round up), with
  * interval = statics.station_interval_m or the receiver interval of the
  * geometry. A header pass collects every station that a stackable trace uses;
  * two positions more than half an interval apart that fall on one number are
@@ -44,6 +47,11 @@ static void station_frame(const stack_plan *p, double *ox, double *oy, double *s
 
 double stack_station_along(const stack_plan *p, double x, double y)
 {
+  if (!geometry_source_get_layout(p->geo) && bins_line_node_count(p->line)) {
+    bins_loc loc;                 /* a crooked line: the distance along it */
+    bins_locate(p->line, x, y, &loc);
+    return loc.along_m;
+  }
   double ox, oy, sn, cs;
   station_frame(p, &ox, &oy, &sn, &cs);
   return (x - ox) * sn + (y - oy) * cs;
@@ -51,7 +59,7 @@ double stack_station_along(const stack_plan *p, double x, double y)
 
 int32_t stack_station_at(const stack_plan *p, double interval_m, double x, double y)
 {
-  double k = floor(stack_station_along(p, x, y) / interval_m + 0.5 + 1e-9);
+  double k = floor((stack_station_along(p, x, y) - p->st_anchor_m) / interval_m + 0.5 + 1e-9);
   return k > INT32_MAX ? INT32_MAX : k < INT32_MIN ? INT32_MIN : (int32_t)k;
 }
 
@@ -164,7 +172,7 @@ static int floating_build(stack_plan *p, tz_err *err)
   for (size_t c = 0; c < n; c++) {
     double x, y;
     bins_cmp_centre(p->line, lo + (int32_t)c, &x, &y);
-    double s = ((x - p->st_ox) * p->st_sin + (y - p->st_oy) * p->st_cos) / p->st_interval;
+    double s = (stack_station_along(p, x, y) - p->st_anchor_m) / p->st_interval;
     raw[c] = elevation_at(r, nr, s);
   }
   size_t h = (size_t)floor(js->floating_datum_smooth_m / (2 * p->line_info.size_m) + 0.5);

@@ -97,9 +97,11 @@ expect_stderr "geometry.sps.*relatoin.*relation" "the nearest key is suggested"
 
 # Crooked processing lines in the job, shared by stack, nmo, semblance, cvs and statics:
 # a node file (bins.crooked: FILE, as tzero geometry --crooked reads) and an automatic
-# line through the midpoints (bins.crooked: {"smoothing_m": M}). Stations every 2.5 m: the
-# line starts at a midpoint, half a station from the receivers, and 5 m stations would
-# take two scattered receivers 4.9 m apart for one.
+# line through the midpoints (bins.crooked: {"smoothing_m": M}). Stations at the default
+# interval (the receiver interval, 5 m): the line starts at a midpoint, half a station from
+# the receivers, and the station grid is anchored on the receivers so that two scattered
+# receivers 4.9 m apart are two stations (tests/xcheck/test_fieldline_stations.py checks the
+# numbers against NumPy).
 B="$T/bent"
 PYTHONPATH="$TOP/tests/xcheck" "$PYTHON" -c 'import sys, fieldline; fieldline.write_shots(sys.argv[1], bend=40.0)' "$B" ||
   { notok "bent line"; exit 1; }
@@ -109,7 +111,7 @@ for form in auto nodes; do
   cat > "$B/$form.json" <<JOB
 { "shots": ["shots/*.sgy"], "velocity": "v.csv",
   "bins": {"crooked": $CR},
-  "statics": {"datum_m": 100, "replacement_velocity_mps": 2000, "station_interval_m": 2.5},
+  "statics": {"datum_m": 100, "replacement_velocity_mps": 2000},
   "output": {"section": "out/$form.sgy", "report": "out/$form.json"} }
 JOB
   if [ $form = auto ]; then
@@ -123,7 +125,17 @@ JOB
   expect_status 0 "semblance --job on the crooked line ($form)" -- "$TZERO" semblance --job "$B/$form.json" --cmps 90 --out "$B/out/picks_$form.csv"
   expect_status 0 "cvs --job on the crooked line ($form)" -- "$TZERO" cvs --job "$B/$form.json" --cmps 80-100 --velocities 1800,2000 --out "$B/out/cvs_$form.sgy"
   expect_status 0 "statics elevation --job on the crooked line ($form)" -- "$TZERO" statics elevation --job "$B/$form.json" --out "$B/out/elev_$form.csv"
+  expect_stdout "^stations +29 source, 109 receiver \(interval 5 m\)" \
+    "one station per field station: the generator's 29 shot and 109 receiver stations ($form)"
 done
+# Refraction and residual statics on the scattered, bent line at the default interval.
+expect_status 0 "firstbreaks --job on the crooked line" -- "$TZERO" firstbreaks --job "$B/auto.json" --out "$B/out/picks.csv" --quiet
+expect_status 0 "statics refraction on the crooked line, 5 m stations" -- "$TZERO" statics refraction \
+  --job "$B/auto.json" --picks "$B/out/picks.csv" --out "$B/out/refr.csv" --datum-m 100 --replacement-velocity 2000
+expect_stdout "refr.csv: 138 stations" "29 source and 109 receiver stations in the refraction table"
+expect_status 0 "statics residual on the crooked line, 5 m stations" -- "$TZERO" statics residual \
+  --job "$B/auto.json" --out "$B/out/res.csv" --window-ms 80,380 --iterations 1
+expect_stdout "29 sources and 109 receivers from" "residual statics for every field station"
 if cmp -s "$B/out/auto.sgy" "$B/out/nodes.sgy"; then
   ok "the node file of the automatic line stacks the same section"
 else notok "automatic line and its node file give different sections"; fi
@@ -147,3 +159,4 @@ expect_status 65 "one file in feet among files in metres" -- "$TZERO" geometry "
 expect_stderr "rec_030.sgy: byte 3254: .*measurement system 2 \(feet\), but .*rec_001.sgy gives 1 \(metres\): the files mix units" \
   "mixed files are named"
 rm -f "$D/shots/rec_030.sgy"
+
