@@ -355,8 +355,19 @@ static int scan_survey(stack_plan *p, survey *sv, tz_err *err)
           rc = err->status;
         break;
       }
-      if (!geometry_source_trace(p->geo, &h, t, &g, &e))
+      if (!geometry_source_trace(p->geo, &h, t, &g, &e)) {
         rc = survey_add(sv, i, &h, &g, err);
+      } else if (stack_kind_reason(h.kind) < 0 &&
+                 !((h.samples && h.samples != p->axis.ns) ||
+                   (h.interval_us && h.interval_us != p->interval_us) || h.delay_ms != p->delay_ms)) {
+        /* a live trace refused (coordinates in degrees, beyond the bound, not in
+         * the table): named here, as classify() would, rather than left out of
+         * the line's fit */
+        *err = e;
+        if (err->trace < 0)
+          err->trace = t;
+        rc = tz_err_path(err, p->inputs[i].path);
+      }
     }
     segy_close(f);
   }

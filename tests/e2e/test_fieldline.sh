@@ -160,3 +160,24 @@ expect_stderr "rec_030.sgy: byte 3254: .*measurement system 2 \(feet\), but .*re
   "mixed files are named"
 rm -f "$D/shots/rec_030.sgy"
 
+# A live trace whose header coordinates are refused is named in the first header pass
+# (exit 65), not silently left out of the line's fit ("cannot fit ... 0 traces"):
+# coordinate units 3 (degrees; SEG-Y rev 1 trace header bytes 89-90) on every trace.
+A="$T/angles"
+mkdir -p "$A" && cp -r "$D/shots" "$A/" && cp "$D/v.csv" "$A/"
+"$PYTHON" - "$A" <<'PY'
+import glob, sys
+import segyio
+for p in sorted(glob.glob(sys.argv[1] + "/shots/*.sgy")):
+    with segyio.open(p, "r+", ignore_geometry=True) as f:
+        for i in range(f.tracecount):
+            f.header[i][segyio.TraceField.CoordinateUnits] = 3
+PY
+printf '{ "shots": ["shots/*.sgy"], "velocity": "v.csv", "statics": {"datum_m": 100, "replacement_velocity_mps": 2000},\n  "output": {"section": "out/s.sgy", "report": "out/q.json"} }\n' > "$A/job.json"
+expect_status 65 "stack --job with coordinates in degrees" -- "$TZERO" stack --job "$A/job.json"
+expect_stderr "rec_001.sgy: trace 1: byte 88: coordinate units 3 \(angles, not lengths\)" \
+  "the first refused trace is named with its file, trace, byte and value"
+expect_no_file "$A/out/s.sgy" "no section written"
+expect_status 65 "statics elevation --job with coordinates in degrees" -- "$TZERO" statics elevation \
+  --job "$A/job.json" --out "$A/e.csv"
+expect_stderr "rec_001.sgy: trace 1: byte 88: coordinate units 3" "statics names the trace too"
