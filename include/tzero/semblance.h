@@ -120,7 +120,18 @@ typedef struct semblance_gather {
   nmo_axis axis;               /* shared by all traces */
   const float *samples;        /* ntraces * axis.ns, trace after trace */
   const double *offset_m;      /* ntraces signed offsets */
+  const double *mute_ms;       /* NULL, or per trace the STACK_MUTE_LINES mute times
+                                * (top, inner start, inner end, bottom; ms, NAN: none)
+                                * that replace the parameters' top mute */
+  double mute_taper_ms;        /* their taper */
 } semblance_gather;
+
+/* The job's mutes for the traces of semblance_supergather (same traces, same order):
+ * STACK_MUTE_LINES values per trace from mute_eval; *out NULL (no array needed) when
+ * `m` is only a single top polyline, which the parameters' top mute already is.
+ * *out is the caller's (free()). */
+int semblance_supergather_mutes(const stack_gathers *gs, int32_t first_cmp, int32_t last_cmp,
+                                const mute_set *m, double **out, tz_err *err);
 
 /* Concatenates the traces of the collected gathers whose CMP lies in
  * [first_cmp, last_cmp] (a supergather), in gather order. On success *samples

@@ -535,10 +535,13 @@ int cmd_semblance(int argc, char **argv)
     if (r->ntraces == 0) {
       memset(panel, 0, nvel * ax.ns * sizeof *panel);
     } else {
+      double *mutes = NULL;
+      rc = semblance_supergather_mutes(gs, r->first, r->last, job->mutes, &mutes, &err);
       semblance_gather sg = { .ntraces = r->ntraces, .axis = ax, .samples = samples,
-                              .offset_m = offsets };
+                              .offset_m = offsets, .mute_ms = mutes,
+                              .mute_taper_ms = job->mute_taper_ms };
       semblance_params sp = o.sp;
-      if (!o.window_given && !(rc = semblance_dominant_hz(&sg, &r->dominant_hz, &err)))
+      if (!rc && !o.window_given && !(rc = semblance_dominant_hz(&sg, &r->dominant_hz, &err)))
         sp.window_ms = semblance_window_for_hz(r->dominant_hz, ax.dt_s);
       r->window_ms = sp.window_ms;
       if (!rc)
@@ -546,6 +549,7 @@ int cmd_semblance(int argc, char **argv)
       if (!rc)
         rc = semblance_autopick(panel, power, nvel, &ax, &sp, &o.pp, &r->picks,
                                 &r->npicks, &err);
+      free(mutes);
     }
     free(samples);
     free(offsets);

@@ -316,6 +316,70 @@ int semblance_supergather(const stack_gathers *gs, int32_t first_cmp, int32_t la
   return TZ_OK;
 }
 
+int semblance_supergather_mutes(const stack_gathers *gs, int32_t first_cmp, int32_t last_cmp,
+                                const mute_set *m, double **out, tz_err *err)
+{
+  *out = NULL;
+  if (!mute_set_active(m) ||
+      (m->kind[MUTE_INNER].n == 0 && m->kind[MUTE_BOTTOM].n == 0 &&
+       isnan(m->after_first_break_ms) && m->kind[MUTE_TOP].n <= 1))
+    return TZ_OK;
+  size_t n = 0;
+  for (size_t i = 0; i < gs->n; i++)
+    if (gs->g[i].cmp >= first_cmp && gs->g[i].cmp <= last_cmp)
+      n += gs->g[i].ntraces;
+  double *v = malloc((n ? n : 1) * STACK_MUTE_LINES * sizeof *v);
+  if (!v)
+    return tz_fail(err, TZ_E_NOMEM, "mutes of %zu traces", n);
+  size_t at = 0;
+  for (size_t i = 0; i < gs->n; i++) {
+    const stack_gather *g = &gs->g[i];
+    if (g->cmp < first_cmp || g->cmp > last_cmp)
+      continue;
+    for (size_t k = 0; k < g->ntraces; k++, at++) {
+      mute_trace t = { g->cmp, g->headers[k].field_record, g->headers[k].channel,
+                       g->offset_signed_m[k], g->static_ms[k] };
+      mute_times mt;
+      mute_eval(m, &t, &mt);
+      double *o = v + at * STACK_MUTE_LINES;
+      o[0] = isfinite(mt.top_ms) ? mt.top_ms : NAN;
+      o[1] = mt.inner_from_ms;
+      o[2] = mt.inner_to_ms;
+      o[3] = isfinite(mt.bottom_ms) ? mt.bottom_ms : NAN;
+    }
+  }
+  *out = v;
+  return TZ_OK;
+}
+
+/* The NMO of trace i of g with its own mutes (g->mute_ms): the top as a
+ * one-point polyline, then the bottom and the cone (nmo_band_mute). */
+static int nmo_muted(nmo_workspace *ws, const semblance_params *p, const semblance_gather *g,
+                     size_t i, const float *vel, float *buf, float *wt, nmo_trace_info *info,
+                     nmo_top_mute *scratch, tz_err *err)
+{
+  const double *m = g->mute_ms + i * STACK_MUTE_LINES;
+  const nmo_top_mute *top = NULL;
+  if (!isnan(m[0])) {
+    double off0 = 0, tm = m[0];
+    int rc = nmo_top_mute_set(scratch, &off0, &tm, 1, g->mute_taper_ms, err);
+    if (rc)
+      return rc;
+    top = scratch;
+  }
+  size_t ns = g->axis.ns;
+  int rc = nmo_apply(ws, &p->nmo, top, &g->axis, g->offset_m[i], g->samples + i * ns, vel,
+                     NULL, buf, wt, info, err);
+  if (rc)
+    return rc;
+  double taper = g->mute_taper_ms * 1e-3;
+  if (!isnan(m[3]))
+    nmo_band_mute(ws, &g->axis, m[3] * 1e-3, INFINITY, taper, buf, wt, info);
+  if (!isnan(m[1]))
+    nmo_band_mute(ws, &g->axis, m[1] * 1e-3, m[2] * 1e-3, taper, buf, wt, info);
+  return TZ_OK;
+}
+
 /* ---------------------------------------------------------------- panel */
 
 struct worker {
@@ -324,6 +388,7 @@ struct worker {
   float *panel, *power;
   size_t nvel, first, stride, half;
   size_t max_live;             /* largest live count over this worker's velocities */
+  nmo_top_mute scratch;        /* a trace's own top mute (nmo_muted) */
   tz_err err;
   int rc;
 };
@@ -353,7 +418,16 @@ static void *panel_worker(void *arg)
     for (size_t j = 0; j < ns; j++)
       vel[j] = v;
     semblance_acc_reset(acc);
-    for (size_t i = 0; i < g->ntraces; i++) {
+    for (size_t i = 0; i < g->ntraces && g->mute_ms; i++) {
+      nmo_trace_info info;   /* the job's own mutes: weights, the cone leaves a gap */
+      w->rc = nmo_muted(ws, w->p, g, i, vel, buf, wt, &info, &w->scratch, &w->err);
+      if (w->rc) {
+        w->err.trace = (int64_t)i;
+        goto done;
+      }
+      semblance_acc_add_weighted(acc, buf, wt);
+    }
+    for (size_t i = 0; i < g->ntraces && !g->mute_ms; i++) {
       nmo_trace_info info;
       /* nmo.c keeps live samples contiguous; the weight array is only asked
        * for (a second call) should a trace ever come back with gaps. */

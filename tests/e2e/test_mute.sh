@@ -170,3 +170,15 @@ EOF
 [ $? -eq 0 ] || notok "the picture checks ran"
 expect_status 64 "--show-mutes needs --job" -- "$TZERO" picture "$D/out/g.sgy" --show-mutes \
   --out "$D/out/x.png"
+
+# --- tzero semblance applies the job's mutes too: a bottom mute from controls at about
+# 420-430 ms leaves no pick on the events at 550 and 800 ms (the survey's model), the
+# event at 300 ms is still picked
+with_mute bot '{"bottom": {"controls": [{"cmp": 230, "polyline": [[150, 420], [400, 420]]},
+  {"cmp": 340, "polyline": [[150, 430], [400, 430]]}]}}'
+expect_status 0 "semblance with a bottom mute from controls" -- "$TZERO" semblance --job "$D/bot.json" \
+  --cmps 260-320:30 --out "$D/out/vbot.csv" --quiet
+n300=$(grep -cE '^[0-9]+,(29[0-9]|30[0-9])\.' "$D/out/vbot.csv")
+ndeep=$(awk -F, 'NR > 1 && $2 > 430' "$D/out/vbot.csv" | wc -l)
+[ "$n300" -eq 3 ] && [ "$ndeep" -eq 0 ] && ok "semblance: picks above the bottom mute only" ||
+  notok "semblance with a bottom mute: $n300 picks near 300 ms, $ndeep below the mute"
