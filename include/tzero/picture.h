@@ -360,7 +360,7 @@ typedef struct picture_loaded {
    * panel number of each trace (bytes 233-236) and "KEY = VALUE" per panel */
   int32_t *panel;             /* ntraces, or NULL */
   size_t npanels;
-  char (*panel_label)[112];   /* npanels */
+  char (*panel_label)[168];   /* npanels: "KEY = VALUE", each under 80 */
   const char **panel_label_ptr;  /* npanels pointers into panel_label */
 } picture_loaded;
 

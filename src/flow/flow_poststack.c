@@ -170,7 +170,7 @@ static int continue_text(const char *in, const poststack_chain *c, const deliver
       for (int card = 0; card < 38 && *p; card++) {
         const char *nl = strchr(p, '\n');
         size_t n = nl ? (size_t)(nl - p) : strlen(p);
-        char head[6];
+        char head[16];
         snprintf(head, sizeof head, "C%2d ", card + 1);
         memcpy(cards + card * 80, head, 4);
         memcpy(cards + card * 80 + 4, p, n > 76 ? 76 : n);
