@@ -352,6 +352,7 @@ int cmd_stack(int argc, char **argv)
   deliver_steps *steps = NULL;
   char *report = NULL, *page = NULL;
   fileio_out *rep_out = NULL;
+  int answer = 0;
   char *keys = NULL;
   stack_reuse *ru = NULL;
   char reuse_why[1200] = "";
@@ -514,12 +515,8 @@ int cmd_stack(int argc, char **argv)
   }
   if (!rc && brief)
     rc = print_brief(report, broken, json, &e);
-  if (!rc && broken) {
-    free(report);
-    stack_section_free(sec);
-    flow_setup_free(&su);
-    return 1;   /* a broken limit is an answer: the outputs are complete */
-  }
+  /* a broken limit is an answer (exit 1): the outputs are complete */
+  answer = !rc && broken;
 done:
   fileio_abort(rep_out);
   if (rc) {
@@ -535,5 +532,5 @@ done:
   stack_reuse_free(ru);
   stack_section_free(sec);
   flow_setup_free(&su);
-  return rc;
+  return rc ? rc : answer;
 }

@@ -474,7 +474,7 @@ int gathers_writer_add(gathers_writer *w, const stack_plan *p, const velocity_ta
   rc = stack_visit(p, &vo, err);
   if (!rc && fflush(w->spill))
     rc = spill_fail(err, "write");
-  if (!rc)
+  if (!rc && w->n)
     qsort(w->idx, w->n, sizeof *w->idx, cmp_gkey);
   double value = NAN;
   if (w->panels && w->panels->n && panel < w->panels->n &&

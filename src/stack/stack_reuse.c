@@ -292,10 +292,11 @@ static int check_section(stack_reuse *r, const stack_plan *p, tz_err *err)
     return rc;
   const segy_info *in = segy_get_info(f);
   if (in->samples != p->axis.ns || in->interval_us != p->interval_us) {
+    unsigned ns = in->samples, us = in->interval_us;   /* *in goes with the handle */
     segy_close(f);
     tz_err_path(err, r->section);
     return tz_fail(err, TZ_E_FORMAT, "reused section has %u samples at %u us, this run %zu at "
-                   "%u us: not a section of this line", in->samples, in->interval_us,
+                   "%u us: not a section of this line", ns, us,
                    (size_t)p->axis.ns, p->interval_us);
   }
   unsigned char *seen = calloc(r->ncmps ? r->ncmps : 1, 1);
