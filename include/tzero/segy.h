@@ -204,6 +204,11 @@ int segy_header_read(segy_file *f, int64_t i, segy_trace_header *h, tz_err *err)
 int segy_trace_read(segy_file *f, int64_t i, segy_trace_header *h, float *samples,
                     size_t cap, tz_err *err);
 int64_t segy_bad_samples(const segy_file *f);   /* NaN/Inf/out-of-range seen so far */
+/* Says that the reads to come stop before trace `end` (0-based; past the last
+ * trace: the file's end): a mapped file is then mapped no further than that
+ * trace, so threads reading slices of one file each map only their own slice.
+ * A read beyond it still works. */
+void segy_read_until(segy_file *f, int64_t end);
 
 /* ---- writer ---- */
 

@@ -76,6 +76,7 @@ struct segy_file {
   size_t maplen;
   long page;
   int64_t piece;            /* bytes mapped at a time */
+  int64_t map_end;          /* a mapped piece need not reach beyond this byte (0: file end) */
   int64_t bad;
   const unsigned char *last;  /* sample bytes of the last trace read, big-endian */
 };
@@ -134,11 +135,12 @@ static int map_piece(segy_file *f, int64_t off, size_t n)
   int64_t len = f->piece;
   if ((int64_t)n + (off - start) > len)
     len = (int64_t)n + (off - start);
-  if (len > f->info.file_bytes - start)
-    len = f->info.file_bytes - start;
+  int64_t end = f->map_end > 0 && off + (int64_t)n <= f->map_end ? f->map_end : f->info.file_bytes;
+  if (len > end - start)
+    len = end - start;
   if (len <= 0)
     return -1;
-  void *m = mmap(NULL, (size_t)len, PROT_READ, MAP_PRIVATE | MAP_POPULATE, f->fd, (off_t)start);
+  void *m = mmap(NULL, (size_t)len, PROT_READ, MAP_PRIVATE, f->fd, (off_t)start);
   if (m == MAP_FAILED)
     return -1;
   madvise(m, (size_t)len, MADV_SEQUENTIAL);
@@ -173,8 +175,9 @@ static const unsigned char *window(segy_file *f, int64_t off, size_t n, int64_t 
     }
   }
   size_t want = f->wincap;
-  if ((int64_t)want > f->info.file_bytes - off)
-    want = (size_t)(f->info.file_bytes - off);
+  int64_t end = f->map_end > 0 && off + (int64_t)n <= f->map_end ? f->map_end : f->info.file_bytes;
+  if ((int64_t)want > end - off)
+    want = (size_t)(end - off);
   if (want < n)
     want = n;
   f->winlen = 0;
@@ -1065,6 +1068,11 @@ int64_t segy_bad_samples(const segy_file *f) { return f->bad; }
 static int64_t trace_offset(const segy_file *f, int64_t i)
 {
   return f->toff ? f->toff[i] : f->info.first_trace_offset + i * f->trace_bytes;
+}
+
+void segy_read_until(segy_file *f, int64_t end)
+{
+  f->map_end = end >= 0 && end < f->info.trace_count ? trace_offset(f, end) : 0;
 }
 
 static size_t trace_header_bytes(const segy_file *f, int64_t i)

@@ -26,6 +26,25 @@ typedef struct stack_records {
 
 #define STACK_MAX_RECORD_TRACES 100000
 
+/* Along-line points (stack_points.c): a cell of half a bin with the sums of the
+ * positions and values that fell in it. */
+typedef struct stack_pt_cell {
+  int64_t key;
+  double s, v, n;     /* sums of position and value, count */
+} stack_pt_cell;
+
+typedef struct stack_pt_list {
+  stack_pt_cell *c;
+  size_t n, cap, merged;   /* c[0 .. merged) sorted and unique */
+} stack_pt_list;
+
+/* One shot file's points, gathered by the header-pass thread that reads it. */
+typedef struct stack_points_file {
+  stack_pt_list src, surf;
+  int32_t last_record;
+  int have_last;
+} stack_points_file;
+
 struct stack_plan {
   const job_spec *job;            /* borrowed */
   geometry_units units;           /* the job's and the shot files' unit of length */
@@ -76,6 +95,7 @@ struct stack_plan {
    * shot-point numbers, station positions with their surface elevations */
   double *sp_s, *sp_v, *el_s, *el_v;
   size_t nsp, nel;
+  stack_pt_list pt_src, pt_surf;  /* while the header pass runs: the cells so far */
   int64_t max_record;             /* most traces in one record */
   int64_t traces, stackable;
   int64_t skipped[STACK_SKIP__COUNT];
@@ -88,6 +108,7 @@ long stack_usable_cpus(void);
 
 /* Opens shot file i of the plan with the plan's header map. */
 int stack_open_input(const stack_plan *p, size_t i, segy_file **f, tz_err *err);
+int stack_open_input_data(const stack_plan *p, size_t i, segy_file **f, tz_err *err);
 /* 1 when the file's sample axis matches the section's. */
 int stack_file_axis_ok(const stack_plan *p, const segy_info *info);
 /* The reason a trace kind is not stacked, or -1 when the kind is data. */
@@ -124,7 +145,17 @@ void stack_stations_free(stack_plan *p);
 /* Header pass over every input: source field shot-point numbers and station
  * surface elevations by position along the line (the whole line, whatever the
  * CMP range). Called by stack_plan_build(). */
-int stack_points_build(stack_plan *p, tz_err *err);
+/* The header pass gathers them: stack_points_begin() (the layout's shot points),
+ * per file stack_points_file_reset(), stack_points_trace() for each trace the
+ * stack would use (whatever the CMP range), stack_points_take() in file order
+ * (files skipped whole are not taken), then stack_points_finish(). */
+int stack_points_begin(stack_plan *p, tz_err *err);
+void stack_points_file_reset(stack_points_file *f);
+int stack_points_trace(const stack_plan *p, stack_points_file *f, const segy_trace_header *h,
+                       const geometry_trace *g, tz_err *err);
+int stack_points_take(stack_plan *p, const stack_points_file *f, tz_err *err);
+void stack_points_file_free(stack_points_file *f);
+int stack_points_finish(stack_plan *p, tz_err *err);
 void stack_points_free(stack_plan *p);
 /* The floating-datum static of a CMP (0 with a flat datum); CMPs beyond the
  * plan's range take the nearest end's. */

@@ -69,6 +69,23 @@ long stack_usable_cpus(void)
   return n > 0 ? n : 1;
 }
 
+/* The data pass reads whole traces through a pread() window rather than a
+ * mapping: on 2 cores the mapping's page faults and the unmapping's TLB
+ * shoot-downs between the threads cost more than copying the bytes into a
+ * 1 MiB buffer (docs/performance.md). Header-only passes keep the mapping. */
+int stack_open_input_data(const stack_plan *p, size_t i, segy_file **f, tz_err *err)
+{
+  segy_open_opts o;
+  memset(&o, 0, sizeof o);
+  o.no_map = 1;
+  o.map = p->has_map ? &p->map : NULL;
+  o.interval_us = p->job ? p->job->interval_us : 0;
+  int rc = segy_open(f, p->inputs[i].path, &o, err);
+  if (rc)
+    tz_err_path(err, p->inputs[i].path);
+  return rc;
+}
+
 int stack_open_input(const stack_plan *p, size_t i, segy_file **f, tz_err *err)
 {
   segy_open_opts o;
@@ -482,6 +499,7 @@ typedef struct file_scan {
   int64_t traces;
   int state;                  /* 0 scanned, 1 bad (skipped), -1 failed (err) */
   int measurement_system;     /* binary header bytes 3255-3256 */
+  stack_points_file pts;      /* shot points and elevations of its stackable traces */
   tz_err err;
 } file_scan;
 
@@ -497,6 +515,7 @@ static void scan_one(file_scan *s)
   s->traces = 0;
   s->off_max = 0;
   memset(s->counts, 0, sizeof s->counts);
+  stack_points_file_reset(&s->pts);
   tz_err_init(&s->err);
   int o = open_or_skip(p, i, &f, &s->err);
   if (o) {
@@ -572,7 +591,8 @@ static void scan_one(file_scan *s)
       rmax = INT32_MIN;
     }
     acq_loc acq;
-    int k = classify(p, &h, t, &cmp, &off, NULL, &reason, &s->err, 1, NULL, &acq);
+    geometry_trace g;
+    int k = classify(p, &h, t, &cmp, &off, NULL, &reason, &s->err, 1, &g, &acq);
     if (k >= 0 && acq.located) {
       if (acq.in) {
         s->acmp[s->na++] = acq.cmp;
@@ -588,6 +608,13 @@ static void scan_one(file_scan *s)
       tz_err_path(&s->err, p->inputs[i].path);
       if (s->err.trace < 0)
         s->err.trace = t;
+      s->state = -1;
+      break;
+    }
+    /* a trace the stack would use, whatever the CMP range: its shot point and
+     * elevations for the section's headers (stack_points.c) */
+    if ((k == 1 || reason == STACK_SKIP_CMP_RANGE) &&
+        stack_points_trace(p, &s->pts, &h, &g, &s->err)) {
       s->state = -1;
       break;
     }
@@ -708,6 +735,8 @@ static int scan_bins(stack_plan *p, bins_fold *fold, bins_fold *acq, int threads
         p->line_info.largest_off_line_m = s->off_line_max_m;
       if (!rc && s->nspan && (rc = add_spans(p, s->span, s->nspan, err)))
         break;
+      if (p->records[s->file].n && (rc = stack_points_take(p, &s->pts, err)))
+        break;
       p->traces += s->traces;
       for (int r = 0; r < STACK_SKIP__COUNT; r++)
         p->skipped[r] += s->counts[r];
@@ -724,6 +753,7 @@ static int scan_bins(stack_plan *p, bins_fold *fold, bins_fold *acq, int threads
     free(fs[k].off);
     free(fs[k].acmp);
     free(fs[k].span);
+    stack_points_file_free(&fs[k].pts);
   }
   free(fs);
   free(th);
@@ -879,7 +909,8 @@ int stack_plan_build(stack_plan **out, const job_spec *job, stack_progress_fn pr
   {
     long cores = stack_usable_cpus();
     int T = job->threads > 0 && job->threads < cores ? job->threads : (int)cores;
-    if ((rc = scan_bins(p, fold, lay ? NULL : acq, T, progress, ctx, err)))
+    if ((rc = stack_points_begin(p, err)) ||
+        (rc = scan_bins(p, fold, lay ? NULL : acq, T, progress, ctx, err)))
       goto fail;
   }
   for (size_t i = 0; i < p->ninputs; i++)
@@ -947,7 +978,7 @@ int stack_plan_build(stack_plan **out, const job_spec *job, stack_progress_fn pr
     cp->acquired_fold = st.fold;
   }
   full_fold_part(p, acq, lay);
-  if ((rc = stack_points_build(p, err)))
+  if ((rc = stack_points_finish(p, err)))
     goto fail;
   if (job->statics.present || edits_use_stations(&job->edits)) {
     if ((rc = stack_stations_build(p, err))) {

@@ -1,9 +1,9 @@
 /* stack_points.c -- the field shot-point numbers and surface elevations along
  * the processing line, for the section's trace headers.
  *
- * A header pass over every input (whatever the CMP range of the run, so the
- * parts of a line get the same values as the whole) collects, for the traces
- * the stack would use, the source positions with their field shot-point
+ * The plan's header pass (stack_plan.c, every input whatever the CMP range of
+ * the run, so the parts of a line get the same values as the whole) collects,
+ * file by file, for the traces the stack would use, the source positions with their field shot-point
  * numbers (bytes 17-20; the layout's numbering when the geometry is a layout)
  * and the source and receiver surface elevations. Positions are distances
  * along the processing line; points closer than half a bin share a cell and
@@ -18,15 +18,8 @@
 #include <stdlib.h>
 #include <string.h>
 
-typedef struct pt_cell {
-  int64_t key;
-  double s, v, n;     /* sums of position and value, count */
-} pt_cell;
-
-typedef struct pt_list {
-  pt_cell *c;
-  size_t n, cap, merged;   /* c[0 .. merged) sorted and unique */
-} pt_list;
+typedef stack_pt_cell pt_cell;
+typedef stack_pt_list pt_list;
 
 static int cell_cmp(const void *a, const void *b)
 {
@@ -34,18 +27,25 @@ static int cell_cmp(const void *a, const void *b)
   return (x > y) - (x < y);
 }
 
+static int pt_reserve(pt_list *L, size_t more, tz_err *err)
+{
+  if (L->n + more <= L->cap)
+    return TZ_OK;
+  size_t nc = (L->cap ? L->cap * 2 : 256) + more;
+  pt_cell *c = realloc(L->c, nc * sizeof *c);
+  if (!c)
+    return tz_fail(err, TZ_E_NOMEM, "line positions");
+  L->c = c;
+  L->cap = nc;
+  return TZ_OK;
+}
+
 static int pt_add(pt_list *L, double cell_m, double s, double v, tz_err *err)
 {
   if (!isfinite(s) || !isfinite(v))
     return TZ_OK;
-  if (L->n == L->cap) {
-    size_t nc = L->cap ? L->cap * 2 : 256;
-    pt_cell *c = realloc(L->c, nc * sizeof *c);
-    if (!c)
-      return tz_fail(err, TZ_E_NOMEM, "line positions");
-    L->c = c;
-    L->cap = nc;
-  }
+  if (L->n == L->cap && pt_reserve(L, 1, err))
+    return err->status;
   double k = floor(s / cell_m + 0.5);
   L->c[L->n++] = (pt_cell){ (int64_t)fmax(fmin(k, 4e18), -4e18), s, v, 1 };
   return TZ_OK;
@@ -86,6 +86,18 @@ static int pt_finish(pt_list *L, double **s, double **v, size_t *n, tz_err *err)
   return TZ_OK;
 }
 
+/* Appends `from` to `to` (the file's points after the line's so far). */
+static int pt_append(pt_list *to, const pt_list *from, tz_err *err)
+{
+  if (!from->n)
+    return TZ_OK;
+  if (pt_reserve(to, from->n, err))
+    return err->status;
+  memcpy(to->c + to->n, from->c, from->n * sizeof *from->c);
+  to->n += from->n;
+  return TZ_OK;
+}
+
 static double along(const stack_plan *p, double x, double y)
 {
   bins_loc loc;
@@ -93,70 +105,93 @@ static double along(const stack_plan *p, double x, double y)
   return loc.along_m;
 }
 
-int stack_points_build(stack_plan *p, tz_err *err)
+static double cell_of(const stack_plan *p)
 {
-  double cell = p->line_info.size_m / 2;
-  if (!(cell > 0))
-    return TZ_OK;
-  pt_list src, surf;
-  memset(&src, 0, sizeof src);
-  memset(&surf, 0, sizeof surf);
-  int rc = TZ_OK;
+  return p->line_info.size_m / 2;
+}
+
+int stack_points_begin(stack_plan *p, tz_err *err)
+{
+  double cell = cell_of(p);
   const geometry_layout *lay = geometry_source_get_layout(p->geo);
-  for (size_t k = 0; lay && k < geometry_layout_shots(lay) && !rc; k++) {
+  int rc = TZ_OK;
+  for (size_t k = 0; cell > 0 && lay && k < geometry_layout_shots(lay) && !rc; k++) {
     geometry_shot sh;
     if ((rc = geometry_layout_shot(lay, k, &sh, err)))
       break;
-    rc = pt_add(&src, cell, along(p, sh.x, sh.y), (double)sh.shot_point, err);
+    rc = pt_add(&p->pt_src, cell, along(p, sh.x, sh.y), (double)sh.shot_point, err);
   }
-  for (size_t fi = 0; fi < p->ninputs && !rc; fi++) {
-    if (p->inputs[fi].bad || !p->records[fi].n)
-      continue;
-    segy_file *f = NULL;
-    if ((rc = stack_open_input(p, fi, &f, err)))
-      break;
-    int64_t n = segy_trace_count(f);
-    int32_t last_record = 0;
-    int have_last = 0;
-    for (int64_t t = 0; t < n && !rc; t++) {
-      segy_trace_header h;
-      geometry_trace g;
-      int32_t cmp;
-      double off, offs;
-      int reason;
-      if ((rc = segy_header_read(f, t, &h, err))) {
-        tz_err_path(err, p->inputs[fi].path);
-        break;
-      }
-      if (!stack_locate(p, &h, t, &cmp, &off, &offs, &g, &reason))
-        continue;
-      double ss = along(p, g.source_x, g.source_y);
-      if (!have_last || g.field_record != last_record) {
-        /* one source point per record: its surface elevation, and its field
-         * number unless the layout gave them */
-        if (!(rc = pt_add(&surf, cell, ss, g.source_z, err)) && !lay && h.source_point)
-          rc = pt_add(&src, cell, ss, (double)h.source_point, err);
-        last_record = g.field_record;
-        have_last = 1;
-      }
-      if (!rc)
-        rc = pt_add(&surf, cell, along(p, g.receiver_x, g.receiver_y), g.receiver_z, err);
-    }
-    segy_close(f);
-    pt_merge(&surf);
-    pt_merge(&src);
+  return rc;
+}
+
+void stack_points_file_reset(stack_points_file *f)
+{
+  f->src.n = f->src.merged = 0;
+  f->surf.n = f->surf.merged = 0;
+  f->have_last = 0;
+  f->last_record = 0;
+}
+
+int stack_points_trace(const stack_plan *p, stack_points_file *f, const segy_trace_header *h,
+                       const geometry_trace *g, tz_err *err)
+{
+  double cell = cell_of(p);
+  if (!(cell > 0))
+    return TZ_OK;
+  int rc = TZ_OK;
+  double ss = along(p, g->source_x, g->source_y);
+  if (!f->have_last || g->field_record != f->last_record) {
+    /* one source point per record: its surface elevation, and its field
+     * number unless the layout gave them */
+    if (!(rc = pt_add(&f->surf, cell, ss, g->source_z, err)) &&
+        !geometry_source_get_layout(p->geo) && h->source_point)
+      rc = pt_add(&f->src, cell, ss, (double)h->source_point, err);
+    f->last_record = g->field_record;
+    f->have_last = 1;
   }
   if (!rc)
-    rc = pt_finish(&src, &p->sp_s, &p->sp_v, &p->nsp, err);
+    rc = pt_add(&f->surf, cell, along(p, g->receiver_x, g->receiver_y), g->receiver_z, err);
+  return rc;
+}
+
+int stack_points_take(stack_plan *p, const stack_points_file *f, tz_err *err)
+{
+  int rc = pt_append(&p->pt_surf, &f->surf, err);
   if (!rc)
-    rc = pt_finish(&surf, &p->el_s, &p->el_v, &p->nel, err);
-  free(src.c);
-  free(surf.c);
+    rc = pt_append(&p->pt_src, &f->src, err);
+  if (!rc) {
+    pt_merge(&p->pt_surf);
+    pt_merge(&p->pt_src);
+  }
+  return rc;
+}
+
+void stack_points_file_free(stack_points_file *f)
+{
+  free(f->src.c);
+  free(f->surf.c);
+  memset(f, 0, sizeof *f);
+}
+
+int stack_points_finish(stack_plan *p, tz_err *err)
+{
+  int rc = TZ_OK;
+  if (cell_of(p) > 0) {
+    rc = pt_finish(&p->pt_src, &p->sp_s, &p->sp_v, &p->nsp, err);
+    if (!rc)
+      rc = pt_finish(&p->pt_surf, &p->el_s, &p->el_v, &p->nel, err);
+  }
+  free(p->pt_src.c);
+  free(p->pt_surf.c);
+  memset(&p->pt_src, 0, sizeof p->pt_src);
+  memset(&p->pt_surf, 0, sizeof p->pt_surf);
   return rc;
 }
 
 void stack_points_free(stack_plan *p)
 {
+  free(p->pt_src.c);
+  free(p->pt_surf.c);
   free(p->sp_s);
   free(p->sp_v);
   free(p->el_s);

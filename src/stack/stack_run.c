@@ -247,12 +247,13 @@ static int read_slice(worker *w, const batch *b, int64_t lo, int64_t hi)
   if (!w->f || w->fcur != b->file) {
     segy_close(w->f);
     w->f = NULL;
-    int rc = stack_open_input(p, b->file, &w->f, &w->err);
+    int rc = stack_open_input_data(p, b->file, &w->f, &w->err);
     if (rc)
       return rc;
     w->fcur = b->file;
   }
   int axis_ok = stack_file_axis_ok(p, segy_get_info(w->f));
+  segy_read_until(w->f, hi);
   for (int64_t t = lo; t < hi; t++) {
     size_t j = (size_t)(t - b->a);
     float *buf = b->in + j * sh->ns;
