@@ -208,7 +208,7 @@ int64_t segy_bad_samples(const segy_file *f);   /* NaN/Inf/out-of-range seen so 
  * trace: the file's end): a mapped file is then mapped no further than that
  * trace, so threads reading slices of one file each map only their own slice.
  * A read beyond it still works. */
-void segy_read_until(segy_file *f, int64_t end);
+void segy_window_end(segy_file *f, int64_t end);
 
 /* ---- writer ---- */
 

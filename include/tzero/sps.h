@@ -33,7 +33,7 @@
  * from the from-receiver to the to-receiver, each of which must exist.
  *
  * The result is a geometry table keyed by field record and channel (geometry.h),
- * with the source's depth from its point depth and elevations from the surface
+ * with the depth of the source from its point depth and elevations from the surface
  * elevations. Records that match nothing are kept for listing: source and
  * receiver points no relation names, relation records whose source or receivers
  * are not in the point files. A malformed record is TZ_E_FORMAT naming the file,

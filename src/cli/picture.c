@@ -320,7 +320,7 @@ static int pick_marks(const char *path, const picture_loaded *l, double **out, t
   return TZ_OK;
 }
 
-/* The job's mute times of every trace of the panel (stack_mute_lines); *out owns
+/* The mute times of the job of every trace of the panel (stack_mute_lines); *out owns
  * the STACK_MUTE_LINES values per trace. */
 static int mute_lines(const char *jobpath, const char *path, const picture_loaded *l,
                       double **out, tz_err *err)

@@ -49,13 +49,14 @@ static void value(tz_buf *b, const cJSON *v)
 }
 
 /* Every key of an object as a bullet; nested objects as nested bullets (two levels). */
-static void bullets(tz_buf *b, const cJSON *o, int depth)
+static void bullets(tz_buf *b, const cJSON *o, int level)
 {
   for (const cJSON *e = o ? o->child : NULL; e; e = e->next) {
-    tz_buf_put(b, "%*s- %s: ", 2 * depth, "", e->string ? e->string : "");
-    if (cJSON_IsObject(e) && depth < 2 && e->child) {
+    int indent = 2 * level;
+    tz_buf_put(b, "%*s- %s: ", indent, "", e->string ? e->string : "");
+    if (cJSON_IsObject(e) && level < 2 && e->child) {
       tz_buf_put(b, "\n");
-      bullets(b, e, depth + 1);
+      bullets(b, e, level + 1);
     } else {
       value(b, e);
       tz_buf_put(b, "\n");

@@ -469,7 +469,7 @@ int gathers_writer_add(gathers_writer *w, const stack_plan *p, const velocity_ta
     return spill_fail(err, "create");
   stack_visit_opts vo = { .through = w->rq.step.through,
                           .conditioning_steps = w->rq.step.conditioning_steps,
-                          .conditioning = ro.conditioning, .velocity = v, .nmo = &ro.nmo,
+                          .conditioning = ro.conditioning, .nmo = &ro.nmo, .velocity = v,
                           .mute = &ro.mute, .mutes = ro.mutes, .want = want_trace, .emit = emit_trace, .ctx = w };
   rc = stack_visit(p, &vo, err);
   if (!rc && fflush(w->spill))

@@ -1070,7 +1070,7 @@ static int64_t trace_offset(const segy_file *f, int64_t i)
   return f->toff ? f->toff[i] : f->info.first_trace_offset + i * f->trace_bytes;
 }
 
-void segy_read_until(segy_file *f, int64_t end)
+void segy_window_end(segy_file *f, int64_t end)
 {
   f->map_end = end >= 0 && end < f->info.trace_count ? trace_offset(f, end) : 0;
 }

@@ -1,4 +1,4 @@
-/* job_mute.c -- the job file's "mute" object: top, inner and bottom mutes.
+/* job_mute.c -- the "mute" object of a job file: top, inner and bottom mutes.
  *
  * Each kind takes a single polyline (the whole line), {"controls": [{"cmp": N,
  * "polyline": [...]}, ...]} (varying along the line) or a CSV file
@@ -117,7 +117,8 @@ static int parse_kind(job_spec *j, int kind, const cJSON *v, const char *dir, mu
                       tz_err *err)
 {
   char path[64];
-  snprintf(path, sizeof path, "$.mute.%s", mute_kind_name(kind));
+  const char *kind_name = mute_kind_name(kind);
+  snprintf(path, sizeof path, "$.mute.%s", kind_name);
   int rc;
   if (cJSON_IsArray(v) && cJSON_GetArraySize(v) == 0)
     return TZ_OK;   /* an empty polyline: no mute of the kind (as the resolved job says it) */

@@ -112,7 +112,7 @@ static void taper(float *w, size_t n, double scale)
 {
   for (size_t i = 0; i < n; i++) {
     double s = sin(M_PI * ((double)i + 0.5) / (double)n);
-    w[i] = (float)(s * s * scale);
+    w[i] = (float)(scale * (s * s));
   }
 }
 

@@ -1,4 +1,4 @@
-/* stack_mutes.c -- the job's mute times of the traces of a SEG-Y file, for pictures.
+/* stack_mutes.c -- the mute times of the job of the traces of a SEG-Y file, for pictures.
  *
  * Each trace is located as the data pass locates it (stack_locate: CMP and offsets
  * from the plan's geometry), its static computed as the chain computes it

@@ -69,15 +69,11 @@ long stack_usable_cpus(void)
   return n > 0 ? n : 1;
 }
 
-/* The data pass reads whole traces through a pread() window rather than a
- * mapping: on 2 cores the mapping's page faults and the unmapping's TLB
- * shoot-downs between the threads cost more than copying the bytes into a
- * 1 MiB buffer (docs/performance.md). Header-only passes keep the mapping. */
-int stack_open_input_data(const stack_plan *p, size_t i, segy_file **f, tz_err *err)
+static int open_input(const stack_plan *p, size_t i, int no_map, segy_file **f, tz_err *err)
 {
   segy_open_opts o;
   memset(&o, 0, sizeof o);
-  o.no_map = 1;
+  o.no_map = no_map;
   o.map = p->has_map ? &p->map : NULL;
   o.interval_us = p->job ? p->job->interval_us : 0;
   int rc = segy_open(f, p->inputs[i].path, &o, err);
@@ -86,16 +82,18 @@ int stack_open_input_data(const stack_plan *p, size_t i, segy_file **f, tz_err *
   return rc;
 }
 
+/* The data pass reads whole traces through a pread() window rather than a
+ * mapping: on 2 cores the mapping's page faults and the unmapping's TLB
+ * shoot-downs between the threads cost more than copying the bytes into a
+ * 1 MiB buffer (docs/performance.md). Header-only passes keep the mapping. */
+int stack_open_input_data(const stack_plan *p, size_t i, segy_file **f, tz_err *err)
+{
+  return open_input(p, i, 1, f, err);
+}
+
 int stack_open_input(const stack_plan *p, size_t i, segy_file **f, tz_err *err)
 {
-  segy_open_opts o;
-  memset(&o, 0, sizeof o);
-  o.map = p->has_map ? &p->map : NULL;
-  o.interval_us = p->job ? p->job->interval_us : 0;
-  int rc = segy_open(f, p->inputs[i].path, &o, err);
-  if (rc)
-    tz_err_path(err, p->inputs[i].path);
-  return rc;
+  return open_input(p, i, 0, f, err);
 }
 
 int stack_file_axis_ok(const stack_plan *p, const segy_info *info)

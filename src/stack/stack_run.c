@@ -253,7 +253,7 @@ static int read_slice(worker *w, const batch *b, int64_t lo, int64_t hi)
     w->fcur = b->file;
   }
   int axis_ok = stack_file_axis_ok(p, segy_get_info(w->f));
-  segy_read_until(w->f, hi);
+  segy_window_end(w->f, hi);
   for (int64_t t = lo; t < hi; t++) {
     size_t j = (size_t)(t - b->a);
     float *buf = b->in + j * sh->ns;

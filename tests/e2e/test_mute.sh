@@ -1,6 +1,6 @@
 # test_mute.sh -- mutes along the line (docs/job-file.md "Mutes"): controls, files, the
-# inner cone and the bottom mute in `tzero stack` and `tzero nmo`, the QC report's mute
-# block, and the errors that name the JSON path. The survey is written with segyio by
+# inner cone and the bottom mute in `tzero stack` and `tzero nmo`, the mute block of the QC
+# report, and the errors that name the JSON path. The survey is written with segyio by
 # tests/xcheck/test_stack_segyio.py. Exit statuses are BSD sysexits(3): 65 data, 66 no
 # input. Sources: DEVELOPERS.md (bitwise identity for any thread count); the
 # interpolation rule of the velocity table (docs/velocity-table.md) for controls; common practice
@@ -165,7 +165,7 @@ for cls, want in (("mute-top", top),
     p = pts(cls)
     want = np.minimum(np.array([y_of(t) for t in want]), info["y"] + info["height"])
     good = p is not None and len(p) == len(off) and np.allclose(p[:, 1], want, atol=0.02)
-    print(("ok - " if good else "not ok - ") + f"picture: the {cls} line at the job's mute times")
+    print(("ok - " if good else "not ok - ") + f"picture: the {cls} line at the mute times of the job")
 EOF
 [ $? -eq 0 ] || notok "the picture checks ran"
 expect_status 64 "--show-mutes needs --job" -- "$TZERO" picture "$D/out/g.sgy" --show-mutes \

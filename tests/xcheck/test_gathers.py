@@ -201,7 +201,7 @@ for k in range(1, 4):
     lead.append(int(np.argmax(far != 0)))       # first live sample after the top mute
 tz.ok(sorted(set(ch[233].tolist())) == [1, 2, 3] and lead[0] < lead[1] < lead[2] and
       "panel 3: 450" in ctext,
-      "--vary mute.top.controls[0].polyline[1][1]: the far trace's mute moves later panel by "
+      "--vary mute.top.controls[0].polyline[1][1]: the mute of the far trace moves later panel by "
       "panel (top mute: samples before the mute time are zeroed)", f"first live samples {lead}")
 
 tz.run("stack", "--job", J, "--cmp-range", "240-260", "--vary",
