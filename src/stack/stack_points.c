@@ -139,10 +139,10 @@ int stack_points_trace(const stack_plan *p, stack_points_file *f, const segy_tra
   if (!(cell > 0))
     return TZ_OK;
   int rc = TZ_OK;
-  double ss = along(p, g->source_x, g->source_y);
   if (!f->have_last || g->field_record != f->last_record) {
     /* one source point per record: its surface elevation, and its field
      * number unless the layout gave them */
+    double ss = along(p, g->source_x, g->source_y);
     if (!(rc = pt_add(&f->surf, cell, ss, g->source_z, err)) &&
         !geometry_source_get_layout(p->geo) && h->source_point)
       rc = pt_add(&f->src, cell, ss, (double)h->source_point, err);
