@@ -395,13 +395,25 @@ static int64_t shot_index(const geometry_layout *l, size_t k)
   return i;
 }
 
-static void line_to_map(const geometry_layout *l, double along, double right, double *x,
-                        double *y)
+/* Map X/Y of a point `along` metres along the line and `right` metres to its
+ * right, given the sine and cosine of the line's azimuth (ls, lc). */
+static void line_to_map(const geometry_layout *l, double ls, double lc, double along,
+                        double right, double *x, double *y)
 {
-  double s, c;
-  geometry_sincos_deg(l->azimuth_deg, &s, &c);
-  *x = l->first_station_x_m + along * s + right * c;
-  *y = l->first_station_y_m + along * c - right * s;
+  *x = l->first_station_x_m + along * ls + right * lc;
+  *y = l->first_station_y_m + along * lc - right * ls;
+}
+
+static void layout_shot(const geometry_layout *l, size_t k, double ls, double lc,
+                        geometry_shot *sh)
+{
+  int64_t i = shot_index(l, k);
+  sh->field_record = (int32_t)(l->first_field_record + (int64_t)k * l->field_record_step);
+  sh->shot_point = (int32_t)(l->first_shot_point + i);
+  sh->along_m = l->first_source_m + (double)i * l->source_interval_m;
+  line_to_map(l, ls, lc, sh->along_m, l->source_offset_m, &sh->x, &sh->y);
+  sh->z = geometry_layout_elevation(l, sh->along_m);
+  sh->depth_m = l->source_depth_m;
 }
 
 int geometry_layout_shot(const geometry_layout *l, size_t k, geometry_shot *sh, tz_err *err)
@@ -409,13 +421,9 @@ int geometry_layout_shot(const geometry_layout *l, size_t k, geometry_shot *sh, 
   if (k >= geometry_layout_shots(l))
     return tz_fail(err, TZ_E_ARG, "shot %zu: layout has %zu recorded shots", k,
                    geometry_layout_shots(l));
-  int64_t i = shot_index(l, k);
-  sh->field_record = (int32_t)(l->first_field_record + (int64_t)k * l->field_record_step);
-  sh->shot_point = (int32_t)(l->first_shot_point + i);
-  sh->along_m = l->first_source_m + (double)i * l->source_interval_m;
-  line_to_map(l, sh->along_m, l->source_offset_m, &sh->x, &sh->y);
-  sh->z = geometry_layout_elevation(l, sh->along_m);
-  sh->depth_m = l->source_depth_m;
+  double ls, lc;
+  geometry_sincos_deg(l->azimuth_deg, &ls, &lc);
+  layout_shot(l, k, ls, lc, sh);
   return TZ_OK;
 }
 
@@ -445,9 +453,13 @@ static double receiver_along(const geometry_layout *l, double src, size_t c)
 int geometry_layout_trace(const geometry_layout *l, size_t k, size_t c, geometry_trace *g,
                           tz_err *err)
 {
+  if (k >= geometry_layout_shots(l))
+    return tz_fail(err, TZ_E_ARG, "shot %zu: layout has %zu recorded shots", k,
+                   geometry_layout_shots(l));
+  double ls, lc;   /* once per trace: the source and the receiver share them */
+  geometry_sincos_deg(l->azimuth_deg, &ls, &lc);
   geometry_shot sh;
-  if (geometry_layout_shot(l, k, &sh, err))
-    return err->status;
+  layout_shot(l, k, ls, lc, &sh);
   if (c >= geometry_layout_channels(l))
     return tz_fail(err, TZ_E_ARG, "channel index %zu: layout has %d channels", c, l->channels);
   memset(g, 0, sizeof *g);
@@ -458,7 +470,7 @@ int geometry_layout_trace(const geometry_layout *l, size_t k, size_t c, geometry
   g->source_z = sh.z;
   g->source_depth = sh.depth_m;
   double ra = receiver_along(l, sh.along_m, c);
-  line_to_map(l, ra, 0.0, &g->receiver_x, &g->receiver_y);
+  line_to_map(l, ls, lc, ra, 0.0, &g->receiver_x, &g->receiver_y);
   g->receiver_z = geometry_layout_elevation(l, ra);
   g->live = 1;
   /* Differences in line coordinates are exact; take them before map X/Y. */

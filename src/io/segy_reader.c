@@ -16,7 +16,7 @@
  * and samples converted straight out of the page cache, with no copy and no
  * system call per trace, and a header-only pass touches the same pages the
  * data pass later decodes from. When a file cannot be mapped (or the caller
- * asks, segy_open_opts.no_map) the window is a buffer (allocated once at open)
+ * asks, segy_open_opts.no_map) the window is a buffer (allocated at its first use)
  * filled with pread(): a sequential pass makes one large read per window and
  * no seeks; header-only access then reads just the header bytes.
  * At most one piece is mapped per handle, so the memory a pass holds does not
@@ -169,10 +169,12 @@ static const unsigned char *window(segy_file *f, int64_t off, size_t n, int64_t 
       return f->mbase + (off - f->mapoff);
     /* cannot map (address space, a file system without mmap): read instead */
     f->use_map = 0;
-    if (!(f->win = malloc(f->wincap))) {
-      tz_fail(err, TZ_E_NOMEM, "read buffer of %zu bytes", f->wincap);
-      return NULL;
-    }
+  }
+  /* allocated at the first read that needs it: a pass that reads only
+   * headers (one pread each, segy_header_read) never does */
+  if (!f->win && !(f->win = malloc(f->wincap))) {
+    tz_fail(err, TZ_E_NOMEM, "read buffer of %zu bytes", f->wincap);
+    return NULL;
   }
   size_t want = f->wincap;
   int64_t end = f->map_end > 0 && off + (int64_t)n <= f->map_end ? f->map_end : f->info.file_bytes;
@@ -1023,10 +1025,6 @@ int segy_open(segy_file **out, const char *path, const segy_open_opts *o, tz_err
   f->use_map = !(o && o->no_map) && S_ISREG(st.st_mode);
   f->piece = o && o->map_bytes > 0 ? o->map_bytes : MAP_PIECE;
   f->piece += (f->page - f->piece % f->page) % f->page;
-  if (!f->use_map && !(f->win = malloc(f->wincap))) {
-    rc = tz_fail(err, TZ_E_NOMEM, "read buffer of %zu bytes", f->wincap);
-    goto fail;
-  }
   if (f->order == SEGY_ORDER_LITTLE || f->order == SEGY_ORDER_PAIRS) {
     if (!(f->scratch = malloc(need))) {
       rc = tz_fail(err, TZ_E_NOMEM, "read buffer of %zu bytes", need);

@@ -60,7 +60,8 @@ struct nmo_workspace {
   float *pad;               /* ns_max + 2 PAD: input copy, top-muted, zero-padded */
   float *tsq;               /* ns_max: t^2 per output sample */
   float *u;                 /* ns_max: fractional input index per output sample */
-  float *sinc;              /* (NPHASE + 1) x 8 kernel weights */
+  float *sinc;              /* (NPHASE + 1) x 8 kernel weights, built at first use */
+  int sinc_built;
   int avx2;                 /* the CPU has AVX2: use the *_avx2 kernels */
 };
 
@@ -193,6 +194,17 @@ static void build_sinc(float *tab)
   }
 }
 
+/* The sinc8 table of ws, built on the first call that interpolates with it:
+ * a workspace that only ever interpolates linearly never computes it. */
+static const float *sinc_table(nmo_workspace *ws)
+{
+  if (!ws->sinc_built) {
+    build_sinc(ws->sinc);
+    ws->sinc_built = 1;
+  }
+  return ws->sinc;
+}
+
 int nmo_workspace_new(nmo_workspace **out, size_t ns_max, tz_err *err)
 {
   if (ns_max == 0 || ns_max > NMO_MAX_SAMPLES)
@@ -210,7 +222,6 @@ int nmo_workspace_new(nmo_workspace **out, size_t ns_max, tz_err *err)
     nmo_workspace_free(ws);
     return tz_fail(err, TZ_E_NOMEM, "NMO workspace for %zu samples", ns_max);
   }
-  build_sinc(ws->sinc);
 #if NMO_AVX2
   ws->avx2 = __builtin_cpu_supports("avx2") ? 1 : 0;
 #endif
@@ -611,14 +622,14 @@ int nmo_apply(nmo_workspace *ws, const nmo_params *p, const nmo_top_mute *mute,
                      i_e);
     filled = 1;
   } else if (ws->avx2) {
-    live_sinc8_avx2(out, u, tsq, a, ws->sinc, (float)tf, (float)(1.0 / dt), (float)(ns - 1), i0,
+    live_sinc8_avx2(out, u, tsq, a, sinc_table(ws), (float)tf, (float)(1.0 / dt), (float)(ns - 1), i0,
                     i_e);
   } else
 #endif
   {
     input_index(u, tsq, (float)tf, (float)(1.0 / dt), (float)(ns - 1), i0, i_e);
     if (p->interp == NMO_INTERP_SINC8)
-      gather_sinc8(out, u, a, ws->sinc, i0, i_e);
+      gather_sinc8(out, u, a, sinc_table(ws), i0, i_e);
     else
       gather_linear(out, u, a, i0, i_e);
   }
@@ -778,7 +789,7 @@ int nmo_inverse(nmo_workspace *ws, const nmo_params *p, const nmo_axis *ax,
     float f = u[j] - (float)q;
     if (p->interp == NMO_INTERP_SINC8) {
       size_t ph = (size_t)(f * NPHASE + 0.5f);
-      const float *c = ws->sinc + ph * 8, *s = a + q - (SINC_HALF - 1);
+      const float *c = sinc_table(ws) + ph * 8, *s = a + q - (SINC_HALF - 1);
       float acc = 0;
       for (int m = 0; m < 8; m++)
         acc += c[m] * s[m];
@@ -813,7 +824,7 @@ int nmo_shift(nmo_workspace *ws, const nmo_axis *ax, double shift_s, const float
   size_t l1 = hi < 0 ? 0 : hi + 1 > (double)ns ? ns : (size_t)(hi + 1);
   if (l1 < l0)
     l1 = l0;
-  const float *c = ws->sinc + ph * 8;
+  const float *c = sinc_table(ws) + ph * 8;
   /* taps q - 3 .. q + 4 with q = j + base; the live span [l0, l1) has u inside
    * the trace, so only taps near its two ends can fall outside: those samples
    * take the bounds-checked sum, the rest the plain one */

@@ -82,10 +82,11 @@ static int open_input(const stack_plan *p, size_t i, int no_map, segy_file **f, 
   return rc;
 }
 
-/* The data pass reads whole traces through a pread() window rather than a
- * mapping: on 2 cores the mapping's page faults and the unmapping's TLB
- * shoot-downs between the threads cost more than copying the bytes into a
- * 1 MiB buffer (docs/performance.md). Header-only passes keep the mapping. */
+/* Every pass reads through pread() rather than a mapping: on 2 cores the
+ * mapping's page faults and the unmapping's TLB shoot-downs between the
+ * threads cost more than copying the bytes. The data pass reads whole traces
+ * into a 1 MiB window; a header-only pass makes one 240-byte read per trace
+ * and never allocates the window (docs/performance.md). */
 int stack_open_input_data(const stack_plan *p, size_t i, segy_file **f, tz_err *err)
 {
   return open_input(p, i, 1, f, err);
@@ -93,7 +94,7 @@ int stack_open_input_data(const stack_plan *p, size_t i, segy_file **f, tz_err *
 
 int stack_open_input(const stack_plan *p, size_t i, segy_file **f, tz_err *err)
 {
-  return open_input(p, i, 0, f, err);
+  return open_input(p, i, 1, f, err);
 }
 
 int stack_file_axis_ok(const stack_plan *p, const segy_info *info)

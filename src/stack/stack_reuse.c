@@ -31,6 +31,7 @@
 
 #include <cJSON.h>
 #include <math.h>
+#include <pthread.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -148,35 +149,83 @@ static int job_part(const stack_plan *p, char hex[KEY_LEN], tz_err *err)
   return rc;
 }
 
+/* Keys of CMP indexes [lo, hi) of the run's range, into k (KEY_LEN each). */
+typedef struct {
+  const stack_plan *p;
+  const stack_run_opts *o;
+  const char *jh;
+  int use_eta;
+  size_t lo, hi;
+  char *k;
+  int rc;
+  tz_err err;
+} key_share;
+
+static void *key_part(void *arg)
+{
+  key_share *ks = arg;
+  const stack_plan *p = ks->p;
+  size_t ns = p->axis.ns;
+  tz_err *err = &ks->err;
+  float *vel = malloc(2 * ns * sizeof *vel);
+  digest_ctx *d = NULL;
+  int rc = vel ? digest_new(&d, err)
+               : tz_fail(err, TZ_E_NOMEM, "reuse keys of %zu CMPs", ks->hi - ks->lo);
+  for (size_t c = ks->lo; c < ks->hi && !rc; c++) {
+    int32_t cmp = ks->o->first_cmp + (int32_t)c;
+    velocity_sample(ks->o->velocity, cmp, p->axis.t_first_s, p->axis.dt_s, ns, vel,
+                    ks->use_eta ? vel + ns : NULL);
+    if (!(rc = digest_reset(d, err)) && !(rc = put_str(d, ks->jh, err)) &&
+        !(rc = put(d, &cmp, sizeof cmp, err)) &&
+        !(rc = put(d, vel, (ks->use_eta ? 2 : 1) * ns * sizeof *vel, err)))
+      rc = digest_final(d, ks->k + c * KEY_LEN, err);
+  }
+  digest_free(d);
+  free(vel);
+  ks->rc = rc;
+  return NULL;
+}
+
+/* The per-CMP keys are independent, so they are made by as many threads as
+ * the data pass uses (each key is the same whichever thread makes it). */
 int stack_reuse_keys(const stack_plan *p, const stack_run_opts *o, char **keys, tz_err *err)
 {
   *keys = NULL;
-  size_t n = (size_t)((int64_t)o->last_cmp - o->first_cmp + 1), ns = p->axis.ns;
-  int use_eta = o->nmo.use_eta && velocity_table_has_eta(o->velocity);
+  size_t n = (size_t)((int64_t)o->last_cmp - o->first_cmp + 1);
   char jh[KEY_LEN];
   int rc = job_part(p, jh, err);
   if (rc)
     return rc;
   char *k = malloc(n * KEY_LEN);
-  float *vel = malloc(2 * ns * sizeof *vel);
-  digest_ctx *d = NULL;
-  if (!k || !vel) {
-    free(k);
-    free(vel);
+  size_t T = o->threads > 1 ? (size_t)o->threads : 1;
+  if (T > n)
+    T = n ? n : 1;
+  key_share ks[JOB_MAX_THREADS];
+  pthread_t th[JOB_MAX_THREADS];
+  int started[JOB_MAX_THREADS] = { 0 };
+  if (T > JOB_MAX_THREADS)
+    T = JOB_MAX_THREADS;
+  if (!k)
     return tz_fail(err, TZ_E_NOMEM, "reuse keys of %zu CMPs", n);
+  for (size_t t = 0; t < T; t++) {
+    ks[t] = (key_share){ .p = p, .o = o, .jh = jh, .k = k, .lo = n * t / T,
+                         .hi = n * (t + 1) / T,
+                         .use_eta = o->nmo.use_eta && velocity_table_has_eta(o->velocity) };
+    tz_err_init(&ks[t].err);
   }
-  rc = digest_new(&d, err);
-  for (size_t c = 0; c < n && !rc; c++) {
-    int32_t cmp = o->first_cmp + (int32_t)c;
-    velocity_sample(o->velocity, cmp, p->axis.t_first_s, p->axis.dt_s, ns, vel,
-                    use_eta ? vel + ns : NULL);
-    if (!(rc = digest_reset(d, err)) && !(rc = put_str(d, jh, err)) &&
-        !(rc = put(d, &cmp, sizeof cmp, err)) &&
-        !(rc = put(d, vel, (use_eta ? 2 : 1) * ns * sizeof *vel, err)))
-      rc = digest_final(d, k + c * KEY_LEN, err);
-  }
-  digest_free(d);
-  free(vel);
+  for (size_t t = 1; t < T; t++)
+    started[t] = pthread_create(&th[t], NULL, key_part, &ks[t]) == 0;
+  for (size_t t = 0; t < T; t++)
+    if (!t || !started[t])       /* this thread's share, and any that could not start */
+      key_part(&ks[t]);
+  for (size_t t = 1; t < T; t++)
+    if (started[t])
+      pthread_join(th[t], NULL);
+  for (size_t t = 0; t < T && !rc; t++)
+    if (ks[t].rc) {
+      *err = ks[t].err;
+      rc = ks[t].rc;
+    }
   if (rc) {
     free(k);
     return rc;

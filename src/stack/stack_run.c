@@ -254,6 +254,12 @@ static int read_slice(worker *w, const batch *b, int64_t lo, int64_t hi)
   }
   int axis_ok = stack_file_axis_ok(p, segy_get_info(w->f));
   segy_window_end(w->f, hi);
+  /* A subset run (a reused section, a CMP range) reads a trace's samples only
+   * when its CMP is stacked here. Such traces come in runs (a record's
+   * channels over the CMPs restacked), so each read reaches 1, 2, 4, ...
+   * traces ahead while the run lasts: a sparse subset reads little more than
+   * its traces, a dense one soon reads whole windows again. */
+  int64_t ahead = 1;
   for (int64_t t = lo; t < hi; t++) {
     size_t j = (size_t)(t - b->a);
     float *buf = b->in + j * sh->ns;
@@ -285,9 +291,16 @@ static int read_slice(worker *w, const batch *b, int64_t lo, int64_t hi)
       w->skipped[STACK_SKIP_CMP_RANGE]++;
     else if (sh->need && !sh->need[ti->cmp - sh->first])
       in_run = 0;      /* its CMP is carried from the reused section: not read */
-    if (sh->subset && (in_run || sh->whole) &&
-        (rc = segy_trace_read(w->f, t, &h, buf, sh->ns, &w->err)))
-      return tz_err_path(&w->err, p->inputs[b->file].path);
+    if (sh->subset) {
+      if (in_run || sh->whole) {
+        segy_window_end(w->f, t + ahead < hi ? t + ahead : hi);
+        if ((rc = segy_trace_read(w->f, t, &h, buf, sh->ns, &w->err)))
+          return tz_err_path(&w->err, p->inputs[b->file].path);
+        ahead = ahead < (INT64_C(1) << 20) ? ahead * 2 : ahead;
+      } else {
+        ahead = 1;
+      }
+    }
     ti->read = !sh->subset || in_run || sh->whole;
     ti->counted = in_run;
     if (in_run)
@@ -498,13 +511,20 @@ static void *big_alloc(size_t n)
   return p;
 }
 
-/* Thread t's share of n floats at a: zeroed (faulting its pages in). */
-static void prefault_share(float *a, size_t n, int t, int T)
+/* Thread t's share of the section's rows (ncmps rows of ns floats at a):
+ * zeroed, faulting their pages in. A run that carries CMPs from a reused
+ * section zeroes only the rows it stacks: the others are never read (the
+ * divide after the pass clears them, and the reuse overwrites them). */
+static void prefault_share(const run_shared *sh, float *a, int t)
 {
-  if (!a)
+  size_t T = (size_t)sh->T, lo = sh->ncmps * (size_t)t / T, hi = sh->ncmps * ((size_t)t + 1) / T;
+  if (!sh->need) {
+    memset(a + lo * sh->ns, 0, (hi - lo) * sh->ns * sizeof *a);
     return;
-  size_t lo = n * (size_t)t / (size_t)T, hi = n * (size_t)(t + 1) / (size_t)T;
-  memset(a + lo, 0, (hi - lo) * sizeof *a);
+  }
+  for (size_t c = lo; c < hi; c++)
+    if (sh->need[c])
+      memset(a + c * sh->ns, 0, sh->ns * sizeof *a);
 }
 
 /* 1 when record k of file fi holds a trace of a CMP the run restacks (always
@@ -601,11 +621,10 @@ static void *work(void *arg)
     return NULL;
   /* Step k reads batch k + 1 into one buffer and stacks batch k from the other.
    * Only the descriptors (file, a, n) are per thread; the buffers are shared. */
-  size_t fn = sh->ncmps * sh->ns, cn = sh->cache_n * sh->ns;
-  prefault_share(sh->sum, fn, w->id, sh->T);
-  prefault_share(sh->wsum, fn, w->id, sh->T);
-  prefault_share(sh->cvel, cn, w->id, sh->T);
-  prefault_share(sh->ceta, cn, w->id, sh->T);
+  /* The velocity cache is not zeroed: velocity_of fills a slot whole before
+   * its tag says it holds a CMP. */
+  prefault_share(sh, sh->sum, w->id);
+  prefault_share(sh, sh->wsum, w->id);
   /* Step k reads batch k, runs the chain on the records of batch k - 1 and
    * stacks batch k - 2, each stage in its own buffer; one barrier per step. */
   batch rd = sh->bt[0], ch = sh->bt[1], st = sh->bt[2];
@@ -848,10 +867,14 @@ int stack_run(const stack_plan *p, const stack_run_opts *o, stack_section **out,
   for (size_t c = 0; c < sh.ncmps; c++) {
     float *S = sh.sum + c * sh.ns;
     const float *W = sh.wsum + c * sh.ns;
-    for (size_t i = 0; i < sh.ns; i++)
-      S[i] = W[i] > 0 ? S[i] / W[i] : 0.0f;
+    int carried = sh.need && !sh.need[c];    /* not stacked here: see prefault_share */
+    if (carried)
+      memset(S, 0, sh.ns * sizeof *S);
+    else
+      for (size_t i = 0; i < sh.ns; i++)
+        S[i] = W[i] > 0 ? S[i] / W[i] : 0.0f;
     int32_t cmp = sh.first + (int32_t)c;
-    double fd = stack_floating_ms(p, cmp);   /* floating datum -> flat datum */
+    double fd = carried ? 0 : stack_floating_ms(p, cmp);   /* floating datum -> flat datum */
     if (fd != 0) {
       if ((rc = nmo_shift(sh.wk[0].ws, &p->axis, -fd * 1e-3, S, sh.wk[0].out, NULL, NULL, err))) {
         free(cr);
