@@ -416,11 +416,18 @@ static void layout_shot(const geometry_layout *l, size_t k, double ls, double lc
   sh->depth_m = l->source_depth_m;
 }
 
-int geometry_layout_shot(const geometry_layout *l, size_t k, geometry_shot *sh, tz_err *err)
+static int check_shot(const geometry_layout *l, size_t k, tz_err *err)
 {
   if (k >= geometry_layout_shots(l))
     return tz_fail(err, TZ_E_ARG, "shot %zu: layout has %zu recorded shots", k,
                    geometry_layout_shots(l));
+  return TZ_OK;
+}
+
+int geometry_layout_shot(const geometry_layout *l, size_t k, geometry_shot *sh, tz_err *err)
+{
+  if (check_shot(l, k, err))
+    return err->status;
   double ls, lc;
   geometry_sincos_deg(l->azimuth_deg, &ls, &lc);
   layout_shot(l, k, ls, lc, sh);
@@ -453,9 +460,8 @@ static double receiver_along(const geometry_layout *l, double src, size_t c)
 int geometry_layout_trace(const geometry_layout *l, size_t k, size_t c, geometry_trace *g,
                           tz_err *err)
 {
-  if (k >= geometry_layout_shots(l))
-    return tz_fail(err, TZ_E_ARG, "shot %zu: layout has %zu recorded shots", k,
-                   geometry_layout_shots(l));
+  if (check_shot(l, k, err))
+    return err->status;
   double ls, lc;   /* once per trace: the source and the receiver share them */
   geometry_sincos_deg(l->azimuth_deg, &ls, &lc);
   geometry_shot sh;

@@ -108,7 +108,6 @@ long stack_usable_cpus(void);
 
 /* Opens shot file i of the plan with the plan's header map. */
 int stack_open_input(const stack_plan *p, size_t i, segy_file **f, tz_err *err);
-int stack_open_input_data(const stack_plan *p, size_t i, segy_file **f, tz_err *err);
 /* 1 when the file's sample axis matches the section's. */
 int stack_file_axis_ok(const stack_plan *p, const segy_info *info);
 /* The reason a trace kind is not stacked, or -1 when the kind is data. */

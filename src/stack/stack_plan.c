@@ -69,32 +69,22 @@ long stack_usable_cpus(void)
   return n > 0 ? n : 1;
 }
 
-static int open_input(const stack_plan *p, size_t i, int no_map, segy_file **f, tz_err *err)
+/* Every pass reads through pread() rather than a mapping: on 2 cores the
+ * mapping's page faults and the unmapping's TLB shoot-downs between the
+ * threads cost more than copying the bytes. The data pass reads whole traces
+ * into a 1 MiB window; a header-only pass makes one 240-byte read per trace
+ * and never allocates the window (docs/performance.md). */
+int stack_open_input(const stack_plan *p, size_t i, segy_file **f, tz_err *err)
 {
   segy_open_opts o;
   memset(&o, 0, sizeof o);
-  o.no_map = no_map;
+  o.no_map = 1;
   o.map = p->has_map ? &p->map : NULL;
   o.interval_us = p->job ? p->job->interval_us : 0;
   int rc = segy_open(f, p->inputs[i].path, &o, err);
   if (rc)
     tz_err_path(err, p->inputs[i].path);
   return rc;
-}
-
-/* Every pass reads through pread() rather than a mapping: on 2 cores the
- * mapping's page faults and the unmapping's TLB shoot-downs between the
- * threads cost more than copying the bytes. The data pass reads whole traces
- * into a 1 MiB window; a header-only pass makes one 240-byte read per trace
- * and never allocates the window (docs/performance.md). */
-int stack_open_input_data(const stack_plan *p, size_t i, segy_file **f, tz_err *err)
-{
-  return open_input(p, i, 1, f, err);
-}
-
-int stack_open_input(const stack_plan *p, size_t i, segy_file **f, tz_err *err)
-{
-  return open_input(p, i, 1, f, err);
 }
 
 int stack_file_axis_ok(const stack_plan *p, const segy_info *info)

@@ -197,14 +197,12 @@ int stack_reuse_keys(const stack_plan *p, const stack_run_opts *o, char **keys, 
   if (rc)
     return rc;
   char *k = malloc(n * KEY_LEN);
-  size_t T = o->threads > 1 ? (size_t)o->threads : 1;
-  if (T > n)
-    T = n ? n : 1;
+  long cores = stack_usable_cpus();   /* the data pass's rule (stack_run) */
+  size_t T = o->threads > 0 ? (size_t)o->threads : cores > 0 ? (size_t)cores : 1;
+  T = T > JOB_MAX_THREADS ? JOB_MAX_THREADS : T > n ? (n ? n : 1) : T;
   key_share ks[JOB_MAX_THREADS];
   pthread_t th[JOB_MAX_THREADS];
   int started[JOB_MAX_THREADS] = { 0 };
-  if (T > JOB_MAX_THREADS)
-    T = JOB_MAX_THREADS;
   if (!k)
     return tz_fail(err, TZ_E_NOMEM, "reuse keys of %zu CMPs", n);
   for (size_t t = 0; t < T; t++) {

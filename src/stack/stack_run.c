@@ -247,7 +247,7 @@ static int read_slice(worker *w, const batch *b, int64_t lo, int64_t hi)
   if (!w->f || w->fcur != b->file) {
     segy_close(w->f);
     w->f = NULL;
-    int rc = stack_open_input_data(p, b->file, &w->f, &w->err);
+    int rc = stack_open_input(p, b->file, &w->f, &w->err);
     if (rc)
       return rc;
     w->fcur = b->file;
